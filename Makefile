@@ -1,0 +1,40 @@
+# dxftruss - make demo: check the sample drawings; make test: the whole suite.
+# Both create .venv from pyproject.toml on a fresh machine; nothing is installed by hand.
+PYTHON ?= python3
+VENV   := .venv
+PY     := $(VENV)/bin/python
+STAMP  := $(VENV)/.installed
+
+.PHONY: demo test bench fuzz samples clean
+
+$(STAMP): pyproject.toml
+	$(PYTHON) -m venv $(VENV)
+	$(PY) -m pip install --quiet --upgrade pip
+	$(PY) -m pip install --quiet -e '.[test]'
+	touch $(STAMP)
+
+samples: $(STAMP)
+	$(PY) samples/make_samples.py
+
+demo: $(STAMP)
+	$(PY) samples/make_samples.py
+	mkdir -p out
+	-$(VENV)/bin/dxftruss check samples/farm_shed_truss.dxf --loads samples/farm_shed_truss.toml \
+		--pdf out/farm_shed_truss.check.pdf --dxf out/farm_shed_truss.check.dxf --json out/farm_shed_truss.check.json
+	-$(VENV)/bin/dxftruss check samples/footbridge_truss.dxf --loads samples/footbridge_truss.toml \
+		--pdf out/footbridge_truss.check.pdf --json out/footbridge_truss.check.json
+	-$(VENV)/bin/dxftruss check samples/drafting_slips.dxf \
+		--pdf out/drafting_slips.check.pdf --json out/drafting_slips.check.json
+	@echo "demo outputs are in out/"
+
+test: $(STAMP)
+	CI=$${CI:-} $(PY) -m pytest
+
+bench: $(STAMP)
+	$(PY) bench/run_bench.py
+
+fuzz: $(STAMP)
+	$(PY) tests/fuzz/fuzz_long.py
+
+clean:
+	rm -rf $(VENV) out bench/generated .pytest_cache

@@ -1,0 +1,1 @@
+"""Audit stages: topology of the line work, stability of each part, zero-force rules."""

@@ -1,0 +1,117 @@
+"""Finding codes, severities and the Finding record.
+
+The code is the API (stable, tested); the message is for people and may change.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from enum import Enum
+from typing import Any
+
+
+class Severity(str, Enum):
+    """How bad a finding is; any ERROR makes the exit status 1."""
+
+    ERROR = "error"
+    WARNING = "warning"
+    INFO = "info"
+
+    @property
+    def rank(self) -> int:
+        return {"error": 0, "warning": 1, "info": 2}[self.value]
+
+
+class Code(str, Enum):
+    """Stable finding codes (SPEC section 7)."""
+
+    NO_MEMBERS = "no-members"
+    INVALID_COORDINATE = "invalid-coordinate"
+    ZERO_LENGTH_MEMBER = "zero-length-member"
+    DUPLICATE_MEMBER = "duplicate-member"
+    DANGLING_MEMBER = "dangling-member"
+    NEAR_MISS = "near-miss"
+    UNJOINED_CROSSING = "unjoined-crossing"
+    SPLIT_MEMBER = "split-member"
+    DISCONNECTED_PART = "disconnected-part"
+    MECHANISM = "mechanism"
+    SUPPORT_OFF_JOINT = "support-off-joint"
+    LOAD_OFF_JOINT = "load-off-joint"
+    LOAD_WITHOUT_VALUE = "load-without-value"
+    ASSUMED_UNITS = "assumed-units"
+    ASSUMED_SUPPORTS = "assumed-supports"
+    ASSUMED_LOADS = "assumed-loads"
+    IGNORED_ENTITY = "ignored-entity"
+    RECOVERED_FILE = "recovered-file"
+    ZERO_FORCE_MEMBER = "zero-force-member"
+    NEAR_MECHANISM = "near-mechanism"
+    LOAD_EXCITES_MECHANISM = "load-excites-mechanism"
+    ASSUMED_STIFFNESS = "assumed-stiffness"
+    ARC_SEGMENT = "arc-segment"
+    UNSUPPORTED_GEOMETRY = "unsupported-geometry"
+
+    @property
+    def severity(self) -> Severity:
+        return _SEVERITY[self]
+
+
+_E, _W, _I = Severity.ERROR, Severity.WARNING, Severity.INFO
+_SEVERITY: dict[Code, Severity] = {
+    Code.NO_MEMBERS: _E,
+    Code.INVALID_COORDINATE: _E,
+    Code.ZERO_LENGTH_MEMBER: _E,
+    Code.DUPLICATE_MEMBER: _E,
+    Code.DANGLING_MEMBER: _E,
+    Code.NEAR_MISS: _W,
+    Code.UNJOINED_CROSSING: _W,
+    Code.SPLIT_MEMBER: _I,
+    Code.DISCONNECTED_PART: _W,
+    Code.MECHANISM: _E,
+    Code.SUPPORT_OFF_JOINT: _E,
+    Code.LOAD_OFF_JOINT: _E,
+    Code.LOAD_WITHOUT_VALUE: _E,
+    Code.ASSUMED_UNITS: _W,
+    Code.ASSUMED_SUPPORTS: _W,
+    Code.ASSUMED_LOADS: _W,
+    Code.IGNORED_ENTITY: _I,
+    Code.RECOVERED_FILE: _W,
+    Code.ZERO_FORCE_MEMBER: _I,
+    Code.NEAR_MECHANISM: _W,
+    Code.LOAD_EXCITES_MECHANISM: _E,
+    Code.ASSUMED_STIFFNESS: _W,
+    # our additions beyond SPEC section 7 (documented in README):
+    Code.ARC_SEGMENT: _W,  # a bulged polyline segment or arc on a member layer: not used
+    Code.UNSUPPORTED_GEOMETRY: _W,  # e.g. 3-D line work flattened, block cycle, missing block
+}
+
+
+@dataclass(frozen=True)
+class Finding:
+    """Something the user must know about the drawing or the analysis.
+
+    ``joints`` and ``members`` are 0-based indices into the model (reported as ids
+    ``J1``, ``M1`` ...); ``at`` is a point in drawing coordinates where the marker
+    goes; ``data`` holds structured extras (distance, amplification, case name ...)
+    that must be JSON-serialisable.
+    """
+
+    code: Code
+    message: str
+    joints: tuple[int, ...] = ()
+    members: tuple[int, ...] = ()
+    at: tuple[float, float] | None = None
+    data: dict[str, Any] = field(default_factory=dict)
+
+    @property
+    def severity(self) -> Severity:
+        return self.code.severity
+
+
+def sort_findings(findings: list[Finding] | tuple[Finding, ...]) -> tuple[Finding, ...]:
+    """Deterministic report order: severity, code, then location and ids."""
+
+    def key(f: Finding) -> tuple[Any, ...]:
+        at = f.at if f.at is not None else (float("inf"), float("inf"))
+        return (f.severity.rank, f.code.value, str(f.data.get("case", "")), f.joints, f.members, at, f.message)
+
+    return tuple(sorted(findings, key=key))

@@ -1,0 +1,156 @@
+"""The truss model: joints, members, supports, loads, load cases and parts.
+
+Glossary:
+    joint     a point where member ends meet after snapping (id ``J1``, ``J2`` ...,
+              numbered by ascending x, then y).
+    member    a straight bar between two joints (id ``M1`` ...), numbered by its
+              joints' numbers; it remembers the layer and the DXF handles it came from.
+    part      a set of joints and members connected through members; each part is
+              supported and analysed alone.
+    support   restraint of a joint in x, y or both (``Fix``); reactions act along
+              the restrained directions.
+    load case a named set of joint loads (fx, fy in the force unit, +x right, +y up);
+              a combination is a factored sum of cases and is solved like a case.
+
+Coordinates and lengths are in drawing units; forces are in the report's force unit.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from enum import Enum
+
+import numpy as np
+
+from .findings import Finding
+
+
+class Fix(str, Enum):
+    """Which directions a support restrains."""
+
+    XY = "xy"
+    X = "x"
+    Y = "y"
+
+    @property
+    def directions(self) -> tuple[int, ...]:
+        """Restrained degrees of freedom: 0 = x, 1 = y."""
+        return {"xy": (0, 1), "x": (0,), "y": (1,)}[self.value]
+
+
+class Source(str, Enum):
+    """Where a support or load came from."""
+
+    DRAWING = "drawing"
+    LOADS_FILE = "loads-file"
+    DEFAULT = "default"
+
+
+@dataclass(frozen=True)
+class Support:
+    joint: int
+    fix: Fix
+    source: Source = Source.DRAWING
+
+    @property
+    def assumed(self) -> bool:
+        return self.source is Source.DEFAULT
+
+
+@dataclass(frozen=True)
+class Load:
+    """A joint load in the force unit; +x right, +y up."""
+
+    joint: int
+    fx: float
+    fy: float
+    source: Source = Source.DRAWING
+
+
+@dataclass(frozen=True)
+class LoadCase:
+    """A named load case, or a combination when ``factors`` is not empty.
+
+    For a combination ``loads`` already holds the factored, summed joint loads.
+    """
+
+    name: str
+    loads: tuple[Load, ...]
+    assumed: bool = False
+    factors: tuple[tuple[str, float], ...] = ()
+
+    @property
+    def is_combination(self) -> bool:
+        return bool(self.factors)
+
+    def load_vector(self, n_joints: int) -> np.ndarray:
+        """Joint load vector f (length 2j): f[2i] = fx, f[2i+1] = fy, summed per joint."""
+        f = np.zeros(2 * n_joints)
+        for ld in self.loads:
+            f[2 * ld.joint] += ld.fx
+            f[2 * ld.joint + 1] += ld.fy
+        return f
+
+
+@dataclass(frozen=True)
+class Section:
+    """Member stiffness for the layers matching ``layer`` (a glob, case-insensitive).
+
+    ``area`` in m2 and ``modulus`` in Pa (SI, converted from the loads file's units).
+    """
+
+    layer: str
+    area: float
+    modulus: float
+
+
+@dataclass(frozen=True)
+class Part:
+    """A connected set of joints and members (sorted index arrays)."""
+
+    index: int
+    joints: np.ndarray
+    members: np.ndarray
+
+
+@dataclass(frozen=True)
+class Truss:
+    """Everything the analysis needs, in plain arrays.
+
+    xy       (j, 2) float joint coordinates, drawing units
+    ends     (m, 2) int joint indices of each member, ends[e, 0] < ends[e, 1]
+    layers   member layer names
+    handles  for each member the DXF entity handles it was drawn with
+    """
+
+    xy: np.ndarray
+    ends: np.ndarray
+    layers: tuple[str, ...]
+    handles: tuple[tuple[str, ...], ...]
+    supports: tuple[Support, ...]
+    cases: tuple[LoadCase, ...]
+    parts: tuple[Part, ...]
+    length_unit: str
+    force_unit: str
+    sections: tuple[Section, ...] = ()
+    findings: tuple[Finding, ...] = field(default=())
+
+    @property
+    def n_joints(self) -> int:
+        return int(self.xy.shape[0])
+
+    @property
+    def n_members(self) -> int:
+        return int(self.ends.shape[0])
+
+    def lengths(self) -> np.ndarray:
+        d = self.xy[self.ends[:, 1]] - self.xy[self.ends[:, 0]]
+        return np.hypot(d[:, 0], d[:, 1])
+
+
+def joint_id(i: int) -> str:
+    return f"J{i + 1}"
+
+
+def member_id(e: int) -> str:
+    return f"M{e + 1}"
