@@ -1,0 +1,5 @@
+"""python -m dxftruss"""
+
+from .cli import main
+
+raise SystemExit(main())

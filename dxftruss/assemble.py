@@ -1,0 +1,290 @@
+"""Joints and members + drawn marks + loads file -> the Truss model.
+
+Glossary:
+    near-miss radius  a drawn support or load, or a loads-file point, attaches to the
+                      nearest joint within this distance.
+    upper outline     the upper edge of a part's convex hull; with no loads anywhere,
+                      every joint on it gets a unit downward load (case ``unit-panel``).
+    default supports  a part with no support gets a pin at its lowest, then leftmost
+                      joint and a roller (y) at its lowest, then rightmost joint.
+
+Drawn problems (a support or load off its joint, a load with no value) are findings;
+problems in the loads file are ConfigErrors, because the user wrote the file for us.
+"""
+
+from __future__ import annotations
+
+from collections import defaultdict
+from fnmatch import fnmatchcase
+
+import numpy as np
+from scipy.sparse import coo_matrix
+from scipy.sparse.csgraph import connected_components
+from scipy.spatial import cKDTree
+
+from .errors import ConfigError
+from .findings import Code, Finding
+from .loadsfile import DEFAULT_CASE, LoadsSpec, check_combinations
+from .model import Fix, Load, LoadCase, Part, Source, Support, Truss, joint_id
+from .read import LineWork
+from .snap import Geometry
+from .units import force_from_text
+
+UNIT_PANEL_CASE = "unit-panel"
+
+
+def find_parts(n_joints: int, ends: np.ndarray) -> tuple[Part, ...]:
+    """Connected parts, numbered by their lowest joint number."""
+    if n_joints == 0:
+        return ()
+    g = coo_matrix((np.ones(len(ends)), (ends[:, 0], ends[:, 1])), shape=(n_joints, n_joints))
+    _, label = connected_components(g, directed=False)
+    # renumber so that part order follows the smallest joint index
+    first = {}
+    for j, lab in enumerate(label):
+        first.setdefault(int(lab), j)
+    order = sorted(first, key=first.__getitem__)
+    remap = np.empty(len(order), dtype=np.int64)
+    remap[order] = np.arange(len(order))
+    label = remap[label]
+    member_label = label[ends[:, 0]] if len(ends) else np.zeros(0, np.int64)
+    joints_by = np.argsort(label, kind="stable")
+    members_by = np.argsort(member_label, kind="stable")
+    jcount = np.bincount(label, minlength=len(order))
+    mcount = np.bincount(member_label, minlength=len(order))
+    jsplit = np.split(joints_by, np.cumsum(jcount)[:-1])
+    msplit = np.split(members_by, np.cumsum(mcount)[:-1])
+    return tuple(Part(p, np.sort(jsplit[p]), np.sort(msplit[p])) for p in range(len(order)))
+
+
+def _lowest(xy: np.ndarray, joints: np.ndarray, tol: float, rightmost: bool) -> int:
+    ys = xy[joints, 1]
+    low = joints[ys <= ys.min() + tol]
+    xs = xy[low, 0]
+    return int(low[np.argmax(xs)] if rightmost else low[np.argmin(xs)])
+
+
+def default_supports(xy: np.ndarray, part: Part, *, tol: float) -> tuple[Support, Support]:
+    """Pin at the lowest, then leftmost joint; roller (y) at the lowest, then rightmost
+    of the other joints."""
+    pin = _lowest(xy, part.joints, tol, rightmost=False)
+    others = part.joints[part.joints != pin]
+    roller = _lowest(xy, others, tol, rightmost=True)
+    return Support(pin, Fix.XY, Source.DEFAULT), Support(roller, Fix.Y, Source.DEFAULT)
+
+
+def upper_outline_joints(xy: np.ndarray, joints: np.ndarray, *, tol: float) -> np.ndarray:
+    """Joints on the upper edge of the convex hull (collinear ones included), by x."""
+    pts = xy[joints]
+    order = np.lexsort((pts[:, 1], pts[:, 0]))
+    hull: list[int] = []
+    for i in order[::-1]:  # right to left keeps the upper chain with "left turns popped"
+        p = pts[i]
+        while len(hull) >= 2:
+            o, a = pts[hull[-2]], pts[hull[-1]]
+            if (a[0] - o[0]) * (p[1] - o[1]) - (a[1] - o[1]) * (p[0] - o[0]) <= 0:
+                hull.pop()
+            else:
+                break
+        hull.append(int(i))
+    hx, hy = pts[hull, 0][::-1], pts[hull, 1][::-1]
+    # collapse vertical runs to their top point so the envelope is a function of x
+    keep = np.r_[hx[1:] != hx[:-1], True]
+    top = np.maximum.reduceat(hy, np.flatnonzero(np.r_[True, hx[1:] != hx[:-1]]))
+    env = np.interp(pts[:, 0], hx[keep], top)
+    on = pts[:, 1] >= env - tol
+    sel = joints[on]
+    return sel[np.argsort(xy[sel, 0], kind="stable")]
+
+
+def _nearest(tree: cKDTree | None, p: tuple[float, float]) -> tuple[float, int]:
+    if tree is None:
+        return float("inf"), -1
+    d, i = tree.query(p)
+    return float(d), int(i)
+
+
+def build_truss(
+    geometry: Geometry,
+    linework: LineWork,
+    spec: LoadsSpec | None,
+    *,
+    near_miss: float,
+    length_unit: str,
+    outline_tol: float,
+) -> Truss:
+    """Attach supports and loads to joints, add the defaults of SPEC section 5."""
+    xy, ends = geometry.xy, geometry.ends
+    findings: list[Finding] = []
+    tree = cKDTree(xy) if len(xy) else None
+    force_unit = spec.force_unit if spec else "kN"
+    parts = find_parts(len(xy), ends)
+
+    # supports: drawn, then file; merged per joint
+    fixes: dict[int, set[int]] = defaultdict(set)
+    sources: dict[int, Source] = {}
+    for mark in linework.supports:
+        d, j = _nearest(tree, (mark.x, mark.y))
+        if d > near_miss:
+            findings.append(
+                Finding(
+                    Code.SUPPORT_OFF_JOINT,
+                    f"support ({mark.layer}, handle {mark.handle}) is not on a joint"
+                    + (f": nearest joint {joint_id(j)} is {d:.6g} away" if j >= 0 else ""),
+                    joints=(j,) if j >= 0 else (),
+                    at=(mark.x, mark.y),
+                    data={"handle": mark.handle, "distance": d if j >= 0 else None},
+                )
+            )
+            continue
+        fixes[j].update(mark.fix.directions)
+        sources.setdefault(j, Source.DRAWING)
+    if spec:
+        for entry in spec.supports:
+            d, j = _nearest(tree, entry.at)
+            if d > near_miss:
+                where = f"{spec.path}: [[support]] #{entry.number} at {list(entry.at)}"
+                raise ConfigError(
+                    f"{where}: no joint within {near_miss:.6g} {length_unit}"
+                    + (f"; nearest is {joint_id(j)} at {list(map(float, xy[j]))}, {d:.6g} away" if j >= 0 else "")
+                )
+            fixes[j].update(entry.fix.directions)
+            sources.setdefault(j, Source.LOADS_FILE)
+    supports = [
+        Support(j, Fix.XY if dirs == {0, 1} else (Fix.X if dirs == {0} else Fix.Y), sources[j])
+        for j, dirs in sorted(fixes.items())
+    ]
+    supported = np.zeros(len(xy), dtype=bool)
+    supported[list(fixes)] = True
+    for part in parts:
+        if supported[part.joints].any():
+            continue
+        pin, roller = default_supports(xy, part, tol=outline_tol)
+        supports += [pin, roller]
+        findings.append(
+            Finding(
+                Code.ASSUMED_SUPPORTS,
+                f"part {part.index + 1} has no support: assumed a pin at {joint_id(pin.joint)} and a roller "
+                f"(vertical restraint) at {joint_id(roller.joint)}",
+                joints=(pin.joint, roller.joint),
+                at=(float(xy[pin.joint, 0]), float(xy[pin.joint, 1])),
+                data={"part": part.index},
+            )
+        )
+    supports.sort(key=lambda s: s.joint)
+
+    # loads: drawn lines (arrow head at the joint end), labels from the nearest text
+    case_loads: dict[str, list[Load]] = defaultdict(list)
+    texts_by_layer: dict[str, list] = defaultdict(list)
+    for t in linework.texts:
+        texts_by_layer[t.layer.upper()].append(t)
+    for mark in linework.loads:
+        d0, j0 = _nearest(tree, mark.start)
+        d1, j1 = _nearest(tree, mark.end)
+        head, tail, d, j = (mark.start, mark.end, d0, j0) if d0 <= d1 else (mark.end, mark.start, d1, j1)
+        if d > near_miss:
+            findings.append(
+                Finding(
+                    Code.LOAD_OFF_JOINT,
+                    f"load line ({mark.layer}, handle {mark.handle}) has neither end on a joint"
+                    + (f": nearest joint {joint_id(j)} is {d:.6g} away" if j >= 0 else ""),
+                    at=head,
+                    data={"handle": mark.handle, "case": mark.case},
+                )
+            )
+            continue
+        vec = np.subtract(head, tail)
+        length = float(np.hypot(*vec))
+        label, value = _nearest_label(texts_by_layer[mark.layer.upper()], mark.start, mark.end, force_unit)
+        if value is None or length == 0:
+            findings.append(
+                Finding(
+                    Code.LOAD_WITHOUT_VALUE,
+                    f"load line ({mark.layer}, handle {mark.handle}) at {joint_id(j)} has no magnitude: "
+                    + ("no text on its layer" if label is None else f"the nearest text {label!r} holds no number"),
+                    joints=(j,),
+                    at=tail,
+                    data={"handle": mark.handle, "case": mark.case},
+                )
+            )
+            continue
+        u = vec / length
+        case_loads[mark.case].append(Load(j, float(value * u[0]), float(value * u[1]), Source.DRAWING))
+    if spec:
+        for entry in spec.loads:
+            d, j = _nearest(tree, entry.at)
+            if d > near_miss:
+                where = f"{spec.path}: [[load]] #{entry.number} at {list(entry.at)}"
+                raise ConfigError(
+                    f"{where}: no joint within {near_miss:.6g} {length_unit}"
+                    + (f"; nearest is {joint_id(j)} at {list(map(float, xy[j]))}, {d:.6g} away" if j >= 0 else "")
+                )
+            case_loads[entry.case].append(Load(j, entry.fx, entry.fy, Source.LOADS_FILE))
+
+    cases = [LoadCase(name, tuple(case_loads[name])) for name in sorted(case_loads)]
+    if spec:
+        check_combinations(spec, set(case_loads))
+        by_name = {c.name: c for c in cases}
+        for combo in spec.combinations:
+            loads = [
+                Load(ld.joint, factor * ld.fx, factor * ld.fy, ld.source)
+                for case, factor in combo.factors
+                for ld in by_name[case].loads
+            ]
+            cases.append(LoadCase(combo.name, tuple(loads), factors=combo.factors))
+
+    if not linework.loads and not (spec and spec.loads) and parts:
+        loads = []
+        for part in parts:
+            for j in upper_outline_joints(xy, part.joints, tol=outline_tol):
+                loads.append(Load(int(j), 0.0, -1.0, Source.DEFAULT))
+        cases = [LoadCase(UNIT_PANEL_CASE, tuple(loads), assumed=True)]
+        findings.append(
+            Finding(
+                Code.ASSUMED_LOADS,
+                f"no loads given: assumed case {UNIT_PANEL_CASE!r}, 1 {force_unit} downward at each of the "
+                f"{len(loads)} joints on the upper outline of each part",
+                joints=tuple(ld.joint for ld in loads),
+                at=(float(xy[loads[0].joint, 0]), float(xy[loads[0].joint, 1])) if loads else None,
+                data={"case": UNIT_PANEL_CASE},
+            )
+        )
+
+    return Truss(
+        xy=xy,
+        ends=ends,
+        layers=geometry.layers,
+        handles=geometry.handles,
+        supports=tuple(supports),
+        cases=tuple(cases),
+        parts=parts,
+        length_unit=length_unit,
+        force_unit=force_unit,
+        sections=spec.sections if spec else (),
+        findings=tuple(findings),
+    )
+
+
+def _nearest_label(texts: list, start: tuple[float, float], end: tuple[float, float], force_unit: str):
+    """The text nearest to the segment start-end and the force it holds (or None)."""
+    if not texts:
+        return None, None
+    p = np.array([[t.x, t.y] for t in texts])
+    a, b = np.asarray(start, float), np.asarray(end, float)
+    d = b - a
+    dd = float(d @ d)
+    t = np.clip(((p - a) @ d) / dd, 0.0, 1.0) if dd > 0 else np.zeros(len(p))
+    dist = np.hypot(*(p - (a + t[:, None] * d)).T)
+    best = texts[int(np.argmin(dist))]
+    return best.text, force_from_text(best.text, force_unit)
+
+
+def section_for(layer: str, sections: tuple) -> int | None:
+    """Index of the first section whose glob matches ``layer`` (case-insensitive)."""
+    for i, s in enumerate(sections):
+        if fnmatchcase(layer.upper(), s.layer.upper()):
+            return i
+    return None
+
+
+__all__ = ["build_truss", "find_parts", "default_supports", "upper_outline_joints", "UNIT_PANEL_CASE", "DEFAULT_CASE"]

@@ -1,0 +1,210 @@
+"""The TOML loads file (``--loads``): units, supports, loads, combinations, sections.
+
+Glossary:
+    entry   one ``[[support]]``, ``[[load]]``, ``[[combination]]`` or ``[[section]]``
+            table, named in messages by its kind and 1-based number ("[[load]] #3").
+
+Every mistake is a ConfigError with one line naming the file and the entry: unknown
+keys, wrong types, non-finite numbers, unknown units, unknown cases in a combination.
+Coordinates are drawing coordinates; whether a point has a joint nearby is checked
+when the model is built (it needs the joints).
+"""
+
+from __future__ import annotations
+
+import math
+import os
+import tomllib
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from .errors import ConfigError
+from .model import Fix, Section
+from .units import AREA_UNITS, FORCE_UNITS, LENGTH_UNITS, MODULUS_UNITS, check_unit_name, parse_force, parse_si
+
+DEFAULT_CASE = "main"
+
+
+@dataclass(frozen=True)
+class SupportEntry:
+    number: int
+    at: tuple[float, float]
+    fix: Fix
+
+
+@dataclass(frozen=True)
+class LoadEntry:
+    """fx, fy in the file's force unit."""
+
+    number: int
+    at: tuple[float, float]
+    fx: float
+    fy: float
+    case: str
+
+
+@dataclass(frozen=True)
+class CombinationEntry:
+    number: int
+    name: str
+    factors: tuple[tuple[str, float], ...]
+
+
+@dataclass(frozen=True)
+class LoadsSpec:
+    path: str
+    force_unit: str
+    length_unit: str | None
+    supports: tuple[SupportEntry, ...]
+    loads: tuple[LoadEntry, ...]
+    combinations: tuple[CombinationEntry, ...]
+    sections: tuple[Section, ...]
+    force_unit_given: bool = False
+
+
+_TOP_KEYS = {"units", "support", "load", "combination", "section"}
+_KEYS = {
+    "units": {"force", "length"},
+    "support": {"at", "fix"},
+    "load": {"at", "fx", "fy", "case"},
+    "combination": {"name", "factors"},
+    "section": {"layer", "area", "E"},
+}
+
+
+def _unknown(where: str, table: dict[str, Any], kind: str) -> None:
+    extra = sorted(set(table) - _KEYS[kind])
+    if extra:
+        raise ConfigError(f"{where}: unknown key {extra[0]!r} (known keys: {', '.join(sorted(_KEYS[kind]))})")
+
+
+def _point(where: str, value: object) -> tuple[float, float]:
+    if (
+        not isinstance(value, list)
+        or len(value) != 2
+        or not all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in value)
+    ):
+        raise ConfigError(f"{where}: 'at' must be a pair of numbers such as [3000.0, 0.0], got {value!r}")
+    x, y = float(value[0]), float(value[1])
+    if not (math.isfinite(x) and math.isfinite(y)):
+        raise ConfigError(f"{where}: 'at' must be finite, got {value!r}")
+    return x, y
+
+
+def _tables(where: str, data: dict[str, Any], kind: str) -> list[dict[str, Any]]:
+    value = data.get(kind, [])
+    if not isinstance(value, list) or not all(isinstance(t, dict) for t in value):
+        raise ConfigError(f"{where}: '{kind}' must be written as [[{kind}]] tables")
+    return value
+
+
+def read_loads_file(path: str | os.PathLike[str]) -> LoadsSpec:
+    """Parse and validate a loads file; raises ConfigError with the file and entry named."""
+    name = str(path)
+    try:
+        raw = Path(path).read_bytes()
+    except OSError as exc:
+        raise ConfigError(f"{name}: cannot read the loads file ({exc.strerror or exc})") from None
+    try:
+        data = tomllib.loads(raw.decode("utf-8"))
+    except UnicodeDecodeError:
+        raise ConfigError(f"{name}: the loads file is not UTF-8 text") from None
+    except tomllib.TOMLDecodeError as exc:
+        raise ConfigError(f"{name}: TOML syntax error: {exc}") from None
+    return parse_loads(data, name)
+
+
+def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:
+    """Validate an already parsed TOML document (see :func:`read_loads_file`)."""
+    extra = sorted(set(data) - _TOP_KEYS)
+    if extra:
+        raise ConfigError(f"{name}: unknown table {extra[0]!r} (known: {', '.join(sorted(_TOP_KEYS))})")
+
+    units = data.get("units", {})
+    if not isinstance(units, dict):
+        raise ConfigError(f"{name}: [units] must be a table")
+    _unknown(f"{name}: [units]", units, "units")
+    force_unit = check_unit_name(units.get("force", "kN"), FORCE_UNITS, f"{name}: [units] force")
+    length_unit = units.get("length")
+    if length_unit is not None:
+        length_unit = check_unit_name(length_unit, LENGTH_UNITS, f"{name}: [units] length")
+
+    supports = []
+    for i, t in enumerate(_tables(name, data, "support"), 1):
+        where = f"{name}: [[support]] #{i}"
+        _unknown(where, t, "support")
+        if "at" not in t:
+            raise ConfigError(f"{where}: 'at' is missing")
+        fix = t.get("fix", "xy")
+        if not isinstance(fix, str) or fix.lower() not in ("xy", "x", "y"):
+            raise ConfigError(f"{where}: 'fix' must be \"xy\", \"x\" or \"y\", got {fix!r}")
+        supports.append(SupportEntry(i, _point(where, t["at"]), Fix(fix.lower())))
+
+    loads = []
+    for i, t in enumerate(_tables(name, data, "load"), 1):
+        where = f"{name}: [[load]] #{i}"
+        _unknown(where, t, "load")
+        if "at" not in t:
+            raise ConfigError(f"{where}: 'at' is missing")
+        case = t.get("case", DEFAULT_CASE)
+        if not isinstance(case, str) or not case.strip():
+            raise ConfigError(f"{where}: 'case' must be a non-empty string, got {case!r}")
+        fx = parse_force(t.get("fx", 0.0), force_unit, f"{where} fx")
+        fy = parse_force(t.get("fy", 0.0), force_unit, f"{where} fy")
+        loads.append(LoadEntry(i, _point(where, t["at"]), fx, fy, case.strip()))
+
+    case_names = {ld.case for ld in loads}
+    combos = []
+    seen: set[str] = set()
+    for i, t in enumerate(_tables(name, data, "combination"), 1):
+        where = f"{name}: [[combination]] #{i}"
+        _unknown(where, t, "combination")
+        cname = t.get("name")
+        if not isinstance(cname, str) or not cname.strip():
+            raise ConfigError(f"{where}: 'name' must be a non-empty string")
+        if cname in seen:
+            raise ConfigError(f"{where}: the name {cname!r} is used twice")
+        seen.add(cname)
+        factors = t.get("factors")
+        if not isinstance(factors, dict) or not factors:
+            raise ConfigError(f"{where}: 'factors' must be a table such as {{ dead = 1.35, snow = 1.5 }}")
+        pairs = []
+        for case, factor in factors.items():
+            if isinstance(factor, bool) or not isinstance(factor, (int, float)) or not math.isfinite(float(factor)):
+                raise ConfigError(f"{where}: the factor of {case!r} must be a finite number, got {factor!r}")
+            pairs.append((str(case), float(factor)))
+        combos.append(CombinationEntry(i, cname.strip(), tuple(pairs)))
+
+    sections = []
+    for i, t in enumerate(_tables(name, data, "section"), 1):
+        where = f"{name}: [[section]] #{i}"
+        _unknown(where, t, "section")
+        for key in ("layer", "area", "E"):
+            if key not in t:
+                raise ConfigError(f"{where}: '{key}' is missing")
+        layer = t["layer"]
+        if not isinstance(layer, str) or not layer:
+            raise ConfigError(f"{where}: 'layer' must be a layer name or glob such as \"CHORD*\"")
+        area = parse_si(t["area"], AREA_UNITS, f"{where} area")
+        modulus = parse_si(t["E"], MODULUS_UNITS, f"{where} E")
+        if area <= 0 or modulus <= 0:
+            raise ConfigError(f"{where}: area and E must be positive")
+        sections.append(Section(layer, area, modulus))
+
+    return LoadsSpec(
+        name, force_unit, length_unit, tuple(supports), tuple(loads), tuple(combos), tuple(sections), "force" in units
+    )
+
+
+def check_combinations(spec: LoadsSpec, case_names: set[str]) -> None:
+    """Every case a combination names must exist (drawn or in the file)."""
+    for c in spec.combinations:
+        if c.name in case_names:
+            raise ConfigError(f"{spec.path}: [[combination]] #{c.number}: {c.name!r} is also the name of a load case")
+        for case, _ in c.factors:
+            if case not in case_names:
+                known = ", ".join(sorted(case_names)) or "none"
+                raise ConfigError(
+                    f"{spec.path}: [[combination]] #{c.number} {c.name!r}: unknown load case {case!r} (cases: {known})"
+                )

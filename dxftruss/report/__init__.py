@@ -1,0 +1,31 @@
+"""Reports: the only modules that turn a Result into text, JSON, PDF or DXF.
+
+The caution of SPEC section 10 and the list of assumptions live here so every report
+says the same words.
+"""
+
+from __future__ import annotations
+
+from ..findings import Code
+
+CAUTION = (
+    "Results are for checking a line model under stated loads; they are not a design. "
+    "Member sizing, connections, buckling, load derivation and code compliance remain the "
+    "work of a qualified engineer under the codes that apply where the structure is built."
+)
+
+#: finding codes that state an assumption the tool made
+ASSUMPTION_CODES = (Code.ASSUMED_UNITS, Code.ASSUMED_SUPPORTS, Code.ASSUMED_LOADS, Code.ASSUMED_STIFFNESS)
+
+
+def assumptions(result) -> list[str]:  # type: ignore[no-untyped-def]
+    """Every default the tool assumed, as sentences for people (same in every report)."""
+    out = [f.message for f in result.findings if f.code in ASSUMPTION_CODES]
+    tol = result.tolerances
+    unit = result.source.length_unit
+    out.append(f"snap tolerance {tol.snap:.6g} {unit} ({tol.snap_source})")
+    out.append(f"near-miss radius {tol.near_miss:.6g} {unit} ({tol.near_miss_source})")
+    if result.loads is None or not result.loads.force_unit_given:
+        out.append(f"forces in {result.truss.force_unit} (the default force unit)")
+    out.append("members are pin-ended bars carrying axial force only; loads act at joints; small displacements")
+    return out

@@ -1,0 +1,154 @@
+"""The JSON report, schema ``dxftruss-report/1`` (SPEC section 9).
+
+Numbers are rounded to 12 significant digits, -0.0 is written as 0.0 and NaN as null,
+so the same input and options always give byte-identical JSON.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from typing import Any
+
+import numpy as np
+
+from ..model import joint_id, member_id
+from . import CAUTION, assumptions
+
+SCHEMA = "dxftruss-report/1"
+
+
+def _num(x: float) -> float | None:
+    x = float(x)
+    if not math.isfinite(x):
+        return None
+    y = float(f"{x:.12g}")
+    return 0.0 if y == 0 else y
+
+
+def _jsonable(v: Any) -> Any:
+    if isinstance(v, dict):
+        return {str(k): _jsonable(x) for k, x in v.items()}
+    if isinstance(v, (list, tuple)):
+        return [_jsonable(x) for x in v]
+    if isinstance(v, (bool, np.bool_)):
+        return bool(v)
+    if isinstance(v, (int, np.integer)):
+        return int(v)
+    if isinstance(v, (float, np.floating)):
+        return _num(float(v))
+    if v is None or isinstance(v, str):
+        return v
+    return str(v)
+
+
+def report_dict(result) -> dict[str, Any]:  # type: ignore[no-untyped-def]
+    """The report as plain JSON-ready data."""
+    t = result.truss
+    lengths = t.lengths()
+    src = result.source
+    s = result.settings
+    tol = result.tolerances
+    doc: dict[str, Any] = {
+        "schema": SCHEMA,
+        "source": {
+            "path": src.path,
+            "sha256": src.sha256,
+            "dxf_version": src.dxf_version,
+            "length_unit": src.length_unit,
+            "unit_source": src.unit_source,
+            "recovered": src.recovered,
+        },
+        "settings": {
+            "snap": _num(tol.snap),
+            "snap_source": tol.snap_source,
+            "near_miss": _num(tol.near_miss),
+            "near_miss_source": tol.near_miss_source,
+            "units": s.units,
+            "layers": list(s.layers),
+            "loads": s.loads,
+            "force_unit": t.force_unit,
+        },
+        "assumptions": assumptions(result),
+        "joints": [{"id": joint_id(i), "x": _num(x), "y": _num(y)} for i, (x, y) in enumerate(t.xy)],
+        "members": [
+            {
+                "id": member_id(e),
+                "joints": [joint_id(int(a)), joint_id(int(b))],
+                "length": _num(lengths[e]),
+                "layer": t.layers[e],
+                "handles": list(t.handles[e]),
+            }
+            for e, (a, b) in enumerate(t.ends)
+        ],
+        "supports": [
+            {"joint": joint_id(sp.joint), "fix": sp.fix.value, "assumed": sp.assumed, "source": sp.source.value}
+            for sp in t.supports
+        ],
+        "parts": [
+            {
+                "id": p.index + 1,
+                "joints": [joint_id(int(j)) for j in p.joints],
+                "members": [member_id(int(e)) for e in p.members],
+                "j": st.j,
+                "m": st.m,
+                "r": st.r,
+                "rank": st.rank,
+                "mechanisms": st.mechanisms,
+                "self_stress": st.self_stress,
+                "generic_mechanisms": st.generic_mechanisms,
+                "generic_self_stress": st.generic_self_stress,
+                "verdict": st.verdict.value,
+                "sigma_min": _num(st.sigma_min) if st.sigma_min is not None else None,
+                "sigma_max": _num(st.sigma_max) if st.sigma_max is not None else None,
+                "rank_gap": _num(st.rank_gap) if st.rank_gap is not None else None,
+                "rank_method": st.method,
+            }
+            for p, st in zip(t.parts, result.stability)
+        ],
+        "findings": [
+            {
+                "code": f.code.value,
+                "severity": f.severity.value,
+                "message": f.message,
+                "joints": [joint_id(j) for j in f.joints if j >= 0],
+                "members": [member_id(e) for e in f.members],
+                "at": [_num(f.at[0]), _num(f.at[1])] if f.at is not None else None,
+                **({"data": _jsonable(f.data)} if f.data else {}),
+            }
+            for f in result.findings
+        ],
+        "cases": [_case(result, c) for c in result.cases],
+        "symmetry": {"axis_x": _num(result.symmetry_axis) if result.symmetry_axis is not None else None},
+        "caution": CAUTION,
+    }
+    return doc
+
+
+def _case(result, c) -> dict[str, Any]:  # type: ignore[no-untyped-def]
+    t = result.truss
+    case = next(lc for lc in t.cases if lc.name == c.name)
+    out: dict[str, Any] = {
+        "name": c.name,
+        "assumed": c.assumed,
+        "combination": {k: _num(v) for k, v in c.factors} if c.factors else None,
+        "loads": [{"joint": joint_id(ld.joint), "fx": _num(ld.fx), "fy": _num(ld.fy)} for ld in case.loads],
+        "reactions": [{"joint": joint_id(j), "fx": _num(rx), "fy": _num(ry)} for j, rx, ry in c.reactions],
+        "forces": {member_id(e): _num(v) for e, v in enumerate(c.forces)},
+        "zero_force": {
+            "by_rule": [member_id(e) for e in c.zero_by_rule],
+            "by_solution": [member_id(e) for e in c.zero_by_solution],
+        },
+        "loads_symmetric": c.loads_symmetric,
+        "solved_parts": [p + 1 for p in c.solved_parts],
+        "residual": _num(c.residual),
+    }
+    if c.displacements is not None:
+        out["displacements"] = {
+            joint_id(j): [_num(dx), _num(dy)] for j, (dx, dy) in enumerate(np.asarray(c.displacements))
+        }
+    return out
+
+
+def to_json(result) -> str:  # type: ignore[no-untyped-def]
+    return json.dumps(report_dict(result), indent=1, ensure_ascii=False, allow_nan=False) + "\n"

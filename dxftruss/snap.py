@@ -1,0 +1,225 @@
+"""Line work -> joints and members.
+
+Glossary:
+    snap tolerance  endpoints closer than this become one joint; a joint closer than
+                    this to the inside of a line splits the line there.
+    chaining        the trap of joining a row of points each within tolerance of the
+                    next into one long "joint"; clustering here is leader-based, so a
+                    cluster is never wider than twice the tolerance.
+    split           a drawn line through panel points becomes one member per panel.
+    duplicate       two drawn lines (or overlapping collinear pieces) joining the same
+                    two joints; analysed as one member and reported as an error.
+
+Joints are numbered by ascending x, then y (x rounded to a grid of ten snap tolerances
+so a column of joints drawn at "the same" x is numbered bottom to top); members by
+their joints' numbers. The same drawing therefore always gives the same ids.
+"""
+
+from __future__ import annotations
+
+from collections import defaultdict
+from dataclasses import dataclass
+
+import numpy as np
+from scipy.spatial import cKDTree
+
+from .findings import Code, Finding
+
+
+@dataclass(frozen=True)
+class Geometry:
+    """Joints and members made from the line work.
+
+    xy       (j, 2) joint coordinates (drawing units)
+    ends     (m, 2) joint indices per member, ends[:, 0] < ends[:, 1]
+    layers   layer per member
+    handles  the DXF handles each member was drawn with
+    """
+
+    xy: np.ndarray
+    ends: np.ndarray
+    layers: tuple[str, ...]
+    handles: tuple[tuple[str, ...], ...]
+    findings: tuple[Finding, ...]
+
+
+def cluster_points(points: np.ndarray, *, tol: float) -> tuple[np.ndarray, np.ndarray]:
+    """Group points closer than ``tol`` without chaining.
+
+    Returns (labels per point, cluster centres). Identical points are merged first;
+    the remaining close pairs are resolved by leader clustering in coordinate order
+    (independent of input order): each unassigned point, in (x, y) order, claims the
+    unassigned points within ``tol`` of itself. The centre is the mean of the distinct
+    points of a cluster.
+    """
+    if len(points) == 0:
+        return np.zeros(0, dtype=np.int64), np.zeros((0, 2))
+    uniq, inverse = np.unique(points, axis=0, return_inverse=True)
+    inverse = inverse.reshape(-1)
+    n = len(uniq)
+    label = np.arange(n)
+    if tol > 0 and n > 1:
+        tree = cKDTree(uniq)
+        pairs = tree.query_pairs(tol, output_type="ndarray")
+        if len(pairs):
+            involved = np.unique(pairs)  # sorted = (x, y) order, because uniq is sorted
+            label[involved] = -1
+            for p in involved:
+                if label[p] != -1:
+                    continue
+                label[p] = p
+                for q in tree.query_ball_point(uniq[p], tol):
+                    if label[q] == -1:
+                        label[q] = p
+    _, label = np.unique(label, return_inverse=True)
+    label = label.reshape(-1)
+    counts = np.bincount(label)
+    centres = np.column_stack([np.bincount(label, uniq[:, 0]), np.bincount(label, uniq[:, 1])]) / counts[:, None]
+    return label[inverse], centres
+
+
+def _split_on_joints(
+    xy: np.ndarray, a: np.ndarray, b: np.ndarray, *, tol: float
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """For each segment (joint a -> joint b) find joints lying on its inside.
+
+    Returns (segment index, joint index, parameter t in (0, 1)) for every hit, sorted
+    by segment then t.
+    """
+    import shapely
+
+    if len(a) == 0:
+        return np.zeros(0, np.int64), np.zeros(0, np.int64), np.zeros(0)
+    lines = shapely.linestrings(np.stack([xy[a], xy[b]], axis=1))
+    tree = shapely.STRtree(lines)
+    pj, seg = tree.query(shapely.points(xy), predicate="dwithin", distance=tol)
+    keep = (pj != a[seg]) & (pj != b[seg])
+    pj, seg = pj[keep], seg[keep]
+    d = xy[b[seg]] - xy[a[seg]]
+    t = np.einsum("ij,ij->i", xy[pj] - xy[a[seg]], d) / np.einsum("ij,ij->i", d, d)
+    inside = (t > 0) & (t < 1)
+    seg, pj, t = seg[inside], pj[inside], t[inside]
+    order = np.lexsort((t, seg))
+    return seg[order], pj[order], t[order]
+
+
+def build_geometry(
+    segments: np.ndarray,
+    handles: tuple[str, ...],
+    layers: tuple[str, ...],
+    *,
+    snap: float,
+) -> Geometry:
+    """Snap segment endpoints into joints, split lines at joints on them, merge duplicates.
+
+    ``segments`` is (n, 4): x1, y1, x2, y2. Findings: zero-length-member (error),
+    split-member (info), duplicate-member (error).
+    """
+    findings: list[Finding] = []
+    seg = np.asarray(segments, dtype=float).reshape(-1, 4)
+    n = len(seg)
+    pts = seg.reshape(-1, 2)  # point 2i = start of i, 2i + 1 = end of i
+    label, centres = cluster_points(pts, tol=snap)
+    a, b = label[0::2], label[1::2]
+
+    # zero-length lines: both ends in one joint
+    zero = a == b
+    for i in np.flatnonzero(zero):
+        findings.append(
+            Finding(
+                Code.ZERO_LENGTH_MEMBER,
+                f"a line on layer {layers[i]!r} (handle {handles[i]}) is shorter than the snap tolerance; it is not used",
+                at=(float(centres[a[i], 0]), float(centres[a[i], 1])),
+                data={"handle": handles[i], "layer": layers[i]},
+            )
+        )
+    live = np.flatnonzero(~zero)
+    a, b = a[live], b[live]
+
+    # split lines at joints lying on them
+    hit_seg, hit_joint, _ = _split_on_joints(centres, a, b, tol=snap)
+    pieces_src: list[np.ndarray] = []
+    pieces_a: list[np.ndarray] = []
+    pieces_b: list[np.ndarray] = []
+    split_rows = np.unique(hit_seg)
+    unsplit = np.setdiff1d(np.arange(len(live)), split_rows)
+    pieces_src.append(unsplit)
+    pieces_a.append(a[unsplit])
+    pieces_b.append(b[unsplit])
+    split_info: list[tuple[int, list[int]]] = []
+    if len(hit_seg):
+        bounds = np.flatnonzero(np.r_[True, hit_seg[1:] != hit_seg[:-1], True])
+        for lo, hi in zip(bounds[:-1], bounds[1:]):
+            s = int(hit_seg[lo])
+            chain = [int(a[s]), *[int(j) for j in hit_joint[lo:hi]], int(b[s])]
+            # a joint listed twice (two points within tol of the same place) is one stop
+            chain = [j for k, j in enumerate(chain) if k == 0 or j != chain[k - 1]]
+            pieces_src.append(np.full(len(chain) - 1, s))
+            pieces_a.append(np.array(chain[:-1]))
+            pieces_b.append(np.array(chain[1:]))
+            split_info.append((s, chain))
+    src = live[np.concatenate(pieces_src)] if pieces_src else np.zeros(0, np.int64)
+    pa = np.concatenate(pieces_a).astype(np.int64)
+    pb = np.concatenate(pieces_b).astype(np.int64)
+    keep = pa != pb
+    src, pa, pb = src[keep], pa[keep], pb[keep]
+
+    # number the joints that members use, by x (on a grid of 10 snap) then y
+    used = np.unique(np.concatenate([pa, pb]))
+    grid = 10 * snap if snap > 0 else 1.0
+    kx = np.round(centres[used, 0] / grid)
+    order = np.lexsort((centres[used, 1], kx))
+    new_id = np.full(len(centres), -1, dtype=np.int64)
+    new_id[used[order]] = np.arange(len(used))
+    xy = centres[used[order]]
+    lo_end = np.minimum(new_id[pa], new_id[pb])
+    hi_end = np.maximum(new_id[pa], new_id[pb])
+
+    # members = distinct joint pairs; duplicates merged
+    pair_key = lo_end * max(len(xy), 1) + hi_end
+    uniq_key, first, inverse, counts = np.unique(pair_key, return_index=True, return_inverse=True, return_counts=True)
+    inverse = inverse.reshape(-1)
+    ends = np.column_stack([lo_end[first], hi_end[first]])
+    m = len(uniq_key)
+    member_handles: list[set[str]] = [set() for _ in range(m)]
+    member_layers: list[set[str]] = [set() for _ in range(m)]
+    for piece, e in enumerate(inverse):
+        member_handles[e].add(handles[src[piece]])
+        member_layers[e].add(layers[src[piece]])
+    out_layers = tuple(min(ls) for ls in member_layers)
+    out_handles = tuple(tuple(sorted(hs)) for hs in member_handles)
+
+    for e in np.flatnonzero(counts > 1):
+        i, k = ends[e]
+        mid = (xy[i] + xy[k]) / 2
+        findings.append(
+            Finding(
+                Code.DUPLICATE_MEMBER,
+                f"{int(counts[e])} drawn lines join J{i + 1} and J{k + 1} (drawn twice or overlapping); analysed as one member",
+                joints=(int(i), int(k)),
+                members=(int(e),),
+                at=(float(mid[0]), float(mid[1])),
+                data={"count": int(counts[e]), "handles": list(out_handles[e])},
+            )
+        )
+
+    # members made from each split line, for the split-member finding
+    by_src: dict[int, list[int]] = defaultdict(list)
+    for piece, s in enumerate(src):
+        by_src[int(s)].append(int(inverse[piece]))
+    for s, chain in split_info:
+        row = int(live[s])
+        joints = tuple(int(new_id[j]) for j in chain)
+        mid = xy[joints[len(joints) // 2]]
+        findings.append(
+            Finding(
+                Code.SPLIT_MEMBER,
+                f"a line on layer {layers[row]!r} (handle {handles[row]}) passes through {len(joints) - 2} joint(s) "
+                f"and was split into {len(joints) - 1} members",
+                joints=joints,
+                members=tuple(sorted(set(by_src[row]))),
+                at=(float(mid[0]), float(mid[1])),
+                data={"handle": handles[row], "layer": layers[row]},
+            )
+        )
+    return Geometry(xy, ends.astype(np.int64).reshape(-1, 2), out_layers, out_handles, tuple(findings))
