@@ -1,10 +1,70 @@
-"""Member forces and reactions per part and load case (interface fixed; in progress)."""
+"""Member forces, reactions and displacements per part and load case.
+
+Glossary:
+    A, x, f      the equilibrium system of a part, A x = f with A = [B, -R] and
+                 x = [t; rho] (equilibrium.py; METHODS 0 and 1).
+    t            member forces in the force unit, tension positive.
+    rho          reactions in the force unit, acting on the structure along +x / +y.
+    D            an orthonormal basis of the mechanisms, null(A^T) (METHODS 3).
+    carriable    a load with D^T f = 0: some bar forces and reactions balance it.
+    determinate  k = 0 mechanisms and s = 0 self-stresses: A is square and regular and
+                 x = A^-1 f (sparse LU); no stiffness is needed.
+    stiffness    K = B S B^T with S = diag(EA/L) (METHODS 5); used for indeterminate
+                 parts (s > 0), for mechanism parts with a carriable load, and for the
+                 displacements of determinate parts with real sections.
+    section      the stiffness of a member: the first ``Section`` of the truss whose
+                 layer glob matches the member's layer (case-insensitive); EA in N.
+    residual     ||A x - f|| / (||f|| + ||A|| ||x||), checked after every solve
+                 because SuperLU does not signal near-singular matrices (METHODS 1).
+
+Solution paths per part (the part's ``PartStability`` decides):
+
+- mechanism (k > 0): the load is first checked against D; when ||D^T f|| exceeds
+  ``admissible_tol`` ||f||, the part is not solved (forces NaN, no reactions) and a
+  ``load-excites-mechanism`` error names the joints that the load pushes along the
+  mechanism (the projection D D^T f). D comes from a dense SVD of A when the part has
+  at most ``dense_dofs`` rows (using the stability stage's rank, so the count agrees
+  with it); for larger parts from the stability stage's mode shapes, orthonormalised
+  with a QR. Those shapes may be capped (fewer than k): then the check is incomplete,
+  and a load exciting an unlisted mechanism makes the bordered solve below fail its
+  residual check, which is reported as ``load-excites-mechanism`` too.
+  A carriable load is solved by the stiffness method on the bordered system
+  [[K, D], [D^T, 0]] (restrained rows deleted): its displacement is orthogonal to the
+  mechanisms and the bar forces t = S B^T delta are the unique ones that are both in
+  equilibrium and compatible (the same as the force method of METHODS 3, item 3).
+  Displacements of mechanism parts are not unique and are reported as NaN.
+- determinate (k = 0, s = 0): sparse LU of A; then the residual check.
+- indeterminate (k = 0, s > 0): stiffness method. Members without a section make the
+  whole part use one uniform EA, with an ``assumed-stiffness`` warning (one per part;
+  its data has no case, so the pipeline can drop the copies other cases repeat).
+
+A failed residual check never yields numbers: the part is reported as not solved with a
+``near-mechanism`` warning (or ``load-excites-mechanism`` when the mechanism basis was
+incomplete). Displacements (drawing units) are given only when every member of every
+solved part has a real section; joints of unsolved and mechanism parts hold NaN.
+
+Units: lengths in drawing units (metres = drawing units x LENGTH_UNITS[length_unit]);
+forces in the force unit (newtons = forces x FORCE_UNITS[force_unit]); sections in SI.
+"""
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass
+from fnmatch import fnmatchcase
 
 import numpy as np
+import scipy.linalg as sla
+import scipy.sparse as sp
+import scipy.sparse.linalg as spla
+
+from .audit.stability import PartStability, Verdict
+from .audit.zero_force import zero_force_by_rule
+from .equilibrium import PartSystem, part_system
+from .findings import Code, Finding
+from .model import LoadCase, Truss, joint_id
+from .symmetry import loads_symmetric
+from .units import FORCE_UNITS, LENGTH_UNITS
 
 
 @dataclass(frozen=True)
@@ -33,3 +93,421 @@ class CaseResult:
     solved_parts: tuple[int, ...]
     residual: float
     loads_symmetric: bool | None
+
+
+def member_ea(truss: Truss) -> np.ndarray:
+    """Axial stiffness EA in newtons per member from ``truss.sections``; NaN when none.
+
+    The first section whose ``layer`` glob matches the member's layer (fnmatch, case
+    insensitive) wins; area (m2) times modulus (Pa). A section with a non-positive or
+    non-finite EA counts as no section.
+    """
+    m = truss.n_members
+    ea = np.full(m, np.nan)
+    if m == 0 or not truss.sections:
+        return ea
+    names, inverse = np.unique(np.asarray(truss.layers, dtype=str), return_inverse=True)
+    per_name = np.full(names.size, np.nan)
+    for i, name in enumerate(names):
+        low = str(name).lower()
+        for sec in truss.sections:
+            if fnmatchcase(low, sec.layer.lower()):
+                value = float(sec.area) * float(sec.modulus)
+                if np.isfinite(value) and value > 0:
+                    per_name[i] = value
+                break
+    return per_name[inverse.ravel()]
+
+
+@dataclass(frozen=True)
+class _PartSolution:
+    forces: np.ndarray  # (m_part,) force unit
+    reactions: np.ndarray  # (r_part,) force unit, in restraint-column order
+    displacement: np.ndarray | None  # (j_part, 2) drawing units; None when not known
+    residual: float
+
+
+class _SolveFailed(Exception):
+    """Internal: a factorisation failed or the residual check did not pass."""
+
+    def __init__(self, residual: float, amplification: float) -> None:
+        super().__init__("solve failed")
+        self.residual = residual
+        self.amplification = amplification
+
+
+def _a_norm(ps: PartSystem, stab: PartStability) -> float:
+    """||A||_2, from the stability stage or bounded by sqrt(||A||_1 ||A||_inf)."""
+    if stab.sigma_max is not None and np.isfinite(stab.sigma_max) and stab.sigma_max > 0:
+        return float(stab.sigma_max)
+    a = abs(ps.A)
+    if a.nnz == 0:
+        return 0.0
+    n1 = float(np.asarray(a.sum(axis=0)).max())
+    ninf = float(np.asarray(a.sum(axis=1)).max())
+    return float(np.sqrt(n1 * ninf))
+
+
+def _relative_residual(A: sp.csc_matrix, x: np.ndarray, f: np.ndarray, a_norm: float) -> float:
+    if not np.all(np.isfinite(x)):
+        return float("inf")
+    r = float(np.linalg.norm(A @ x - f))
+    den = float(np.linalg.norm(f)) + a_norm * float(np.linalg.norm(x))
+    if den == 0.0:
+        return 0.0 if r == 0.0 else float("inf")
+    return r / den
+
+
+def _amplification(x: np.ndarray, f: np.ndarray) -> float:
+    fn = float(np.linalg.norm(f))
+    xn = float(np.linalg.norm(x)) if np.all(np.isfinite(x)) else float("inf")
+    return xn / fn if fn > 0 else float("inf")
+
+
+def _mechanism_basis(ps: PartSystem, stab: PartStability, dense_dofs: int) -> tuple[np.ndarray, bool]:
+    """Orthonormal basis of null(A^T) (rows of A) and whether it spans all k mechanisms."""
+    rows = 2 * ps.n_joints
+    k = int(stab.mechanisms)
+    if k <= 0:
+        return np.zeros((rows, 0)), True
+    if rows <= dense_dofs:
+        if ps.A.shape[1] == 0:
+            return np.eye(rows), True
+        u, _, _ = sla.svd(ps.A.toarray(), full_matrices=True, lapack_driver="gesdd")
+        rank = min(max(int(stab.rank), 0), rows)
+        return u[:, rank:], True
+    cols = []
+    for mode in stab.modes:
+        joints = np.asarray(mode.joints, dtype=np.int64)
+        disp = np.asarray(mode.displacement, dtype=float).reshape(-1, 2)
+        loc = ps.local(joints)
+        inside = (loc < ps.n_joints) & (ps.joints[np.minimum(loc, ps.n_joints - 1)] == joints)
+        v = np.zeros(rows)
+        v[2 * loc[inside]] = disp[inside, 0]
+        v[2 * loc[inside] + 1] = disp[inside, 1]
+        cols.append(v)
+    if not cols:
+        return np.zeros((rows, 0)), False
+    q, r = np.linalg.qr(np.column_stack(cols))
+    diag = np.abs(np.diag(r))
+    keep = diag > np.finfo(float).eps * len(cols) * max(float(diag.max()), 1.0)
+    basis = q[:, keep]
+    return basis, basis.shape[1] >= k
+
+
+def _stiffness_solve(
+    ps: PartSystem,
+    ea: np.ndarray,
+    f: np.ndarray,
+    basis: np.ndarray,
+    *,
+    metre: float,
+    newton: float,
+    a_norm: float,
+    residual_tol: float,
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]:
+    """Direct stiffness method (METHODS 5), bordered by ``basis`` when it is not empty.
+
+    ``ea`` in N per member, ``f`` in the force unit; returns forces and reactions in the
+    force unit, the displacement (j, 2) in drawing units and the relative residual.
+    Raises _SolveFailed when the factorisation fails or the residual check fails.
+    """
+    m = ps.n_members
+    rows = 2 * ps.n_joints
+    k_axial = ea / (ps.lengths * metre)  # N/m
+    B = ps.A[:, :m]
+    K = (B @ sp.diags(k_axial) @ B.T).tocsc()
+    restrained = np.zeros(rows, dtype=bool)
+    restrained[ps.restraint_rows()] = True
+    free = np.flatnonzero(~restrained)
+    K_ff = K[free][:, free]
+    f_n = f * newton
+    rhs = f_n[free]
+    nb = basis.shape[1]
+    if nb:
+        diag = K_ff.diagonal()
+        scale = float(np.abs(diag).max()) if diag.size else 1.0
+        scale = scale if scale > 0 else 1.0
+        d_f = sp.csc_matrix(basis[free] * scale)
+        system = sp.bmat([[K_ff, d_f], [d_f.T, None]], format="csc")
+        rhs = np.concatenate([rhs, np.zeros(nb)])
+    else:
+        system = K_ff
+    delta = np.zeros(rows)
+    if free.size:
+        try:
+            lu = spla.splu(system.tocsc())
+            sol = lu.solve(rhs)
+        except RuntimeError:
+            raise _SolveFailed(float("inf"), float("inf")) from None
+        delta[free] = sol[: free.size]
+    t = k_axial * (B.T @ delta) / newton  # force unit
+    rho = (B @ t - f)[ps.restraint_rows()]
+    x = np.concatenate([t, rho])
+    res = _relative_residual(ps.A, x, f, a_norm)
+    if not res <= residual_tol:
+        raise _SolveFailed(res, _amplification(x, f))
+    return t, rho, (delta / metre).reshape(-1, 2), res
+
+
+def _lu_solve(ps: PartSystem, f: np.ndarray, *, a_norm: float, residual_tol: float) -> tuple[np.ndarray, float]:
+    """x = A^-1 f for a square A (determinate part), with the residual check."""
+    try:
+        lu = spla.splu(ps.A.tocsc())
+        x = lu.solve(f)
+    except RuntimeError:
+        raise _SolveFailed(float("inf"), float("inf")) from None
+    res = _relative_residual(ps.A, x, f, a_norm)
+    if not res <= residual_tol:
+        raise _SolveFailed(res, _amplification(x, f))
+    return x, res
+
+
+def _finite_or_none(value: float) -> float | None:
+    return float(value) if np.isfinite(value) else None
+
+
+def _joint_list(joints: Sequence[int], limit: int = 8) -> str:
+    ids = [joint_id(int(i)) for i in joints[:limit]]
+    more = f" and {len(joints) - limit} more" if len(joints) > limit else ""
+    return ", ".join(ids) + more
+
+
+def solve_case(
+    truss: Truss,
+    stabilities: Sequence[PartStability],
+    case: LoadCase,
+    *,
+    residual_tol: float = 1e-9,
+    zero_tol: float = 1e-9,
+    admissible_tol: float = 1e-9,
+    symmetry_axis: float | None = None,
+    dense_dofs: int = 2000,
+    moving_tol: float = 1e-6,
+    angle_tol: float = 1e-9,
+) -> tuple[CaseResult, list[Finding]]:
+    """Solve one load case (or combination) on every part of ``truss``.
+
+    stabilities    one PartStability per part of ``truss.parts`` (matched by index)
+    residual_tol   relative equilibrium residual accepted after a solve (METHODS 1)
+    zero_tol       a member is zero in the solution when |t| <= zero_tol *
+                   max(max |t|, ||f||) over its part (METHODS 8)
+    admissible_tol a load is carriable by a mechanism part when ||D^T f|| <=
+                   admissible_tol ||f|| (METHODS 3 and 8)
+    symmetry_axis  x of a mirror axis of the truss (symmetry.find_mirror_axis); when
+                   given, CaseResult.loads_symmetric says whether the loads mirror too
+    dense_dofs     parts with at most this many rows get their mechanism basis from a
+                   dense SVD; larger ones use the stability stage's mode shapes
+    moving_tol     a joint is named as moving in a mechanism finding when its share
+                   of the excited shape exceeds moving_tol times the largest one
+    angle_tol      passed to the zero-force rule (METHODS 8)
+
+    Forces and reactions are in the force unit, tension positive; displacements in
+    drawing units. Returns the result and the findings: load-excites-mechanism,
+    near-mechanism, assumed-stiffness (once per part, no case in its data) and one
+    zero-force-member finding listing the members zero in the solution.
+    Raises ValueError when a part has no stability record.
+    """
+    by_part = {int(s.part): s for s in stabilities}
+    metre = LENGTH_UNITS[truss.length_unit]
+    newton = FORCE_UNITS[truss.force_unit]
+    n_joints = truss.n_joints
+    f_all = case.load_vector(n_joints).reshape(-1, 2)
+    ea_all = member_ea(truss)
+
+    forces = np.full(truss.n_members, np.nan)
+    disp = np.full((n_joints, 2), np.nan)
+    disp_known = True
+    reactions: dict[int, list[float]] = {}
+    solved: list[int] = []
+    residual = 0.0
+    zero_solution: list[np.ndarray] = []
+    findings: list[Finding] = []
+
+    for part in truss.parts:
+        stab = by_part.get(int(part.index))
+        if stab is None:
+            raise ValueError(f"no stability record for part {part.index}")
+        ps = part_system(truss, part)
+        f = f_all[ps.joints].ravel()
+        f_norm = float(np.linalg.norm(f))
+        a_norm = _a_norm(ps, stab)
+        ea = ea_all[ps.members]
+        has_sections = bool(np.all(np.isfinite(ea)))
+        mechanism = stab.verdict is Verdict.MECHANISM or stab.mechanisms > 0
+        where = {"case": case.name, "part": int(part.index)}
+
+        # --- carriability (mechanism parts) -----------------------------------------
+        basis = np.zeros((2 * ps.n_joints, 0))
+        complete = True
+        if mechanism and f_norm > 0:
+            basis, complete = _mechanism_basis(ps, stab, dense_dofs)
+            work = basis.T @ f
+            if float(np.linalg.norm(work)) > admissible_tol * f_norm:
+                findings.append(_excites_finding(truss, ps, basis @ work, where, complete, moving_tol))
+                continue
+
+        # --- solve -------------------------------------------------------------------
+        try:
+            sol = _solve_part(
+                ps, stab, f, ea, has_sections, basis, mechanism,
+                metre=metre, newton=newton, a_norm=a_norm, residual_tol=residual_tol,
+            )
+        except _SolveFailed as err:
+            findings.append(_failed_finding(truss, ps, stab, err, where, mechanism and not complete))
+            continue
+        if (mechanism or stab.self_stress > 0) and not has_sections and f_norm > 0:
+            unmatched = int(np.count_nonzero(~np.isfinite(ea)))
+            first_unmatched = int(ps.members[~np.isfinite(ea)][0])
+            mid = truss.xy[truss.ends[first_unmatched]].mean(axis=0)
+            findings.append(
+                Finding(
+                    Code.ASSUMED_STIFFNESS,
+                    f"part {part.index}: {unmatched} of {ps.n_members} members have no section; "
+                    "the part was solved with one uniform member stiffness EA",
+                    at=(float(mid[0]), float(mid[1])),
+                    data={"part": int(part.index), "unmatched": unmatched},
+                )
+            )
+
+        solved.append(int(part.index))
+        residual = max(residual, sol.residual)
+        forces[ps.members] = sol.forces
+        for (joint, direction), value in zip(ps.restraints.tolist(), sol.reactions.tolist()):
+            reactions.setdefault(int(joint), [0.0, 0.0])[direction] += float(value)
+        if not has_sections:
+            disp_known = False
+        elif sol.displacement is not None:
+            disp[ps.joints] = sol.displacement
+        if ps.n_members:
+            scale = max(float(np.abs(sol.forces).max()), f_norm)
+            zero_solution.append(ps.members[np.abs(sol.forces) <= zero_tol * scale])
+
+    by_rule = zero_force_by_rule(truss, case, angle_tol=angle_tol)
+    by_solution = tuple(sorted(int(e) for arr in zero_solution for e in arr))
+    if by_solution:
+        first = by_solution[0]
+        mid = truss.xy[truss.ends[first]].mean(axis=0)
+        findings.append(
+            Finding(
+                Code.ZERO_FORCE_MEMBER,
+                f"load case '{case.name}': {len(by_solution)} member(s) carry no force "
+                f"({len(by_rule)} of them follow from the joint rules)",
+                members=by_solution,
+                at=(float(mid[0]), float(mid[1])),
+                data={"case": case.name, "by_rule": list(by_rule), "by_solution": list(by_solution)},
+            )
+        )
+
+    result = CaseResult(
+        name=case.name,
+        assumed=case.assumed,
+        factors=case.factors,
+        forces=forces,
+        reactions=tuple((j, float(v[0]), float(v[1])) for j, v in sorted(reactions.items())),
+        displacements=disp if (solved and disp_known) else None,
+        zero_by_rule=by_rule,
+        zero_by_solution=by_solution,
+        solved_parts=tuple(solved),
+        residual=float(residual),
+        loads_symmetric=None if symmetry_axis is None else loads_symmetric(truss, case, symmetry_axis),
+    )
+    return result, findings
+
+
+def _solve_part(
+    ps: PartSystem,
+    stab: PartStability,
+    f: np.ndarray,
+    ea: np.ndarray,
+    has_sections: bool,
+    basis: np.ndarray,
+    mechanism: bool,
+    *,
+    metre: float,
+    newton: float,
+    a_norm: float,
+    residual_tol: float,
+) -> _PartSolution:
+    """Pick the solution path for one part (see the module docstring)."""
+    m, r = ps.n_members, ps.n_restraints
+    if not np.any(f):
+        # no load: zero forces, reactions and displacements whatever the stiffness
+        displacement = None if mechanism else np.zeros((ps.n_joints, 2))
+        return _PartSolution(np.zeros(m), np.zeros(r), displacement, 0.0)
+    stiff_ea = ea if has_sections else np.ones(m)
+    if not mechanism and stab.self_stress == 0:
+        if ps.A.shape[0] != ps.A.shape[1]:
+            raise ValueError(f"part {stab.part}: determinate verdict but A is {ps.A.shape[0]} x {ps.A.shape[1]}")
+        x, res = _lu_solve(ps, f, a_norm=a_norm, residual_tol=residual_tol)
+        displacement = None
+        if has_sections:
+            try:
+                _, _, displacement, _ = _stiffness_solve(
+                    ps, stiff_ea, f, basis, metre=metre, newton=newton, a_norm=a_norm, residual_tol=residual_tol
+                )
+            except _SolveFailed:
+                displacement = np.full((ps.n_joints, 2), np.nan)
+        return _PartSolution(x[:m], x[m:], displacement, res)
+    t, rho, delta, res = _stiffness_solve(
+        ps, stiff_ea, f, basis, metre=metre, newton=newton, a_norm=a_norm, residual_tol=residual_tol
+    )
+    return _PartSolution(t, rho, None if mechanism else delta, res)
+
+
+def _excites_finding(
+    truss: Truss,
+    ps: PartSystem,
+    shape: np.ndarray,
+    where: dict[str, object],
+    complete: bool,
+    moving_tol: float,
+) -> Finding:
+    """load-excites-mechanism for the excited shape D D^T f (rows of the part)."""
+    amp = np.hypot(shape[0::2], shape[1::2])
+    top = float(amp.max()) if amp.size else 0.0
+    moving = ps.joints[amp > moving_tol * top] if top > 0 else ps.joints
+    lead = int(ps.joints[int(np.argmax(amp))]) if amp.size else int(ps.joints[0])
+    note = "" if complete else " (only some of its mechanisms were known)"
+    return Finding(
+        Code.LOAD_EXCITES_MECHANISM,
+        f"load case '{where['case']}' cannot be carried by part {where['part']}{note}: it pushes "
+        f"joints {_joint_list(list(moving))} along a mechanism; no forces are given for this part",
+        joints=tuple(int(j) for j in moving),
+        at=(float(truss.xy[lead, 0]), float(truss.xy[lead, 1])),
+        data=dict(where),
+    )
+
+
+def _failed_finding(
+    truss: Truss,
+    ps: PartSystem,
+    stab: PartStability,
+    err: _SolveFailed,
+    where: dict[str, object],
+    basis_incomplete: bool,
+) -> Finding:
+    """The part could not be solved accurately: say so, give no numbers."""
+    data = dict(where)
+    data["residual"] = _finite_or_none(err.residual)
+    data["amplification"] = _finite_or_none(err.amplification)
+    centre = truss.xy[ps.joints].mean(axis=0) if ps.n_joints else np.zeros(2)
+    at = (float(centre[0]), float(centre[1]))
+    if basis_incomplete:
+        return Finding(
+            Code.LOAD_EXCITES_MECHANISM,
+            f"load case '{where['case']}' could not be carried by part {where['part']}: the part has "
+            f"{stab.mechanisms} mechanisms, not all of them known, and the solution does not balance "
+            "the load; no forces are given for this part",
+            joints=tuple(int(j) for j in ps.joints[:1]),
+            at=at,
+            data=data,
+        )
+    return Finding(
+        Code.NEAR_MECHANISM,
+        f"load case '{where['case']}': part {where['part']} is numerically singular for this load "
+        "(the solution does not balance the load to the required accuracy); no forces are given "
+        "for this part",
+        at=at,
+        data=data,
+    )
