@@ -23,6 +23,8 @@ demo: $(STAMP)
 		--pdf out/farm_shed_truss.check.pdf --dxf out/farm_shed_truss.check.dxf --json out/farm_shed_truss.check.json
 	-$(VENV)/bin/dxftruss check samples/footbridge_truss.dxf --loads samples/footbridge_truss.toml \
 		--pdf out/footbridge_truss.check.pdf --json out/footbridge_truss.check.json
+	-$(VENV)/bin/dxftruss check samples/hoist_bracket.dxf --loads samples/hoist_bracket.toml \
+		--pdf out/hoist_bracket.check.pdf --json out/hoist_bracket.check.json
 	-$(VENV)/bin/dxftruss check samples/drafting_slips.dxf \
 		--pdf out/drafting_slips.check.pdf --json out/drafting_slips.check.json
 	@echo "demo outputs are in out/"

@@ -8,6 +8,7 @@ internal error (reported in one line, never a traceback).
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 from pathlib import Path
 
@@ -19,8 +20,9 @@ EPILOG = """\
 examples:
   dxftruss check roof.dxf                       writes roof.check.pdf here, prints a summary
   dxftruss check roof.dxf --loads roof.toml --json roof.json --pdf roof.pdf --dxf roof.marked.dxf
-  dxftruss check bridge.dxf --units m --snap 0.5mm --near-miss 20mm --layers "CHORD*" "WEB*"
+  dxftruss check bridge.dxf --units m --snap 0.5mm --near-miss 20mm --layers "CHORD*" --layers "WEB*"
   dxftruss check bridge.dxf --json -            JSON on standard output, summary on standard error
+  dxftruss check drawings/ --json reports/      every *.dxf in a folder, one report each, both cores
 
 drawing conventions:
   members   LINE, LWPOLYLINE and POLYLINE on any layer except SUPPORT* and LOAD*
@@ -47,7 +49,9 @@ def build_parser() -> argparse.ArgumentParser:
         epilog=EPILOG,
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
-    c.add_argument("drawing", metavar="DRAWING.dxf", help="the DXF drawing to check (never modified)")
+    c.add_argument(
+        "drawing", metavar="DRAWING.dxf", nargs="+", help="DXF drawing(s) or folder(s) of them (never modified)"
+    )
     c.add_argument("--loads", metavar="FILE.toml", help="loads file: supports, loads, combinations, sections")
     c.add_argument("--pdf", metavar="OUT.pdf", help="marked-up PDF (default: <drawing name>.check.pdf here)")
     c.add_argument("--dxf", metavar="OUT.dxf", help="annotated copy of the drawing with results on new layers")
@@ -58,7 +62,11 @@ def build_parser() -> argparse.ArgumentParser:
     )
     c.add_argument("--units", choices=["mm", "cm", "m", "in", "ft"], help="drawing unit (overrides the header)")
     c.add_argument(
-        "--layers", metavar="GLOB", nargs="+", action="extend", default=[], help="only these member layers, e.g. 'TRUSS*'"
+        "--layers",
+        metavar="GLOB",
+        action="append",
+        default=[],
+        help="only members on layers matching GLOB, e.g. 'TRUSS*'; repeat for more globs",
     )
     c.add_argument("--page", choices=["A4", "A3", "letter", "tabloid"], default="A3", help="PDF page size (default A3)")
     c.add_argument("--quiet", action="store_true", help="print nothing but errors")
@@ -69,18 +77,43 @@ def _err(msg: str) -> None:
     print(f"dxftruss: {msg}", file=sys.stderr)
 
 
-def run_check(args: argparse.Namespace) -> int:
+def _expand(drawings: list[str]) -> list[str]:
+    """Drawings named on the command line; a folder stands for its *.dxf files."""
+    out: list[str] = []
+    for d in drawings:
+        p = Path(d)
+        if p.is_dir():
+            out += sorted(str(f) for f in p.iterdir() if f.suffix.lower() == ".dxf" and f.is_file())
+        else:
+            out.append(d)
+    return out
+
+
+def _outputs(args: argparse.Namespace, drawing: str, many: bool) -> tuple[str | None, str | None, str | None]:
+    """(pdf, dxf, json) paths for one drawing. With several drawings an output option
+    names a folder that receives <name>.check.<ext>; with none, the PDF goes here."""
+    stem = Path(drawing).with_suffix("").name
+    if not many:
+        pdf = args.pdf or (None if (args.dxf or args.json) else stem + ".check.pdf")
+        return pdf, args.dxf, args.json
+    def inside(folder: str | None, ext: str) -> str | None:
+        return str(Path(folder) / f"{stem}.check.{ext}") if folder else None
+    pdf = inside(args.pdf, "pdf") if args.pdf else (None if (args.dxf or args.json) else stem + ".check.pdf")
+    return pdf, inside(args.dxf, "dxf"), inside(args.json, "json")
+
+
+def check_one(args: argparse.Namespace, drawing: str, many: bool) -> tuple[int, str, dict]:
+    """Check one drawing and write its reports. Returns (exit status, printed text, row)."""
     from .errors import DxftrussError
     from .outputs import check_output_path, write_atomic
     from .pipeline import Settings, check
 
-    drawing = args.drawing
+    pdf, dxf, json_out = _outputs(args, drawing, many)
     inputs = [drawing] + ([args.loads] if args.loads else [])
-    pdf = args.pdf
-    if not (args.pdf or args.dxf or args.json):
-        pdf = Path(drawing).with_suffix("").name + ".check.pdf"
+    row: dict = {"drawing": drawing, "status": "error", "verdict": "-", "errors": "-", "warnings": "-"}
+    text = ""
     try:
-        for out, what in ((pdf, "PDF"), (args.dxf, "annotated DXF"), (args.json if args.json != "-" else None, "JSON")):
+        for out, what in ((pdf, "PDF"), (dxf, "annotated DXF"), (json_out if json_out != "-" else None, "JSON")):
             if out:
                 check_output_path(out, inputs, what)
         settings = Settings(
@@ -89,39 +122,111 @@ def run_check(args: argparse.Namespace) -> int:
         result = check(drawing, settings)
         from .report.text import summary
 
-        stream = sys.stderr if args.json == "-" else sys.stdout
         if not args.quiet:
-            stream.write(summary(result))
-        if args.json:
+            text += summary(result)
+        if json_out:
             from .report.json import to_json
 
-            text = to_json(result)
-            if args.json == "-":
-                sys.stdout.write(text)
+            js = to_json(result)
+            if json_out == "-":
+                sys.stdout.write(js)
             else:
-                write_atomic(args.json, lambda tmp: Path(tmp).write_text(text, encoding="utf-8"))
+                write_atomic(json_out, lambda tmp: Path(tmp).write_text(js, encoding="utf-8"))
         if pdf:
             from .report.pdf import write_pdf
 
             write_atomic(pdf, lambda tmp: write_pdf(result, tmp, page=args.page))
-        if args.dxf:
+        if dxf:
             from .report.dxf import write_dxf
 
-            write_atomic(args.dxf, lambda tmp: write_dxf(result, tmp))
-        if not args.quiet:
-            written = [p for p in (args.json if args.json != "-" else None, pdf, args.dxf) if p]
-            if written:
-                stream.write("wrote " + ", ".join(written) + "\n")
+            write_atomic(dxf, lambda tmp: write_dxf(result, tmp))
+        written = [p for p in (json_out if json_out != "-" else None, pdf, dxf) if p]
+        if written and not args.quiet:
+            text += "wrote " + ", ".join(written) + "\n"
+        from .findings import Severity
+
+        row.update(
+            status="findings" if result.has_errors else "ok",
+            verdict=", ".join(st.verdict.value for st in result.stability) or "-",
+            errors=str(sum(f.severity is Severity.ERROR for f in result.findings)),
+            warnings=str(sum(f.severity is Severity.WARNING for f in result.findings)),
+        )
+        return (EXIT_FINDINGS if result.has_errors else EXIT_OK), text, row
     except DxftrussError as exc:
-        _err(str(exc))
-        return EXIT_INPUT
-    except KeyboardInterrupt:
-        _err("interrupted")
-        return EXIT_INPUT
+        row["message"] = str(exc)
+        return EXIT_INPUT, text, row
     except Exception as exc:  # the last line of defence: one line, never a traceback
-        _err(f"{drawing}: internal error ({type(exc).__name__}: {exc}); please report it with the drawing")
+        if os.environ.get("DXFTRUSS_DEBUG"):
+            raise
+        row["message"] = f"{drawing}: internal error ({type(exc).__name__}: {exc}); please report it with the drawing"
+        return EXIT_INPUT, text, row
+
+
+def _check_in_worker(args: argparse.Namespace, drawing: str) -> tuple[int, str, dict]:
+    return check_one(args, drawing, True)
+
+
+def run_check(args: argparse.Namespace) -> int:
+    drawings = _expand(args.drawing)
+    if not drawings:
+        _err("no DXF drawings found in " + ", ".join(args.drawing))
         return EXIT_INPUT
-    return EXIT_FINDINGS if result.has_errors else EXIT_OK
+    if len(drawings) == 1:
+        code, text, row = check_one(args, drawings[0], False)
+        stream = sys.stderr if args.json == "-" else sys.stdout
+        stream.write(text)
+        if "message" in row:
+            _err(row["message"])
+        return code
+    if args.json == "-":
+        _err("--json - takes one drawing; give a folder for several")
+        return EXIT_INPUT
+    for folder in (args.pdf, args.dxf, args.json):
+        if folder:
+            Path(folder).mkdir(parents=True, exist_ok=True)
+    return _run_many(args, drawings)
+
+
+def _run_many(args: argparse.Namespace, drawings: list[str]) -> int:
+    """Several drawings: both cores, progress on standard error, a summary table."""
+    from concurrent.futures import ProcessPoolExecutor
+
+    from rich.console import Console
+    from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeElapsedColumn
+    from rich.table import Table
+    from rich.text import Text
+
+    err_console = Console(stderr=True)
+    results: dict[str, tuple[int, str, dict]] = {}
+    workers = min(len(drawings), max(1, min(2, os.cpu_count() or 1)))
+    with Progress(
+        TextColumn("checking"), BarColumn(), MofNCompleteColumn(), TimeElapsedColumn(),
+        console=err_console, transient=True, disable=args.quiet or not err_console.is_terminal,
+    ) as progress:
+        task = progress.add_task("check", total=len(drawings))
+        with ProcessPoolExecutor(max_workers=workers) as pool:
+            futures = {pool.submit(_check_in_worker, args, d): d for d in drawings}
+            from concurrent.futures import as_completed
+
+            for fut in as_completed(futures):
+                results[futures[fut]] = fut.result()
+                progress.advance(task)
+    worst = EXIT_OK
+    table = Table(title=f"{len(drawings)} drawings", title_justify="left")
+    for col in ("drawing", "status", "verdict", "errors", "warnings"):
+        table.add_column(col)
+    for d in drawings:
+        code, text, row = results[d]
+        worst = max(worst, code)
+        if text and not args.quiet:
+            sys.stdout.write(text + "\n")
+        if "message" in row:
+            _err(row["message"])
+        # cells as Text: file names could hold rich markup such as "[bold]"
+        table.add_row(*(Text(str(row[c])) for c in ("drawing", "status", "verdict", "errors", "warnings")))
+    if not args.quiet:
+        Console(highlight=False).print(table)
+    return worst
 
 
 def main(argv: list[str] | None = None) -> int:

@@ -33,6 +33,7 @@ from __future__ import annotations
 import json
 import logging
 import math
+import re
 import sys
 from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass
@@ -93,6 +94,10 @@ def notes(msp: BaseLayout, lines: Iterable[str], at: Point, height: float, layer
         msp.add_text(text, height=height, dxfattribs={"layer": layer, "insert": (x, y - 1.6 * height * i)})
 
 
+def _toml_key(key: str) -> str:
+    return key if re.fullmatch(r"[A-Za-z0-9_-]+", key) else json.dumps(key)
+
+
 def _toml_value(value: object) -> str:
     if isinstance(value, bool):
         return "true" if value else "false"
@@ -103,7 +108,7 @@ def _toml_value(value: object) -> str:
     if isinstance(value, (list, tuple)):
         return "[" + ", ".join(_toml_value(v) for v in value) + "]"
     if isinstance(value, dict):
-        return "{ " + ", ".join(f"{k} = {_toml_value(v)}" for k, v in value.items()) + " }"
+        return "{ " + ", ".join(f"{_toml_key(k)} = {_toml_value(v)}" for k, v in value.items()) + " }"
     raise TypeError(f"no TOML form for {value!r}")
 
 
@@ -114,9 +119,9 @@ def loads_toml(header: Sequence[str], units: dict[str, str], tables: Sequence[tu
     written in the order given as ``[[load]]`` blocks.
     """
     out = [f"# {h}" if h else "#" for h in header]
-    out += ["", "[units]"] + [f"{k} = {_toml_value(v)}" for k, v in units.items()]
+    out += ["", "[units]"] + [f"{_toml_key(k)} = {_toml_value(v)}" for k, v in units.items()]
     for name, entry in tables:
-        out += ["", f"[[{name}]]"] + [f"{k} = {_toml_value(v)}" for k, v in entry.items()]
+        out += ["", f"[[{name}]]"] + [f"{_toml_key(k)} = {_toml_value(v)}" for k, v in entry.items()]
     return "\n".join(out) + "\n"
 
 
@@ -129,19 +134,18 @@ def pt(x: float, y: float) -> list[float]:
 
 
 def farm_shed_truss() -> Sample:
-    """Fink roof truss FT-1 of the Hollybrook Farm machinery shed (millimetres, R2018).
+    r"""Fink roof truss FT-1 of the Hollybrook Farm machinery shed (millimetres, R2018).
 
     ::
 
-                                   A
-                                .' | '.
-                              .'  / \\  '.
-                    T1     .'    /   \\    '.     T3
-                      \\  .'     /     \\     '.  /
-                      .\\       /       \\       /.
-                    .'  \\     /         \\     /  '.
-                 L0'-----B1---------------B2-----'R0
-                 (o) pin                         (o) roller
+                                  A
+                             .'  / \  '.
+                         .'     /   \     '.
+                  T1  .'       /     \       '.  T3
+                   .\         /       \         /.
+               .'     \      /         \      /     '.
+          L0'----------B1--------------B2----------'R0
+         (pin)                                        (roller)
 
     Span 9600, rise 2400 (slope 1 in 2). Rafters L0-T1-A and A-T3-R0 are polylines
     through their panel points, the ceiling tie L0-B1-B2-R0 is ONE polyline; webs
@@ -215,17 +219,18 @@ def farm_shed_truss() -> Sample:
 
 
 def footbridge_truss() -> Sample:
-    """Pratt girder of the Mill Stream footbridge (metres, R2004), 8 panels x 3 m, 2.4 m deep.
+    r"""Pratt girder of the Mill Stream footbridge (metres, R2004), 8 panels x 3 m, 2.4 m deep.
 
     ::
 
-              T1____T2____T3____T4____T5____T6____T7
-             /|\\    |\\    |\\  / |    /|    /|    /|\\
-            / | \\   | \\   | \\/  |   / |   / |   / | \\
-           /  |  \\  |  \\  | /\\  |  /  |  /  |  /  |  \\
-          /   |   \\ |   \\ |/  \\ | /   | /   | /   |   \\
+              T1----T2----T3----T4----T5----T6----T7
+             /|\    |\    |\   /|    /|    /|    /|\
+            / | \   | \   | \ / |   / |   / |   / | \
+          /   |   \ |   \ |  X  | /   | /   | /   |   \
+         /    |    \|    \|/   \|/    |/    |/    |    \
         B0----B1----B2----B3----B4----B5----B6----B7----B8
-        pin  (deck loads drawn at B0..B8, arrows down)   roller
+       (pin)        [WEB-PANEL]             [mirrored]   (roller)
+         deck loads drawn at B0..B8 as vertical lines ending on the joints
 
     Bottom chord B0..B8: ONE LWPOLYLINE through all its panel points. Top chord with
     both end posts: ONE LWPOLYLINE B0-T1-T7-B8, so T2..T6 lie inside its long segment
@@ -322,17 +327,18 @@ NEAR_MISS_FRACTION = 0.005  # gap as a fraction of the member it belongs to
 
 
 def drafting_slips() -> Sample:
-    """Yard canopy truss CT-2 with drafting slips (millimetres by default: R12, no units).
+    r"""Yard canopy truss CT-2 with drafting slips (millimetres by default: R12, no units).
 
     ::
 
-         T0----T1----T2----T3----T4----T5----T6        (top chord: one 2D POLYLINE)
-         |    /|    /|     |\\   .|\\    |\\    |
-         |  //  | \\/ |     | \\ . |  \\   |  \\  |
-         | //   | /\\ |     |  \\  |   \\  |   \\ |
-         |//    |/  \\|     |   \\ | ./ \\ |    \\|
-         B0----B1----B2=====B3====B4----B5----B6       (bottom chord: two overlapping LINEs)
-          ^ dup   ^ X   ^ no diag  ^ gap  ^ stub
+        T0-----T1-----T2-----T3-----T4-----T5-----T6     top chord: one 2D POLYLINE
+        |\\     |\    /|      |     :|     /|     /|
+        | \\    | \  / |      |    / |    / |    / |     : = the 6.4 mm gap at T4
+        |  \\   |  \/  |      |   /  |   /  |   /  |
+        |   \\  |  /\  |      |  /   |  /   |  /   |
+        |    \\ | /  \ |      | /    | /  \ | /    |     \ near B5 = the stub
+        B0-----B1-----B2=====B3=====B4-----B5-----B6     bottom chord: two LINEs
+          twice    X    no diag   gap   stub             overlapping on B2-B4
 
     Six panels of 1000 x 800. The slips, one per place:
 
@@ -340,7 +346,7 @@ def drafting_slips() -> Sample:
     - panel 1: counter-diagonal B1-T2 crosses T1-B2, no joint   -> unjoined-crossing
     - panel 2: no diagonal at all                               -> mechanism
     - panel 3: diagonal T4-B3 stops 0.5 % of its length short of T4 -> near-miss (+ dangling)
-    - panel 4: an abandoned brace stub from B5 into the panel   -> dangling-member
+    - panel 4: an abandoned brace stub from B5 towards T4       -> dangling-member
     - bottom chord: LINE B0-B4 and LINE B2-B6 overlap on B2-B4  -> duplicate-member (x2)
 
     No supports, no loads and no units: all three defaults are assumed. Annotation
@@ -372,9 +378,8 @@ def drafting_slips() -> Sample:
         if p == 0:
             line(msp, bottom, top, "WEB")  # drawn twice
     line(msp, B[1], T[2], "WEB")  # crosses T1-B2 with no joint
-    stub = 300.0  # abandoned brace from B5 towards T4
-    ux, uy = ((t - b) / math.dist(T[4], B[5]) for t, b in zip(T[4], B[5]))
-    line(msp, B[5], (B[5][0] + stub * ux, B[5][1] + stub * uy), "WEB")
+    stub = 0.25  # abandoned brace from B5 towards T4, a quarter of the way
+    line(msp, B[5], (B[5][0] + stub * (T[4][0] - B[5][0]), B[5][1] + stub * (T[4][1] - B[5][1])), "WEB")
 
     notes(msp, [f"{SITE} - YARD CANOPY TRUSS CT-2", "CHECK PRINT - NOT FOR FABRICATION"], at=(0.0, 1300.0), height=80.0)
     callout = (panel * 2.5, depth / 2)
@@ -386,18 +391,20 @@ def drafting_slips() -> Sample:
 
 
 def hoist_bracket() -> Sample:
-    """Hay-loft hoist bracket HB-1 cantilevered from a barn post (inches, R2000).
+    r"""Hay-loft hoist bracket HB-1 cantilevered from a barn post (inches, R2000).
 
     ::
 
-        T0==========T1==========T2==========T3   <- hoist block hangs here
-        |  .          |       .   |       .'
-        |      .      |   .       |   .'
-        |          .  |.          |.'
-        |            B1          B2
-        |        .'
-        |    .'                 (top chord T0-T3 and bottom chord B0-T3 are
-        B0'                       each ONE LINE, split at B1, B2, T1, T2)
+        T0----------T1----------T2----------T3   <- hoist block hangs here
+        | \         |   \       |       .'
+        |   \       |       \   |   .'
+        |     \     |           B2
+        |       \   |       .'
+        |         \ |   .'
+        |           B1
+        |       .'           top chord T0-T3 and bottom chord B0-T3 are
+        |   .'               each ONE LINE, to be split at T1, T2 and B1, B2
+        B0'
 
     72 in long, 36 in deep at the post; the bottom chord rises 1 in 2 to the tip.
     Post T0-B0 on POST; diagonals T0-B1 and T1-B2, verticals T1-B1 and T2-B2 on WEB.
