@@ -16,6 +16,12 @@ Glossary:
                  layer glob matches the member's layer (case-insensitive); EA in N.
     residual     ||A x - f|| / (||f|| + ||A|| ||x||), checked after every solve
                  because SuperLU does not signal near-singular matrices (METHODS 1).
+    refinement   the relative change of x (of the forces t in the stiffness path) in
+                 one step of iterative refinement with the same factor: an estimate of
+                 the forward error. A singular matrix that SuperLU factors without
+                 complaint gives a huge x that passes the residual test (it solves a
+                 nearby singular system) but changes by O(1) when refined (LIBRARIES
+                 4.1); both checks must pass.
 
 Solution paths per part (the part's ``PartStability`` decides):
 
@@ -38,10 +44,20 @@ Solution paths per part (the part's ``PartStability`` decides):
   whole part use one uniform EA, with an ``assumed-stiffness`` warning (one per part;
   its data has no case, so the pipeline can drop the copies other cases repeat).
 
-A failed residual check never yields numbers: the part is reported as not solved with a
-``near-mechanism`` warning (or ``load-excites-mechanism`` when the mechanism basis was
-incomplete). Displacements (drawing units) are given only when every member of every
-solved part has a real section; joints of unsolved and mechanism parts hold NaN.
+A failed residual or refinement check never yields numbers: the part is reported as not
+solved with a ``near-mechanism`` warning (or ``load-excites-mechanism`` when the
+mechanism basis was incomplete). Displacements (drawing units) are given only when every
+member of every solved part has a real section; joints of unsolved and mechanism parts
+hold NaN, and so do the joints of a part whose displacements failed the refinement check
+while its forces passed it.
+
+The stiffness matrix is ordered by reverse Cuthill-McKee and factored by SuperLU in
+symmetric mode (K is symmetric positive definite once the mechanisms are bordered off).
+K squares the conditioning of A, so extremely slender indeterminate parts (a Pratt
+truss with span/depth in the thousands) fail the refinement check and are reported as
+near-mechanisms instead of being given inaccurate forces.
+
+Messages number parts from 1, as the reports do; finding data carry the 0-based index.
 
 Units: lengths in drawing units (metres = drawing units x LENGTH_UNITS[length_unit]);
 forces in the force unit (newtons = forces x FORCE_UNITS[force_unit]); sections in SI.
@@ -52,11 +68,13 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass
 from fnmatch import fnmatchcase
+from typing import Any
 
 import numpy as np
 import scipy.linalg as sla
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
+from scipy.sparse.csgraph import reverse_cuthill_mckee
 
 from .audit.stability import PartStability, Verdict
 from .audit.zero_force import zero_force_by_rule
@@ -130,10 +148,11 @@ class _PartSolution:
 class _SolveFailed(Exception):
     """Internal: a factorisation failed or the residual check did not pass."""
 
-    def __init__(self, residual: float, amplification: float) -> None:
+    def __init__(self, residual: float, amplification: float, refinement: float = float("nan")) -> None:
         super().__init__("solve failed")
         self.residual = residual
         self.amplification = amplification
+        self.refinement = refinement
 
 
 def _a_norm(ps: PartSystem, stab: PartStability) -> float:
@@ -205,6 +224,7 @@ def _stiffness_solve(
     newton: float,
     a_norm: float,
     residual_tol: float,
+    refine_tol: float,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]:
     """Direct stiffness method (METHODS 5), bordered by ``basis`` when it is not empty.
 
@@ -222,45 +242,92 @@ def _stiffness_solve(
     free = np.flatnonzero(~restrained)
     K_ff = K[free][:, free]
     f_n = f * newton
-    rhs = f_n[free]
+    # reverse Cuthill-McKee keeps the profile of K small (METHODS 5); K_ff is symmetric
+    # positive definite when k = 0, so SuperLU runs in symmetric mode without pivoting
+    # (much faster than the default column ordering; measured in the report)
+    perm = reverse_cuthill_mckee(K_ff, symmetric_mode=True) if free.size else np.zeros(0, np.int64)
+    K_p = K_ff[perm][:, perm]
+    rhs = f_n[free][perm]
     nb = basis.shape[1]
     if nb:
         diag = K_ff.diagonal()
         scale = float(np.abs(diag).max()) if diag.size else 1.0
         scale = scale if scale > 0 else 1.0
-        d_f = sp.csc_matrix(basis[free] * scale)
-        system = sp.bmat([[K_ff, d_f], [d_f.T, None]], format="csc")
+        d_p = sp.csc_matrix(basis[free][perm] * scale)
+        system = sp.bmat([[K_p, d_p], [d_p.T, None]], format="csc")
         rhs = np.concatenate([rhs, np.zeros(nb)])
+        options: dict[str, object] = {"permc_spec": "NATURAL"}
     else:
-        system = K_ff
-    delta = np.zeros(rows)
+        system = K_p.tocsc()
+        options = {"permc_spec": "NATURAL", "diag_pivot_thresh": 0.0, "options": {"SymmetricMode": True}}
+    delta0, delta = np.zeros(rows), np.zeros(rows)
     if free.size:
         try:
-            lu = spla.splu(system.tocsc())
-            sol = lu.solve(rhs)
+            system = system.tocsc()
+            lu = spla.splu(system, **options)
         except RuntimeError:
             raise _SolveFailed(float("inf"), float("inf")) from None
-        delta[free] = sol[: free.size]
+        sol0, sol = _refine(lu, system, rhs)
+        delta0[free[perm]] = sol0[: free.size]
+        delta[free[perm]] = sol[: free.size]
     t = k_axial * (B.T @ delta) / newton  # force unit
+    # forward-error check on the forces: soft directions of K may leave delta inexact
+    # while t = S B^T delta is accurate, so the forces decide
+    change = _relative_change(k_axial * (B.T @ delta0) / newton, t)
+    if not change <= refine_tol:
+        raise _SolveFailed(float("nan"), _amplification(t, f), change)
     rho = (B @ t - f)[ps.restraint_rows()]
     x = np.concatenate([t, rho])
     res = _relative_residual(ps.A, x, f, a_norm)
     if not res <= residual_tol:
         raise _SolveFailed(res, _amplification(x, f))
-    return t, rho, (delta / metre).reshape(-1, 2), res
+    displacement = (delta / metre).reshape(-1, 2)
+    if not _relative_change(delta0, delta) <= refine_tol:
+        displacement = np.full_like(displacement, np.nan)  # forces fine, displacements not
+    return t, rho, displacement, res
 
 
-def _lu_solve(ps: PartSystem, f: np.ndarray, *, a_norm: float, residual_tol: float) -> tuple[np.ndarray, float]:
+def _lu_solve(
+    ps: PartSystem, f: np.ndarray, *, a_norm: float, residual_tol: float, refine_tol: float
+) -> tuple[np.ndarray, float]:
     """x = A^-1 f for a square A (determinate part), with the residual check."""
     try:
         lu = spla.splu(ps.A.tocsc())
-        x = lu.solve(f)
     except RuntimeError:
         raise _SolveFailed(float("inf"), float("inf")) from None
+    x0, x = _refine(lu, ps.A, f)
+    change = _relative_change(x0, x)
+    if not change <= refine_tol:
+        raise _SolveFailed(float("nan"), _amplification(x, f), change)
     res = _relative_residual(ps.A, x, f, a_norm)
     if not res <= residual_tol:
         raise _SolveFailed(res, _amplification(x, f))
     return x, res
+
+
+def _refine(lu: spla.SuperLU, system: sp.spmatrix, rhs: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The solution with ``lu`` and after one step of iterative refinement.
+
+    The change between the two estimates the forward error. The normwise residual test
+    alone passes a singular factor's garbage (a huge x solves a nearby singular system,
+    so ||A x - f|| is small next to ||A|| ||x||; LIBRARIES 4.1), but refinement then
+    changes x by O(1). Raises _SolveFailed for a non-finite solution.
+    """
+    x0 = lu.solve(rhs)
+    if not np.all(np.isfinite(x0)):
+        raise _SolveFailed(float("inf"), float("inf"))
+    x1 = x0 + lu.solve(rhs - system @ x0)
+    if not np.all(np.isfinite(x1)):
+        raise _SolveFailed(float("inf"), float("inf"))
+    return x0, x1
+
+
+def _relative_change(before: np.ndarray, after: np.ndarray) -> float:
+    scale = float(np.linalg.norm(after))
+    diff = float(np.linalg.norm(after - before))
+    if scale == 0.0:
+        return 0.0 if diff == 0.0 else float("inf")
+    return diff / scale
 
 
 def _finite_or_none(value: float) -> float | None:
@@ -282,9 +349,11 @@ def solve_case(
     zero_tol: float = 1e-9,
     admissible_tol: float = 1e-9,
     symmetry_axis: float | None = None,
+    symmetry_distance: float | None = None,
     dense_dofs: int = 2000,
     moving_tol: float = 1e-6,
     angle_tol: float = 1e-9,
+    refine_tol: float = 1e-6,
 ) -> tuple[CaseResult, list[Finding]]:
     """Solve one load case (or combination) on every part of ``truss``.
 
@@ -296,11 +365,17 @@ def solve_case(
                    admissible_tol ||f|| (METHODS 3 and 8)
     symmetry_axis  x of a mirror axis of the truss (symmetry.find_mirror_axis); when
                    given, CaseResult.loads_symmetric says whether the loads mirror too
+    symmetry_distance  drawing units within which mirrored joints must meet (use the
+                   value given to find_mirror_axis); None: symmetry.MIRROR_TOL x the
+                   bounding-box diagonal
     dense_dofs     parts with at most this many rows get their mechanism basis from a
                    dense SVD; larger ones use the stability stage's mode shapes
     moving_tol     a joint is named as moving in a mechanism finding when its share
                    of the excited shape exceeds moving_tol times the largest one
     angle_tol      passed to the zero-force rule (METHODS 8)
+    refine_tol     largest relative change of a solution in one step of iterative
+                   refinement; above it the factorisation is not trusted (a singular
+                   matrix that SuperLU factored without complaint, LIBRARIES 4.1)
 
     Forces and reactions are in the force unit, tension positive; displacements in
     drawing units. Returns the result and the findings: load-excites-mechanism,
@@ -351,7 +426,7 @@ def solve_case(
         try:
             sol = _solve_part(
                 ps, stab, f, ea, has_sections, basis, mechanism,
-                metre=metre, newton=newton, a_norm=a_norm, residual_tol=residual_tol,
+                metre=metre, newton=newton, a_norm=a_norm, residual_tol=residual_tol, refine_tol=refine_tol,
             )
         except _SolveFailed as err:
             findings.append(_failed_finding(truss, ps, stab, err, where, mechanism and not complete))
@@ -363,7 +438,7 @@ def solve_case(
             findings.append(
                 Finding(
                     Code.ASSUMED_STIFFNESS,
-                    f"part {part.index}: {unmatched} of {ps.n_members} members have no section; "
+                    f"part {part.index + 1}: {unmatched} of {ps.n_members} members have no section; "
                     "the part was solved with one uniform member stiffness EA",
                     at=(float(mid[0]), float(mid[1])),
                     data={"part": int(part.index), "unmatched": unmatched},
@@ -373,7 +448,7 @@ def solve_case(
         solved.append(int(part.index))
         residual = max(residual, sol.residual)
         forces[ps.members] = sol.forces
-        for (joint, direction), value in zip(ps.restraints.tolist(), sol.reactions.tolist()):
+        for (joint, direction), value in zip(ps.restraints.tolist(), sol.reactions.tolist(), strict=True):
             reactions.setdefault(int(joint), [0.0, 0.0])[direction] += float(value)
         if not has_sections:
             disp_known = False
@@ -388,11 +463,12 @@ def solve_case(
     if by_solution:
         first = by_solution[0]
         mid = truss.xy[truss.ends[first]].mean(axis=0)
+        from_rules = len(set(by_rule) & set(by_solution))
         findings.append(
             Finding(
                 Code.ZERO_FORCE_MEMBER,
                 f"load case '{case.name}': {len(by_solution)} member(s) carry no force "
-                f"({len(by_rule)} of them follow from the joint rules)",
+                f"({from_rules} of them follow from the joint rules alone)",
                 members=by_solution,
                 at=(float(mid[0]), float(mid[1])),
                 data={"case": case.name, "by_rule": list(by_rule), "by_solution": list(by_solution)},
@@ -410,7 +486,9 @@ def solve_case(
         zero_by_solution=by_solution,
         solved_parts=tuple(solved),
         residual=float(residual),
-        loads_symmetric=None if symmetry_axis is None else loads_symmetric(truss, case, symmetry_axis),
+        loads_symmetric=None
+        if symmetry_axis is None
+        else loads_symmetric(truss, case, symmetry_axis, distance=symmetry_distance),
     )
     return result, findings
 
@@ -428,6 +506,7 @@ def _solve_part(
     newton: float,
     a_norm: float,
     residual_tol: float,
+    refine_tol: float,
 ) -> _PartSolution:
     """Pick the solution path for one part (see the module docstring)."""
     m, r = ps.n_members, ps.n_restraints
@@ -439,18 +518,20 @@ def _solve_part(
     if not mechanism and stab.self_stress == 0:
         if ps.A.shape[0] != ps.A.shape[1]:
             raise ValueError(f"part {stab.part}: determinate verdict but A is {ps.A.shape[0]} x {ps.A.shape[1]}")
-        x, res = _lu_solve(ps, f, a_norm=a_norm, residual_tol=residual_tol)
+        x, res = _lu_solve(ps, f, a_norm=a_norm, residual_tol=residual_tol, refine_tol=refine_tol)
         displacement = None
         if has_sections:
             try:
                 _, _, displacement, _ = _stiffness_solve(
-                    ps, stiff_ea, f, basis, metre=metre, newton=newton, a_norm=a_norm, residual_tol=residual_tol
+                    ps, stiff_ea, f, basis, metre=metre, newton=newton,
+                    a_norm=a_norm, residual_tol=residual_tol, refine_tol=refine_tol,
                 )
             except _SolveFailed:
                 displacement = np.full((ps.n_joints, 2), np.nan)
         return _PartSolution(x[:m], x[m:], displacement, res)
     t, rho, delta, res = _stiffness_solve(
-        ps, stiff_ea, f, basis, metre=metre, newton=newton, a_norm=a_norm, residual_tol=residual_tol
+        ps, stiff_ea, f, basis, metre=metre, newton=newton,
+        a_norm=a_norm, residual_tol=residual_tol, refine_tol=refine_tol,
     )
     return _PartSolution(t, rho, None if mechanism else delta, res)
 
@@ -459,7 +540,7 @@ def _excites_finding(
     truss: Truss,
     ps: PartSystem,
     shape: np.ndarray,
-    where: dict[str, object],
+    where: dict[str, Any],
     complete: bool,
     moving_tol: float,
 ) -> Finding:
@@ -471,7 +552,7 @@ def _excites_finding(
     note = "" if complete else " (only some of its mechanisms were known)"
     return Finding(
         Code.LOAD_EXCITES_MECHANISM,
-        f"load case '{where['case']}' cannot be carried by part {where['part']}{note}: it pushes "
+        f"load case '{where['case']}' cannot be carried by part {int(where['part']) + 1}{note}: it pushes "
         f"joints {_joint_list(list(moving))} along a mechanism; no forces are given for this part",
         joints=tuple(int(j) for j in moving),
         at=(float(truss.xy[lead, 0]), float(truss.xy[lead, 1])),
@@ -484,19 +565,20 @@ def _failed_finding(
     ps: PartSystem,
     stab: PartStability,
     err: _SolveFailed,
-    where: dict[str, object],
+    where: dict[str, Any],
     basis_incomplete: bool,
 ) -> Finding:
     """The part could not be solved accurately: say so, give no numbers."""
     data = dict(where)
     data["residual"] = _finite_or_none(err.residual)
     data["amplification"] = _finite_or_none(err.amplification)
+    data["refinement"] = _finite_or_none(err.refinement)
     centre = truss.xy[ps.joints].mean(axis=0) if ps.n_joints else np.zeros(2)
     at = (float(centre[0]), float(centre[1]))
     if basis_incomplete:
         return Finding(
             Code.LOAD_EXCITES_MECHANISM,
-            f"load case '{where['case']}' could not be carried by part {where['part']}: the part has "
+            f"load case '{where['case']}' could not be carried by part {int(where['part']) + 1}: the part has "
             f"{stab.mechanisms} mechanisms, not all of them known, and the solution does not balance "
             "the load; no forces are given for this part",
             joints=tuple(int(j) for j in ps.joints[:1]),
@@ -505,7 +587,7 @@ def _failed_finding(
         )
     return Finding(
         Code.NEAR_MECHANISM,
-        f"load case '{where['case']}': part {where['part']} is numerically singular for this load "
+        f"load case '{where['case']}': part {int(where['part']) + 1} is numerically singular for this load "
         "(the solution does not balance the load to the required accuracy); no forces are given "
         "for this part",
         at=at,

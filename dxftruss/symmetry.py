@@ -14,8 +14,9 @@ Glossary:
                      symmetric pin + roller truss split evenly.
 
 Coordinates are in drawing units, forces in the force unit. The geometric tolerance
-``tol`` is relative to the diagonal of the joints' bounding box; the force tolerance is
-relative to the largest joint load. Joints are matched with a k-d tree (O(j log j)).
+``tol`` is relative to the diagonal of the joints' bounding box, or ``distance`` (drawing
+units) when given; the force tolerance is relative to the largest joint load. Joints are
+matched with a k-d tree (O(j log j)).
 """
 
 from __future__ import annotations
@@ -37,23 +38,27 @@ def _extent(xy: np.ndarray) -> float:
     return float(np.hypot(span[0], span[1]))
 
 
-def mirror_joints(truss: Truss, axis: float, *, tol: float = MIRROR_TOL) -> np.ndarray | None:
+def mirror_joints(
+    truss: Truss, axis: float, *, tol: float = MIRROR_TOL, distance: float | None = None
+) -> np.ndarray | None:
     """The mirror map of the joints about x = ``axis``, or None when a joint has no image.
 
     Returns an int array ``p`` with ``p[i]`` the joint at the mirror image of joint i
-    (within ``tol`` times the bounding-box diagonal). None when some image is not a
-    joint or two joints share one image.
+    (within ``distance`` drawing units, or ``tol`` times the bounding-box diagonal when
+    ``distance`` is None). None when some image is not a joint or two joints share one
+    image.
     """
     xy = np.asarray(truss.xy, dtype=float)
     n = xy.shape[0]
     if n == 0:
         return None
-    eps = tol * _extent(xy)
+    extent = _extent(xy)
+    if extent == 0.0:
+        # a single point (or coincident points): relative to the coordinates' size instead
+        extent = max(float(np.abs(xy).max()), 1.0)
+    eps = tol * extent if distance is None else float(distance)
     image = xy.copy()
     image[:, 0] = 2.0 * axis - xy[:, 0]
-    if eps == 0.0:
-        # a single point (or coincident points): exact comparison is the only meaning
-        eps = np.finfo(float).tiny
     _, idx = cKDTree(xy).query(image, distance_upper_bound=eps)
     if np.any(idx >= n):
         return None
@@ -91,20 +96,20 @@ def mirror_members(truss: Truss, joint_map: np.ndarray) -> np.ndarray | None:
     return result
 
 
-def find_mirror_axis(truss: Truss, *, tol: float = MIRROR_TOL) -> float | None:
+def find_mirror_axis(truss: Truss, *, tol: float = MIRROR_TOL, distance: float | None = None) -> float | None:
     """A vertical mirror axis x = c of the truss, or None when there is none.
 
     The only candidate is c = (min x + max x) / 2: a mirror maps the leftmost joint onto
     the rightmost one. The truss is symmetric when the joints, the members (as joint
     pairs) and the joints restrained in y map onto themselves, within ``tol`` times the
-    bounding-box diagonal. Horizontal restraints are not compared (a pin and a roller on
+    bounding-box diagonal (or ``distance`` drawing units). Horizontal restraints are not compared (a pin and a roller on
     a level bed are a mirrored pair). Cost O(j log j + m log m).
     """
     xy = np.asarray(truss.xy, dtype=float)
     if xy.shape[0] == 0:
         return None
     axis = 0.5 * (float(xy[:, 0].min()) + float(xy[:, 0].max()))
-    joint_map = mirror_joints(truss, axis, tol=tol)
+    joint_map = mirror_joints(truss, axis, tol=tol, distance=distance)
     if joint_map is None:
         return None
     if mirror_members(truss, joint_map) is None:
@@ -119,16 +124,22 @@ def find_mirror_axis(truss: Truss, *, tol: float = MIRROR_TOL) -> float | None:
 
 
 def loads_symmetric(
-    truss: Truss, case: LoadCase, axis: float, *, tol: float = MIRROR_TOL, force_tol: float = 1e-9
+    truss: Truss,
+    case: LoadCase,
+    axis: float,
+    *,
+    tol: float = MIRROR_TOL,
+    distance: float | None = None,
+    force_tol: float = 1e-9,
 ) -> bool:
     """True when the joint loads of ``case`` map onto themselves under the mirror x = axis.
 
     At mirrored joints i and p(i): fy_p(i) = fy_i and fx_p(i) = -fx_i, within
     ``force_tol`` times the largest joint load component. A load case with no load is
-    symmetric. False when the joints themselves do not mirror (``tol`` as in
-    :func:`mirror_joints`).
+    symmetric. False when the joints themselves do not mirror (``tol`` and ``distance``
+    as in :func:`mirror_joints`).
     """
-    joint_map = mirror_joints(truss, axis, tol=tol)
+    joint_map = mirror_joints(truss, axis, tol=tol, distance=distance)
     if joint_map is None:
         return False
     f = case.load_vector(truss.n_joints).reshape(-1, 2)
