@@ -1,0 +1,213 @@
+"""The annotated copy of the drawing (SPEC section 9, ``--dxf``).
+
+Glossary:
+    copy          the input drawing read again (with the recovery reader when the check
+                  needed it) and saved to a new path in the same format (binary stays
+                  binary). The input file is never written.
+    result layer  a new layer of our own: ``DXFTRUSS-FORCES-<case>`` and
+                  ``DXFTRUSS-REACTIONS-<case>`` per load case or combination, and
+                  ``DXFTRUSS-FINDINGS``; a name already in the drawing gets a numbered
+                  suffix.
+    text height   scaled to the drawing: ``height_fraction`` of the joints' extent
+                  diagonal, but at most ``member_fraction`` of the median member length.
+
+What goes on the result layers (entities valid in every DXF version, R12 included):
+    forces     one TEXT per solved member per case beside its midpoint, rotated along
+               the member and kept upright, e.g. ``+7.50 kN`` (tension positive; with
+               several cases ``snow: +7.50 kN``, each case a little further out); blue
+               for tension, orange for compression, grey for zero.
+    reactions  one TEXT per restrained joint per case below the joint (cases stacked).
+    findings   one CIRCLE per finding with a location, the finding's number (as in the
+               findings list of the PDF and the terminal) in it and its code beside it.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import math
+import os
+import re
+from typing import Any
+
+import numpy as np
+
+from ..errors import InputError
+from ..findings import Severity
+from ..model import joint_id
+from .pdf import clean_reactions, fmt_force
+from .render import read_document
+
+PREFIX = "DXFTRUSS"
+#: ACI colours of the marks: tension blue, compression orange, zero grey
+ACI_TENSION, ACI_COMPRESSION, ACI_ZERO = 5, 30, 8
+ACI_REACTION = 6
+ACI_SEVERITY = {Severity.ERROR: 1, Severity.WARNING: 6, Severity.INFO: 8}
+
+
+def _sha256(path: str | os.PathLike[str]) -> str:
+    h = hashlib.sha256()
+    with open(path, "rb") as fh:
+        for chunk in iter(lambda: fh.read(1 << 20), b""):
+            h.update(chunk)
+    return h.hexdigest()
+
+
+def _layer_part(text: str) -> str:
+    """A case name as a layer-name part valid in every DXF version."""
+    s = re.sub(r"[^A-Za-z0-9_-]+", "_", text).strip("_").upper()
+    return s or "CASE"
+
+
+class _LayerNames:
+    """Result-layer names that collide with nothing in the drawing (case-insensitive)."""
+
+    def __init__(self, doc: Any, *, max_len: int) -> None:
+        self.taken = {layer.dxf.name.upper() for layer in doc.layers}
+        for e in doc.modelspace():
+            self.taken.add(str(e.dxf.get("layer", "0")).upper())
+        self.max_len = max_len
+
+    def new(self, base: str) -> str:
+        base = base[: self.max_len]
+        name, k = base, 2
+        while name.upper() in self.taken:
+            suffix = f"-{k}"
+            name = base[: self.max_len - len(suffix)] + suffix
+            k += 1
+        self.taken.add(name.upper())
+        return name
+
+
+def text_height(
+    xy: np.ndarray, lengths: np.ndarray, *, height_fraction: float = 0.012, member_fraction: float = 0.12
+) -> float:
+    """Text height in drawing units: ``height_fraction`` x the extent diagonal of the
+    joints, at most ``member_fraction`` x the median member length; 1.0 if degenerate."""
+    if len(xy):
+        diag = float(np.hypot(*(xy.max(axis=0) - xy.min(axis=0))))
+    else:
+        diag = 0.0
+    h = height_fraction * diag
+    if len(lengths):
+        med = float(np.median(lengths))
+        if med > 0:
+            h = min(h, member_fraction * med) if h > 0 else member_fraction * med
+    return h if h > 0 and math.isfinite(h) else 1.0
+
+
+def _upright(dx: float, dy: float) -> float:
+    ang = math.degrees(math.atan2(dy, dx))
+    if ang > 90.0:
+        ang -= 180.0
+    elif ang <= -90.0:
+        ang += 180.0
+    return ang
+
+
+def write_dxf(
+    result: Any,
+    path: str | os.PathLike[str],
+    *,
+    height_fraction: float = 0.012,
+    member_fraction: float = 0.12,
+) -> None:
+    """Write a copy of the checked drawing with the results on new layers to ``path``.
+
+    Raises InputError when the drawing on disk is no longer the one that was checked
+    (its SHA-256 differs) or cannot be read again.
+    """
+    import ezdxf
+    from ezdxf.enums import TextEntityAlignment
+    from ezdxf.lldxf.validator import is_binary_dxf_file
+
+    src = result.source.path
+    try:
+        if _sha256(src) != result.source.sha256:
+            raise InputError(f"{src}: the drawing changed after it was checked; run the check again")
+        binary = is_binary_dxf_file(str(src))
+        doc = read_document(src, recover=bool(result.source.recovered))
+    except OSError as exc:
+        raise InputError(f"{src}: cannot read the drawing again ({exc.strerror or exc})") from exc
+    except ezdxf.DXFError as exc:
+        raise InputError(f"{src}: cannot read the drawing again ({exc})") from exc
+
+    r12 = doc.dxfversion <= "AC1009"
+    names = _LayerNames(doc, max_len=31 if r12 else 120)
+    msp = doc.modelspace()
+    t = result.truss
+    fu = t.force_unit
+    lengths = t.lengths() if t.n_members else np.zeros(0)
+    h = text_height(t.xy, lengths, height_fraction=height_fraction, member_fraction=member_fraction)
+
+    def add_layer(base: str, color: int, what: str) -> str:
+        name = names.new(base)
+        layer = doc.layers.add(name, color=color)
+        if not r12:
+            layer.description = f"dxftruss: {what}"
+        return name
+
+    def text(
+        s: str,
+        at: tuple[float, float],
+        layer: str,
+        color: int,
+        height: float,
+        rotation: float = 0.0,
+        align: Any = TextEntityAlignment.MIDDLE_CENTER,
+    ) -> None:
+        attribs = {"layer": layer, "color": color, "rotation": rotation}
+        msp.add_text(s, height=height, dxfattribs=attribs).set_placement(at, align=align)
+
+    # member forces, one layer per case
+    solved_cases = [cs for cs in result.cases if np.isfinite(np.asarray(cs.forces, dtype=float)).any()]
+    for k, case in enumerate(solved_cases):
+        forces = np.asarray(case.forces, dtype=float)
+        prefix = f"{case.name}: " if len(solved_cases) > 1 else ""
+        offset = (0.8 + 1.4 * k) * h  # cases stacked above the member, readable with all layers on
+        zero = set(case.zero_by_solution)
+        layer = add_layer(
+            f"{PREFIX}-FORCES-{_layer_part(case.name)}",
+            ACI_TENSION,
+            f"member forces, case '{case.name}' ({fu}, tension +)",
+        )
+        for e in np.nonzero(np.isfinite(forces))[0].tolist():
+            i, k = t.ends[e]
+            (x1, y1), (x2, y2) = t.xy[i], t.xy[k]
+            ang = _upright(x2 - x1, y2 - y1)
+            nx, ny = -math.sin(math.radians(ang)), math.cos(math.radians(ang))
+            mx, my = (x1 + x2) / 2 + nx * offset, (y1 + y2) / 2 + ny * offset
+            v = float(forces[e])
+            if e in zero:
+                s, color = "0", ACI_ZERO
+            else:
+                s, color = f"{fmt_force(v)} {fu}", ACI_TENSION if v > 0 else (ACI_COMPRESSION if v < 0 else ACI_ZERO)
+            text(prefix + s, (mx, my), layer, color, h, ang)
+
+    # reactions, one layer per case
+    for k, case in enumerate(result.cases):
+        if not case.reactions:
+            continue
+        layer = add_layer(
+            f"{PREFIX}-REACTIONS-{_layer_part(case.name)}", ACI_REACTION, f"reactions, case '{case.name}' ({fu})"
+        )
+        for j, rx, ry in clean_reactions(result, case):
+            if not (0 <= j < t.n_joints):
+                continue
+            x, y = t.xy[j]
+            s = f"{case.name}: {joint_id(j)} Rx={fmt_force(rx)} Ry={fmt_force(ry)} {fu}"
+            text(s, (float(x), float(y) - (2.5 + 1.2 * k) * h), layer, ACI_REACTION, 0.8 * h)
+
+    # findings
+    marked = [
+        (n, f) for n, f in enumerate(result.findings, 1) if f.at is not None and all(math.isfinite(v) for v in f.at)
+    ]
+    if marked:
+        layer = add_layer(f"{PREFIX}-FINDINGS", 1, "numbered finding markers (numbers as in the findings list)")
+        for n, f in marked:
+            x, y = float(f.at[0]), float(f.at[1])
+            color = ACI_SEVERITY[f.severity]
+            msp.add_circle((x, y), 0.9 * h, dxfattribs={"layer": layer, "color": color})
+            text(str(n), (x, y), layer, color, 0.9 * h)
+            text(f.code.value, (x + 1.2 * h, y), layer, color, 0.6 * h, align=TextEntityAlignment.MIDDLE_LEFT)
+
+    doc.saveas(path, fmt="bin" if binary else "asc")
