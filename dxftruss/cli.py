@@ -74,7 +74,9 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def _err(msg: str) -> None:
-    print(f"dxftruss: {msg}", file=sys.stderr)
+    """One line on standard error, whatever the message holds."""
+    line = " ".join(str(msg).split())
+    print(f"dxftruss: {line}", file=sys.stderr)
 
 
 def _expand(drawings: list[str]) -> list[str]:

@@ -180,11 +180,12 @@ def check(
         findings += fs
     stage("stability")
 
-    axis = find_mirror_axis(truss, tol=max(10 * snap, 1e-9 * diag)) if truss.n_members else None
+    sym_dist = max(10 * snap, 1e-9 * diag)
+    axis = find_mirror_axis(truss, distance=sym_dist) if truss.n_members else None
     cases: list[CaseResult] = []
     seen: set[tuple[str, str]] = set()
     for case in truss.cases if truss.n_members else ():
-        res, fs = solve_case(truss, stability, case, symmetry_axis=axis)
+        res, fs = solve_case(truss, stability, case, symmetry_axis=axis, symmetry_distance=sym_dist)
         cases.append(res)
         for f in fs:
             key = (f.code.value, repr(sorted(f.data.items())) + repr(f.joints) + repr(f.members))

@@ -11,6 +11,11 @@ from dxftruss.cli import main
 from .drawings import pratt_segments, write_drawing
 
 
+def write(path, text):
+    path.write_text(text)
+    return path
+
+
 def run(args, cwd=None):
     p = subprocess.run([sys.executable, "-m", "dxftruss", *args], capture_output=True, text=True, cwd=cwd, timeout=120)
     return p.returncode, p.stdout, p.stderr
@@ -38,8 +43,8 @@ def test_mechanism_exits_1(tmp_path):
     "make, fragment",
     [
         (lambda d: d / "missing.dxf", "no such file"),
-        (lambda d: (d / "empty.dxf").write_text("") or d / "empty.dxf", "empty.dxf"),
-        (lambda d: (d / "junk.dxf").write_text("this is not a drawing\n") or d / "junk.dxf", "junk.dxf"),
+        (lambda d: write(d / "empty.dxf", ""), "empty.dxf"),
+        (lambda d: write(d / "junk.dxf", "this is not a drawing\n"), "junk.dxf"),
     ],
 )
 def test_unreadable_input_exits_2_with_one_line(tmp_path, make, fragment):

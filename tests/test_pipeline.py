@@ -77,12 +77,17 @@ def test_defaults_are_assumed_and_said(tmp_path):
     assert doc["cases"][0]["assumed"] is True
 
 
+# findings that depend on the assumed load case, which follows the drawing's "upward"
+# (the upper outline), so they legitimately change when the drawing is rotated
+LOAD_DEPENDENT = {"load-excites-mechanism", "zero-force-member", "assumed-stiffness", "near-mechanism"}
+
+
 def summary_of(r):
     return (
         r.truss.n_joints,
         r.truss.n_members,
         tuple((s.j, s.m, s.r, s.rank, s.mechanisms, s.self_stress, s.verdict) for s in r.stability),
-        tuple(sorted(f.code.value for f in r.findings)),
+        tuple(sorted(f.code.value for f in r.findings if f.code.value not in LOAD_DEPENDENT)),
         tuple(np.round(np.sort(r.truss.lengths()), 6)),
     )
 
