@@ -232,6 +232,12 @@ def _run_many(args: argparse.Namespace, drawings: list[str]) -> int:
 
 
 def main(argv: list[str] | None = None) -> int:
+    import logging
+
+    # the DXF library logs repairs to stderr; the reader reports them as findings instead
+    ezdxf_log = logging.getLogger("ezdxf")
+    ezdxf_log.addHandler(logging.NullHandler())
+    ezdxf_log.propagate = False
     parser = build_parser()
     args = parser.parse_args(argv)
     if args.command == "check":

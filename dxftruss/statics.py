@@ -447,16 +447,20 @@ def solve_case(
 
         solved.append(int(part.index))
         residual = max(residual, sol.residual)
-        forces[ps.members] = sol.forces
+        # round-off below the zero tolerance is reported as exactly zero (forces and
+        # reactions alike), so the reports never show "-9.8e-13 kN"
+        scale = max(float(np.abs(sol.forces).max()) if ps.n_members else 0.0, f_norm)
+        cut = zero_tol * scale
+        part_forces = np.where(np.abs(sol.forces) <= cut, 0.0, sol.forces)
+        forces[ps.members] = part_forces
         for (joint, direction), value in zip(ps.restraints.tolist(), sol.reactions.tolist(), strict=True):
-            reactions.setdefault(int(joint), [0.0, 0.0])[direction] += float(value)
+            reactions.setdefault(int(joint), [0.0, 0.0])[direction] += 0.0 if abs(value) <= cut else float(value)
         if not has_sections:
             disp_known = False
         elif sol.displacement is not None:
             disp[ps.joints] = sol.displacement
         if ps.n_members:
-            scale = max(float(np.abs(sol.forces).max()), f_norm)
-            zero_solution.append(ps.members[np.abs(sol.forces) <= zero_tol * scale])
+            zero_solution.append(ps.members[part_forces == 0.0])
 
     by_rule = zero_force_by_rule(truss, case, angle_tol=angle_tol)
     by_solution = tuple(sorted(int(e) for arr in zero_solution for e in arr))
