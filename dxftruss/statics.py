@@ -431,7 +431,7 @@ def solve_case(
         except _SolveFailed as err:
             findings.append(_failed_finding(truss, ps, stab, err, where, mechanism and not complete))
             continue
-        if (mechanism or stab.self_stress > 0) and not has_sections and f_norm > 0:
+        if stab.self_stress > 0 and not has_sections and f_norm > 0:
             unmatched = int(np.count_nonzero(~np.isfinite(ea)))
             first_unmatched = int(ps.members[~np.isfinite(ea)][0])
             mid = truss.xy[truss.ends[first_unmatched]].mean(axis=0)

@@ -77,7 +77,8 @@ def summary(result, *, max_findings: int = 40) -> str:  # type: ignore[no-untype
         if c.zero_by_solution:
             names = ", ".join(member_id(e) for e in c.zero_by_solution[:20])
             more = f" and {len(c.zero_by_solution) - 20} more" if len(c.zero_by_solution) > 20 else ""
-            lines.append(f"  zero-force members: {names}{more} ({len(c.zero_by_rule)} found by the joint rules)")
+            by_rule = len(set(c.zero_by_rule) & set(c.zero_by_solution))
+            lines.append(f"  zero-force members: {names}{more} ({by_rule} of them found by the joint rules alone)")
         if c.loads_symmetric is False and result.symmetry_axis is not None:
             lines.append("  the truss is symmetric but this load is not: the reactions will not split evenly")
         if len(c.solved_parts) < len(t.parts):
