@@ -108,7 +108,7 @@ def check_one(args: argparse.Namespace, drawing: str, many: bool) -> tuple[int, 
     """Check one drawing and write its reports. Returns (exit status, printed text, row)."""
     from .errors import DxftrussError
     from .outputs import check_output_path, write_atomic
-    from .pipeline import Settings, check
+    from .pipeline import Settings
 
     pdf, dxf, json_out = _outputs(args, drawing, many)
     inputs = [drawing] + ([args.loads] if args.loads else [])
@@ -121,11 +121,11 @@ def check_one(args: argparse.Namespace, drawing: str, many: bool) -> tuple[int, 
         settings = Settings(
             snap=args.snap, near_miss=args.near_miss, units=args.units, layers=tuple(args.layers), loads=args.loads
         )
-        result = check(drawing, settings)
+        result = _check_with_progress(drawing, settings, show=not args.quiet and not many)
         from .report.text import summary
 
         if not args.quiet:
-            text += summary(result)
+            text += summary(result, color=not many and sys.stdout.isatty() and args.json != "-")
         if json_out:
             from .report.json import to_json
 
@@ -162,6 +162,21 @@ def check_one(args: argparse.Namespace, drawing: str, many: bool) -> tuple[int, 
             raise
         row["message"] = f"{drawing}: internal error ({type(exc).__name__}: {exc}); please report it with the drawing"
         return EXIT_INPUT, text, row
+
+
+def _check_with_progress(drawing: str, settings, *, show: bool):  # type: ignore[no-untyped-def]
+    """check() with a one-line stage indicator on standard error when it is a terminal."""
+    from .pipeline import check
+
+    if not (show and sys.stderr.isatty()):
+        return check(drawing, settings)
+    from rich.console import Console
+
+    con = Console(stderr=True)
+    names = {"read": "snapping joints", "snap": "building the model", "model": "checking stability",
+             "stability": "solving load cases", "statics": "writing reports"}
+    with con.status("reading the drawing") as status:
+        return check(drawing, settings, progress=lambda stage: status.update(names.get(stage, stage)))
 
 
 def _check_in_worker(args: argparse.Namespace, drawing: str) -> tuple[int, str, dict]:

@@ -1,9 +1,12 @@
 """The terminal summary: verdict per part, findings by severity, force extremes per case.
 
-Plain text (no markup parsing), so names from the drawing cannot inject anything.
+Tables are drawn with rich; every string from the drawing goes in as a ``Text`` object,
+so names such as ``[bold]`` or ``<b>`` are shown literally, never interpreted.
 """
 
 from __future__ import annotations
+
+import io
 
 import numpy as np
 
@@ -16,72 +19,101 @@ def _fmt(x: float) -> str:
     return f"{x:.4g}" if abs(x) >= 1e-3 or x == 0 else f"{x:.3e}"
 
 
-def summary(result, *, max_findings: int = 40) -> str:  # type: ignore[no-untyped-def]
+def summary(result, *, max_findings: int = 40, width: int = 110, color: bool = False) -> str:  # type: ignore[no-untyped-def]
+    """The summary as text (ANSI colour only when ``color``)."""
+    from rich import box
+    from rich.console import Console
+    from rich.table import Table
+    from rich.text import Text
+
+    buf = io.StringIO()
+    con = Console(
+        file=buf, width=width, color_system="standard" if color else None, highlight=False, emoji=False, markup=False
+    )
     t = result.truss
     src = result.source
-    lines = [
-        f"dxftruss check: {src.path}",
-        f"  sha256 {src.sha256[:16]}, DXF {src.dxf_version}, units {src.length_unit} ({src.unit_source})"
-        + (", REPAIRED ON READING - geometry may be wrong" if src.recovered else ""),
-        f"  model: {t.n_joints} joints, {t.n_members} members, {len(t.supports)} supports, "
-        f"{len(t.parts)} part(s), {len(t.cases)} load case(s)",
-    ]
-    for p, st in zip(t.parts, result.stability):
-        extra = ""
-        if st.mechanisms:
-            extra = f" - {st.mechanisms} independent mechanism(s)"
-        elif st.self_stress:
-            extra = f" - {st.self_stress} redundant member(s)/restraint(s)"
-        lines.append(
-            f"  part {p.index + 1}: j={st.j} m={st.m} r={st.r} rank={st.rank} "
-            f"mechanisms={st.mechanisms} self-stress={st.self_stress} -> {st.verdict.value.upper()}{extra}"
+    con.print(Text(f"dxftruss check: {src.path}", style="bold"))
+    con.print(
+        Text(
+            f"sha256 {src.sha256[:16]}  DXF {src.dxf_version}  units {src.length_unit} ({src.unit_source})  "
+            f"{t.n_joints} joints, {t.n_members} members, {len(t.supports)} supports, {len(t.cases)} load case(s)"
         )
+    )
+    if src.recovered:
+        con.print(Text("the file was damaged and repaired on reading: the geometry may be wrong", style="bold red"))
+
+    parts = Table(box=box.SIMPLE_HEAD, title="parts", title_justify="left", pad_edge=False)
+    for col in ("part", "j", "m", "r", "rank", "mechanisms", "self-stress", "verdict"):
+        parts.add_column(col, justify="right" if col not in ("verdict",) else "left")
+    for p, st in zip(t.parts, result.stability):
+        style = "red" if st.mechanisms else ("yellow" if st.self_stress else "green")
+        parts.add_row(
+            str(p.index + 1), str(st.j), str(st.m), str(st.r), str(st.rank), str(st.mechanisms),
+            str(st.self_stress), Text(st.verdict.value.upper(), style=style),
+        )
+    if t.parts:
+        con.print(parts)
     if result.symmetry_axis is not None:
-        lines.append(f"  symmetric about x = {_fmt(result.symmetry_axis)}")
-    lines.append("assumptions:")
-    lines += [f"  - {a}" for a in assumptions(result)]
+        con.print(Text(f"geometry and supports are symmetric about x = {_fmt(result.symmetry_axis)}"))
+
+    con.print(Text("assumptions:", style="bold"))
+    for a in assumptions(result):
+        con.print(Text(f"  - {a}"))
 
     counts = {sev: sum(f.severity is sev for f in result.findings) for sev in Severity}
-    lines.append(
-        f"findings: {counts[Severity.ERROR]} error(s), {counts[Severity.WARNING]} warning(s), "
-        f"{counts[Severity.INFO]} info"
+    con.print(
+        Text(
+            f"findings: {counts[Severity.ERROR]} error(s), {counts[Severity.WARNING]} warning(s), "
+            f"{counts[Severity.INFO]} info",
+            style="bold",
+        )
     )
-    for i, f in enumerate(result.findings[:max_findings], 1):
-        lines.append(f"  {i:>3}. {f.severity.value:<7} {f.code.value}: {f.message}")
-    if len(result.findings) > max_findings:
-        lines.append(f"  ... and {len(result.findings) - max_findings} more (see the JSON or PDF report)")
+    if result.findings:
+        ft = Table(box=box.SIMPLE_HEAD, show_header=True, pad_edge=False)
+        ft.add_column("#", justify="right")
+        ft.add_column("severity")
+        ft.add_column("code")
+        ft.add_column("message", overflow="fold")
+        sev_style = {Severity.ERROR: "red", Severity.WARNING: "yellow", Severity.INFO: "dim"}
+        for i, f in enumerate(result.findings[:max_findings], 1):
+            ft.add_row(str(i), Text(f.severity.value, style=sev_style[f.severity]), Text(f.code.value), Text(f.message))
+        con.print(ft)
+        if len(result.findings) > max_findings:
+            con.print(Text(f"  ... and {len(result.findings) - max_findings} more (see the JSON or PDF report)"))
 
     fu = t.force_unit
-    for c in result.cases:
-        head = f"case {c.name!r}" + (" (assumed)" if c.assumed else "")
-        if c.factors:
-            head += " = " + " + ".join(f"{f:g} x {n}" for n, f in c.factors)
-        lines.append(head + ":")
-        forces = np.asarray(c.forces, dtype=float)
-        solved = np.isfinite(forces)
-        if not solved.any():
-            lines.append("  not solved (see findings)")
-            continue
-        fs = np.where(solved, forces, 0.0)
-        e_t, e_c = int(np.argmax(fs)), int(np.argmin(fs))
-        if fs[e_t] > 0:
-            lines.append(f"  largest tension     {_fmt(fs[e_t])} {fu} in {member_id(e_t)}")
-        if fs[e_c] < 0:
-            lines.append(f"  largest compression {_fmt(fs[e_c])} {fu} in {member_id(e_c)}")
-        if c.reactions:
-            lines.append(
-                "  reactions: "
-                + "; ".join(f"{joint_id(j)} ({_fmt(rx)}, {_fmt(ry)})" for j, rx, ry in c.reactions)
-                + f" {fu}"
-            )
-        if c.zero_by_solution:
-            names = ", ".join(member_id(e) for e in c.zero_by_solution[:20])
-            more = f" and {len(c.zero_by_solution) - 20} more" if len(c.zero_by_solution) > 20 else ""
-            by_rule = len(set(c.zero_by_rule) & set(c.zero_by_solution))
-            lines.append(f"  zero-force members: {names}{more} ({by_rule} of them found by the joint rules alone)")
-        if c.loads_symmetric is False and result.symmetry_axis is not None:
-            lines.append("  the truss is symmetric but this load is not: the reactions will not split evenly")
-        if len(c.solved_parts) < len(t.parts):
-            lines.append(f"  solved {len(c.solved_parts)} of {len(t.parts)} parts (see findings)")
-    lines.append("caution: " + CAUTION)
-    return "\n".join(lines) + "\n"
+    if result.cases:
+        ct = Table(box=box.SIMPLE_HEAD, title=f"load cases (forces in {fu}, tension +)", title_justify="left", pad_edge=False)
+        for col in ("case", "largest tension", "largest compression", "reactions", "zero-force members"):
+            ct.add_column(col, overflow="fold")
+        notes = []
+        for c in result.cases:
+            name = c.name + (" (assumed)" if c.assumed else "")
+            if c.factors:
+                name += " = " + " + ".join(f"{f:g} x {n}" for n, f in c.factors)
+            forces = np.asarray(c.forces, dtype=float)
+            solved = np.isfinite(forces)
+            if not solved.any():
+                ct.add_row(Text(name), Text("not solved (see findings)"), Text(""), Text(""), Text(""))
+                continue
+            fs = np.where(solved, forces, 0.0)
+            e_t, e_c = int(np.argmax(fs)), int(np.argmin(fs))
+            tension = f"{_fmt(fs[e_t])} in {member_id(e_t)}" if fs[e_t] > 0 else "-"
+            compression = f"{_fmt(fs[e_c])} in {member_id(e_c)}" if fs[e_c] < 0 else "-"
+            reactions = "; ".join(f"{joint_id(j)} ({_fmt(rx)}, {_fmt(ry)})" for j, rx, ry in c.reactions)
+            zeros = ", ".join(member_id(e) for e in c.zero_by_solution[:12])
+            if len(c.zero_by_solution) > 12:
+                zeros += f" +{len(c.zero_by_solution) - 12} more"
+            if c.zero_by_solution:
+                by_rule = len(set(c.zero_by_rule) & set(c.zero_by_solution))
+                zeros += f" ({by_rule} by the joint rules alone)"
+            ct.add_row(Text(name), Text(tension), Text(compression), Text(reactions), Text(zeros or "-"))
+            if c.loads_symmetric is False and result.symmetry_axis is not None:
+                notes.append(f"case {c.name!r}: the truss is symmetric but this load is not: the reactions will not split evenly")
+            if len(c.solved_parts) < len(t.parts):
+                notes.append(f"case {c.name!r}: solved {len(c.solved_parts)} of {len(t.parts)} parts (see findings)")
+        con.print(ct)
+        for n in notes:
+            con.print(Text(n))
+    con.print(Text("caution: " + CAUTION, style="italic"))
+    return buf.getvalue()
