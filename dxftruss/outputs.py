@@ -17,7 +17,10 @@ def same_file(a: str | os.PathLike[str], b: str | os.PathLike[str]) -> bool:
             return os.path.samefile(pa, pb)
     except OSError:
         pass
-    return pa.resolve() == pb.resolve()
+    try:
+        return pa.resolve() == pb.resolve()
+    except (OSError, RuntimeError):  # a symlink loop, say: cannot be the same file we read
+        return False
 
 
 def check_output_path(out: str | os.PathLike[str], inputs: list[str | os.PathLike[str]], what: str) -> None:

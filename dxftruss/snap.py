@@ -43,38 +43,47 @@ class Geometry:
     findings: tuple[Finding, ...]
 
 
-def cluster_points(points: np.ndarray, *, tol: float) -> tuple[np.ndarray, np.ndarray]:
+def cluster_points(points: np.ndarray, *, tol: float, resolution: float = 1e-3) -> tuple[np.ndarray, np.ndarray]:
     """Group points closer than ``tol`` without chaining.
 
     Returns (labels per point, cluster centres). Identical points are merged first;
     the remaining close pairs are resolved by leader clustering in coordinate order
     (independent of input order): each unassigned point, in (x, y) order, claims the
     unassigned points within ``tol`` of itself. The centre is the mean of the distinct
-    points of a cluster.
+    points of a cluster. Coordinates are first rounded to ``resolution * tol`` (and
+    never finer than 1e-15 of their magnitude).
     """
     if len(points) == 0:
         return np.zeros(0, dtype=np.int64), np.zeros((0, 2))
-    uniq, inverse = np.unique(points, axis=0, return_inverse=True)
+    exact, inverse = np.unique(points, axis=0, return_inverse=True)
     inverse = inverse.reshape(-1)
+    # Points closer than the coordinates' own resolution are one point. Rounding them
+    # onto a fine grid first also keeps the KD-tree out of its degenerate case (squared
+    # distances that underflow to zero make its queries quadratic).
+    scale = float(np.abs(exact).max()) or 1.0
+    grid = max(resolution * tol, 1e-15 * scale, 1e-150)
+    uniq, to_uniq = np.unique(np.round(exact / grid) * grid, axis=0, return_inverse=True)
+    to_uniq = to_uniq.reshape(-1)
     n = len(uniq)
     label = np.arange(n)
     if tol > 0 and n > 1:
         tree = cKDTree(uniq)
-        pairs = tree.query_pairs(tol, output_type="ndarray")
-        if len(pairs):
-            involved = np.unique(pairs)  # sorted = (x, y) order, because uniq is sorted
-            label[involved] = -1
-            for p in involved:
-                if label[p] != -1:
-                    continue
-                label[p] = p
-                for q in tree.query_ball_point(uniq[p], tol):
-                    if label[q] == -1:
-                        label[q] = p
+        # points with another point within tol; never enumerate all close pairs, which
+        # is quadratic when thousands of points sit within tol of each other
+        gap, _ = tree.query(uniq, k=2)
+        involved = np.flatnonzero(gap[:, 1] <= tol)  # sorted = (x, y) order, because uniq is sorted
+        label[involved] = -1
+        for p in involved:
+            if label[p] != -1:
+                continue
+            near = np.asarray(tree.query_ball_point(uniq[p], tol), dtype=np.int64)
+            near = near[label[near] == -1]
+            label[near] = p
+            label[p] = p
     _, label = np.unique(label, return_inverse=True)
-    label = label.reshape(-1)
+    label = label.reshape(-1)[to_uniq]  # per distinct exact point
     counts = np.bincount(label)
-    centres = np.column_stack([np.bincount(label, uniq[:, 0]), np.bincount(label, uniq[:, 1])]) / counts[:, None]
+    centres = np.column_stack([np.bincount(label, exact[:, 0]), np.bincount(label, exact[:, 1])]) / counts[:, None]
     return label[inverse], centres
 
 
@@ -136,28 +145,34 @@ def build_geometry(
     live = np.flatnonzero(~zero)
     a, b = a[live], b[live]
 
-    # split lines at joints lying on them
-    hit_seg, hit_joint, _ = _split_on_joints(centres, a, b, tol=snap)
-    pieces_src: list[np.ndarray] = []
-    pieces_a: list[np.ndarray] = []
-    pieces_b: list[np.ndarray] = []
-    split_rows = np.unique(hit_seg)
-    unsplit = np.setdiff1d(np.arange(len(live)), split_rows)
-    pieces_src.append(unsplit)
-    pieces_a.append(a[unsplit])
-    pieces_b.append(b[unsplit])
-    split_info: list[tuple[int, list[int]]] = []
-    if len(hit_seg):
-        bounds = np.flatnonzero(np.r_[True, hit_seg[1:] != hit_seg[:-1], True])
+    # split lines at joints lying on them; lines drawn over each other (same two joints)
+    # are searched once, so a stack of copies costs no more than one line
+    lo_j, hi_j = np.minimum(a, b), np.maximum(a, b)
+    _, first, pair_of = np.unique(lo_j * len(centres) + hi_j, return_index=True, return_inverse=True)
+    pair_of = pair_of.reshape(-1)
+    hit_pair, hit_joint, _ = _split_on_joints(centres, lo_j[first], hi_j[first], tol=snap)
+    inner: dict[int, list[int]] = {}
+    if len(hit_pair):
+        bounds = np.flatnonzero(np.r_[True, hit_pair[1:] != hit_pair[:-1], True])
         for lo, hi in zip(bounds[:-1], bounds[1:]):
-            s = int(hit_seg[lo])
-            chain = [int(a[s]), *[int(j) for j in hit_joint[lo:hi]], int(b[s])]
-            # a joint listed twice (two points within tol of the same place) is one stop
-            chain = [j for k, j in enumerate(chain) if k == 0 or j != chain[k - 1]]
-            pieces_src.append(np.full(len(chain) - 1, s))
-            pieces_a.append(np.array(chain[:-1]))
-            pieces_b.append(np.array(chain[1:]))
-            split_info.append((s, chain))
+            inner[int(hit_pair[lo])] = [int(j) for j in hit_joint[lo:hi]]  # from lo_j to hi_j
+    is_split = np.isin(pair_of, np.fromiter(inner, dtype=np.int64, count=len(inner)))
+    unsplit = np.flatnonzero(~is_split)
+    pieces_src: list[np.ndarray] = [unsplit]
+    pieces_a: list[np.ndarray] = [a[unsplit]]
+    pieces_b: list[np.ndarray] = [b[unsplit]]
+    split_info: list[tuple[int, list[int]]] = []
+    for s in np.flatnonzero(is_split):
+        stops = inner[int(pair_of[s])]
+        if a[s] != lo_j[s]:
+            stops = stops[::-1]
+        chain = [int(a[s]), *stops, int(b[s])]
+        # a joint listed twice (two points within tol of the same place) is one stop
+        chain = [j for k, j in enumerate(chain) if k == 0 or j != chain[k - 1]]
+        pieces_src.append(np.full(len(chain) - 1, s))
+        pieces_a.append(np.array(chain[:-1]))
+        pieces_b.append(np.array(chain[1:]))
+        split_info.append((int(s), chain))
     src = live[np.concatenate(pieces_src)] if pieces_src else np.zeros(0, np.int64)
     pa = np.concatenate(pieces_a).astype(np.int64)
     pb = np.concatenate(pieces_b).astype(np.int64)

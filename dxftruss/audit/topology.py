@@ -19,8 +19,37 @@ from ..findings import Code, Finding
 from ..model import Truss, joint_id, member_id
 
 
+#: at most this many candidate pairs are examined per check before it stops listing
+MAX_PAIRS = 2_000_000
+#: at most this many findings of one kind are listed; one more finding says how many more
+MAX_LISTED = 5_000
+
+
 def _pt(p: np.ndarray) -> tuple[float, float]:
     return float(p[0]), float(p[1])
+
+
+def _query_pairs(tree, geoms, *, max_pairs: int, chunk: int = 20_000, **kw):  # type: ignore[no-untyped-def]
+    """STRtree query in chunks; stops once ``max_pairs`` candidates were seen.
+
+    Returns (i, j, complete). Bounded memory even when everything overlaps everything.
+    """
+    out_i, out_j, seen = [], [], 0
+    for lo in range(0, len(geoms), chunk):
+        i, j = tree.query(geoms[lo : lo + chunk], **kw)
+        out_i.append(i + lo)
+        out_j.append(j)
+        seen += len(i)
+        if seen > max_pairs:
+            return np.concatenate(out_i), np.concatenate(out_j), False
+    if not out_i:
+        return np.zeros(0, np.int64), np.zeros(0, np.int64), True
+    return np.concatenate(out_i), np.concatenate(out_j), True
+
+
+def _more(code: Code, listed: int, total: int | None, what: str) -> Finding:
+    count = f"{total - listed} more" if total is not None else "more"
+    return Finding(code, f"{count} {what} not listed (the first {listed} are)", data={"listed": listed, "total": total})
 
 
 def dangling_members(truss: Truss) -> list[Finding]:
@@ -50,8 +79,14 @@ def near_misses(truss: Truss, *, near_miss: float, snap: float) -> list[Finding]
     if len(xy) < 2 or near_miss <= 0:
         return out
     linked = {(int(a), int(b)) for a, b in ends}
-    pairs = cKDTree(xy).query_pairs(near_miss, output_type="ndarray")
-    for a, b in pairs:
+    tree_j = cKDTree(xy)
+    # count first (dual-tree counting does not enumerate): a dense knot of joints must
+    # not make the listing quadratic
+    n_close = (int(tree_j.count_neighbors(tree_j, near_miss)) - len(xy)) // 2
+    pairs = tree_j.query_pairs(near_miss, output_type="ndarray") if n_close <= MAX_PAIRS else np.zeros((0, 2), int)
+    if n_close > MAX_PAIRS:
+        out.append(_more(Code.NEAR_MISS, 0, n_close, "pairs of joints closer than the near-miss radius"))
+    for a, b in pairs[:MAX_LISTED]:
         a, b = (int(a), int(b)) if a < b else (int(b), int(a))
         if (a, b) in linked:
             continue
@@ -69,7 +104,7 @@ def near_misses(truss: Truss, *, near_miss: float, snap: float) -> list[Finding]
 
     lines = shapely.linestrings(np.stack([xy[ends[:, 0]], xy[ends[:, 1]]], axis=1))
     tree = shapely.STRtree(lines)
-    pj, e = tree.query(shapely.points(xy), predicate="dwithin", distance=near_miss)
+    pj, e, complete = _query_pairs(tree, shapely.points(xy), max_pairs=MAX_PAIRS, predicate="dwithin", distance=near_miss)
     keep = (pj != ends[e, 0]) & (pj != ends[e, 1])
     pj, e = pj[keep], e[keep]
     a, b = xy[ends[e, 0]], xy[ends[e, 1]]
@@ -78,7 +113,11 @@ def near_misses(truss: Truss, *, near_miss: float, snap: float) -> list[Finding]
     foot = a + t[:, None] * d
     gap = np.hypot(*(xy[pj] - foot).T)
     along = np.minimum(t, 1 - t) * np.hypot(d[:, 0], d[:, 1])
-    inside = (t > 0) & (t < 1) & (gap > snap) & (along > near_miss)
+    inside = np.flatnonzero((t > 0) & (t < 1) & (gap > snap) & (along > near_miss))
+    if len(inside) > MAX_LISTED or not complete:
+        out.append(_more(Code.NEAR_MISS, min(len(inside), MAX_LISTED), len(inside) if complete else None,
+                         "joints close to a member they are not joined to"))
+    inside = inside[:MAX_LISTED]
     for j, m, g in zip(pj[inside], e[inside], gap[inside]):
         out.append(
             Finding(
@@ -101,7 +140,7 @@ def unjoined_crossings(truss: Truss, *, snap: float) -> list[Finding]:
     if len(ends) < 2:
         return []
     lines = shapely.linestrings(np.stack([xy[ends[:, 0]], xy[ends[:, 1]]], axis=1))
-    p, q = shapely.STRtree(lines).query(lines)
+    p, q, complete = _query_pairs(shapely.STRtree(lines), lines, max_pairs=MAX_PAIRS)
     keep = p < q
     p, q = p[keep], q[keep]
     share = (
@@ -119,7 +158,11 @@ def unjoined_crossings(truss: Truss, *, snap: float) -> list[Finding]:
     lr, ls = np.hypot(r[:, 0], r[:, 1]), np.hypot(s[:, 0], s[:, 1])
     ok = (den != 0) & (t * lr > snap) & ((1 - t) * lr > snap) & (u * ls > snap) & ((1 - u) * ls > snap)
     out = []
-    for i in np.flatnonzero(ok):
+    hits = np.flatnonzero(ok)
+    if len(hits) > MAX_LISTED or not complete:
+        out.append(_more(Code.UNJOINED_CROSSING, min(len(hits), MAX_LISTED), len(hits) if complete else None,
+                         "crossings without a joint"))
+    for i in hits[:MAX_LISTED]:
         x = a[i] + t[i] * r[i]
         m1, m2 = int(p[i]), int(q[i])
         out.append(
