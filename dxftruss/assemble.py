@@ -98,9 +98,13 @@ def upper_outline_joints(xy: np.ndarray, joints: np.ndarray, *, tol: float) -> n
 
 
 def _nearest(tree: cKDTree | None, p: tuple[float, float]) -> tuple[float, int]:
+    """Distance to and index of the nearest joint; (inf, -1) when there is none or the
+    point is so far away that no distance can be computed."""
     if tree is None:
         return float("inf"), -1
     d, i = tree.query(p)
+    if not np.isfinite(d) or i >= tree.n:
+        return float("inf"), -1
     return float(d), int(i)
 
 
@@ -231,6 +235,10 @@ def build_truss(
                 for case, factor in combo.factors
                 for ld in by_name[case].loads
             ]
+            if not all(np.isfinite(ld.fx) and np.isfinite(ld.fy) for ld in loads):
+                raise ConfigError(
+                    f"{spec.path}: [[combination]] #{combo.number} {combo.name!r}: factored loads are too large to represent"
+                )
             cases.append(LoadCase(combo.name, tuple(loads), factors=combo.factors))
 
     if not linework.loads and not (spec and spec.loads) and parts:

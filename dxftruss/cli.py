@@ -133,7 +133,10 @@ def check_one(args: argparse.Namespace, drawing: str, many: bool) -> tuple[int, 
             if json_out == "-":
                 sys.stdout.write(js)
             else:
-                write_atomic(json_out, lambda tmp: Path(tmp).write_text(js, encoding="utf-8"))
+                # names from the drawing may hold undecodable bytes: escape, never fail
+                write_atomic(
+                    json_out, lambda tmp: Path(tmp).write_text(js, encoding="utf-8", errors="backslashreplace")
+                )
         if pdf:
             from .report.pdf import write_pdf
 
@@ -253,6 +256,10 @@ def main(argv: list[str] | None = None) -> int:
     ezdxf_log = logging.getLogger("ezdxf")
     ezdxf_log.addHandler(logging.NullHandler())
     ezdxf_log.propagate = False
+    for stream in (sys.stdout, sys.stderr):  # file and layer names may not be valid UTF-8
+        reconfigure = getattr(stream, "reconfigure", None)
+        if reconfigure is not None:
+            reconfigure(errors="backslashreplace")
     parser = build_parser()
     args = parser.parse_args(argv)
     if args.command == "check":

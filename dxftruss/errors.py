@@ -22,3 +22,7 @@ class ConfigError(DxftrussError):
 
 class LimitError(DxftrussError):
     """The drawing exceeds a safety limit (entity count, block depth, array size)."""
+
+
+class OutputError(DxftrussError):
+    """A report could not be written (missing folder, permission, disk full)."""

@@ -7,7 +7,7 @@ import tempfile
 from pathlib import Path
 from typing import Callable
 
-from .errors import ConfigError
+from .errors import ConfigError, OutputError
 
 
 def same_file(a: str | os.PathLike[str], b: str | os.PathLike[str]) -> bool:
@@ -30,6 +30,9 @@ def check_output_path(out: str | os.PathLike[str], inputs: list[str | os.PathLik
             raise ConfigError(f"{out}: refusing to write the {what} over an input file")
     if Path(out).is_dir():
         raise ConfigError(f"{out}: is a directory, give a file name for the {what}")
+    folder = Path(out).parent
+    if not folder.is_dir():
+        raise ConfigError(f"{out}: the folder {str(folder)!r} does not exist (for the {what})")
 
 
 def write_atomic(path: str | os.PathLike[str], write: Callable[[str], None]) -> None:
@@ -39,14 +42,19 @@ def write_atomic(path: str | os.PathLike[str], write: Callable[[str], None]) -> 
     """
     target = Path(path)
     folder = target.parent if str(target.parent) else Path(".")
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
+    except OSError as exc:
+        raise OutputError(f"{path}: cannot write here ({exc.strerror or exc})") from None
     os.close(fd)
     try:
         write(tmp)
         os.replace(tmp, target)
-    except BaseException:
+    except BaseException as exc:
         try:
             os.unlink(tmp)
         except OSError:
             pass
+        if isinstance(exc, OSError):
+            raise OutputError(f"{path}: cannot write the report ({exc.strerror or exc})") from None
         raise

@@ -19,7 +19,7 @@ import numpy as np
 from .assemble import build_truss
 from .audit.stability import PartStability, analyse_part
 from .audit.topology import audit_topology
-from .errors import InputError
+from .errors import ConfigError, InputError
 from .findings import Code, Finding, Severity, sort_findings
 from .loadsfile import LoadsSpec, read_loads_file
 from .model import Truss
@@ -97,6 +97,14 @@ def _sha256(path: str | os.PathLike[str]) -> str:
     return h.hexdigest()
 
 
+def _tolerance(text: str, unit: str, what: str) -> float:
+    """A tolerance option: a finite length, zero or more."""
+    value = parse_length(text, unit, what)
+    if value < 0:
+        raise ConfigError(f"{what}: {text!r} is negative; give a length of zero or more")
+    return value
+
+
 def check(
     path: str | os.PathLike[str],
     settings: Settings = Settings(),
@@ -150,7 +158,7 @@ def check(
     else:
         diag = 0.0
     if settings.snap is not None:
-        snap, snap_source = parse_length(settings.snap, unit, "--snap"), "option"
+        snap, snap_source = _tolerance(settings.snap, unit, "--snap"), "option"
     else:
         snap, snap_source = settings.snap_fraction * diag, f"{settings.snap_fraction:g} x extent diagonal"
     geometry = build_geometry(seg, linework.handles, linework.layers, snap=snap)
@@ -158,7 +166,7 @@ def check(
     stage("snap")
 
     if settings.near_miss is not None:
-        near, near_source = parse_length(settings.near_miss, unit, "--near-miss"), "option"
+        near, near_source = _tolerance(settings.near_miss, unit, "--near-miss"), "option"
     else:
         lengths = np.hypot(*(geometry.xy[geometry.ends[:, 1]] - geometry.xy[geometry.ends[:, 0]]).T)
         near = settings.near_miss_fraction * float(np.median(lengths)) if len(lengths) else 0.0

@@ -428,8 +428,13 @@ class _Inserts:
         if g is None:
             return self.mats[i][None]
         rows, cols, rs, cs, rotation, ux, uy = g
-        r = np.arange(rows if rs else 1, dtype=float) * rs
-        c = np.arange(cols if cs else 1, dtype=float) * cs
+        # a zero (or negative) count in either direction is an empty array: build nothing,
+        # not a billion offsets along the other direction
+        n_rows, n_cols = max(rows if rs else 1, 0), max(cols if cs else 1, 0)
+        if n_rows == 0 or n_cols == 0:
+            return np.zeros((0, 4, 4))
+        r = np.arange(n_rows, dtype=float) * rs
+        c = np.arange(n_cols, dtype=float) * cs
         ox = np.tile(c, len(r))
         oy = np.repeat(r, len(c))
         a = math.radians(rotation)

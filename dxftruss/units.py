@@ -111,9 +111,8 @@ def parse_quantity(text: str, known: dict[str, float], what: str) -> Quantity:
 def parse_length(text: str, drawing_unit: str, what: str = "length") -> float:
     """A length in drawing units; a bare number is already in drawing units."""
     q = parse_quantity(text, LENGTH_UNITS, what)
-    if q.unit is None:
-        return q.value
-    return q.value * LENGTH_UNITS[q.unit] / LENGTH_UNITS[drawing_unit]
+    value = q.value if q.unit is None else q.value * LENGTH_UNITS[q.unit] / LENGTH_UNITS[drawing_unit]
+    return _finite(value, text, what)
 
 
 def parse_force(text: str | float | int, force_unit: str, what: str = "force") -> float:
@@ -125,9 +124,8 @@ def parse_force(text: str | float | int, force_unit: str, what: str = "force") -
             raise ConfigError(f"{what}: {text!r} is not a finite number")
         return float(text)
     q = parse_quantity(text, FORCE_UNITS, what)
-    if q.unit is None:
-        return q.value
-    return q.value * FORCE_UNITS[q.unit] / FORCE_UNITS[force_unit]
+    value = q.value if q.unit is None else q.value * FORCE_UNITS[q.unit] / FORCE_UNITS[force_unit]
+    return _finite(value, text, what)
 
 
 def parse_si(text: str | float | int, table: dict[str, float], what: str) -> float:
@@ -137,7 +135,14 @@ def parse_si(text: str | float | int, table: dict[str, float], what: str) -> flo
     q = parse_quantity(text, table, what)
     if q.unit is None:
         raise ConfigError(f"{what}: {text!r} has no unit (known units: {', '.join(table)})")
-    return q.value * table[q.unit]
+    return _finite(q.value * table[q.unit], text, what)
+
+
+def _finite(value: float, text: object, what: str) -> float:
+    """``value`` if it is finite after conversion ("1e308 MN" in kN is not)."""
+    if not math.isfinite(value):
+        raise ConfigError(f"{what}: {text!r} is too large to represent")
+    return value
 
 
 def check_unit_name(name: object, table: dict[str, float], what: str) -> str:

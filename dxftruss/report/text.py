@@ -32,15 +32,14 @@ def summary(result, *, max_findings: int = 40, width: int = 110, color: bool = F
     )
     t = result.truss
     src = result.source
-    con.print(Text(f"dxftruss check: {src.path}", style="bold"))
-    con.print(
-        Text(
-            f"sha256 {src.sha256[:16]}  DXF {src.dxf_version}  units {src.length_unit} ({src.unit_source})  "
-            f"{t.n_joints} joints, {t.n_members} members, {len(t.supports)} supports, {len(t.cases)} load case(s)"
-        )
+    # the header lines are written whole (never wrapped), so a path can be copied
+    buf.write(f"dxftruss check: {src.path}\n")
+    buf.write(
+        f"sha256 {src.sha256[:16]}  DXF {src.dxf_version}  units {src.length_unit} ({src.unit_source})  "
+        f"{t.n_joints} joints, {t.n_members} members, {len(t.supports)} supports, {len(t.cases)} load case(s)\n"
     )
     if src.recovered:
-        con.print(Text("the file was damaged and repaired on reading: the geometry may be wrong", style="bold red"))
+        buf.write("REPAIRED ON READING: the file was damaged; the geometry may be wrong (see recovered-file)\n")
 
     parts = Table(box=box.SIMPLE_HEAD, title="parts", title_justify="left", pad_edge=False)
     for col in ("part", "j", "m", "r", "rank", "mechanisms", "self-stress", "verdict"):
