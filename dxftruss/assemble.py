@@ -108,6 +108,17 @@ def _nearest(tree: cKDTree | None, p: tuple[float, float]) -> tuple[float, int]:
     return float(d), int(i)
 
 
+def _nearest_many(tree: cKDTree | None, points: list[tuple[float, float]]) -> tuple[list[float], list[int]]:
+    """:func:`_nearest` for many points in one query (loads files can be long)."""
+    if tree is None or not points:
+        return [float("inf")] * len(points), [-1] * len(points)
+    d, i = tree.query(np.asarray(points, dtype=float))
+    bad = ~np.isfinite(d) | (i >= tree.n)
+    d = np.where(bad, np.inf, d)
+    i = np.where(bad, -1, i)
+    return d.tolist(), [int(v) for v in i]
+
+
 def build_truss(
     geometry: Geometry,
     linework: LineWork,
@@ -144,8 +155,8 @@ def build_truss(
         fixes[j].update(mark.fix.directions)
         sources.setdefault(j, Source.DRAWING)
     if spec:
-        for entry in spec.supports:
-            d, j = _nearest(tree, entry.at)
+        sup_d, sup_j = _nearest_many(tree, [e.at for e in spec.supports])
+        for entry, d, j in zip(spec.supports, sup_d, sup_j):
             if d > near_miss:
                 where = f"{spec.path}: [[support]] #{entry.number} at {list(entry.at)}"
                 raise ConfigError(
@@ -215,8 +226,8 @@ def build_truss(
         u = vec / length
         case_loads[mark.case].append(Load(j, float(value * u[0]), float(value * u[1]), Source.DRAWING))
     if spec:
-        for entry in spec.loads:
-            d, j = _nearest(tree, entry.at)
+        load_d, load_j = _nearest_many(tree, [e.at for e in spec.loads])
+        for entry, d, j in zip(spec.loads, load_d, load_j):
             if d > near_miss:
                 where = f"{spec.path}: [[load]] #{entry.number} at {list(entry.at)}"
                 raise ConfigError(

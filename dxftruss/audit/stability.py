@@ -248,11 +248,24 @@ def _gap(values: np.ndarray, n_nonzero: int) -> float | None:
     return math.inf if nxt == 0.0 else float(values[n_nonzero - 1]) / nxt
 
 
-def _dense(A: sp.spmatrix) -> _Drawn:
+def _dense(A: sp.spmatrix, *, near_mechanism_ratio: float = 0.0) -> _Drawn:
     rows, cols = A.shape
     if cols == 0:
         return _Drawn(0, np.eye(rows), None, None, None, None, "dense-svd", 0.0)
     Ad = A.toarray()
+    # Singular values alone cost about a third of a full SVD; the vectors are needed only
+    # when there is a mechanism (its modes) or a near-mechanism (where it is).
+    try:
+        values = la.svd(Ad, compute_uv=False, lapack_driver="gesdd")
+    except la.LinAlgError:
+        values = la.svd(Ad, compute_uv=False, lapack_driver="gesvd")
+    sigma_max = float(values[0])
+    tau = max(rows, cols) * _EPS * sigma_max
+    rank = int(np.count_nonzero(values > tau))
+    if rank == rows and sigma_max > 0 and float(values[rank - 1]) >= near_mechanism_ratio * sigma_max:
+        return _Drawn(
+            rank, np.zeros((rows, 0)), float(values[rank - 1]), sigma_max, _gap(values, rank), None, "dense-svd", tau
+        )
     U, sv, _ = _svd(Ad, full=cols < rows)
     sigma_max = float(sv[0])
     tau = max(rows, cols) * _EPS * sigma_max
@@ -602,7 +615,7 @@ def analyse_part(
     drawn: _Drawn | None = None
     reason = ""
     if rows <= dense_limit:
-        drawn = _dense(system.A)
+        drawn = _dense(system.A, near_mechanism_ratio=near_mechanism_ratio)
     elif generic.mechanisms <= max_sparse_nullity:
         try:
             drawn = _sparse(system, generic, max_sparse_nullity)
