@@ -111,7 +111,21 @@ def check(
     *,
     progress: Callable[[str], None] | None = None,
 ) -> Result:
-    """Run every stage on one drawing. Raises DxftrussError subclasses on bad input."""
+    """Run every stage on one drawing. Raises DxftrussError subclasses on bad input.
+
+    numpy's floating-point warnings are silenced: every stage checks finiteness itself
+    (invalid coordinates, solve residuals), and the warnings would only reach stderr.
+    """
+    with np.errstate(all="ignore"):
+        return _check(path, settings, progress=progress)
+
+
+def _check(
+    path: str | os.PathLike[str],
+    settings: Settings,
+    *,
+    progress: Callable[[str], None] | None,
+) -> Result:
     import time
 
     timings: dict[str, float] = {}

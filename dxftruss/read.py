@@ -1312,6 +1312,8 @@ def read_drawing(
             reader.run()
         except DXFError as exc:  # a structure the loader accepted but the walk cannot use
             raise InputError(f"{name}: damaged DXF ({type(exc).__name__}: {_one_line(exc)})") from None
+        except KeyError as exc:  # e.g. a binary file with no model space layout
+            raise InputError(f"{name}: damaged DXF (missing {_one_line(exc)} section or layout)") from None
         audit_failure = None
         if auditor is None:  # read as written first, then audit (see _load)
             auditor, audit_failure = _audit_after_reading(doc)
