@@ -108,15 +108,29 @@ def _nearest(tree: cKDTree | None, p: tuple[float, float]) -> tuple[float, int]:
     return float(d), int(i)
 
 
-def _nearest_many(tree: cKDTree | None, points: list[tuple[float, float]]) -> tuple[list[float], list[int]]:
-    """:func:`_nearest` for many points in one query (loads files can be long)."""
-    if tree is None or not points:
-        return [float("inf")] * len(points), [-1] * len(points)
-    d, i = tree.query(np.asarray(points, dtype=float))
-    bad = ~np.isfinite(d) | (i >= tree.n)
-    d = np.where(bad, np.inf, d)
-    i = np.where(bad, -1, i)
-    return d.tolist(), [int(v) for v in i]
+def _file_joints(
+    tree: cKDTree | None, xy: np.ndarray, spec: LoadsSpec, kind: str, near_miss: float, length_unit: str
+) -> list[int]:
+    """The joint of every ``[[support]]`` or ``[[load]]`` point of the loads file, in one
+    query (loads files can be long); a point with no joint within the near-miss radius
+    is a ConfigError naming the entry and the nearest joint."""
+    entries = spec.supports if kind == "support" else spec.loads
+    if not entries:
+        return []
+    if tree is None:
+        d, i = np.full(len(entries), np.inf), np.full(len(entries), -1)
+    else:
+        d, i = tree.query(np.asarray([e.at for e in entries], dtype=float))
+        bad = ~np.isfinite(d) | (i >= tree.n)
+        d, i = np.where(bad, np.inf, d), np.where(bad, -1, i)
+    for entry, dist, j in zip(entries, d, i):
+        if dist > near_miss:
+            where = f"{spec.path}: [[{kind}]] #{entry.number} at {list(entry.at)}"
+            raise ConfigError(
+                f"{where}: no joint within {near_miss:.6g} {length_unit}"
+                + (f"; nearest is {joint_id(int(j))} at {list(map(float, xy[j]))}, {dist:.6g} away" if j >= 0 else "")
+            )
+    return [int(j) for j in i]
 
 
 def build_truss(
@@ -155,14 +169,7 @@ def build_truss(
         fixes[j].update(mark.fix.directions)
         sources.setdefault(j, Source.DRAWING)
     if spec:
-        sup_d, sup_j = _nearest_many(tree, [e.at for e in spec.supports])
-        for entry, d, j in zip(spec.supports, sup_d, sup_j):
-            if d > near_miss:
-                where = f"{spec.path}: [[support]] #{entry.number} at {list(entry.at)}"
-                raise ConfigError(
-                    f"{where}: no joint within {near_miss:.6g} {length_unit}"
-                    + (f"; nearest is {joint_id(j)} at {list(map(float, xy[j]))}, {d:.6g} away" if j >= 0 else "")
-                )
+        for entry, j in zip(spec.supports, _file_joints(tree, xy, spec, "support", near_miss, length_unit)):
             fixes[j].update(entry.fix.directions)
             sources.setdefault(j, Source.LOADS_FILE)
     supports = [
@@ -226,14 +233,7 @@ def build_truss(
         u = vec / length
         case_loads[mark.case].append(Load(j, float(value * u[0]), float(value * u[1]), Source.DRAWING))
     if spec:
-        load_d, load_j = _nearest_many(tree, [e.at for e in spec.loads])
-        for entry, d, j in zip(spec.loads, load_d, load_j):
-            if d > near_miss:
-                where = f"{spec.path}: [[load]] #{entry.number} at {list(entry.at)}"
-                raise ConfigError(
-                    f"{where}: no joint within {near_miss:.6g} {length_unit}"
-                    + (f"; nearest is {joint_id(j)} at {list(map(float, xy[j]))}, {d:.6g} away" if j >= 0 else "")
-                )
+        for entry, j in zip(spec.loads, _file_joints(tree, xy, spec, "load", near_miss, length_unit)):
             case_loads[entry.case].append(Load(j, entry.fx, entry.fy, Source.LOADS_FILE))
 
     cases = [LoadCase(name, tuple(case_loads[name])) for name in sorted(case_loads)]

@@ -89,7 +89,8 @@ class Result:
         return any(f.severity is Severity.ERROR for f in self.findings)
 
 
-def _sha256(path: str | os.PathLike[str]) -> str:
+def file_sha256(path: str | os.PathLike[str]) -> str:
+    """Hex sha256 of a file, read in 1 MiB chunks."""
     h = hashlib.sha256()
     with open(path, "rb") as fh:
         for chunk in iter(lambda: fh.read(1 << 20), b""):
@@ -145,7 +146,7 @@ def _check(
     spec = read_loads_file(settings.loads) if settings.loads else None
     units_opt = check_unit_name(settings.units, LENGTH_UNITS, "--units") if settings.units else None
     linework = read_drawing(p, layers=settings.layers)
-    sha = _sha256(p)
+    sha = file_sha256(p)
     stage("read")
 
     findings: list[Finding] = list(linework.findings)

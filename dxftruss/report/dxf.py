@@ -23,7 +23,6 @@ What goes on the result layers (entities valid in every DXF version, R12 include
 
 from __future__ import annotations
 
-import hashlib
 import math
 import os
 import re
@@ -34,6 +33,7 @@ import numpy as np
 from ..errors import InputError
 from ..findings import Severity
 from ..model import joint_id
+from ..pipeline import file_sha256
 from .pdf import clean_reactions, fmt_force
 from .render import read_document
 
@@ -42,14 +42,6 @@ PREFIX = "DXFTRUSS"
 ACI_TENSION, ACI_COMPRESSION, ACI_ZERO = 5, 30, 8
 ACI_REACTION = 6
 ACI_SEVERITY = {Severity.ERROR: 1, Severity.WARNING: 6, Severity.INFO: 8}
-
-
-def _sha256(path: str | os.PathLike[str]) -> str:
-    h = hashlib.sha256()
-    with open(path, "rb") as fh:
-        for chunk in iter(lambda: fh.read(1 << 20), b""):
-            h.update(chunk)
-    return h.hexdigest()
 
 
 def _layer_part(text: str) -> str:
@@ -122,7 +114,7 @@ def write_dxf(
 
     src = result.source.path
     try:
-        if _sha256(src) != result.source.sha256:
+        if file_sha256(src) != result.source.sha256:
             raise InputError(f"{src}: the drawing changed after it was checked; run the check again")
         binary = is_binary_dxf_file(str(src))
         doc = read_document(src, recover=bool(result.source.recovered))

@@ -191,16 +191,13 @@ class _NullCanvas:
 
 
 def _file_sha256(path: str) -> str:
-    import hashlib
+    """The drawing's hash now, or "" when it cannot be read (then the original is not drawn)."""
+    from ..pipeline import file_sha256
 
-    h = hashlib.sha256()
     try:
-        with open(path, "rb") as fh:
-            for chunk in iter(lambda: fh.read(1 << 20), b""):
-                h.update(chunk)
+        return file_sha256(path)
     except OSError:
         return ""
-    return h.hexdigest()
 
 
 def _report_date() -> str:
