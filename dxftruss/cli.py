@@ -270,6 +270,18 @@ def main(argv: list[str] | None = None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
     if args.command == "check":
-        return run_check(args)
+        # The DXF document and the model are millions of small objects that live until the
+        # run ends; the cyclic garbage collector frees none of them but walks them again
+        # at every threshold (measured at 100k members: about 1.5 s of 12 s CPU, for
+        # +60 MB peak). Reference counting still frees everything that is dropped.
+        import gc
+
+        was_enabled = gc.isenabled()
+        gc.disable()
+        try:
+            return run_check(args)
+        finally:
+            if was_enabled:  # main() may be called in-process (tests, tools)
+                gc.enable()
     parser.print_help()
     return EXIT_INPUT

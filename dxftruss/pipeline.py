@@ -47,7 +47,7 @@ class Settings:
     #: default near-miss radius = this fraction of the median member length (SPEC 6)
     near_miss_fraction: float = 0.02
     #: parts with at most this many joint dofs get a dense SVD; larger ones the sparse path
-    dense_limit: int = 2400
+    dense_limit: int = 256
 
 
 @dataclass(frozen=True)

@@ -196,13 +196,21 @@ def build_geometry(
     inverse = inverse.reshape(-1)
     ends = np.column_stack([lo_end[first], hi_end[first]])
     m = len(uniq_key)
-    member_handles: list[set[str]] = [set() for _ in range(m)]
-    member_layers: list[set[str]] = [set() for _ in range(m)]
-    for piece, e in enumerate(inverse):
-        member_handles[e].add(handles[src[piece]])
-        member_layers[e].add(layers[src[piece]])
-    out_layers = tuple(min(ls) for ls in member_layers)
-    out_handles = tuple(tuple(sorted(hs)) for hs in member_handles)
+    src_list, inv_list = src.tolist(), inverse.tolist()  # Python ints: no numpy scalars in the loops
+    if len(inv_list) == m:  # each member from exactly one drawn piece (the usual case)
+        row = [0] * m
+        for s, e in zip(src_list, inv_list):
+            row[e] = s
+        out_layers = tuple(layers[s] for s in row)
+        out_handles = tuple((handles[s],) for s in row)
+    else:
+        member_handles: list[set[str]] = [set() for _ in range(m)]
+        member_layers: list[set[str]] = [set() for _ in range(m)]
+        for s, e in zip(src_list, inv_list):
+            member_handles[e].add(handles[s])
+            member_layers[e].add(layers[s])
+        out_layers = tuple(min(ls) for ls in member_layers)
+        out_handles = tuple(tuple(sorted(hs)) for hs in member_handles)
 
     for e in np.flatnonzero(counts > 1):
         i, k = ends[e]
@@ -220,8 +228,9 @@ def build_geometry(
 
     # members made from each split line, for the split-member finding
     by_src: dict[int, list[int]] = defaultdict(list)
-    for piece, s in enumerate(src):
-        by_src[int(s)].append(int(inverse[piece]))
+    if split_info:
+        for s, e in zip(src_list, inv_list):
+            by_src[s].append(e)
     for s, chain in split_info:
         row = int(live[s])
         joints = tuple(int(new_id[j]) for j in chain)

@@ -578,7 +578,7 @@ def analyse_part(
     truss: Truss,
     part: Part,
     *,
-    dense_limit: int = 2400,
+    dense_limit: int = 256,
     rank_gap: float = 1e4,
     near_mechanism_ratio: float = 1e-4,
     near_straight_sin: float = math.sin(1e-3),

@@ -78,7 +78,6 @@ def near_misses(truss: Truss, *, near_miss: float, snap: float) -> list[Finding]
     out: list[Finding] = []
     if len(xy) < 2 or near_miss <= 0:
         return out
-    linked = {(int(a), int(b)) for a, b in ends}
     tree_j = cKDTree(xy)
     # count first (dual-tree counting does not enumerate): a dense knot of joints must
     # not make the listing quadratic
@@ -86,10 +85,12 @@ def near_misses(truss: Truss, *, near_miss: float, snap: float) -> list[Finding]
     pairs = tree_j.query_pairs(near_miss, output_type="ndarray") if n_close <= MAX_PAIRS else np.zeros((0, 2), int)
     if n_close > MAX_PAIRS:
         out.append(_more(Code.NEAR_MISS, 0, n_close, "pairs of joints closer than the near-miss radius"))
-    for a, b in pairs[:MAX_LISTED]:
-        a, b = (int(a), int(b)) if a < b else (int(b), int(a))
-        if (a, b) in linked:
-            continue
+    if len(pairs):  # drop pairs joined by a member: integer pair keys, no Python set of every member
+        n = len(xy)
+        pairs = np.sort(pairs, axis=1)
+        linked = np.sort(ends, axis=1)
+        pairs = pairs[~np.isin(pairs[:, 0] * n + pairs[:, 1], linked[:, 0] * n + linked[:, 1])]
+    for a, b in pairs[:MAX_LISTED].tolist():
         gap = float(np.hypot(*(xy[a] - xy[b])))
         out.append(
             Finding(

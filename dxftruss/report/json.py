@@ -26,6 +26,11 @@ def _num(x: float) -> float | None:
     return 0.0 if y == 0 else y
 
 
+def _nums(values: Any) -> list[float | None]:
+    """:func:`_num` of every element of an array (one conversion to Python floats first)."""
+    return [_num(x) for x in np.asarray(values, dtype=float).ravel().tolist()]
+
+
 def _jsonable(v: Any) -> Any:
     if isinstance(v, dict):
         return {str(k): _jsonable(x) for k, x in v.items()}
@@ -45,7 +50,10 @@ def _jsonable(v: Any) -> Any:
 def report_dict(result) -> dict[str, Any]:  # type: ignore[no-untyped-def]
     """The report as plain JSON-ready data."""
     t = result.truss
-    lengths = t.lengths()
+    lengths = _nums(t.lengths())
+    xs, ys = _nums(t.xy[:, 0]), _nums(t.xy[:, 1])
+    jid = [joint_id(i) for i in range(t.n_joints)]
+    mid = [member_id(e) for e in range(t.n_members)]
     src = result.source
     s = result.settings
     tol = result.tolerances
@@ -70,16 +78,16 @@ def report_dict(result) -> dict[str, Any]:  # type: ignore[no-untyped-def]
             "force_unit": t.force_unit,
         },
         "assumptions": assumptions(result),
-        "joints": [{"id": joint_id(i), "x": _num(x), "y": _num(y)} for i, (x, y) in enumerate(t.xy)],
+        "joints": [{"id": jid[i], "x": xs[i], "y": ys[i]} for i in range(len(jid))],
         "members": [
             {
-                "id": member_id(e),
-                "joints": [joint_id(int(a)), joint_id(int(b))],
-                "length": _num(lengths[e]),
+                "id": mid[e],
+                "joints": [jid[a], jid[b]],
+                "length": lengths[e],
                 "layer": t.layers[e],
                 "handles": list(t.handles[e]),
             }
-            for e, (a, b) in enumerate(t.ends)
+            for e, (a, b) in enumerate(t.ends.tolist())
         ],
         "supports": [
             {"joint": joint_id(sp.joint), "fix": sp.fix.value, "assumed": sp.assumed, "source": sp.source.value}
@@ -88,8 +96,8 @@ def report_dict(result) -> dict[str, Any]:  # type: ignore[no-untyped-def]
         "parts": [
             {
                 "id": p.index + 1,
-                "joints": [joint_id(int(j)) for j in p.joints],
-                "members": [member_id(int(e)) for e in p.members],
+                "joints": [jid[j] for j in p.joints.tolist()],
+                "members": [mid[e] for e in p.members.tolist()],
                 "j": st.j,
                 "m": st.m,
                 "r": st.r,
@@ -134,7 +142,7 @@ def _case(result, c) -> dict[str, Any]:  # type: ignore[no-untyped-def]
         "combination": {k: _num(v) for k, v in c.factors} if c.factors else None,
         "loads": [{"joint": joint_id(ld.joint), "fx": _num(ld.fx), "fy": _num(ld.fy)} for ld in case.loads],
         "reactions": [{"joint": joint_id(j), "fx": _num(rx), "fy": _num(ry)} for j, rx, ry in c.reactions],
-        "forces": {member_id(e): _num(v) for e, v in enumerate(c.forces)},
+        "forces": dict(zip((member_id(e) for e in range(len(c.forces))), _nums(c.forces))),
         "zero_force": {
             "by_rule": [member_id(e) for e in c.zero_by_rule],
             "by_solution": [member_id(e) for e in c.zero_by_solution],
@@ -151,4 +159,5 @@ def _case(result, c) -> dict[str, Any]:  # type: ignore[no-untyped-def]
 
 
 def to_json(result) -> str:  # type: ignore[no-untyped-def]
-    return json.dumps(report_dict(result), indent=1, ensure_ascii=False, allow_nan=False) + "\n"
+    # no indent: json's C encoder is used only without one (3-5x faster on large reports)
+    return json.dumps(report_dict(result), ensure_ascii=False, allow_nan=False, separators=(",", ":")) + "\n"
