@@ -68,6 +68,13 @@ def build_parser() -> argparse.ArgumentParser:
         default=[],
         help="only members on layers matching GLOB, e.g. 'TRUSS*'; repeat for more globs",
     )
+    c.add_argument(
+        "--max-parts",
+        metavar="N",
+        type=int,
+        default=5000,
+        help="refuse drawings whose lines fall into more than N separate parts (default 5000)",
+    )
     c.add_argument("--page", choices=["A4", "A3", "letter", "tabloid"], default="A3", help="PDF page size (default A3)")
     c.add_argument("--quiet", action="store_true", help="print nothing but errors")
     return parser
@@ -119,7 +126,12 @@ def check_one(args: argparse.Namespace, drawing: str, many: bool) -> tuple[int, 
             if out:
                 check_output_path(out, inputs, what)
         settings = Settings(
-            snap=args.snap, near_miss=args.near_miss, units=args.units, layers=tuple(args.layers), loads=args.loads
+            snap=args.snap,
+            near_miss=args.near_miss,
+            units=args.units,
+            layers=tuple(args.layers),
+            loads=args.loads,
+            max_parts=args.max_parts,
         )
         result = _check_with_progress(drawing, settings, show=not args.quiet and not many)
         from .report.text import summary

@@ -75,12 +75,13 @@ def part_system(truss: Truss, part: Part) -> PartSystem:
     lengths = np.hypot(d[:, 0], d[:, 1])
     with np.errstate(invalid="ignore", divide="ignore"):
         unit = d / lengths[:, None]
-    in_part = np.zeros(truss.n_joints, dtype=bool)
-    in_part[joints] = True
-    restraints = np.array(
-        [(s.joint, k) for s in sorted(truss.supports, key=lambda s: s.joint) if in_part[s.joint] for k in s.fix.directions],
-        dtype=np.int64,
-    ).reshape(-1, 2)
+    # the part's restraints, found per joint in the truss's sorted table: O(j log r) per
+    # part, so a drawing of thousands of parts does not rescan every support each time
+    table = truss.restraints
+    lo = np.searchsorted(table[:, 0], joints, side="left")
+    count = np.searchsorted(table[:, 0], joints, side="right") - lo
+    starts = np.repeat(lo - (np.cumsum(count) - count), count)
+    restraints = table[starts + np.arange(int(count.sum()))].reshape(-1, 2)
     m, r, nj = members.size, restraints.shape[0], joints.size
     cols = np.arange(m)
     rows_b = np.concatenate([2 * ends[:, 0], 2 * ends[:, 0] + 1, 2 * ends[:, 1], 2 * ends[:, 1] + 1])

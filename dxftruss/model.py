@@ -134,6 +134,12 @@ class Truss:
     force_unit: str
     sections: tuple[Section, ...] = ()
     findings: tuple[Finding, ...] = field(default=())
+    #: (r, 2) int: joint and direction (0 = x, 1 = y) of every restraint, sorted; derived
+    restraints: np.ndarray = field(init=False, repr=False, compare=False)
+
+    def __post_init__(self) -> None:
+        rows = sorted((s.joint, k) for s in self.supports for k in s.fix.directions)
+        object.__setattr__(self, "restraints", np.array(rows, dtype=np.int64).reshape(-1, 2))
 
     @property
     def n_joints(self) -> int:

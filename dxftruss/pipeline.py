@@ -19,7 +19,7 @@ import numpy as np
 from .assemble import build_truss
 from .audit.stability import PartStability, analyse_part
 from .audit.topology import audit_topology
-from .errors import ConfigError, InputError
+from .errors import ConfigError, InputError, LimitError
 from .findings import Code, Finding, Severity, sort_findings
 from .loadsfile import LoadsSpec, read_loads_file
 from .model import Truss
@@ -46,6 +46,9 @@ class Settings:
     snap_fraction: float = 1e-6
     #: default near-miss radius = this fraction of the median member length (SPEC 6)
     near_miss_fraction: float = 0.02
+    #: refuse drawings that fall into more separate parts than this (--max-parts): each
+    #: part is analysed alone, and tens of thousands of loose lines are not a truss
+    max_parts: int = 5000
     #: parts with at most this many joint dofs get a dense SVD; larger ones the sparse path
     dense_limit: int = 256
 
@@ -192,6 +195,11 @@ def _check(
     truss = build_truss(
         geometry, linework, spec, near_miss=near, length_unit=unit, outline_tol=max(10 * snap, 1e-9 * diag)
     )
+    if len(truss.parts) > settings.max_parts:
+        raise LimitError(
+            f"{path}: the line work falls into {len(truss.parts):,} separate parts, more than the limit of "
+            f"{settings.max_parts:,}; raise it with --max-parts if the drawing is genuine"
+        )
     findings += truss.findings
     findings += audit_topology(truss, snap=snap, near_miss=near)
     stage("model")

@@ -86,3 +86,13 @@ def test_help_explains_every_option():
     for opt in ("--loads", "--pdf", "--dxf", "--json", "--snap", "--near-miss", "--units", "--layers", "--quiet"):
         assert opt in out
     assert "example" in out
+
+
+def test_too_many_parts_is_a_clear_refusal_with_a_limit_to_raise(tmp_path, capsys):
+    # six loose lines are six parts; with --max-parts 5 the run is refused, not slowed
+    segs = [(10.0 * i, 0.0, 10.0 * i + 5.0, 0.0) for i in range(6)]
+    dxf = write_drawing(tmp_path / "loose.dxf", segs)
+    assert main(["check", str(dxf), "--json", str(tmp_path / "o.json"), "--max-parts", "5"]) == 2
+    err = capsys.readouterr().err
+    assert "6 separate parts" in err and "--max-parts" in err
+    assert main(["check", str(dxf), "--json", str(tmp_path / "o.json"), "--max-parts", "6", "--quiet"]) == 1

@@ -8,6 +8,7 @@ trusses (rule set must be a subset of the solution set, SPEC 8).
 
 from __future__ import annotations
 
+import dataclasses
 import math
 
 import numpy as np
@@ -364,7 +365,7 @@ def test_rule_members_are_exactly_zero_in_rotated_copy() -> None:
     rot = np.array([[math.cos(theta), -math.sin(theta)], [math.sin(theta), math.cos(theta)]])
     pins = (Support(0, Fix.XY), Support(6, Fix.XY))
     loads = tuple(Load(ld.joint, *(rot @ np.array([ld.fx, ld.fy]))) for ld in case.loads)
-    base = Truss(**{**truss.__dict__, "supports": pins})
-    turned = Truss(**{**truss.__dict__, "supports": pins, "xy": truss.xy @ rot.T})
+    base = dataclasses.replace(truss, **{"supports": pins})
+    turned = dataclasses.replace(truss, **{"supports": pins, "xy": truss.xy @ rot.T})
     assert zero_force_by_rule(base, case) == zero_force_by_rule(turned, LoadCase("r", loads))
     assert idx["V3"] in zero_force_by_rule(turned, LoadCase("r", loads))
