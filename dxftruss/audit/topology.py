@@ -57,9 +57,12 @@ def dangling_members(truss: Truss) -> list[Finding]:
     deg = np.bincount(truss.ends.reshape(-1), minlength=truss.n_joints)
     supported = np.zeros(truss.n_joints, dtype=bool)
     supported[[s.joint for s in truss.supports]] = True
+    owner = np.full(truss.n_joints, -1, dtype=np.int64)  # of a degree-1 joint: its only member
+    owner[truss.ends[:, 1]] = np.arange(truss.n_members)
+    owner[truss.ends[:, 0]] = np.arange(truss.n_members)
     out = []
     for j in np.flatnonzero((deg == 1) & ~supported):
-        e = int(np.flatnonzero((truss.ends == j).any(axis=1))[0])
+        e = int(owner[j])
         out.append(
             Finding(
                 Code.DANGLING_MEMBER,
