@@ -301,6 +301,17 @@ def pebble_game(
     indep = np.zeros(n_edges, dtype=bool)
     deg = [0] * n
     sets = _RigidSets(n) if track_rigid_sets else None
+
+    def accept(e: int, u: int, v: int) -> None:
+        """Insert bar e as independent: spend one of u's pebbles, orient it u -> v."""
+        peb[u] -= 1
+        out[u].append(v)
+        deg[u] += 1
+        deg[v] += 1
+        indep[e] = True
+        if sets is not None:
+            sets.accepted(u, v)
+
     for e in seq.tolist():
         u = us[e]
         v = vs[e]
@@ -317,13 +328,7 @@ def pebble_game(
         if deg[v] <= 1 and peb[v] and not (deg[v] and _touches(out, v, u)):
             u, v = v, u
         if deg[u] <= 1 and peb[u] and not (deg[u] and _touches(out, u, v)):
-            peb[u] -= 1
-            out[u].append(v)
-            deg[u] += 1
-            deg[v] += 1
-            indep[e] = True
-            if sets is not None:
-                sets.accepted(u, v)
+            accept(e, u, v)
             continue
         failed = None
         while peb[u] < 2:
@@ -341,13 +346,7 @@ def pebble_game(
             if sets is not None:
                 sets.tight(failed)
             continue
-        peb[u] -= 1
-        out[u].append(v)
-        deg[u] += 1
-        deg[v] += 1
-        indep[e] = True
-        if sets is not None:
-            sets.accepted(u, v)
+        accept(e, u, v)
     return PebbleGame(n, indep, int(sum(peb)), out, peb)
 
 
