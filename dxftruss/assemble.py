@@ -200,6 +200,8 @@ def build_truss(
     texts_by_layer: dict[str, list] = defaultdict(list)
     for t in linework.texts:
         texts_by_layer[t.layer.upper()].append(t)
+    labels = {layer: _Labels(texts) for layer, texts in texts_by_layer.items()}
+    no_labels = _Labels([])
     for mark in linework.loads:
         d0, j0 = _nearest(tree, mark.start)
         d1, j1 = _nearest(tree, mark.end)
@@ -217,7 +219,7 @@ def build_truss(
             continue
         vec = np.subtract(head, tail)
         length = float(np.hypot(*vec))
-        label, value = _nearest_label(texts_by_layer[mark.layer.upper()], mark.start, mark.end, force_unit)
+        label, value = labels.get(mark.layer.upper(), no_labels).nearest(mark.start, mark.end, force_unit)
         if value is None or length == 0:
             findings.append(
                 Finding(
@@ -284,18 +286,42 @@ def build_truss(
     )
 
 
-def _nearest_label(texts: list, start: tuple[float, float], end: tuple[float, float], force_unit: str):
-    """The text nearest to the segment start-end and the force it holds (or None)."""
-    if not texts:
-        return None, None
-    p = np.array([[t.x, t.y] for t in texts])
-    a, b = np.asarray(start, float), np.asarray(end, float)
-    d = b - a
-    dd = float(d @ d)
-    t = np.clip(((p - a) @ d) / dd, 0.0, 1.0) if dd > 0 else np.zeros(len(p))
-    dist = np.hypot(*(p - (a + t[:, None] * d)).T)
-    best = texts[int(np.argmin(dist))]
-    return best.text, force_from_text(best.text, force_unit)
+class _Labels:
+    """The load labels of one layer with a k-d tree, for "the nearest text to a line"."""
+
+    #: at most this many texts are measured exactly per load line (bounded work when a
+    #: drawing holds thousands of labels around very long load lines)
+    MAX_CANDIDATES = 256
+
+    def __init__(self, texts: list) -> None:
+        self.texts = texts
+        self.xy = np.array([[t.x, t.y] for t in texts], dtype=float).reshape(-1, 2)
+        self.tree = cKDTree(self.xy) if len(texts) else None
+
+    def nearest(self, start: tuple[float, float], end: tuple[float, float], force_unit: str):  # type: ignore[no-untyped-def]
+        """The text nearest to the segment start-end and the force it holds (or None).
+
+        Candidates: every text within (distance from the midpoint to its nearest text +
+        half the length) of the midpoint - the nearest text to the segment is among them.
+        """
+        if self.tree is None:
+            return None, None
+        a, b = np.asarray(start, float), np.asarray(end, float)
+        mid, d = (a + b) / 2, b - a
+        d0, _ = self.tree.query(mid)
+        if not np.isfinite(d0):
+            return None, None
+        cand = np.asarray(self.tree.query_ball_point(mid, d0 + float(np.hypot(*d)) / 2 + 1e-12), dtype=np.int64)
+        if len(cand) > self.MAX_CANDIDATES or len(cand) == 0:
+            _, cand = self.tree.query(mid, k=min(self.MAX_CANDIDATES, len(self.texts)))
+            cand = np.atleast_1d(cand)
+        p = self.xy[cand]
+        dd = float(d @ d)
+        t = np.clip(((p - a) @ d) / dd, 0.0, 1.0) if dd > 0 else np.zeros(len(p))
+        dist = np.hypot(*(p - (a + t[:, None] * d)).T)
+        order = np.lexsort((cand, dist))  # ties: the earlier text in the drawing
+        best = self.texts[int(cand[order[0]])]
+        return best.text, force_from_text(best.text, force_unit)
 
 
 def section_for(layer: str, sections: tuple) -> int | None:

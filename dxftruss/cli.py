@@ -75,6 +75,13 @@ def build_parser() -> argparse.ArgumentParser:
         default=5000,
         help="refuse drawings whose lines fall into more than N separate parts (default 5000)",
     )
+    c.add_argument(
+        "--max-members",
+        metavar="N",
+        type=int,
+        default=250_000,
+        help="refuse drawings with more than N members (default 250000)",
+    )
     c.add_argument("--page", choices=["A4", "A3", "letter", "tabloid"], default="A3", help="PDF page size (default A3)")
     c.add_argument("--quiet", action="store_true", help="print nothing but errors")
     return parser
@@ -132,6 +139,7 @@ def check_one(args: argparse.Namespace, drawing: str, many: bool) -> tuple[int, 
             layers=tuple(args.layers),
             loads=args.loads,
             max_parts=args.max_parts,
+            max_members=args.max_members,
         )
         result = _check_with_progress(drawing, settings, show=not args.quiet and not many)
         from .report.text import summary

@@ -49,6 +49,9 @@ class Settings:
     #: refuse drawings that fall into more separate parts than this (--max-parts): each
     #: part is analysed alone, and tens of thousands of loose lines are not a truss
     max_parts: int = 5000
+    #: refuse drawings with more members than this (--max-members): bounded run time;
+    #: the benchmark's 100k-member drawings take about 10 s
+    max_members: int = 250_000
     #: parts with at most this many joint dofs get a dense SVD; larger ones the sparse path
     dense_limit: int = 256
 
@@ -179,7 +182,15 @@ def _check(
         snap, snap_source = _tolerance(settings.snap, unit, "--snap"), "option"
     else:
         snap, snap_source = settings.snap_fraction * diag, f"{settings.snap_fraction:g} x extent diagonal"
+    limit_hint = "raise it with --max-members if the drawing is genuine"
+    if len(seg) > settings.max_members:
+        raise LimitError(f"{path}: {len(seg):,} line segments, more than the limit of {settings.max_members:,} members; {limit_hint}")
     geometry = build_geometry(seg, linework.handles, linework.layers, snap=snap)
+    if len(geometry.ends) > settings.max_members:
+        raise LimitError(
+            f"{path}: {len(geometry.ends):,} members after splitting at joints, more than the limit of "
+            f"{settings.max_members:,}; {limit_hint}"
+        )
     findings += geometry.findings
     stage("snap")
 

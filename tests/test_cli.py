@@ -97,3 +97,11 @@ def test_too_many_parts_is_a_clear_refusal_with_a_limit_to_raise(tmp_path, capsy
     assert "6 separate parts" in err and "--max-parts" in err
     # each bar on its assumed pin and roller is determinate (j = 2, m = 1, r = 3): a clean run
     assert main(["check", str(dxf), "--json", str(tmp_path / "o.json"), "--max-parts", "6", "--quiet"]) == 0
+
+
+def test_too_many_members_is_a_clear_refusal_with_a_limit_to_raise(tmp_path, capsys):
+    dxf = write_drawing(tmp_path / "roof.dxf", pratt_segments())  # 25 members
+    assert main(["check", str(dxf), "--json", str(tmp_path / "o.json"), "--max-members", "20"]) == 2
+    err = capsys.readouterr().err
+    assert "more than the limit of 20" in err and "--max-members" in err
+    assert main(["check", str(dxf), "--json", str(tmp_path / "o.json"), "--max-members", "25", "--quiet"]) == 0
