@@ -79,7 +79,11 @@ def _unknown(where: str, table: dict[str, Any], kind: str) -> None:
         raise ConfigError(f"{where}: unknown key {extra[0]!r} (known keys: {', '.join(sorted(_KEYS[kind]))})")
 
 
-def _point(where: str, value: object) -> tuple[float, float]:
+def _at(where: str, table: dict[str, Any]) -> tuple[float, float]:
+    """The entry's 'at' point: present, a pair of finite numbers."""
+    if "at" not in table:
+        raise ConfigError(f"{where}: 'at' is missing")
+    value = table["at"]
     if (
         not isinstance(value, list)
         or len(value) != 2
@@ -134,25 +138,23 @@ def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:
     for i, t in enumerate(_tables(name, data, "support"), 1):
         where = f"{name}: [[support]] #{i}"
         _unknown(where, t, "support")
-        if "at" not in t:
-            raise ConfigError(f"{where}: 'at' is missing")
+        at = _at(where, t)
         fix = t.get("fix", "xy")
         if not isinstance(fix, str) or fix.lower() not in ("xy", "x", "y"):
             raise ConfigError(f"{where}: 'fix' must be \"xy\", \"x\" or \"y\", got {fix!r}")
-        supports.append(SupportEntry(i, _point(where, t["at"]), Fix(fix.lower())))
+        supports.append(SupportEntry(i, at, Fix(fix.lower())))
 
     loads = []
     for i, t in enumerate(_tables(name, data, "load"), 1):
         where = f"{name}: [[load]] #{i}"
         _unknown(where, t, "load")
-        if "at" not in t:
-            raise ConfigError(f"{where}: 'at' is missing")
+        at = _at(where, t)
         case = t.get("case", DEFAULT_CASE)
         if not isinstance(case, str) or not case.strip():
             raise ConfigError(f"{where}: 'case' must be a non-empty string, got {case!r}")
         fx = parse_force(t.get("fx", 0.0), force_unit, f"{where} fx")
         fy = parse_force(t.get("fy", 0.0), force_unit, f"{where} fy")
-        loads.append(LoadEntry(i, _point(where, t["at"]), fx, fy, case.strip()))
+        loads.append(LoadEntry(i, at, fx, fy, case.strip()))
 
     case_names = {ld.case for ld in loads}
     combos = []
