@@ -108,6 +108,11 @@ def _nearest(tree: cKDTree | None, p: tuple[float, float]) -> tuple[float, int]:
     return float(d), int(i)
 
 
+def _nearest_note(d: float, j: int) -> str:
+    """": nearest joint J3 is 12.5 away" for a drawn mark off its joint ("" when none)."""
+    return f": nearest joint {joint_id(j)} is {d:.6g} away" if j >= 0 else ""
+
+
 def _file_joints(
     tree: cKDTree | None, xy: np.ndarray, spec: LoadsSpec, kind: str, near_miss: float, length_unit: str
 ) -> list[int]:
@@ -158,8 +163,7 @@ def build_truss(
             findings.append(
                 Finding(
                     Code.SUPPORT_OFF_JOINT,
-                    f"support ({mark.layer}, handle {mark.handle}) is not on a joint"
-                    + (f": nearest joint {joint_id(j)} is {d:.6g} away" if j >= 0 else ""),
+                    f"support ({mark.layer}, handle {mark.handle}) is not on a joint" + _nearest_note(d, j),
                     joints=(j,) if j >= 0 else (),
                     at=(mark.x, mark.y),
                     data={"handle": mark.handle, "distance": d if j >= 0 else None},
@@ -210,8 +214,7 @@ def build_truss(
             findings.append(
                 Finding(
                     Code.LOAD_OFF_JOINT,
-                    f"load line ({mark.layer}, handle {mark.handle}) has neither end on a joint"
-                    + (f": nearest joint {joint_id(j)} is {d:.6g} away" if j >= 0 else ""),
+                    f"load line ({mark.layer}, handle {mark.handle}) has neither end on a joint" + _nearest_note(d, j),
                     at=head,
                     data={"handle": mark.handle, "case": mark.case},
                 )
