@@ -1,0 +1,95 @@
+"""Names and text from a file, made safe to show and to write back.
+
+Glossary:
+    shown text     what reaches a terminal or a one-line error: every character that
+                   could move the cursor, change colours, reorder the line or hide
+                   itself is written visibly as a backslash escape (``\\x1b``,
+                   ``\\u202e``), so a drawing cannot overwrite the verdict line.
+    DXF name       a layer or block name the annotated DXF may carry: DXF forbids the
+                   characters ``<>/\\":;?*|=`` and control characters in table names;
+                   :func:`dxf_name` maps a name to a legal one (each forbidden character
+                   becomes ``_``) and the report lists every name it changed.
+
+One function per job; every printer in the command line and every report that writes
+names from the drawing goes through them.
+"""
+
+from __future__ import annotations
+
+import re
+import unicodedata
+
+#: characters that change how a line is shown without being printed themselves:
+#: bidirectional embeddings, overrides and isolates, marks, and zero-width characters
+_INVISIBLE = frozenset(
+    "\u061c\u200b\u200c\u200d\u200e\u200f\u202a\u202b\u202c\u202d\u202e\u2060\u2066\u2067\u2068\u2069\ufeff"
+)
+
+
+def _escape_char(ch: str) -> str:
+    o = ord(ch)
+    if o < 0x100:
+        return f"\\x{o:02x}"
+    if o < 0x10000:
+        return f"\\u{o:04x}"
+    return f"\\U{o:08x}"
+
+
+def _needs_escape(ch: str) -> bool:
+    o = ord(ch)
+    if o < 0x20 or 0x7F <= o < 0xA0:  # C0, DEL, C1 (ESC, CSI, CR, LF, BEL ...)
+        return True
+    if 0xD800 <= o < 0xE000:  # lone surrogates: bytes that were not valid UTF-8
+        return True
+    if ch in _INVISIBLE:
+        return True
+    cat = unicodedata.category(ch)
+    return cat in ("Zl", "Zp", "Cs", "Co") or (cat == "Cf" and o != 0xAD)
+
+
+def shown(text: object) -> str:
+    """``text`` with every control, format and bidi character written as an escape.
+
+    >>> shown("ROOF\\x1b[2J")
+    'ROOF\\\\x1b[2J'
+    """
+    s = str(text)
+    if s.isprintable() and not any(c in _INVISIBLE for c in s):
+        return s
+    out = []
+    for ch in s:
+        if _needs_escape(ch):
+            if 0xDC80 <= ord(ch) <= 0xDCFF:  # surrogateescape of an undecodable byte
+                out.append(f"\\x{ord(ch) - 0xDC00:02x}")
+            else:
+                out.append(_escape_char(ch))
+        else:
+            out.append(ch)
+    return "".join(out)
+
+
+def one_line(text: object, limit: int | None = None) -> str:
+    """:func:`shown` with runs of white space as one space, optionally cut to ``limit``."""
+    s = " ".join(str(text).split(" "))
+    s = shown(s)
+    s = re.sub(r" {2,}", " ", s).strip()
+    if limit is not None and len(s) > limit:
+        s = s[: limit - 3] + "..."
+    return s
+
+
+#: characters DXF forbids in table names (layers, blocks), besides control characters
+DXF_FORBIDDEN = frozenset('<>/\\":;?*|=`')
+
+
+def dxf_name(name: str) -> str:
+    """A legal DXF table name for ``name``: forbidden and control characters become ``_``."""
+    if not any(c in DXF_FORBIDDEN or _needs_escape(c) for c in name):
+        return name
+    s = "".join("_" if (c in DXF_FORBIDDEN or _needs_escape(c)) else c for c in name)
+    return s or "_"
+
+
+def is_dxf_name(name: str) -> bool:
+    """True if ``name`` needs no mapping to be written as a DXF table name."""
+    return dxf_name(name) == name
