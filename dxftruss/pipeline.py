@@ -27,7 +27,7 @@ from .read import LineWork, read_drawing
 from .snap import build_geometry
 from .statics import CaseResult, solve_case
 from .symmetry import find_mirror_axis
-from .units import LENGTH_UNITS, check_unit_name, parse_length
+from .units import LENGTH_UNITS, check_unit_name, insunits_description, parse_length
 
 DEFAULT_UNIT = "mm"
 
@@ -164,11 +164,16 @@ def _check(
         unit, unit_source = linework.length_unit, "header"
     else:
         unit, unit_source = DEFAULT_UNIT, "assumed"
+        code = linework.header_units
+        if code is None or code == 0:
+            said = "the drawing does not say its unit"
+        else:
+            said = f"the header's $INSUNITS is {insunits_description(code)}, not a unit a truss is drawn in"
         findings.append(
             Finding(
                 Code.ASSUMED_UNITS,
-                f"the drawing does not say its unit: assumed {DEFAULT_UNIT} (give --units or [units] length)",
-                data={"unit": DEFAULT_UNIT},
+                f"{said}: assumed {DEFAULT_UNIT} (give --units or [units] length)",
+                data={"unit": DEFAULT_UNIT, "insunits": code},
             )
         )
 

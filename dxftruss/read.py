@@ -99,6 +99,8 @@ class LineWork:
     length_unit: str | None
     findings: tuple[Finding, ...]
     recovered: bool = False
+    #: the header's ``$INSUNITS`` code as written (None when absent)
+    header_units: int | None = None
 
 
 # ---------------------------------------------------------------------------------------
@@ -315,12 +317,14 @@ def _removed_block_references(auditor: Any) -> Finding | None:
     )
 
 
-def _length_unit(doc: Any) -> str | None:
+def _header_units(doc: Any) -> int | None:
+    """The header's ``$INSUNITS`` code, None when the header has none (R12)."""
     try:
-        code = int(doc.units)
-    except (TypeError, ValueError, AttributeError):
+        if "$INSUNITS" not in doc.header:
+            return None
+        return int(doc.header["$INSUNITS"])
+    except (TypeError, ValueError, AttributeError, KeyError):
         return None
-    return INSUNITS.get(code)
 
 
 # ---------------------------------------------------------------------------------------
@@ -1337,6 +1341,7 @@ def read_drawing(
             findings.append(removed)
 
     seg.setflags(write=False)
+    units_code = _header_units(doc)
 
     def order(item: tuple[int, int, Any]) -> tuple[int, int]:  # model-space order, then reading order
         return (item[0], item[1])
@@ -1349,7 +1354,8 @@ def read_drawing(
         loads=tuple(m for *_, m in sorted(reader.loads, key=order)),
         texts=tuple(m for *_, m in sorted(reader.texts, key=order)),
         dxf_version=str(doc.dxfversion),
-        length_unit=_length_unit(doc),
+        length_unit=INSUNITS.get(units_code) if units_code is not None else None,
+        header_units=units_code,
         findings=tuple(findings),
         recovered=recovered,
     )

@@ -19,16 +19,55 @@ from dataclasses import dataclass
 
 from .errors import ConfigError
 
-#: metres per length unit (exact by definition of the inch and the foot)
+#: metres per length unit. Exact by definition (NIST SP 811, 2008, Appendix B.8): the
+#: inch 0.0254 m, the foot 0.3048 m, the yard 0.9144 m, the mile 1609.344 m, the mil
+#: 2.54e-5 m, the microinch 2.54e-8 m, the angstrom 1e-10 m; the US survey foot
+#: 1200/3937 m (and the survey inch, yard and mile from it)
 LENGTH_UNITS: dict[str, float] = {
     "mm": 1e-3,
     "cm": 1e-2,
     "dm": 1e-1,
     "m": 1.0,
+    "dam": 1e1,
+    "hm": 1e2,
     "km": 1e3,
+    "um": 1e-6,
+    "nm": 1e-9,
+    "angstrom": 1e-10,
     "in": 0.0254,
     "ft": 0.3048,
     "yd": 0.9144,
+    "mi": 1609.344,
+    "mil": 2.54e-5,
+    "uin": 2.54e-8,
+    "usin": 100.0 / 3937.0,
+    "usft": 1200.0 / 3937.0,
+    "usyd": 3600.0 / 3937.0,
+    "usmi": 6336000.0 / 3937.0,
+}
+
+#: what each length unit name means, for messages
+LENGTH_UNIT_NAMES: dict[str, str] = {
+    "mm": "millimetres",
+    "cm": "centimetres",
+    "dm": "decimetres",
+    "m": "metres",
+    "dam": "decametres",
+    "hm": "hectometres",
+    "km": "kilometres",
+    "um": "micrometres (microns)",
+    "nm": "nanometres",
+    "angstrom": "angstroms",
+    "in": "inches",
+    "ft": "feet",
+    "yd": "yards",
+    "mi": "miles",
+    "mil": "mils (thousandths of an inch)",
+    "uin": "microinches",
+    "usin": "US survey inches",
+    "usft": "US survey feet",
+    "usyd": "US survey yards",
+    "usmi": "US survey miles",
 }
 
 #: newtons per force unit (lbf from the international pound and g_n = 9.80665 m/s2)
@@ -66,8 +105,53 @@ MODULUS_UNITS: dict[str, float] = {
     "ksi": 4448.2216152605 / 0.0254**2,
 }
 
-#: DXF ``$INSUNITS`` code -> our length unit name (codes without an entry are unknown)
-INSUNITS: dict[int, str] = {1: "in", 2: "ft", 4: "mm", 5: "cm", 6: "m", 7: "km", 10: "yd", 14: "dm"}
+#: DXF ``$INSUNITS`` code -> our length unit name. 0 is "unitless"; 17-20 (gigametres,
+#: astronomical units, light years, parsecs) are not lengths a truss is drawn in: they
+#: are reported by name (:data:`INSUNITS_UNUSABLE`) and a unit is assumed and said.
+INSUNITS: dict[int, str] = {
+    1: "in",
+    2: "ft",
+    3: "mi",
+    4: "mm",
+    5: "cm",
+    6: "m",
+    7: "km",
+    8: "uin",
+    9: "mil",
+    10: "yd",
+    11: "angstrom",
+    12: "nm",
+    13: "um",
+    14: "dm",
+    15: "dam",
+    16: "hm",
+    21: "usft",
+    22: "usin",
+    23: "usyd",
+    24: "usmi",
+}
+
+#: ``$INSUNITS`` codes that name a unit no truss drawing uses (said, not used)
+INSUNITS_UNUSABLE: dict[int, str] = {
+    17: "gigametres",
+    18: "astronomical units",
+    19: "light years",
+    20: "parsecs",
+}
+
+
+def insunits_description(code: int | None) -> str:
+    """What a ``$INSUNITS`` code says, for messages: ``"13 (micrometres (microns))"``."""
+    if code is None:
+        return "absent"
+    if code in INSUNITS:
+        return f"{code} ({LENGTH_UNIT_NAMES[INSUNITS[code]]})"
+    if code in INSUNITS_UNUSABLE:
+        return f"{code} ({INSUNITS_UNUSABLE[code]})"
+    if code == 0:
+        return "0 (unitless)"
+    return f"{code} (not a unit code DXF defines)"
+
 
 _NUMBER = r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?"
 _QUANTITY = re.compile(rf"^\s*({_NUMBER})\s*([A-Za-z][A-Za-z0-9/]*)?\s*$")

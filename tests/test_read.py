@@ -679,9 +679,15 @@ def test_marks_inside_blocks_take_the_insert_layer(tmp_path: Path) -> None:
         ("R2000", 1, "in"),
         ("R2018", 2, "ft"),
         ("R2018", 0, None),
-        ("R2018", 9, None),
+        ("R2018", 9, "mil"),
+        ("R2018", 10, "yd"),
+        ("R2018", 13, "um"),
+        ("R2018", 14, "dm"),
+        ("R2018", 21, "usft"),
+        ("R2018", 18, None),
         ("R12", 4, None),
-    ],  # 9 = mils: no entry; R12 files carry no $INSUNITS
+    ],  # DXF reference, $INSUNITS: 9 mils, 10 yards, 13 microns, 14 decimetres, 21 US survey
+    # feet, 18 astronomical units (not a drawing unit: reported, not used); R12 has no $INSUNITS
 )
 def test_units_from_header(tmp_path: Path, version: str, units: int, expected: str | None) -> None:
     doc = ezdxf.new(version, setup=False, units=units)
