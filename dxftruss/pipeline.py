@@ -52,6 +52,10 @@ class Settings:
     #: refuse drawings with more members than this (--max-members): bounded run time;
     #: the benchmark's 100k-member drawings take about 10 s
     max_members: int = 250_000
+    #: refuse drawings larger on disk than this many MiB before reading anything
+    #: (--max-file-size; 0 or None: no limit). The benchmark's 100k-member drawing is
+    #: about 25 MiB; the member limit is reached long before this size.
+    max_file_mb: float | None = 256
     #: parts with at most this many joint dofs get a dense SVD; larger ones the sparse path
     dense_limit: int = 256
 
@@ -151,7 +155,12 @@ def _check(
         raise InputError(f"{path}: no such file" if not p.exists() else f"{path}: not a file")
     spec = read_loads_file(settings.loads) if settings.loads else None
     units_opt = check_unit_name(settings.units, LENGTH_UNITS, "--units") if settings.units else None
-    linework = read_drawing(p, layers=settings.layers)
+    linework = read_drawing(
+        p,
+        layers=settings.layers,
+        max_members=settings.max_members,
+        max_bytes=int(settings.max_file_mb * 2**20) if settings.max_file_mb else None,
+    )
     sha = file_sha256(p)
     stage("read")
 

@@ -145,7 +145,7 @@ def _collect_library_warnings() -> Iterator[_LogCollector]:
         logger.propagate = propagate
 
 
-def _load(path: Path) -> tuple[Any, Any, bool]:
+def _load(path: Path, *, max_bytes: int | None = None, max_records: int | None = None) -> tuple[Any, Any, bool]:
     """Open ``path`` with ezdxf: (doc, auditor, recovered). Raises InputError.
 
     ``auditor`` is the recovery reader's audit when it was needed, else None: a file
@@ -175,11 +175,24 @@ def _load(path: Path) -> tuple[Any, Any, bool]:
         size = path.stat().st_size
         if size == 0:
             raise InputError(f"{name}: the file is empty")
+        if max_bytes is not None and size > max_bytes:
+            raise LimitError(
+                f"{name}: the file is {size / 2**20:,.0f} MiB, more than the limit of {max_bytes / 2**20:,.0f} MiB; "
+                "raise it with --max-file-size if the drawing is genuine"
+            )
         if is_dwg_file(name):
             raise InputError(f"{name}: is a DWG file; dxftruss reads DXF only - save or export the drawing as DXF")
         binary = is_binary_dxf_file(name)
     except OSError as exc:
         raise InputError(f"{name}: cannot open the file ({_one_line(exc.strerror or exc)})") from None
+
+    if max_records is not None and not binary:
+        records = _count_records(path)
+        if records > max_records:
+            raise LimitError(
+                f"{name}: the file holds {records:,} DXF records, more than the limit of {max_records:,} entities; "
+                "entity limit reached before reading; raise max_entities if the drawing is genuine"
+            )
 
     if binary:  # the recovery reader cannot read binary DXF (LIBRARIES 1.1)
         try:
@@ -216,6 +229,35 @@ def _audit_after_reading(doc: Any) -> tuple[Any, str | None]:
 
 
 _SECTION_LINE = re.compile(rb"(?mi)^[ \t]*SECTION[ \t]*\r?$")
+
+#: a group code 0 line (start of a record: entity, table entry, object) in ASCII DXF
+_RECORD_START = re.compile(rb"\n[ \t]*0[ \t]*\r?\n[ \t]*[A-Za-z_]")
+
+
+def _count_records(path: Path, chunk: int = 1 << 24) -> int:
+    """Records (group code 0 lines) in an ASCII DXF, counted over the raw bytes before
+    the DXF library builds any object: an upper bound of the entities the file holds,
+    so a limit can refuse a huge drawing at once. About 0.3 s per 100 MB."""
+    n = 0
+    tail = b""
+    try:
+        with open(path, "rb") as fp:
+            while True:
+                block = fp.read(chunk)
+                if not block:
+                    break
+                data = tail + block
+                n += len(_RECORD_START.findall(data))
+                # keep the last partial line(s) for the next block, counted once
+                cut = data.rfind(b"\n", 0, max(0, len(data) - 16))
+                if cut > 0:
+                    n -= len(_RECORD_START.findall(data[cut:]))
+                    tail = data[cut:]
+                else:
+                    tail = b""
+    except OSError:
+        return 0
+    return n
 
 
 def _is_dxf(name: str, is_dxf_file: Any) -> bool:
@@ -773,6 +815,7 @@ class _Reader:
         max_array_cells: int,
         max_coordinate: float,
         planar_tol: float,
+        max_members: int | None = None,
     ) -> None:
         self.doc = doc
         self.name = name
@@ -787,6 +830,8 @@ class _Reader:
         self.blocks: dict[str, _Content] = {}
         self.n_entities = 0
         self.n_cells = 0
+        self.n_segments = 0
+        self.max_members = max_members
         # outputs
         self.seg_chunks: list[np.ndarray] = []
         self.z_chunks: list[np.ndarray] = []
@@ -821,6 +866,15 @@ class _Reader:
             raise LimitError(
                 f"{self.name}: the drawing expands to more than {self.max_entities:,} entities "
                 f"(block references included): entity limit reached; raise max_entities if the drawing is genuine"
+            )
+
+    def count_segments(self, n: int) -> None:
+        self.n_segments += n
+        if self.max_members is not None and self.n_segments > self.max_members:
+            raise LimitError(
+                f"{self.name}: more than {self.max_members:,} line segments on member layers, more than the limit "
+                f"of {self.max_members:,} members (reading stopped); raise it with --max-members if the drawing "
+                "is genuine"
             )
 
     def count_cells(self, n: int) -> None:
@@ -1013,6 +1067,7 @@ class _Reader:
         # members
         m = ok & is_member[row_ent]
         if m.any():
+            self.count_segments(int(np.count_nonzero(m)))
             r = rows[m]
             me = row_ent[m]
             self.seg_chunks.append(r[:, [0, 1, 3, 4]])
@@ -1266,6 +1321,8 @@ def read_drawing(
     max_array_cells: int = 1_000_000,
     max_coordinate: float = 1e12,
     planar_tol: float = 1e-9,
+    max_members: int | None = None,
+    max_bytes: int | None = None,
 ) -> LineWork:
     """Read a DXF drawing into line work, support and load marks and load labels.
 
@@ -1282,6 +1339,11 @@ def read_drawing(
             ``invalid-coordinate``, as is any non-finite one.
         planar_tol: relative tolerance (to the drawing extent) for z differences and
             tilted extrusions before the line work counts as not flat.
+        max_members: most straight segments on member layers (LimitError as soon as
+            the walk passes it; None: no limit).
+        max_bytes: largest file size read (LimitError before anything is read; None:
+            no limit). An ASCII file is also counted for records before it is read:
+            more than ``max_entities`` is refused at once.
 
     Returns:
         LineWork with segments in WCS drawing units, z dropped. Its findings:
@@ -1301,7 +1363,7 @@ def read_drawing(
     from ezdxf.lldxf.const import DXFError
 
     with _collect_library_warnings() as log:
-        doc, auditor, recovered = _load(p)
+        doc, auditor, recovered = _load(p, max_bytes=max_bytes, max_records=max_entities)
         reader = _Reader(
             doc,
             name,
@@ -1311,6 +1373,7 @@ def read_drawing(
             max_array_cells=max_array_cells,
             max_coordinate=max_coordinate,
             planar_tol=planar_tol,
+            max_members=max_members,
         )
         try:
             reader.run()
@@ -1322,6 +1385,13 @@ def read_drawing(
         if auditor is None:  # read as written first, then audit (see _load)
             auditor, audit_failure = _audit_after_reading(doc)
     seg, handles, seg_layers, z = reader.line_work_arrays()
+    if recovered and not len(seg) and not reader.supports and not reader.loads:
+        # an intact drawing with no members is a finding (no-members); a damaged one from
+        # which the recovery reader salvaged no line work at all is not a drawing we can use
+        raise InputError(
+            f"{name}: damaged, and the recovery reader salvaged no line work from it "
+            f"({reader.msp_entities} model-space entities came back): the drawing could not be used"
+        )
 
     findings: list[Finding] = []
     repaired = _repair_finding(
