@@ -22,7 +22,7 @@ from scipy.sparse import coo_matrix
 from scipy.sparse.csgraph import connected_components
 from scipy.spatial import cKDTree
 
-from .errors import ConfigError
+from .errors import ConfigError, LimitError
 from .findings import Code, Finding
 from .loadsfile import DEFAULT_CASE, LoadsSpec, check_combinations
 from .model import Fix, Load, LoadCase, Part, Source, Support, Truss, joint_id
@@ -146,13 +146,23 @@ def build_truss(
     near_miss: float,
     length_unit: str,
     outline_tol: float,
+    max_parts: int | None = None,
+    source: str = "drawing",
 ) -> Truss:
-    """Attach supports and loads to joints, add the defaults of SPEC section 5."""
+    """Attach supports and loads to joints, add the defaults of SPEC section 5.
+
+    Raises LimitError as soon as the parts are known when there are more than
+    ``max_parts`` (``source`` names the drawing in the message)."""
     xy, ends = geometry.xy, geometry.ends
     findings: list[Finding] = []
+    parts = find_parts(len(xy), ends)
+    if max_parts is not None and len(parts) > max_parts:
+        raise LimitError(
+            f"{source}: the line work falls into {len(parts):,} separate parts, more than the limit of "
+            f"{max_parts:,}; raise it with --max-parts if the drawing is genuine"
+        )
     tree = cKDTree(xy) if len(xy) else None
     force_unit = spec.force_unit if spec else "kN"
-    parts = find_parts(len(xy), ends)
 
     # supports: drawn, then file; merged per joint
     fixes: dict[int, set[int]] = defaultdict(set)

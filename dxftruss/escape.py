@@ -83,13 +83,37 @@ DXF_FORBIDDEN = frozenset('<>/\\":;?*|=`')
 
 
 def dxf_name(name: str) -> str:
-    """A legal DXF table name for ``name``: forbidden and control characters become ``_``."""
-    if not any(c in DXF_FORBIDDEN or _needs_escape(c) for c in name):
+    """A legal DXF table name for ``name``: forbidden and control characters become ``_``.
+
+    A leading ``*`` is kept: it marks the anonymous blocks (``*Model_Space``, ``*U12``)."""
+    head, rest = ("*", name[1:]) if name.startswith("*") else ("", name)
+    if not any(c in DXF_FORBIDDEN or _needs_escape(c) for c in rest):
         return name
-    s = "".join("_" if (c in DXF_FORBIDDEN or _needs_escape(c)) else c for c in name)
-    return s or "_"
+    s = "".join("_" if (c in DXF_FORBIDDEN or _needs_escape(c)) else c for c in rest)
+    return head + s if (head + s) else "_"
 
 
 def is_dxf_name(name: str) -> bool:
     """True if ``name`` needs no mapping to be written as a DXF table name."""
     return dxf_name(name) == name
+
+
+def legal_names(names: list[str] | tuple[str, ...] | set[str], *, taken: set[str] | None = None) -> dict[str, str]:
+    """``{name: legal name}`` for every name of ``names`` that DXF cannot store.
+
+    Table names are case-insensitive in DXF, so a mapped name that would collide with
+    another name (given or in ``taken``, any case) gets a numbered suffix ``-2``, ``-3``
+    ... Deterministic: the names are mapped in sorted order."""
+    used = {n.upper() for n in names if is_dxf_name(n)} | {n.upper() for n in (taken or ())}
+    out: dict[str, str] = {}
+    for n in sorted(set(names)):
+        if is_dxf_name(n):
+            continue
+        base = dxf_name(n)
+        new, k = base, 2
+        while new.upper() in used:
+            new = f"{base}-{k}"
+            k += 1
+        used.add(new.upper())
+        out[n] = new
+    return out

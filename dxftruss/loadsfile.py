@@ -14,9 +14,9 @@ from __future__ import annotations
 
 import math
 import os
+import stat
 import tomllib
 from dataclasses import dataclass
-from pathlib import Path
 from typing import Any
 
 from .errors import ConfigError
@@ -103,20 +103,64 @@ def _tables(where: str, data: dict[str, Any], kind: str) -> list[dict[str, Any]]
     return value
 
 
-def read_loads_file(path: str | os.PathLike[str]) -> LoadsSpec:
-    """Parse and validate a loads file; raises ConfigError with the file and entry named."""
-    name = str(path)
+#: largest loads file read (bytes): a loads file of 25,000 entries is about 1.5 MB
+MAX_LOADS_FILE_BYTES = 16 * 2**20
+
+
+def _read_regular_file(name: str, limit: int) -> bytes:
+    """The bytes of ``name`` if it is a regular file of at most ``limit`` bytes.
+
+    Opened without blocking (a FIFO would wait for a writer forever) and checked on the
+    open descriptor, so what is checked is what is read: a device such as /dev/zero, a
+    FIFO, a socket or a directory is refused before a byte is read."""
     try:
-        raw = Path(path).read_bytes()
+        fd = os.open(name, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0) | getattr(os, "O_CLOEXEC", 0))
     except OSError as exc:
         raise ConfigError(f"{name}: cannot read the loads file ({exc.strerror or exc})") from None
+    try:
+        st = os.fstat(fd)
+        if not stat.S_ISREG(st.st_mode):
+            kind = "a directory" if stat.S_ISDIR(st.st_mode) else "not a regular file (a device, FIFO or socket)"
+            raise ConfigError(f"{name}: the loads file is {kind}; give a TOML file")
+        if st.st_size > limit:
+            raise ConfigError(
+                f"{name}: the loads file is {st.st_size:,} bytes, more than the limit of {limit:,} bytes"
+            )
+        chunks = []
+        total = 0
+        while True:
+            block = os.read(fd, 1 << 20)
+            if not block:
+                break
+            total += len(block)
+            if total > limit:  # the file grew while it was read
+                raise ConfigError(f"{name}: the loads file is more than the limit of {limit:,} bytes")
+            chunks.append(block)
+        return b"".join(chunks)
+    except OSError as exc:
+        raise ConfigError(f"{name}: cannot read the loads file ({exc.strerror or exc})") from None
+    finally:
+        os.close(fd)
+
+
+def read_loads_file(path: str | os.PathLike[str], *, max_bytes: int = MAX_LOADS_FILE_BYTES) -> LoadsSpec:
+    """Parse and validate a loads file; raises ConfigError with the file and entry named.
+
+    Only a regular file of at most ``max_bytes`` is read (16 MiB by default)."""
+    name = str(path)
+    raw = _read_regular_file(name, max_bytes)
     try:
         data = tomllib.loads(raw.decode("utf-8"))
     except UnicodeDecodeError:
         raise ConfigError(f"{name}: the loads file is not UTF-8 text") from None
     except tomllib.TOMLDecodeError as exc:
         raise ConfigError(f"{name}: TOML syntax error: {exc}") from None
-    return parse_loads(data, name)
+    except RecursionError:  # arrays or tables nested thousands deep
+        raise ConfigError(f"{name}: the loads file nests arrays or tables too deeply to be a loads file") from None
+    try:
+        return parse_loads(data, name)
+    except RecursionError:
+        raise ConfigError(f"{name}: the loads file nests values too deeply to be a loads file") from None
 
 
 def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:

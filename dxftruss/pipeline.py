@@ -197,8 +197,6 @@ def _check(
     else:
         snap, snap_source = settings.snap_fraction * diag, f"{settings.snap_fraction:g} x extent diagonal"
     limit_hint = "raise it with --max-members if the drawing is genuine"
-    if len(seg) > settings.max_members:
-        raise LimitError(f"{path}: {len(seg):,} line segments, more than the limit of {settings.max_members:,} members; {limit_hint}")
     geometry = build_geometry(seg, linework.handles, linework.layers, snap=snap)
     if len(geometry.ends) > settings.max_members:
         raise LimitError(
@@ -218,13 +216,15 @@ def _check(
     tol = Tolerances(snap, near, snap_source, near_source)
 
     truss = build_truss(
-        geometry, linework, spec, near_miss=near, length_unit=unit, outline_tol=max(10 * snap, 1e-9 * diag)
+        geometry,
+        linework,
+        spec,
+        near_miss=near,
+        length_unit=unit,
+        outline_tol=max(10 * snap, 1e-9 * diag),
+        max_parts=settings.max_parts,
+        source=str(path),
     )
-    if len(truss.parts) > settings.max_parts:
-        raise LimitError(
-            f"{path}: the line work falls into {len(truss.parts):,} separate parts, more than the limit of "
-            f"{settings.max_parts:,}; raise it with --max-parts if the drawing is genuine"
-        )
     findings += truss.findings
     findings += audit_topology(truss, snap=snap, near_miss=near)
     stage("model")

@@ -101,6 +101,9 @@ class LineWork:
     recovered: bool = False
     #: the header's ``$INSUNITS`` code as written (None when absent)
     header_units: int | None = None
+    #: layer and block names DXF cannot store (control characters, ``<>/\":;?*|=``):
+    #: (kind "layer" or "block", name as read, legal name the annotated DXF writes)
+    renamed: tuple[tuple[str, str, str], ...] = ()
 
 
 # ---------------------------------------------------------------------------------------
@@ -357,6 +360,20 @@ def _removed_block_references(auditor: Any) -> Finding | None:
         f"and {'were' if n != 1 else 'was'} removed on reading; {'their' if n != 1 else 'its'} content is missing",
         data={"reason": "missing-block", "count": n, "handles": handles[:20]},
     )
+
+
+def _illegal_names(doc: Any, roles: dict[str, Any]) -> tuple[tuple[str, str, str], ...]:
+    """Layer and block names the annotated DXF must write differently (see LineWork)."""
+    from .escape import legal_names
+
+    try:
+        layers = {str(layer.dxf.name) for layer in doc.layers} | set(roles)
+        blocks = {str(br.dxf.name) for br in doc.block_records}
+    except _ENTITY_FAILURES:
+        return ()
+    out = [("layer", a, b) for a, b in legal_names(layers).items()]
+    out += [("block", a, b) for a, b in legal_names(blocks).items()]
+    return tuple(out)
 
 
 def _header_units(doc: Any) -> int | None:
@@ -1412,6 +1429,7 @@ def read_drawing(
 
     seg.setflags(write=False)
     units_code = _header_units(doc)
+    renamed = _illegal_names(doc, reader.roles)
 
     def order(item: tuple[int, int, Any]) -> tuple[int, int]:  # model-space order, then reading order
         return (item[0], item[1])
@@ -1426,6 +1444,7 @@ def read_drawing(
         dxf_version=str(doc.dxfversion),
         length_unit=INSUNITS.get(units_code) if units_code is not None else None,
         header_units=units_code,
+        renamed=renamed,
         findings=tuple(findings),
         recovered=recovered,
     )

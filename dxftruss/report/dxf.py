@@ -30,7 +30,8 @@ from typing import Any
 
 import numpy as np
 
-from ..errors import InputError
+from ..errors import InputError, OutputError
+from ..escape import legal_names, one_line, shown
 from ..findings import Severity
 from ..model import joint_id
 from ..pipeline import file_sha256
@@ -123,6 +124,7 @@ def write_dxf(
     except ezdxf.DXFError as exc:
         raise InputError(f"{src}: cannot read the drawing again ({exc})") from exc
 
+    _legalise_names(doc, result.linework.renamed)
     r12 = doc.dxfversion <= "AC1009"
     names = _LayerNames(doc, max_len=31 if r12 else 120)
     msp = doc.modelspace()
@@ -154,13 +156,13 @@ def write_dxf(
     solved_cases = [cs for cs in result.cases if np.isfinite(np.asarray(cs.forces, dtype=float)).any()]
     for k, case in enumerate(solved_cases):
         forces = np.asarray(case.forces, dtype=float)
-        prefix = f"{case.name}: " if len(solved_cases) > 1 else ""
+        prefix = f"{shown(case.name)}: " if len(solved_cases) > 1 else ""
         offset = (0.8 + 1.4 * k) * h  # cases stacked above the member, readable with all layers on
         zero = set(case.zero_by_solution)
         layer = add_layer(
             f"{PREFIX}-FORCES-{_layer_part(case.name)}",
             ACI_TENSION,
-            f"member forces, case '{case.name}' ({fu}, tension +)",
+            f"member forces, case '{shown(case.name)}' ({fu}, tension +)",
         )
         for e in np.nonzero(np.isfinite(forces))[0].tolist():
             i, k = t.ends[e]
@@ -180,13 +182,13 @@ def write_dxf(
         if not case.reactions:
             continue
         layer = add_layer(
-            f"{PREFIX}-REACTIONS-{_layer_part(case.name)}", ACI_REACTION, f"reactions, case '{case.name}' ({fu})"
+            f"{PREFIX}-REACTIONS-{_layer_part(case.name)}", ACI_REACTION, f"reactions, case '{shown(case.name)}' ({fu})"
         )
         for j, rx, ry in clean_reactions(result, case):
             if not (0 <= j < t.n_joints):
                 continue
             x, y = t.xy[j]
-            s = f"{case.name}: {joint_id(j)} Rx={fmt_force(rx)} Ry={fmt_force(ry)} {fu}"
+            s = f"{shown(case.name)}: {joint_id(j)} Rx={fmt_force(rx)} Ry={fmt_force(ry)} {fu}"
             text(s, (float(x), float(y) - (2.5 + 1.2 * k) * h), layer, ACI_REACTION, 0.8 * h)
 
     # findings
@@ -202,4 +204,50 @@ def write_dxf(
             text(str(n), (x, y), layer, color, 0.9 * h)
             text(f.code.value, (x + 1.2 * h, y), layer, color, 0.6 * h, align=TextEntityAlignment.MIDDLE_LEFT)
 
-    doc.saveas(path, fmt="bin" if binary else "asc")
+    try:
+        doc.saveas(path, fmt="bin" if binary else "asc")
+    except (AssertionError, ValueError, UnicodeError, ezdxf.DXFError) as exc:
+        # a value the DXF format cannot store (e.g. a line break inside a text of the
+        # input drawing): one line, never a traceback, and nothing is left at ``path``
+        raise OutputError(
+            f"annotated DXF not written: the drawing holds a value DXF cannot store ({one_line(exc, 120)})"
+        ) from None
+
+
+def _legalise_names(doc: Any, renamed: tuple[tuple[str, str, str], ...]) -> None:
+    """Rename the layers and blocks DXF cannot store to the legal names the reader chose
+    (listed in the JSON), and any further ones found in the copy, before writing.
+
+    The copy only: the input drawing is never written."""
+    layer_map = {a: b for kind, a, b in renamed if kind == "layer"}
+    block_map = {a: b for kind, a, b in renamed if kind == "block"}
+    entities = list(doc.entitydb.values())
+    entity_layers = {str(e.dxf.get("layer", "0")) for e in entities if e.dxf.hasattr("layer")}
+    table_layers = {str(layer.dxf.name) for layer in doc.layers}
+    blocks = {str(br.dxf.name) for br in doc.block_records}
+    taken = set(layer_map.values())
+    for a, b in legal_names(entity_layers | table_layers - set(layer_map), taken=taken).items():
+        layer_map.setdefault(a, b)
+    for a, b in legal_names(blocks - set(block_map), taken=set(block_map.values())).items():
+        block_map.setdefault(a, b)
+    if not layer_map and not block_map:
+        return
+    for layer in list(doc.layers):
+        old = str(layer.dxf.name)
+        if old in layer_map:
+            layer.dxf.name = layer_map[old]
+            doc.layers.replace(old, layer)  # the table is keyed by name
+    for e in entities:
+        if e.dxf.hasattr("layer"):
+            new = layer_map.get(str(e.dxf.layer))
+            if new is not None:
+                e.dxf.layer = new
+    for old_block, new_block in block_map.items():
+        if old_block in doc.blocks:
+            doc.blocks.rename_block(old_block, new_block)
+    if block_map:
+        for e in entities:
+            if e.dxftype() == "INSERT":
+                new = block_map.get(str(e.dxf.name))
+                if new is not None:
+                    e.dxf.name = new

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import json
 import math
+import re
 from typing import Any
 
 import numpy as np
@@ -66,6 +67,10 @@ def report_dict(result) -> dict[str, Any]:  # type: ignore[no-untyped-def]
             "length_unit": src.length_unit,
             "unit_source": src.unit_source,
             "recovered": src.recovered,
+            # names DXF cannot store, and the legal names the annotated DXF uses for them
+            "renamed_in_dxf": [
+                {"kind": kind, "name": name, "written_as": new} for kind, name, new in result.linework.renamed
+            ],
         },
         "settings": {
             "snap": _num(tol.snap),
@@ -160,4 +165,11 @@ def _case(result, c) -> dict[str, Any]:  # type: ignore[no-untyped-def]
 
 def to_json(result) -> str:  # type: ignore[no-untyped-def]
     # no indent: json's C encoder is used only without one (3-5x faster on large reports)
-    return json.dumps(report_dict(result), ensure_ascii=False, allow_nan=False, separators=(",", ":")) + "\n"
+    text = json.dumps(report_dict(result), ensure_ascii=False, allow_nan=False, separators=(",", ":")) + "\n"
+    # JSON escapes C0 itself; C1 controls (a lone CSI is an escape sequence on many
+    # terminals), bidi and line separators and undecodable bytes are written as \\u
+    # escapes too, so the report can go to a terminal (``--json -``) unaltered in meaning
+    return _UNSAFE.sub(lambda m: f"\\u{ord(m.group()):04x}", text)
+
+
+_UNSAFE = re.compile("[\u007f-\u009f\u061c\u200b-\u200f\u2028-\u202e\u2060-\u2069\ufeff\ud800-\udfff]")

@@ -1,18 +1,33 @@
 """The terminal summary: verdict per part, findings by severity, force extremes per case.
 
-Tables are drawn with rich; every string from the drawing goes in as a ``Text`` object,
-so names such as ``[bold]`` or ``<b>`` are shown literally, never interpreted.
+Tables are drawn with rich; every string goes in as a ``Text`` object made by
+:func:`_text`, so names such as ``[bold]`` or ``<b>`` are shown literally, never
+interpreted, and control, escape and bidi characters from the drawing are shown as
+escapes (``\x1b``) by :func:`dxftruss.escape.shown` - a drawing cannot move the cursor,
+recolour the screen or overwrite the verdict line.
 """
 
 from __future__ import annotations
 
 import io
+from typing import TYPE_CHECKING
 
 import numpy as np
 
+from ..escape import shown
 from ..findings import Severity
 from ..model import joint_id, member_id
 from . import CAUTION, assumptions
+
+if TYPE_CHECKING:
+    from rich.text import Text
+
+
+def _text(s: object, style: str = "") -> Text:
+    """A rich Text of ``s`` with every control character escaped (never markup)."""
+    from rich.text import Text
+
+    return Text(shown(s), style=style)
 
 
 def _fmt(x: float) -> str:
@@ -24,7 +39,6 @@ def summary(result, *, max_findings: int = 40, width: int = 110, color: bool = F
     from rich import box
     from rich.console import Console
     from rich.table import Table
-    from rich.text import Text
 
     buf = io.StringIO()
     con = Console(
@@ -33,9 +47,9 @@ def summary(result, *, max_findings: int = 40, width: int = 110, color: bool = F
     t = result.truss
     src = result.source
     # the header lines are written whole (never wrapped), so a path can be copied
-    buf.write(f"dxftruss check: {src.path}\n")
+    buf.write(f"dxftruss check: {shown(src.path)}\n")
     buf.write(
-        f"sha256 {src.sha256[:16]}  DXF {src.dxf_version}  units {src.length_unit} ({src.unit_source})  "
+        f"sha256 {src.sha256[:16]}  DXF {shown(src.dxf_version)}  units {src.length_unit} ({src.unit_source})  "
         f"{t.n_joints} joints, {t.n_members} members, {len(t.supports)} supports, {len(t.cases)} load case(s)\n"
     )
     if src.recovered:
@@ -48,20 +62,20 @@ def summary(result, *, max_findings: int = 40, width: int = 110, color: bool = F
         style = "red" if st.mechanisms else ("yellow" if st.self_stress else "green")
         parts.add_row(
             str(p.index + 1), str(st.j), str(st.m), str(st.r), str(st.rank), str(st.mechanisms),
-            str(st.self_stress), Text(st.verdict.value.upper(), style=style),
+            str(st.self_stress), _text(st.verdict.value.upper(), style=style),
         )
     if t.parts:
         con.print(parts)
     if result.symmetry_axis is not None:
-        con.print(Text(f"geometry and supports are symmetric about x = {_fmt(result.symmetry_axis)}"))
+        con.print(_text(f"geometry and supports are symmetric about x = {_fmt(result.symmetry_axis)}"))
 
-    con.print(Text("assumptions:", style="bold"))
+    con.print(_text("assumptions:", style="bold"))
     for a in assumptions(result):
-        con.print(Text(f"  - {a}"))
+        con.print(_text(f"  - {a}"))
 
     counts = {sev: sum(f.severity is sev for f in result.findings) for sev in Severity}
     con.print(
-        Text(
+        _text(
             f"findings: {counts[Severity.ERROR]} error(s), {counts[Severity.WARNING]} warning(s), "
             f"{counts[Severity.INFO]} info",
             style="bold",
@@ -75,10 +89,10 @@ def summary(result, *, max_findings: int = 40, width: int = 110, color: bool = F
         ft.add_column("message", overflow="fold")
         sev_style = {Severity.ERROR: "red", Severity.WARNING: "yellow", Severity.INFO: "dim"}
         for i, f in enumerate(result.findings[:max_findings], 1):
-            ft.add_row(str(i), Text(f.severity.value, style=sev_style[f.severity]), Text(f.code.value), Text(f.message))
+            ft.add_row(str(i), _text(f.severity.value, style=sev_style[f.severity]), _text(f.code.value), _text(f.message))
         con.print(ft)
         if len(result.findings) > max_findings:
-            con.print(Text(f"  ... and {len(result.findings) - max_findings} more (see the JSON or PDF report)"))
+            con.print(_text(f"  ... and {len(result.findings) - max_findings} more (see the JSON or PDF report)"))
 
     fu = t.force_unit
     if result.cases:
@@ -93,7 +107,7 @@ def summary(result, *, max_findings: int = 40, width: int = 110, color: bool = F
             forces = np.asarray(c.forces, dtype=float)
             solved = np.isfinite(forces)
             if not solved.any():
-                ct.add_row(Text(name), Text("not solved (see findings)"), Text(""), Text(""), Text(""))
+                ct.add_row(_text(name), _text("not solved (see findings)"), _text(""), _text(""), _text(""))
                 continue
             fs = np.where(solved, forces, 0.0)
             e_t, e_c = int(np.argmax(fs)), int(np.argmin(fs))
@@ -106,13 +120,13 @@ def summary(result, *, max_findings: int = 40, width: int = 110, color: bool = F
             if c.zero_by_solution:
                 by_rule = len(set(c.zero_by_rule) & set(c.zero_by_solution))
                 zeros += f" ({by_rule} by the joint rules alone)"
-            ct.add_row(Text(name), Text(tension), Text(compression), Text(reactions), Text(zeros or "-"))
+            ct.add_row(_text(name), _text(tension), _text(compression), _text(reactions), _text(zeros or "-"))
             if c.loads_symmetric is False and result.symmetry_axis is not None:
                 notes.append(f"case {c.name!r}: the truss is symmetric but this load is not: the reactions will not split evenly")
             if len(c.solved_parts) < len(t.parts):
                 notes.append(f"case {c.name!r}: solved {len(c.solved_parts)} of {len(t.parts)} parts (see findings)")
         con.print(ct)
         for n in notes:
-            con.print(Text(n))
-    con.print(Text("caution: " + CAUTION, style="italic"))
+            con.print(_text(n))
+    con.print(_text("caution: " + CAUTION, style="italic"))
     return buf.getvalue()
