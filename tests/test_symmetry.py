@@ -13,43 +13,28 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from dxftruss.model import Fix, Load, LoadCase, Part, Support, Truss
+from dxftruss.model import Fix, LoadCase, Support, Truss
 from dxftruss.symmetry import find_mirror_axis, loads_symmetric, mirror_joints, mirror_members
+
+from .trusses import load_case, one_part_truss, pin_and_roller, pratt_arrays
 
 PROPERTY = settings(derandomize=True, max_examples=30, deadline=None)
 
 
 def make_truss(xy, ends, supports=()) -> Truss:
-    xy = np.asarray(xy, dtype=float).reshape(-1, 2)
-    ends = np.sort(np.asarray(ends, dtype=np.int64).reshape(-1, 2), axis=1)
-    part = Part(0, np.arange(xy.shape[0]), np.arange(ends.shape[0]))
-    return Truss(xy, ends, ("T",) * len(ends), tuple((f"H{e}",) for e in range(len(ends))), tuple(supports),
-                 (), (part,), "m", "kN")
+    return one_part_truss(xy, ends, supports)
 
 
 def pratt(n: int = 6, a: float = 4.0, h: float = 3.0, x0: float = 0.0, roller: Fix = Fix.Y,
           flip: int | None = None) -> Truss:
-    """METHODS C1 layout (L_i = i, U_i = n + 1 + i), optionally one diagonal flipped.
-
-      U0--U1--U2--U3--U4--U5--U6
-      | \\ | \\ | \\ | / | / | / |
-      L0--L1--L2--L3--L4--L5--L6     pin L0, roller at L6
-    """
-    xy = [(x0 + i * a, 0.0) for i in range(n + 1)] + [(x0 + i * a, h) for i in range(n + 1)]
-    ends = []
-    for i in range(1, n + 1):
-        ends.append((i - 1, i))
-        ends.append((n + i, n + 1 + i))
-        left = i <= n // 2
-        if i == flip:
-            left = not left
-        ends.append((n + i, i) if left else (i - 1, n + 1 + i))
-    ends += [(i, n + 1 + i) for i in range(n + 1)]
-    return make_truss(xy, ends, (Support(0, Fix.XY), Support(n, roller)))
+    """METHODS C1 layout (tests/trusses.pratt_arrays), pin L0, roller at Ln, optionally
+    one diagonal flipped."""
+    xy, named = pratt_arrays(n, a, h, x0=x0, flip=flip)
+    return make_truss(xy, list(named.values()), pin_and_roller(0, n, roller))
 
 
 def case(loads: dict[int, tuple[float, float]]) -> LoadCase:
-    return LoadCase("c", tuple(Load(j, fx, fy) for j, (fx, fy) in loads.items()))
+    return load_case("c", loads)
 
 
 def test_pratt_axis_with_pin_and_roller() -> None:
