@@ -27,12 +27,14 @@ from hypothesis import strategies as st
 from scipy.sparse import coo_matrix
 from scipy.sparse.csgraph import connected_components
 
-from dxftruss.audit.stability import Mode, PartStability, Verdict
+from dxftruss.audit.stability import PartStability, Verdict
 from dxftruss.equilibrium import part_system
 from dxftruss.findings import Code
 from dxftruss.model import Fix, Load, LoadCase, Part, Section, Support, Truss
 from dxftruss.statics import CaseResult, member_ea, solve_case
 from dxftruss.symmetry import find_mirror_axis, mirror_joints, mirror_members
+
+from .trusses import load_case, svd_stability
 
 SQ2 = math.sqrt(2.0)
 PROPERTY = settings(derandomize=True, max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
@@ -85,36 +87,7 @@ def make_truss(
     )
 
 
-def case_of(name: str, loads: dict[int, tuple[float, float]]) -> LoadCase:
-    return LoadCase(name, tuple(Load(j, float(fx), float(fy)) for j, (fx, fy) in loads.items()))
-
-
-def svd_stability(truss: Truss, part: Part, *, with_modes: bool = True) -> PartStability:
-    """A PartStability from a dense SVD of A (METHODS 3; LAPACK rank tolerance, METHODS 8)."""
-    A = part_system(truss, part).A.toarray()
-    rows, cols = A.shape
-    if cols:
-        U, s, _ = sla.svd(A)
-    else:
-        U, s = np.eye(rows), np.zeros(0)
-    smax = float(s.max()) if s.size else 0.0
-    tol = max(rows, cols) * np.finfo(float).eps * smax
-    rank = int(np.count_nonzero(s > tol))
-    k, ss = rows - rank, cols - rank
-    verdict = Verdict.MECHANISM if k else (Verdict.INDETERMINATE if ss else Verdict.DETERMINATE)
-    modes = []
-    if with_modes:
-        for q in range(rank, rows):
-            d = U[:, q].reshape(-1, 2)
-            amp = np.hypot(d[:, 0], d[:, 1])
-            move = amp > 1e-12 * amp.max()
-            modes.append(Mode(tuple(int(j) for j in part.joints[move]), d[move] / amp.max(), False))
-    smin = float(s[rank - 1]) if rank else None
-    return PartStability(
-        part=part.index, j=len(part.joints), m=len(part.members), r=cols - len(part.members), rank=rank,
-        mechanisms=k, self_stress=ss, generic_mechanisms=k, generic_self_stress=ss, verdict=verdict,
-        sigma_min=smin, sigma_max=smax, rank_gap=None, modes=tuple(modes), method="dense-svd",
-    )
+case_of = load_case
 
 
 def counted_stability(truss: Truss, part: Part) -> PartStability:

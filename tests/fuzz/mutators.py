@@ -250,40 +250,34 @@ def m_move(p: Pairs, rng: random.Random) -> Pairs:
     return rest[:j] + chunk + rest[j:]
 
 
-def m_corrupt_code(p: Pairs, rng: random.Random) -> Pairs:
-    i = _pick(p, rng)
+def _replace_at(p: Pairs, i: int | None, code: bytes | None = None, value: bytes | None = None) -> Pairs:
+    """``p`` with the code and/or value of pair ``i`` replaced (``p`` itself when i is None)."""
     if i is None:
         return p
     q = list(p)
-    q[i] = (rng.choice(GARBAGE_CODES), q[i][1])
+    c, v = q[i]
+    q[i] = (c if code is None else code, v if value is None else value)
     return q
+
+
+def m_corrupt_code(p: Pairs, rng: random.Random) -> Pairs:
+    i = _pick(p, rng)
+    return p if i is None else _replace_at(p, i, code=rng.choice(GARBAGE_CODES))
 
 
 def m_garbage_value(p: Pairs, rng: random.Random) -> Pairs:
     i = _pick(p, rng)
-    if i is None:
-        return p
-    q = list(p)
-    q[i] = (q[i][0], garbage_value(rng))
-    return q
+    return p if i is None else _replace_at(p, i, value=garbage_value(rng))
 
 
 def m_special_number(p: Pairs, rng: random.Random) -> Pairs:
     i = _pick(p, rng, lambda _, c, v: (k := _code(c)) is not None and _is_float_code(k))
-    if i is None:
-        return p
-    q = list(p)
-    q[i] = (q[i][0], rng.choice(SPECIAL_NUMBERS))
-    return q
+    return p if i is None else _replace_at(p, i, value=rng.choice(SPECIAL_NUMBERS))
 
 
 def m_huge_int(p: Pairs, rng: random.Random) -> Pairs:
     i = _pick(p, rng, lambda _, c, v: (k := _code(c)) is not None and _is_int_code(k))
-    if i is None:
-        return p
-    q = list(p)
-    q[i] = (q[i][0], rng.choice(HUGE_INTS))
-    return q
+    return p if i is None else _replace_at(p, i, value=rng.choice(HUGE_INTS))
 
 
 def _entity_spans(p: Pairs, kind: bytes) -> list[tuple[int, int]]:
