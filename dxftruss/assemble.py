@@ -335,4 +335,4 @@ def section_for(layer: str, sections: tuple) -> int | None:
     return None
 
 
-__all__ = ["build_truss", "find_parts", "default_supports", "upper_outline_joints", "UNIT_PANEL_CASE", "DEFAULT_CASE"]
+__all__ = ["DEFAULT_CASE", "UNIT_PANEL_CASE", "build_truss", "default_supports", "find_parts", "upper_outline_joints"]

@@ -17,6 +17,7 @@ their joints' numbers. The same drawing therefore always gives the same ids.
 
 from __future__ import annotations
 
+import itertools
 from collections import defaultdict
 from dataclasses import dataclass
 
@@ -126,7 +127,6 @@ def build_geometry(
     """
     findings: list[Finding] = []
     seg = np.asarray(segments, dtype=float).reshape(-1, 4)
-    n = len(seg)
     pts = seg.reshape(-1, 2)  # point 2i = start of i, 2i + 1 = end of i
     label, centres = cluster_points(pts, tol=snap)
     a, b = label[0::2], label[1::2]
@@ -154,7 +154,7 @@ def build_geometry(
     inner: dict[int, list[int]] = {}
     if len(hit_pair):
         bounds = np.flatnonzero(np.r_[True, hit_pair[1:] != hit_pair[:-1], True])
-        for lo, hi in zip(bounds[:-1], bounds[1:]):
+        for lo, hi in itertools.pairwise(bounds):
             inner[int(hit_pair[lo])] = [int(j) for j in hit_joint[lo:hi]]  # from lo_j to hi_j
     is_split = np.isin(pair_of, np.fromiter(inner, dtype=np.int64, count=len(inner)))
     unsplit = np.flatnonzero(~is_split)

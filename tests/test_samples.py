@@ -15,6 +15,7 @@ loads-file keys, and the statics counts the drawings were designed to have).
 
 from __future__ import annotations
 
+import itertools
 import math
 import os
 import subprocess
@@ -83,7 +84,7 @@ def member_segments(doc: ezdxf.document.Drawing) -> list[tuple[str, tuple[float,
                 pts = list(e.points_in_wcs())
             else:
                 continue
-            out.extend((layer, (a.x, a.y), (b.x, b.y)) for a, b in zip(pts, pts[1:]))
+            out.extend((layer, (a.x, a.y), (b.x, b.y)) for a, b in itertools.pairwise(pts))
 
     visit(doc.modelspace(), None)
     return out
@@ -108,7 +109,7 @@ def snap_and_split(
         off = np.abs((xy[:, 0] - xy[i, 0]) * d[1] - (xy[:, 1] - xy[i, 1]) * d[0]) / math.hypot(*d)
         inside = np.flatnonzero((off < ON_MEMBER_TOL) & (t > 1e-9) & (t < 1 - 1e-9))
         chain = [i, *inside[np.argsort(t[inside])].tolist(), k]
-        members += list(zip(chain, chain[1:]))
+        members += list(itertools.pairwise(chain))
     return xy, members
 
 

@@ -345,7 +345,7 @@ def test_c4_unit_conversion() -> None:
 def test_c4_missing_section_hides_displacements() -> None:
     # SPEC 8: displacements only when every member has a real section (common practice)
     truss = c4_truss()
-    truss = dataclasses.replace(truss, **{"sections": C4_SECTIONS[:2]})  # no section for B23
+    truss = dataclasses.replace(truss, sections=C4_SECTIONS[:2])  # no section for B23
     result, findings = solve(truss, truss.cases[0])
     assert result.displacements is None
     assert result.forces == pytest.approx([0.0, -1.0, 2 * SQ2], abs=1e-12)  # determinate: unchanged
@@ -380,7 +380,7 @@ def test_c5_three_bar_closed_form(theta_deg: float) -> None:
     theta, L, P = math.radians(theta_deg), 3.0, 10.0
     ea = 0.01 * 2.0e11
     truss = three_bar(theta, L, P, sections=(Section("*", 0.01, 2.0e11),))
-    truss = dataclasses.replace(truss, **{"force_unit": "N"})
+    truss = dataclasses.replace(truss, force_unit="N")
     result, findings = solve(truss, truss.cases[0])
     c = math.cos(theta)
     n_m = P / (1 + 2 * c**3)
@@ -773,7 +773,7 @@ def test_property_mirror_invariance(seed: int) -> None:
     result, _ = solve(truss, truss.cases[0])
     xy = truss.xy * np.array([-1.0, 1.0])
     case = LoadCase("m", tuple(Load(ld.joint, -ld.fx, ld.fy) for ld in truss.cases[0].loads))
-    mirrored = dataclasses.replace(truss, **{"xy": xy, "cases": (case,)})
+    mirrored = dataclasses.replace(truss, xy=xy, cases=(case,))
     other, _ = solve(mirrored, case)
     scale = max(1.0, float(np.abs(result.forces).max()))
     assert other.forces == pytest.approx(result.forces, abs=1e-9 * scale)
@@ -795,7 +795,7 @@ def test_property_rotation_invariance(seed: int, angle: float) -> None:
         fx, fy = rot @ np.array([ld.fx, ld.fy])
         loads.append(Load(ld.joint, float(fx), float(fy)))
     case = LoadCase("r", tuple(loads))
-    turned = dataclasses.replace(truss, **{"xy": truss.xy @ rot.T + np.array([3.0, -7.0]), "cases": (case,)})
+    turned = dataclasses.replace(truss, xy=truss.xy @ rot.T + np.array([3.0, -7.0]), cases=(case,))
     other, _ = solve(turned, case)
     scale = max(1.0, float(np.abs(result.forces).max()))
     assert other.forces == pytest.approx(result.forces, abs=1e-9 * scale)
@@ -812,7 +812,7 @@ def test_property_uniform_stiffness_scale(seed: int, factor: float) -> None:
     base = (Section("chord", 3e-3, 2.1e11), Section("web", 1e-3, 2.1e11), Section("brace", 5e-4, 7e10))
     truss = _random_rigid(seed, layers=layers, sections=base)
     scaled_sections = tuple(Section(s.layer, s.area * factor, s.modulus) for s in base)
-    scaled = dataclasses.replace(truss, **{"sections": scaled_sections})
+    scaled = dataclasses.replace(truss, sections=scaled_sections)
     r1, _ = solve(truss, truss.cases[0])
     r2, _ = solve(scaled, truss.cases[0])
     scale = max(1.0, float(np.abs(r1.forces).max()))

@@ -8,6 +8,7 @@ level bed count as a mirrored pair; fy equal and fx opposite at mirrored joints)
 from __future__ import annotations
 
 import dataclasses
+
 import numpy as np
 import pytest
 from hypothesis import given, settings
@@ -76,12 +77,12 @@ def test_tolerance_relative_to_extent() -> None:
     diag = float(np.hypot(24.0, 3.0))
     nudged = truss.xy.copy()
     nudged[2, 1] += 1e-3 * diag * 1e-6  # L2, off the axis: far below the tolerance
-    assert find_mirror_axis(dataclasses.replace(truss, **{"xy": nudged})) == pytest.approx(12.0)
+    assert find_mirror_axis(dataclasses.replace(truss, xy=nudged)) == pytest.approx(12.0)
     nudged[2, 1] += 1e-4 * diag  # far above it
-    assert find_mirror_axis(dataclasses.replace(truss, **{"xy": nudged})) is None
-    assert find_mirror_axis(dataclasses.replace(truss, **{"xy": nudged}), tol=1e-3) == pytest.approx(12.0)
+    assert find_mirror_axis(dataclasses.replace(truss, xy=nudged)) is None
+    assert find_mirror_axis(dataclasses.replace(truss, xy=nudged), tol=1e-3) == pytest.approx(12.0)
     # an absolute distance in drawing units instead of the relative tol
-    shifted = dataclasses.replace(truss, **{"xy": nudged})
+    shifted = dataclasses.replace(truss, xy=nudged)
     assert find_mirror_axis(shifted, distance=1e-4 * diag * 0.5) is None
     assert find_mirror_axis(shifted, distance=1e-4 * diag * 2.0) == pytest.approx(12.0)
     load = case({2: (0.0, -1.0), 4: (0.0, -1.0)})
@@ -143,4 +144,4 @@ def test_property_mirrored_half_is_found(seed: int) -> None:
     assert find_mirror_axis(truss) == pytest.approx(c)
     moved = truss.xy.copy()
     moved[inverse[0], 1] += 0.25
-    assert find_mirror_axis(dataclasses.replace(truss, **{"xy": moved})) is None
+    assert find_mirror_axis(dataclasses.replace(truss, xy=moved)) is None

@@ -13,14 +13,12 @@ import math
 
 import numpy as np
 import pytest
-import scipy.linalg as sla
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from dxftruss.audit.stability import PartStability, Verdict
+from dxftruss.audit.stability import Verdict
 from dxftruss.audit.zero_force import zero_force_by_rule
-from dxftruss.equilibrium import part_system
-from dxftruss.model import Fix, Load, LoadCase, Part, Support, Truss
+from dxftruss.model import Fix, Load, LoadCase, Support, Truss
 from dxftruss.statics import solve_case
 
 from .trusses import load_case, member_ids, one_part_truss, pratt_arrays, svd_stability
@@ -325,7 +323,7 @@ def test_rule_members_are_exactly_zero_in_rotated_copy() -> None:
     rot = np.array([[math.cos(theta), -math.sin(theta)], [math.sin(theta), math.cos(theta)]])
     pins = (Support(0, Fix.XY), Support(6, Fix.XY))
     loads = tuple(Load(ld.joint, *(rot @ np.array([ld.fx, ld.fy]))) for ld in case.loads)
-    base = dataclasses.replace(truss, **{"supports": pins})
-    turned = dataclasses.replace(truss, **{"supports": pins, "xy": truss.xy @ rot.T})
+    base = dataclasses.replace(truss, supports=pins)
+    turned = dataclasses.replace(truss, supports=pins, xy=truss.xy @ rot.T)
     assert zero_force_by_rule(base, case) == zero_force_by_rule(turned, LoadCase("r", loads))
     assert idx["V3"] in zero_force_by_rule(turned, LoadCase("r", loads))

@@ -28,10 +28,10 @@ import sys
 import time
 import traceback
 import warnings
+from collections.abc import Callable
 from dataclasses import dataclass, field
-from functools import lru_cache
+from functools import cache
 from pathlib import Path
-from typing import Callable
 
 Pairs = list[tuple[bytes, bytes]]
 
@@ -88,7 +88,7 @@ def _ascii(doc) -> bytes:  # type: ignore[no-untyped-def]
     return s.getvalue().encode("ascii")
 
 
-@lru_cache(maxsize=None)
+@cache
 def seed(name: str) -> bytes:
     """The seed drawing ``name`` (one of SEED_NAMES) as file bytes."""
     if name == "r12":
@@ -350,7 +350,7 @@ def m_nest_blocks(p: Pairs, rng: random.Random) -> Pairs:
     blocks = [b for b in _blocks(p) if not b[0].startswith(b"*")]
     if not blocks:
         return p
-    name, start, end = rng.choice(blocks)
+    name, _start, end = rng.choice(blocks)
     parents = [nm for nm, s, e in blocks if any(v == name for c, v in p[s:e] if c.strip() == b"2") and nm != name]
     target = rng.choice([name, name, *(parents or [name]), b"NO-SUCH-BLOCK", b"", b"*Model_Space", name.lower()])
     if rng.random() < 0.5:  # rename an existing INSERT's block name
