@@ -40,7 +40,7 @@ def find_parts(n_joints: int, ends: np.ndarray) -> tuple[Part, ...]:
     g = coo_matrix((np.ones(len(ends)), (ends[:, 0], ends[:, 1])), shape=(n_joints, n_joints))
     _, label = connected_components(g, directed=False)
     # renumber so that part order follows the smallest joint index
-    first = {}
+    first: dict[int, int] = {}
     for j, lab in enumerate(label):
         first.setdefault(int(lab), j)
     order = sorted(first, key=first.__getitem__)

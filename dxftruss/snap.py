@@ -198,11 +198,11 @@ def build_geometry(
     m = len(uniq_key)
     src_list, inv_list = src.tolist(), inverse.tolist()  # Python ints: no numpy scalars in the loops
     if len(inv_list) == m:  # each member from exactly one drawn piece (the usual case)
-        row = [0] * m
+        src_of = [0] * m
         for s, e in zip(src_list, inv_list):
-            row[e] = s
-        out_layers = tuple(layers[s] for s in row)
-        out_handles = tuple((handles[s],) for s in row)
+            src_of[e] = s
+        out_layers = tuple(layers[s] for s in src_of)
+        out_handles: tuple[tuple[str, ...], ...] = tuple((handles[s],) for s in src_of)
     else:
         member_handles: list[set[str]] = [set() for _ in range(m)]
         member_layers: list[set[str]] = [set() for _ in range(m)]
@@ -212,7 +212,7 @@ def build_geometry(
         out_layers = tuple(min(ls) for ls in member_layers)
         out_handles = tuple(tuple(sorted(hs)) for hs in member_handles)
 
-    for e in np.flatnonzero(counts > 1):
+    for e in np.flatnonzero(counts > 1).tolist():
         i, k = ends[e]
         mid = (xy[i] + xy[k]) / 2
         findings.append(
