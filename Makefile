@@ -1,11 +1,11 @@
-# dxftruss - make demo: check the sample drawings; make test: the whole suite.
+# dxftruss - make demo: check the sample drawings; make test: the whole suite; make lint: ruff and mypy.
 # Both create .venv from pyproject.toml on a fresh machine; nothing is installed by hand.
 PYTHON ?= python3
 VENV   := .venv
 PY     := $(VENV)/bin/python
 STAMP  := $(VENV)/.installed
 
-.PHONY: demo test bench fuzz samples clean
+.PHONY: demo test lint bench fuzz samples clean
 
 $(STAMP): pyproject.toml
 	$(PYTHON) -m venv $(VENV)
@@ -31,6 +31,11 @@ demo: $(STAMP)
 
 test: $(STAMP)
 	CI=$${CI:-} $(PY) -m pytest
+
+lint: $(STAMP)
+	$(VENV)/bin/ruff check dxftruss tests bench samples
+	$(VENV)/bin/ruff format --check dxftruss tests bench samples
+	$(VENV)/bin/mypy dxftruss
 
 bench: $(STAMP)
 	$(PY) bench/run_bench.py

@@ -1,4 +1,4 @@
-"""Write the synthetic benchmark drawings: rows of long-span Pratt trusses, 1k to 100k members.
+r"""Write the synthetic benchmark drawings: rows of long-span Pratt trusses, 1k to 100k members.
 
 Usage::
 

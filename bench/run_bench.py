@@ -43,6 +43,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import math
 import os
 import statistics
 import subprocess
@@ -57,7 +58,7 @@ HERE = Path(__file__).resolve().parent
 ROOT = HERE.parent
 sys.path.insert(0, str(HERE))
 
-import make_trusses  # noqa: E402  (a sibling script, not a package)
+import make_trusses
 
 PY = sys.executable
 
@@ -301,7 +302,7 @@ STAGE_NAMES = ("read", "snap", "model", "stability", "statics")
 
 
 def _f(x: float | None, fmt: str = "{:.2f}") -> str:
-    return "-" if x is None or x != x else fmt.format(x)
+    return "-" if x is None or math.isnan(x) else fmt.format(x)
 
 
 def table(rows: list[Row], markdown: bool) -> str:
@@ -320,7 +321,7 @@ def table(rows: list[Row], markdown: bool) -> str:
         lines += ["| " + " | ".join(b) + " |" for b in body]
         return "\n".join(lines)
     widths = [max(len(h), *(len(b[i]) for b in body)) if body else len(h) for i, h in enumerate(head)]
-    fmt = "  ".join("{:<%d}" % w if i < 2 else "{:>%d}" % w for i, w in enumerate(widths))
+    fmt = "  ".join(f"{{:<{w}}}" if i < 2 else f"{{:>{w}}}" for i, w in enumerate(widths))
     return "\n".join([fmt.format(*head), fmt.format(*("-" * w for w in widths))] + [fmt.format(*b) for b in body])
 
 

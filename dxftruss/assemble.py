@@ -40,7 +40,7 @@ def find_parts(n_joints: int, ends: np.ndarray) -> tuple[Part, ...]:
     g = coo_matrix((np.ones(len(ends)), (ends[:, 0], ends[:, 1])), shape=(n_joints, n_joints))
     _, label = connected_components(g, directed=False)
     # renumber so that part order follows the smallest joint index
-    first = {}
+    first: dict[int, int] = {}
     for j, lab in enumerate(label):
         first.setdefault(int(lab), j)
     order = sorted(first, key=first.__getitem__)
@@ -345,4 +345,4 @@ def section_for(layer: str, sections: tuple) -> int | None:
     return None
 
 
-__all__ = ["build_truss", "find_parts", "default_supports", "upper_outline_joints", "UNIT_PANEL_CASE", "DEFAULT_CASE"]
+__all__ = ["DEFAULT_CASE", "UNIT_PANEL_CASE", "build_truss", "default_supports", "find_parts", "upper_outline_joints"]

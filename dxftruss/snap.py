@@ -17,6 +17,7 @@ their joints' numbers. The same drawing therefore always gives the same ids.
 
 from __future__ import annotations
 
+import itertools
 from collections import defaultdict
 from dataclasses import dataclass
 
@@ -126,7 +127,6 @@ def build_geometry(
     """
     findings: list[Finding] = []
     seg = np.asarray(segments, dtype=float).reshape(-1, 4)
-    n = len(seg)
     pts = seg.reshape(-1, 2)  # point 2i = start of i, 2i + 1 = end of i
     label, centres = cluster_points(pts, tol=snap)
     a, b = label[0::2], label[1::2]
@@ -154,7 +154,7 @@ def build_geometry(
     inner: dict[int, list[int]] = {}
     if len(hit_pair):
         bounds = np.flatnonzero(np.r_[True, hit_pair[1:] != hit_pair[:-1], True])
-        for lo, hi in zip(bounds[:-1], bounds[1:]):
+        for lo, hi in itertools.pairwise(bounds):
             inner[int(hit_pair[lo])] = [int(j) for j in hit_joint[lo:hi]]  # from lo_j to hi_j
     is_split = np.isin(pair_of, np.fromiter(inner, dtype=np.int64, count=len(inner)))
     unsplit = np.flatnonzero(~is_split)
@@ -198,11 +198,11 @@ def build_geometry(
     m = len(uniq_key)
     src_list, inv_list = src.tolist(), inverse.tolist()  # Python ints: no numpy scalars in the loops
     if len(inv_list) == m:  # each member from exactly one drawn piece (the usual case)
-        row = [0] * m
+        src_of = [0] * m
         for s, e in zip(src_list, inv_list):
-            row[e] = s
-        out_layers = tuple(layers[s] for s in row)
-        out_handles = tuple((handles[s],) for s in row)
+            src_of[e] = s
+        out_layers = tuple(layers[s] for s in src_of)
+        out_handles: tuple[tuple[str, ...], ...] = tuple((handles[s],) for s in src_of)
     else:
         member_handles: list[set[str]] = [set() for _ in range(m)]
         member_layers: list[set[str]] = [set() for _ in range(m)]
@@ -212,7 +212,7 @@ def build_geometry(
         out_layers = tuple(min(ls) for ls in member_layers)
         out_handles = tuple(tuple(sorted(hs)) for hs in member_handles)
 
-    for e in np.flatnonzero(counts > 1):
+    for e in np.flatnonzero(counts > 1).tolist():
         i, k = ends[e]
         mid = (xy[i] + xy[k]) / 2
         findings.append(

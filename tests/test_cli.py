@@ -17,7 +17,9 @@ def write(path, text):
 
 
 def run(args, cwd=None):
-    p = subprocess.run([sys.executable, "-m", "dxftruss", *args], capture_output=True, text=True, cwd=cwd, timeout=120)
+    p = subprocess.run(
+        [sys.executable, "-m", "dxftruss", *args], check=False, capture_output=True, text=True, cwd=cwd, timeout=120
+    )
     return p.returncode, p.stdout, p.stderr
 
 
@@ -32,7 +34,7 @@ def test_clean_drawing_exits_0_and_json_to_stdout(tmp_path):
 def test_mechanism_exits_1(tmp_path):
     segs = [s for s in pratt_segments() if s != (4.0, 3.0, 8.0, 0.0)]  # one diagonal missing
     dxf = write_drawing(tmp_path / "m.dxf", segs, supports=[(0, 0, "XY"), (24, 0, "Y")])
-    code, out, err = run(["check", str(dxf), "--json", str(tmp_path / "m.json")])
+    code, out, _err = run(["check", str(dxf), "--json", str(tmp_path / "m.json")])
     assert code == 1
     doc = json.loads((tmp_path / "m.json").read_text())
     assert any(f["code"] == "mechanism" for f in doc["findings"])
@@ -49,7 +51,7 @@ def test_mechanism_exits_1(tmp_path):
 )
 def test_unreadable_input_exits_2_with_one_line(tmp_path, make, fragment):
     path = make(tmp_path)
-    code, out, err = run(["check", str(path), "--json", "-"])
+    code, _out, err = run(["check", str(path), "--json", "-"])
     assert code == 2
     assert fragment in err and len(err.strip().splitlines()) == 1 and "Traceback" not in err
 
@@ -58,16 +60,16 @@ def test_bad_loads_file_exits_2(tmp_path):
     dxf = write_drawing(tmp_path / "roof.dxf", pratt_segments())
     bad = tmp_path / "bad.toml"
     bad.write_text("[[load]]\nat = [1000, 1000]\nfy = -1\n")
-    code, out, err = run(["check", str(dxf), "--loads", str(bad), "--json", "-"])
+    code, _out, err = run(["check", str(dxf), "--loads", str(bad), "--json", "-"])
     assert code == 2 and "bad.toml: [[load]] #1" in err and "nearest is J" in err
 
 
 def test_output_over_input_is_refused(tmp_path):
     dxf = write_drawing(tmp_path / "roof.dxf", pratt_segments())
     before = dxf.read_bytes()
-    code, out, err = run(["check", str(dxf), "--json", str(dxf)])
+    code, _out, err = run(["check", str(dxf), "--json", str(dxf)])
     assert code == 2 and "refusing" in err
-    code, out, err = run(["check", str(dxf), "--dxf", str(dxf)])
+    code, _out, err = run(["check", str(dxf), "--dxf", str(dxf)])
     assert code == 2 and dxf.read_bytes() == before
 
 
@@ -81,7 +83,7 @@ def test_bad_option_exits_2(tmp_path, capsys):
 
 
 def test_help_explains_every_option():
-    code, out, err = run(["check", "--help"])
+    code, out, _err = run(["check", "--help"])
     assert code == 0
     for opt in ("--loads", "--pdf", "--dxf", "--json", "--snap", "--near-miss", "--units", "--layers", "--quiet"):
         assert opt in out

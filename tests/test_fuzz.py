@@ -22,6 +22,7 @@ from __future__ import annotations
 import math
 import random
 import tempfile
+from collections.abc import Callable
 from pathlib import Path
 
 import pytest
@@ -60,6 +61,16 @@ def _check(data: bytes, ops: object = None, **kw) -> mu.Outcome:  # type: ignore
         for m in out.report["members"]:
             assert isinstance(m["length"], float) and m["length"] >= 0, m
     return out
+
+
+def _check_repeated(
+    name: str, rng: random.Random, mutator: Callable[[mu.Pairs, random.Random], mu.Pairs], most: int
+) -> None:
+    """Apply ``mutator`` 1..most times to seed ``name``, then check the run."""
+    pairs = mu.parse_pairs(mu.seed(name))
+    for _ in range(rng.randint(1, most)):
+        pairs = mutator(pairs, rng)
+    _check(mu.serialize(pairs), name)
 
 
 def _codes(report: dict) -> set[str]:
@@ -158,10 +169,7 @@ def test_special_numbers_in_line_coordinates(name, slot, value):
 @settings(FUZZ, max_examples=10)
 @given(name=st.sampled_from(ASCII_SEEDS), rng=st.randoms(use_true_random=False))
 def test_special_numbers_anywhere(name, rng):
-    pairs = mu.parse_pairs(mu.seed(name))
-    for _ in range(rng.randint(1, 4)):
-        pairs = mu.m_special_number(pairs, rng)
-    _check(mu.serialize(pairs), name)
+    _check_repeated(name, rng, mu.m_special_number, most=4)
 
 
 # ---------------------------------------------------------------------------------------
@@ -194,10 +202,7 @@ def test_absurd_minsert_counts_are_bounded(name, rows, cols, spacing, which):
 @settings(FUZZ, max_examples=16)
 @given(name=st.sampled_from(ASCII_SEEDS), rng=st.randoms(use_true_random=False))
 def test_block_nesting_cycles_and_missing_blocks(name, rng):
-    pairs = mu.parse_pairs(mu.seed(name))
-    for _ in range(rng.randint(1, 3)):
-        pairs = mu.m_nest_blocks(pairs, rng)
-    _check(mu.serialize(pairs), name)
+    _check_repeated(name, rng, mu.m_nest_blocks, most=3)
 
 
 @pytest.mark.parametrize("name", ASCII_SEEDS)

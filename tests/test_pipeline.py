@@ -41,7 +41,7 @@ def test_pratt_end_to_end(tmp_path):
     def force(p, q):
         i = int(np.flatnonzero((np.abs(t.xy - p) < 1e-9).all(axis=1))[0])
         k = int(np.flatnonzero((np.abs(t.xy - q) < 1e-9).all(axis=1))[0])
-        e = int(np.flatnonzero(((t.ends[:, 0] == min(i, k)) & (t.ends[:, 1] == max(i, k))))[0])
+        e = int(np.flatnonzero((t.ends[:, 0] == min(i, k)) & (t.ends[:, 1] == max(i, k)))[0])
         return case.forces[e]
 
     assert force((0, 0), (4, 0)) == pytest.approx(0, abs=1e-9)  # B1

@@ -128,6 +128,32 @@ def _sha(path: Path) -> str:
     return hashlib.sha256(path.read_bytes()).hexdigest()
 
 
+def _result(
+    dxf: Path,
+    truss: Truss,
+    stability: tuple[PartStability, ...],
+    cases: tuple[CaseResult, ...],
+    findings: list[Finding],
+    *,
+    snap: float,
+    near: float,
+    axis: float | None,
+    recovered: bool = False,
+) -> Result:
+    """A Result of an AC1027 drawing in mm (units from the header), no line work kept."""
+    return Result(
+        source=SourceInfo(str(dxf), _sha(dxf), "AC1027", "mm", "header", recovered),
+        settings=Settings(),
+        tolerances=Tolerances(snap, near, "1e-06 x extent diagonal", "0.02 x median member length"),
+        truss=truss,
+        linework=LineWork(np.zeros((0, 4)), (), (), (), (), (), "AC1027", "mm", ()),
+        stability=stability,
+        cases=cases,
+        findings=sort_findings(findings),
+        symmetry_axis=axis,
+    )
+
+
 def make_result(
     dxf: Path,
     handles: dict[int, str],
@@ -210,18 +236,8 @@ def make_result(
         Finding(Code.IGNORED_ENTITY, "ignored 1 TEXT, 1 CIRCLE, 1 ARC (not members)", data={"TEXT": 1}),
         Finding(Code.DANGLING_MEMBER, "member M9 has a free end at J9", at=(2 * A, H), joints=(), members=()),
     ]
-    lw = LineWork(np.zeros((0, 4)), (), (), (), (), (), "AC1027", "mm", ())
-    return Result(
-        source=SourceInfo(str(dxf), _sha(dxf), "AC1027", "mm", "header", recovered),
-        settings=Settings(),
-        tolerances=Tolerances(0.0072, 72.0, "1e-06 x extent diagonal", "0.02 x median member length"),
-        truss=truss,
-        linework=lw,
-        stability=(_stability(0, 4, 5, 3),),
-        cases=cases,
-        findings=sort_findings(findings),
-        symmetry_axis=A,
-    )
+    return _result(dxf, truss, (_stability(0, 4, 5, 3),), cases, findings, snap=0.0072, near=72.0, axis=A,
+                   recovered=recovered)
 
 
 def make_mechanism_result(dxf: Path) -> Result:
@@ -264,18 +280,7 @@ def make_mechanism_result(dxf: Path) -> Result:
     ]
     nan = np.full(4, np.nan)
     case = CaseResult("unit-panel", True, (), nan, (), None, (), (), (), float("nan"), None)
-    lw = LineWork(np.zeros((0, 4)), (), (), (), (), (), "AC1027", "mm", ())
-    return Result(
-        source=SourceInfo(str(dxf), _sha(dxf), "AC1027", "mm", "header", False),
-        settings=Settings(),
-        tolerances=Tolerances(0.0025, 35.0, "1e-06 x extent diagonal", "0.02 x median member length"),
-        truss=truss,
-        linework=lw,
-        stability=(st,),
-        cases=(case,),
-        findings=sort_findings(findings),
-        symmetry_axis=None,
-    )
+    return _result(dxf, truss, (st,), (case,), findings, snap=0.0025, near=35.0, axis=None)
 
 
 @pytest.fixture

@@ -8,6 +8,8 @@ from hypothesis import strategies as st
 from dxftruss.findings import Code
 from dxftruss.snap import build_geometry, cluster_points
 
+from .drawings import pratt_segments
+
 
 def geom(segs, snap=1e-6, layers=None):
     segs = np.asarray(segs, float)
@@ -74,16 +76,8 @@ def test_ids_follow_coordinates():
     assert g.ends.tolist() == [[0, 1], [0, 2], [1, 2]]
 
 
-def pratt(n=6, a=4.0, h=3.0):
-    segs = []
-    for i in range(n):
-        segs += [[i * a, 0, (i + 1) * a, 0], [i * a, h, (i + 1) * a, h]]
-        if i < n // 2:
-            segs.append([i * a, h, (i + 1) * a, 0])
-        else:
-            segs.append([i * a, 0, (i + 1) * a, h])
-    segs += [[i * a, 0, i * a, h] for i in range(n + 1)]
-    return np.array(segs, float)
+def pratt():
+    return np.array(pratt_segments(), float)
 
 
 @settings(max_examples=25, deadline=None, derandomize=True)

@@ -421,7 +421,7 @@ def test_parallel_rollers_are_special_geometry():
     # rigid (k_gen = 0), but parallel restraints leave the horizontal slide free (k = 1,
     # rigid, special geometry; METHODS 2 "parallel members").
     joints = {"A": (0.0, 0.0), "B": (4.0, 0.0), "C": (2.0, 3.0)}
-    truss, ix = build(joints, ["AB", "BC", "CA"], {"A": Fix.Y, "B": Fix.Y, "C": Fix.Y})
+    truss, _ix = build(joints, ["AB", "BC", "CA"], {"A": Fix.Y, "B": Fix.Y, "C": Fix.Y})
     for path in ({}, SPARSE):
         stab, findings = analyse_part(truss, truss.parts[0], **path)
         assert (stab.mechanisms, stab.self_stress, stab.generic_mechanisms) == (1, 1, 0)

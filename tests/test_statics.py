@@ -27,12 +27,14 @@ from hypothesis import strategies as st
 from scipy.sparse import coo_matrix
 from scipy.sparse.csgraph import connected_components
 
-from dxftruss.audit.stability import Mode, PartStability, Verdict
+from dxftruss.audit.stability import PartStability, Verdict
 from dxftruss.equilibrium import part_system
 from dxftruss.findings import Code
 from dxftruss.model import Fix, Load, LoadCase, Part, Section, Support, Truss
 from dxftruss.statics import CaseResult, member_ea, solve_case
 from dxftruss.symmetry import find_mirror_axis, mirror_joints, mirror_members
+
+from .trusses import load_case, svd_stability
 
 SQ2 = math.sqrt(2.0)
 PROPERTY = settings(derandomize=True, max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
@@ -85,36 +87,7 @@ def make_truss(
     )
 
 
-def case_of(name: str, loads: dict[int, tuple[float, float]]) -> LoadCase:
-    return LoadCase(name, tuple(Load(j, float(fx), float(fy)) for j, (fx, fy) in loads.items()))
-
-
-def svd_stability(truss: Truss, part: Part, *, with_modes: bool = True) -> PartStability:
-    """A PartStability from a dense SVD of A (METHODS 3; LAPACK rank tolerance, METHODS 8)."""
-    A = part_system(truss, part).A.toarray()
-    rows, cols = A.shape
-    if cols:
-        U, s, _ = sla.svd(A)
-    else:
-        U, s = np.eye(rows), np.zeros(0)
-    smax = float(s.max()) if s.size else 0.0
-    tol = max(rows, cols) * np.finfo(float).eps * smax
-    rank = int(np.count_nonzero(s > tol))
-    k, ss = rows - rank, cols - rank
-    verdict = Verdict.MECHANISM if k else (Verdict.INDETERMINATE if ss else Verdict.DETERMINATE)
-    modes = []
-    if with_modes:
-        for q in range(rank, rows):
-            d = U[:, q].reshape(-1, 2)
-            amp = np.hypot(d[:, 0], d[:, 1])
-            move = amp > 1e-12 * amp.max()
-            modes.append(Mode(tuple(int(j) for j in part.joints[move]), d[move] / amp.max(), False))
-    smin = float(s[rank - 1]) if rank else None
-    return PartStability(
-        part=part.index, j=len(part.joints), m=len(part.members), r=cols - len(part.members), rank=rank,
-        mechanisms=k, self_stress=ss, generic_mechanisms=k, generic_self_stress=ss, verdict=verdict,
-        sigma_min=smin, sigma_max=smax, rank_gap=None, modes=tuple(modes), method="dense-svd",
-    )
+case_of = load_case
 
 
 def counted_stability(truss: Truss, part: Part) -> PartStability:
@@ -372,7 +345,7 @@ def test_c4_unit_conversion() -> None:
 def test_c4_missing_section_hides_displacements() -> None:
     # SPEC 8: displacements only when every member has a real section (common practice)
     truss = c4_truss()
-    truss = dataclasses.replace(truss, **{"sections": C4_SECTIONS[:2]})  # no section for B23
+    truss = dataclasses.replace(truss, sections=C4_SECTIONS[:2])  # no section for B23
     result, findings = solve(truss, truss.cases[0])
     assert result.displacements is None
     assert result.forces == pytest.approx([0.0, -1.0, 2 * SQ2], abs=1e-12)  # determinate: unchanged
@@ -407,7 +380,7 @@ def test_c5_three_bar_closed_form(theta_deg: float) -> None:
     theta, L, P = math.radians(theta_deg), 3.0, 10.0
     ea = 0.01 * 2.0e11
     truss = three_bar(theta, L, P, sections=(Section("*", 0.01, 2.0e11),))
-    truss = dataclasses.replace(truss, **{"force_unit": "N"})
+    truss = dataclasses.replace(truss, force_unit="N")
     result, findings = solve(truss, truss.cases[0])
     c = math.cos(theta)
     n_m = P / (1 + 2 * c**3)
@@ -800,7 +773,7 @@ def test_property_mirror_invariance(seed: int) -> None:
     result, _ = solve(truss, truss.cases[0])
     xy = truss.xy * np.array([-1.0, 1.0])
     case = LoadCase("m", tuple(Load(ld.joint, -ld.fx, ld.fy) for ld in truss.cases[0].loads))
-    mirrored = dataclasses.replace(truss, **{"xy": xy, "cases": (case,)})
+    mirrored = dataclasses.replace(truss, xy=xy, cases=(case,))
     other, _ = solve(mirrored, case)
     scale = max(1.0, float(np.abs(result.forces).max()))
     assert other.forces == pytest.approx(result.forces, abs=1e-9 * scale)
@@ -822,7 +795,7 @@ def test_property_rotation_invariance(seed: int, angle: float) -> None:
         fx, fy = rot @ np.array([ld.fx, ld.fy])
         loads.append(Load(ld.joint, float(fx), float(fy)))
     case = LoadCase("r", tuple(loads))
-    turned = dataclasses.replace(truss, **{"xy": truss.xy @ rot.T + np.array([3.0, -7.0]), "cases": (case,)})
+    turned = dataclasses.replace(truss, xy=truss.xy @ rot.T + np.array([3.0, -7.0]), cases=(case,))
     other, _ = solve(turned, case)
     scale = max(1.0, float(np.abs(result.forces).max()))
     assert other.forces == pytest.approx(result.forces, abs=1e-9 * scale)
@@ -839,7 +812,7 @@ def test_property_uniform_stiffness_scale(seed: int, factor: float) -> None:
     base = (Section("chord", 3e-3, 2.1e11), Section("web", 1e-3, 2.1e11), Section("brace", 5e-4, 7e10))
     truss = _random_rigid(seed, layers=layers, sections=base)
     scaled_sections = tuple(Section(s.layer, s.area * factor, s.modulus) for s in base)
-    scaled = dataclasses.replace(truss, **{"sections": scaled_sections})
+    scaled = dataclasses.replace(truss, sections=scaled_sections)
     r1, _ = solve(truss, truss.cases[0])
     r2, _ = solve(scaled, truss.cases[0])
     scale = max(1.0, float(np.abs(r1.forces).max()))

@@ -8,48 +8,34 @@ level bed count as a mirrored pair; fy equal and fx opposite at mirrored joints)
 from __future__ import annotations
 
 import dataclasses
+
 import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from dxftruss.model import Fix, Load, LoadCase, Part, Support, Truss
+from dxftruss.model import Fix, LoadCase, Support, Truss
 from dxftruss.symmetry import find_mirror_axis, loads_symmetric, mirror_joints, mirror_members
+
+from .trusses import load_case, one_part_truss, pin_and_roller, pratt_arrays
 
 PROPERTY = settings(derandomize=True, max_examples=30, deadline=None)
 
 
 def make_truss(xy, ends, supports=()) -> Truss:
-    xy = np.asarray(xy, dtype=float).reshape(-1, 2)
-    ends = np.sort(np.asarray(ends, dtype=np.int64).reshape(-1, 2), axis=1)
-    part = Part(0, np.arange(xy.shape[0]), np.arange(ends.shape[0]))
-    return Truss(xy, ends, ("T",) * len(ends), tuple((f"H{e}",) for e in range(len(ends))), tuple(supports),
-                 (), (part,), "m", "kN")
+    return one_part_truss(xy, ends, supports)
 
 
 def pratt(n: int = 6, a: float = 4.0, h: float = 3.0, x0: float = 0.0, roller: Fix = Fix.Y,
           flip: int | None = None) -> Truss:
-    """METHODS C1 layout (L_i = i, U_i = n + 1 + i), optionally one diagonal flipped.
-
-      U0--U1--U2--U3--U4--U5--U6
-      | \\ | \\ | \\ | / | / | / |
-      L0--L1--L2--L3--L4--L5--L6     pin L0, roller at L6
-    """
-    xy = [(x0 + i * a, 0.0) for i in range(n + 1)] + [(x0 + i * a, h) for i in range(n + 1)]
-    ends = []
-    for i in range(1, n + 1):
-        ends.append((i - 1, i))
-        ends.append((n + i, n + 1 + i))
-        left = i <= n // 2
-        if i == flip:
-            left = not left
-        ends.append((n + i, i) if left else (i - 1, n + 1 + i))
-    ends += [(i, n + 1 + i) for i in range(n + 1)]
-    return make_truss(xy, ends, (Support(0, Fix.XY), Support(n, roller)))
+    """METHODS C1 layout (tests/trusses.pratt_arrays), pin L0, roller at Ln, optionally
+    one diagonal flipped."""
+    xy, named = pratt_arrays(n, a, h, x0=x0, flip=flip)
+    return make_truss(xy, list(named.values()), pin_and_roller(0, n, roller))
 
 
 def case(loads: dict[int, tuple[float, float]]) -> LoadCase:
-    return LoadCase("c", tuple(Load(j, fx, fy) for j, (fx, fy) in loads.items()))
+    return load_case("c", loads)
 
 
 def test_pratt_axis_with_pin_and_roller() -> None:
@@ -91,12 +77,12 @@ def test_tolerance_relative_to_extent() -> None:
     diag = float(np.hypot(24.0, 3.0))
     nudged = truss.xy.copy()
     nudged[2, 1] += 1e-3 * diag * 1e-6  # L2, off the axis: far below the tolerance
-    assert find_mirror_axis(dataclasses.replace(truss, **{"xy": nudged})) == pytest.approx(12.0)
+    assert find_mirror_axis(dataclasses.replace(truss, xy=nudged)) == pytest.approx(12.0)
     nudged[2, 1] += 1e-4 * diag  # far above it
-    assert find_mirror_axis(dataclasses.replace(truss, **{"xy": nudged})) is None
-    assert find_mirror_axis(dataclasses.replace(truss, **{"xy": nudged}), tol=1e-3) == pytest.approx(12.0)
+    assert find_mirror_axis(dataclasses.replace(truss, xy=nudged)) is None
+    assert find_mirror_axis(dataclasses.replace(truss, xy=nudged), tol=1e-3) == pytest.approx(12.0)
     # an absolute distance in drawing units instead of the relative tol
-    shifted = dataclasses.replace(truss, **{"xy": nudged})
+    shifted = dataclasses.replace(truss, xy=nudged)
     assert find_mirror_axis(shifted, distance=1e-4 * diag * 0.5) is None
     assert find_mirror_axis(shifted, distance=1e-4 * diag * 2.0) == pytest.approx(12.0)
     load = case({2: (0.0, -1.0), 4: (0.0, -1.0)})
@@ -158,4 +144,4 @@ def test_property_mirrored_half_is_found(seed: int) -> None:
     assert find_mirror_axis(truss) == pytest.approx(c)
     moved = truss.xy.copy()
     moved[inverse[0], 1] += 0.25
-    assert find_mirror_axis(dataclasses.replace(truss, **{"xy": moved})) is None
+    assert find_mirror_axis(dataclasses.replace(truss, xy=moved)) is None

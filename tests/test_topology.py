@@ -39,7 +39,7 @@ def test_dangling_stub():
 
 def test_near_miss_joint_to_joint_and_joint_to_member():
     # a web end stops 0.05 short of the apex, another 0.05 short of the bottom chord
-    t, fs = truss_of(TRI + [[1, 0, 2, 2.95], [2, 3, 2.5, 0.05]])
+    _t, fs = truss_of(TRI + [[1, 0, 2, 2.95], [2, 3, 2.5, 0.05]])
     near = by_code(fs, Code.NEAR_MISS)
     dists = sorted(round(f.data["distance"], 6) for f in near)
     assert dists == [0.05, 0.05]
@@ -66,5 +66,5 @@ def test_disconnected_parts():
 
 
 def test_no_members():
-    t, fs = truss_of(np.zeros((0, 4)))
+    _t, fs = truss_of(np.zeros((0, 4)))
     assert [f.code for f in fs] == [Code.NO_MEMBERS]

@@ -13,32 +13,25 @@ import math
 
 import numpy as np
 import pytest
-import scipy.linalg as sla
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from dxftruss.audit.stability import PartStability, Verdict
+from dxftruss.audit.stability import Verdict
 from dxftruss.audit.zero_force import zero_force_by_rule
-from dxftruss.equilibrium import part_system
-from dxftruss.model import Fix, Load, LoadCase, Part, Support, Truss
+from dxftruss.model import Fix, Load, LoadCase, Support, Truss
 from dxftruss.statics import solve_case
+
+from .trusses import load_case, member_ids, one_part_truss, pratt_arrays, svd_stability
 
 PROPERTY = settings(derandomize=True, max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 
 
 def make_truss(xy, ends, supports=(), loads=None) -> tuple[Truss, LoadCase]:
-    xy = np.asarray(xy, dtype=float).reshape(-1, 2)
-    ends = np.sort(np.asarray(ends, dtype=np.int64).reshape(-1, 2), axis=1)
-    case = LoadCase("c", tuple(Load(j, float(fx), float(fy)) for j, (fx, fy) in (loads or {}).items()))
-    part = Part(0, np.arange(xy.shape[0]), np.arange(ends.shape[0]))
-    truss = Truss(xy, ends, ("T",) * len(ends), tuple((f"H{e}",) for e in range(len(ends))), tuple(supports),
-                  (case,), (part,), "m", "kN")
-    return truss, case
+    case = load_case("c", loads)
+    return one_part_truss(xy, ends, supports, (case,)), case
 
 
-def members_named(truss: Truss, pairs: list[tuple[int, int]]) -> set[int]:
-    lookup = {tuple(e): i for i, e in enumerate(truss.ends.tolist())}
-    return {lookup[tuple(sorted(p))] for p in pairs}
+members_named = member_ids
 
 
 # ---------------------------------------------------------------------------------------
@@ -46,18 +39,42 @@ def members_named(truss: Truss, pairs: list[tuple[int, int]]) -> set[int]:
 # ---------------------------------------------------------------------------------------
 
 
-def test_rule_1_unloaded_two_member_joint() -> None:
+# Joints 0 (pin) and 1 (roller, y), one loaded joint: (xy, ends, loads, joint pairs the
+# rules must name). The return value is a tuple in every case.
+SMALL_JOINT_CASES = [
     # METHODS 6.1 rule 1: an unloaded joint with two non-collinear members -> both zero
     #      2
     #     / \
     #    0---1      joint 2 unloaded and unsupported; pin 0, roller (y) 1 loaded (1, -1)
-    truss, case = make_truss([(0, 0), (4, 0), (2, 3)], [(0, 1), (0, 2), (1, 2)],
-                             (Support(0, Fix.XY), Support(1, Fix.Y)), {1: (1, -1)})
-    assert set(zero_force_by_rule(truss, case)) == members_named(truss, [(0, 2), (1, 2)])
+    pytest.param([(0, 0), (4, 0), (2, 3)], [(0, 1), (0, 2), (1, 2)], {1: (1, -1)}, [(0, 2), (1, 2)], id="rule-1"),
     # with the load at the pin instead, joint 1 becomes a member + roller joint: 0-1 too
-    truss, case = make_truss([(0, 0), (4, 0), (2, 3)], [(0, 1), (0, 2), (1, 2)],
-                             (Support(0, Fix.XY), Support(1, Fix.Y)), {0: (1, -1)})
-    assert set(zero_force_by_rule(truss, case)) == {0, 1, 2}
+    pytest.param([(0, 0), (4, 0), (2, 3)], [(0, 1), (0, 2), (1, 2)], {0: (1, -1)}, [(0, 1), (0, 2), (1, 2)],
+                 id="rule-1-load-at-pin"),
+    # Baker & Haynes 6.3: the three-force version of rule 2 covers a two-member joint
+    # loaded along one member -> the other member is zero
+    #   2
+    #   |\        joint 2: members 2-0 (vertical) and 2-1; load straight down at 2
+    #   0-1       then joint 1 (member 0-1 and a roller, unloaded) makes 0-1 zero too
+    pytest.param([(0, 0), (3, 0), (0, 4)], [(0, 1), (0, 2), (1, 2)], {2: (0, -5)}, [(1, 2), (0, 1)],
+                 id="load-along-one-member"),
+    # a load across both members: nothing at joint 2, and joint 1 (0-1, 1-2, roller, no
+    # two of them parallel) is not decidable either -> empty
+    pytest.param([(0, 0), (3, 0), (0, 4)], [(0, 1), (0, 2), (1, 2)], {2: (2, -5)}, [], id="load-across-both"),
+    # a joint with one member and a roller (y), unloaded: the member is zero unless it is
+    # vertical (project on x); common consequence of joint equilibrium (METHODS 6.3).
+    # Here joint 1: member 1-2 is vertical, parallel to the roller: no conclusion; joint 2:
+    # the load is along neither member
+    pytest.param([(0, 0), (3, 0), (3, 4)], [(0, 2), (1, 2)], {2: (1, -1)}, [], id="roller-vertical-member"),
+    pytest.param([(0, 0), (5, 0), (3, 4)], [(0, 2), (1, 2)], {2: (1, -1)}, [(1, 2)], id="roller-sloping-member"),
+]
+
+
+@pytest.mark.parametrize("xy, ends, loads, zero", SMALL_JOINT_CASES)
+def test_small_joint_rules(xy, ends, loads, zero) -> None:
+    truss, case = make_truss(xy, ends, (Support(0, Fix.XY), Support(1, Fix.Y)), loads)
+    found = zero_force_by_rule(truss, case)
+    assert isinstance(found, tuple)
+    assert set(found) == members_named(truss, zero)
 
 
 def test_rule_2_three_members_two_collinear() -> None:
@@ -81,22 +98,6 @@ def test_rule_2_three_members_two_collinear() -> None:
     assert set(zero_force_by_rule(truss, case)) == members_named(truss, [(1, 3)])
 
 
-def test_load_along_one_member_of_two() -> None:
-    # Baker & Haynes 6.3: the three-force version of rule 2 covers a two-member joint
-    # loaded along one member -> the other member is zero
-    #   2
-    #   |\        joint 2: members 2-0 (vertical) and 2-1; load straight down at 2
-    #   0-1       then joint 1 (member 0-1 and a roller, unloaded) makes 0-1 zero too
-    truss, case = make_truss([(0, 0), (3, 0), (0, 4)], [(0, 1), (0, 2), (1, 2)],
-                             (Support(0, Fix.XY), Support(1, Fix.Y)), {2: (0, -5)})
-    assert set(zero_force_by_rule(truss, case)) == members_named(truss, [(1, 2), (0, 1)])
-    # a load across both members: nothing at joint 2, and joint 1 (0-1, 1-2, roller, no
-    # two of them parallel) is not decidable either -> empty
-    truss, case = make_truss([(0, 0), (3, 0), (0, 4)], [(0, 1), (0, 2), (1, 2)],
-                             (Support(0, Fix.XY), Support(1, Fix.Y)), {2: (2, -5)})
-    assert zero_force_by_rule(truss, case) == ()
-
-
 def test_supports_are_forces() -> None:
     # METHODS 6.3: support aware. Joint 1 with member 0-1 (horizontal), member 1-2
     # (vertical) and a roller (y): the vertical member lines up with the roller, so the
@@ -107,19 +108,6 @@ def test_supports_are_forces() -> None:
     assert members_named(truss, [(0, 1)]) <= set(zero_force_by_rule(truss, case))
     truss, case = make_truss(xy, ends, (Support(0, Fix.XY), Support(1, Fix.XY)), {3: (0, -1)})
     assert members_named(truss, [(0, 1)]).isdisjoint(zero_force_by_rule(truss, case))
-
-
-def test_single_member_at_a_roller() -> None:
-    # a joint with one member and a roller (y), unloaded: the member is zero unless it is
-    # vertical (project on x); common consequence of joint equilibrium (METHODS 6.3)
-    truss, case = make_truss([(0, 0), (3, 0), (3, 4)], [(0, 2), (1, 2)],
-                             (Support(0, Fix.XY), Support(1, Fix.Y)), {2: (1, -1)})
-    # joint 1: member 1-2 is vertical, parallel to the roller: no conclusion; joint 2: the
-    # load is along neither member
-    assert zero_force_by_rule(truss, case) == ()
-    truss, case = make_truss([(0, 0), (5, 0), (3, 4)], [(0, 2), (1, 2)],
-                             (Support(0, Fix.XY), Support(1, Fix.Y)), {2: (1, -1)})
-    assert set(zero_force_by_rule(truss, case)) == members_named(truss, [(1, 2)])
 
 
 def test_straight_through_joint_gives_no_zero() -> None:
@@ -145,18 +133,10 @@ def test_iteration_reaches_new_joints() -> None:
 # ---------------------------------------------------------------------------------------
 
 
-def pratt(n: int, a: float = 4.0, h: float = 3.0, P: float = 10.0):
-    """METHODS C1 layout: L_i = i, U_i = n + 1 + i; pin L0, roller (y) Ln, P down at L1..L(n-1)."""
-    L = list(range(n + 1))
-    U = [n + 1 + i for i in range(n + 1)]
-    xy = [(i * a, 0.0) for i in range(n + 1)] + [(i * a, h) for i in range(n + 1)]
-    named = {}
-    for i in range(1, n + 1):
-        named[f"B{i}"] = (L[i - 1], L[i])
-        named[f"T{i}"] = (U[i - 1], U[i])
-        named[f"D{i}"] = (U[i - 1], L[i]) if i <= n // 2 else (L[i - 1], U[i])
-    for i in range(n + 1):
-        named[f"V{i}"] = (L[i], U[i])
+def pratt(n: int, a: float = 4.0, h: float = 3.0, P: float = 10.0, *, howe: bool = False):
+    """METHODS C1 layout (C2 with ``howe``): L_i = i, U_i = n + 1 + i; pin L0, roller (y) Ln,
+    P down at L1..L(n-1)."""
+    xy, named = pratt_arrays(n, a, h, howe=howe)
     truss, case = make_truss(xy, list(named.values()), (Support(0, Fix.XY), Support(n, Fix.Y)),
                              {i: (0.0, -P) for i in range(1, n)})
     return truss, case, {k: i for i, k in enumerate(named)}
@@ -173,18 +153,7 @@ def test_c1_pratt_rules(n: int) -> None:
 
 def test_c2_howe_rules() -> None:
     # METHODS C2: zero by rule 1 at U0 and U6: T1, V0, T6, V6
-    n = 6
-    xy = [(i * 4.0, 0.0) for i in range(n + 1)] + [(i * 4.0, 3.0) for i in range(n + 1)]
-    named = {}
-    for i in range(1, n + 1):
-        named[f"B{i}"] = (i - 1, i)
-        named[f"T{i}"] = (n + i, n + 1 + i)
-        named[f"D{i}"] = (i - 1, n + 1 + i) if i <= n // 2 else (n + i, i)
-    for i in range(n + 1):
-        named[f"V{i}"] = (i, n + 1 + i)
-    truss, case = make_truss(xy, list(named.values()), (Support(0, Fix.XY), Support(n, Fix.Y)),
-                             {i: (0.0, -10.0) for i in range(1, n)})
-    idx = {k: i for i, k in enumerate(named)}
+    truss, case, idx = pratt(6, howe=True)
     assert set(zero_force_by_rule(truss, case)) == {idx["T1"], idx["V0"], idx["T6"], idx["V6"]}
 
 
@@ -209,7 +178,7 @@ def test_c9_textbook_seven_members() -> None:
                                (Support(j["A"], Fix.XY), Support(j["H"], Fix.X)),
                                {j["C"]: (0.0, -10.0), j["E"]: (5.0, 0.0)})
     assert {bars[e] for e in zero_force_by_rule(truss2, case2)} == found | {"AH"}
-    result, _ = solve_case(truss2, [svd_stability(truss2, truss2.parts[0])], case2)
+    result, _ = solve_case(truss2, [svd_stability(truss2, truss2.parts[0], with_modes=False)], case2)
     assert {bars[e] for e in result.zero_by_solution} == found | {"AH"}
 
 
@@ -255,17 +224,6 @@ def test_degenerate_input() -> None:
 # ---------------------------------------------------------------------------------------
 # property: rules are a subset of the solution's zeros
 # ---------------------------------------------------------------------------------------
-
-
-def svd_stability(truss: Truss, part: Part) -> PartStability:
-    """Stability record from a dense SVD (METHODS 3; LAPACK rank tolerance, METHODS 8)."""
-    A = part_system(truss, part).A.toarray()
-    s = sla.svdvals(A)
-    rank = int(np.count_nonzero(s > max(A.shape) * np.finfo(float).eps * s.max()))
-    k, ss = A.shape[0] - rank, A.shape[1] - rank
-    verdict = Verdict.MECHANISM if k else (Verdict.INDETERMINATE if ss else Verdict.DETERMINATE)
-    return PartStability(part.index, len(part.joints), len(part.members), A.shape[1] - len(part.members), rank,
-                         k, ss, k, ss, verdict, float(s[rank - 1]), float(s.max()), None, (), "dense-svd")
 
 
 def random_truss_with_rules(seed: int) -> tuple[Truss, LoadCase] | None:
@@ -338,7 +296,7 @@ def test_property_rules_subset_of_solution(seed: int) -> None:
     if made is None:
         return
     truss, case = made
-    stab = svd_stability(truss, truss.parts[0])
+    stab = svd_stability(truss, truss.parts[0], with_modes=False)
     if stab.verdict is Verdict.MECHANISM or stab.sigma_min / stab.sigma_max < 1e-4:
         return
     result, _ = solve_case(truss, [stab], case)
@@ -365,7 +323,7 @@ def test_rule_members_are_exactly_zero_in_rotated_copy() -> None:
     rot = np.array([[math.cos(theta), -math.sin(theta)], [math.sin(theta), math.cos(theta)]])
     pins = (Support(0, Fix.XY), Support(6, Fix.XY))
     loads = tuple(Load(ld.joint, *(rot @ np.array([ld.fx, ld.fy]))) for ld in case.loads)
-    base = dataclasses.replace(truss, **{"supports": pins})
-    turned = dataclasses.replace(truss, **{"supports": pins, "xy": truss.xy @ rot.T})
+    base = dataclasses.replace(truss, supports=pins)
+    turned = dataclasses.replace(truss, supports=pins, xy=truss.xy @ rot.T)
     assert zero_force_by_rule(base, case) == zero_force_by_rule(turned, LoadCase("r", loads))
     assert idx["V3"] in zero_force_by_rule(turned, LoadCase("r", loads))

@@ -18,7 +18,6 @@ from scipy.spatial import cKDTree
 from ..findings import Code, Finding
 from ..model import Truss, joint_id, member_id
 
-
 #: at most this many candidate pairs are examined per check before it stops listing
 MAX_PAIRS = 2_000_000
 #: at most this many findings of one kind are listed; one more finding says how many more

@@ -34,7 +34,7 @@ from pathlib import Path
 if __package__ in (None, ""):  # run as a script: make ``tests`` importable
     sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
 
-from tests.fuzz import mutators as mu  # noqa: E402
+from tests.fuzz import mutators as mu
 
 CRASH_DIR = Path("/tmp/dxftruss-fuzz-crashes")
 

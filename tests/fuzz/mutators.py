@@ -28,10 +28,10 @@ import sys
 import time
 import traceback
 import warnings
+from collections.abc import Callable
 from dataclasses import dataclass, field
-from functools import lru_cache
+from functools import cache
 from pathlib import Path
-from typing import Callable
 
 Pairs = list[tuple[bytes, bytes]]
 
@@ -88,7 +88,7 @@ def _ascii(doc) -> bytes:  # type: ignore[no-untyped-def]
     return s.getvalue().encode("ascii")
 
 
-@lru_cache(maxsize=None)
+@cache
 def seed(name: str) -> bytes:
     """The seed drawing ``name`` (one of SEED_NAMES) as file bytes."""
     if name == "r12":
@@ -250,40 +250,34 @@ def m_move(p: Pairs, rng: random.Random) -> Pairs:
     return rest[:j] + chunk + rest[j:]
 
 
-def m_corrupt_code(p: Pairs, rng: random.Random) -> Pairs:
-    i = _pick(p, rng)
+def _replace_at(p: Pairs, i: int | None, code: bytes | None = None, value: bytes | None = None) -> Pairs:
+    """``p`` with the code and/or value of pair ``i`` replaced (``p`` itself when i is None)."""
     if i is None:
         return p
     q = list(p)
-    q[i] = (rng.choice(GARBAGE_CODES), q[i][1])
+    c, v = q[i]
+    q[i] = (c if code is None else code, v if value is None else value)
     return q
+
+
+def m_corrupt_code(p: Pairs, rng: random.Random) -> Pairs:
+    i = _pick(p, rng)
+    return p if i is None else _replace_at(p, i, code=rng.choice(GARBAGE_CODES))
 
 
 def m_garbage_value(p: Pairs, rng: random.Random) -> Pairs:
     i = _pick(p, rng)
-    if i is None:
-        return p
-    q = list(p)
-    q[i] = (q[i][0], garbage_value(rng))
-    return q
+    return p if i is None else _replace_at(p, i, value=garbage_value(rng))
 
 
 def m_special_number(p: Pairs, rng: random.Random) -> Pairs:
     i = _pick(p, rng, lambda _, c, v: (k := _code(c)) is not None and _is_float_code(k))
-    if i is None:
-        return p
-    q = list(p)
-    q[i] = (q[i][0], rng.choice(SPECIAL_NUMBERS))
-    return q
+    return p if i is None else _replace_at(p, i, value=rng.choice(SPECIAL_NUMBERS))
 
 
 def m_huge_int(p: Pairs, rng: random.Random) -> Pairs:
     i = _pick(p, rng, lambda _, c, v: (k := _code(c)) is not None and _is_int_code(k))
-    if i is None:
-        return p
-    q = list(p)
-    q[i] = (q[i][0], rng.choice(HUGE_INTS))
-    return q
+    return p if i is None else _replace_at(p, i, value=rng.choice(HUGE_INTS))
 
 
 def _entity_spans(p: Pairs, kind: bytes) -> list[tuple[int, int]]:
@@ -356,7 +350,7 @@ def m_nest_blocks(p: Pairs, rng: random.Random) -> Pairs:
     blocks = [b for b in _blocks(p) if not b[0].startswith(b"*")]
     if not blocks:
         return p
-    name, start, end = rng.choice(blocks)
+    name, _start, end = rng.choice(blocks)
     parents = [nm for nm, s, e in blocks if any(v == name for c, v in p[s:e] if c.strip() == b"2") and nm != name]
     target = rng.choice([name, name, *(parents or [name]), b"NO-SUCH-BLOCK", b"", b"*Model_Space", name.lower()])
     if rng.random() < 0.5:  # rename an existing INSERT's block name
