@@ -147,7 +147,7 @@ def build_truss(
     length_unit: str,
     outline_tol: float,
 ) -> Truss:
-    """Attach supports and loads to joints, add the defaults of SPEC section 5."""
+    """Attach supports and loads to joints, add the defaults of docs/user-guide.md, Defaults."""
     xy, ends = geometry.xy, geometry.ends
     findings: list[Finding] = []
     tree = cKDTree(xy) if len(xy) else None

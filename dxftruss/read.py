@@ -179,7 +179,7 @@ def _load(path: Path) -> tuple[Any, Any, bool]:
     except OSError as exc:
         raise InputError(f"{name}: cannot open the file ({_one_line(exc.strerror or exc)})") from None
 
-    if binary:  # the recovery reader cannot read binary DXF (LIBRARIES 1.1)
+    if binary:  # the recovery reader cannot read binary DXF (docs/methods.md, Library behaviour)
         try:
             doc = ezdxf.readfile(name)
         except Exception as exc:  # noqa: BLE001 - library boundary, see docstring
