@@ -40,7 +40,7 @@ side, laid out on a near-square grid with a 10 m gap between them; the member co
 size is rounded to a whole number of parts (1k -> 5 parts, 1005 members; 100k -> 498
 parts, 100098 members with the default 50 panels).
 
-Loads file (SPEC section 4, units m and kN), per part: a pin (``xy``) at B0, a roller
+Loads file (docs/user-guide.md, The loads file, units m and kN), per part: a pin (``xy``) at B0, a roller
 (``y``) at B_P, and a 12 kN downward load at every interior bottom panel point
 (case ``deck``). Output is deterministic: ezdxf's fixed meta data, a fixed random seed,
 coordinates computed from integers; a ``.meta.json`` beside each drawing records the

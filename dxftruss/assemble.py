@@ -149,7 +149,7 @@ def build_truss(
     max_parts: int | None = None,
     source: str = "drawing",
 ) -> Truss:
-    """Attach supports and loads to joints, add the defaults of SPEC section 5.
+    """Attach supports and loads to joints, add the defaults of docs/user-guide.md, Defaults.
 
     Raises LimitError as soon as the parts are known when there are more than
     ``max_parts`` (``source`` names the drawing in the message)."""

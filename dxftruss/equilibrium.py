@@ -1,4 +1,4 @@
-"""The equilibrium matrix of a part (METHODS section 0 and 1).
+"""The equilibrium matrix of a part (docs/methods.md, Notation and Equilibrium matrix).
 
 Glossary:
     A       the augmented equilibrium matrix [B, -R], 2j x (m + r), sparse CSC.

@@ -23,7 +23,7 @@ class Severity(str, Enum):
 
 
 class Code(str, Enum):
-    """Stable finding codes (SPEC section 7)."""
+    """Stable finding codes (docs/findings.md)."""
 
     NO_MEMBERS = "no-members"
     INVALID_COORDINATE = "invalid-coordinate"
@@ -79,7 +79,7 @@ _SEVERITY: dict[Code, Severity] = {
     Code.NEAR_MECHANISM: _W,
     Code.LOAD_EXCITES_MECHANISM: _E,
     Code.ASSUMED_STIFFNESS: _W,
-    # our additions beyond SPEC section 7 (documented in README):
+    # curved or partly usable line work (docs/findings.md):
     Code.ARC_SEGMENT: _W,  # a bulged polyline segment or arc on a member layer: not used
     Code.UNSUPPORTED_GEOMETRY: _W,  # e.g. 3-D line work flattened, block cycle, missing block
 }

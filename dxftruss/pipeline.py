@@ -42,9 +42,9 @@ class Settings:
     units: str | None = None
     layers: tuple[str, ...] = ()
     loads: str | None = None
-    #: default snap = this fraction of the line work's extent diagonal (SPEC 6)
+    #: default snap = this fraction of the line work's extent diagonal (docs/user-guide.md, Tolerances)
     snap_fraction: float = 1e-6
-    #: default near-miss radius = this fraction of the median member length (SPEC 6)
+    #: default near-miss radius = this fraction of the median member length (docs/user-guide.md, Tolerances)
     near_miss_fraction: float = 0.02
     #: refuse drawings that fall into more separate parts than this (--max-parts): each
     #: part is analysed alone, and tens of thousands of loose lines are not a truss

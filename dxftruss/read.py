@@ -197,7 +197,7 @@ def _load(path: Path, *, max_bytes: int | None = None, max_records: int | None =
                 "entity limit reached before reading; raise max_entities if the drawing is genuine"
             )
 
-    if binary:  # the recovery reader cannot read binary DXF (LIBRARIES 1.1)
+    if binary:  # the recovery reader cannot read binary DXF (docs/methods.md, Library behaviour)
         try:
             doc = ezdxf.readfile(name)
         except Exception as exc:  # noqa: BLE001 - library boundary, see docstring

@@ -2,26 +2,26 @@
 
 Glossary:
     A, x, f      the equilibrium system of a part, A x = f with A = [B, -R] and
-                 x = [t; rho] (equilibrium.py; METHODS 0 and 1).
+                 x = [t; rho] (equilibrium.py; docs/methods.md, Notation and Equilibrium matrix).
     t            member forces in the force unit, tension positive.
     rho          reactions in the force unit, acting on the structure along +x / +y.
-    D            an orthonormal basis of the mechanisms, null(A^T) (METHODS 3).
+    D            an orthonormal basis of the mechanisms, null(A^T) (docs/methods.md, SVD).
     carriable    a load with D^T f = 0: some bar forces and reactions balance it.
     determinate  k = 0 mechanisms and s = 0 self-stresses: A is square and regular and
                  x = A^-1 f (sparse LU); no stiffness is needed.
-    stiffness    K = B S B^T with S = diag(EA/L) (METHODS 5); used for indeterminate
+    stiffness    K = B S B^T with S = diag(EA/L) (docs/methods.md, stiffness method); used for indeterminate
                  parts (s > 0), for mechanism parts with a carriable load, and for the
                  displacements of determinate parts with real sections.
     section      the stiffness of a member: the first ``Section`` of the truss whose
                  layer glob matches the member's layer (case-insensitive); EA in N.
     residual     ||A x - f|| / (||f|| + ||A|| ||x||), checked after every solve
-                 because SuperLU does not signal near-singular matrices (METHODS 1).
+                 because SuperLU does not signal near-singular matrices (docs/methods.md, Equilibrium matrix).
     refinement   the relative change of x (of the forces t in the stiffness path) in
                  one step of iterative refinement with the same factor: an estimate of
                  the forward error. A singular matrix that SuperLU factors without
                  complaint gives a huge x that passes the residual test (it solves a
-                 nearby singular system) but changes by O(1) when refined (LIBRARIES
-                 4.1); both checks must pass.
+                 nearby singular system) but changes by O(1) when refined
+                 (docs/methods.md, Library behaviour); both checks must pass.
 
 Solution paths per part (the part's ``PartStability`` decides):
 
@@ -37,7 +37,7 @@ Solution paths per part (the part's ``PartStability`` decides):
   A carriable load is solved by the stiffness method on the bordered system
   [[K, D], [D^T, 0]] (restrained rows deleted): its displacement is orthogonal to the
   mechanisms and the bar forces t = S B^T delta are the unique ones that are both in
-  equilibrium and compatible (the same as the force method of METHODS 3, item 3).
+  equilibrium and compatible (the same as the force method of docs/methods.md, SVD item 3).
   Displacements of mechanism parts are not unique and are reported as NaN.
 - determinate (k = 0, s = 0): sparse LU of A; then the residual check.
 - indeterminate (k = 0, s > 0): stiffness method. Members without a section make the
@@ -226,7 +226,7 @@ def _stiffness_solve(
     residual_tol: float,
     refine_tol: float,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]:
-    """Direct stiffness method (METHODS 5), bordered by ``basis`` when it is not empty.
+    """Direct stiffness method (docs/methods.md, stiffness method), bordered by ``basis`` when it is not empty.
 
     ``ea`` in N per member, ``f`` in the force unit; returns forces and reactions in the
     force unit, the displacement (j, 2) in drawing units and the relative residual.
@@ -242,7 +242,7 @@ def _stiffness_solve(
     free = np.flatnonzero(~restrained)
     K_ff = K[free][:, free]
     f_n = f * newton
-    # reverse Cuthill-McKee keeps the profile of K small (METHODS 5); K_ff is symmetric
+    # reverse Cuthill-McKee keeps the profile of K small (docs/methods.md, stiffness method); K_ff is symmetric
     # positive definite when k = 0, so SuperLU runs in symmetric mode without pivoting
     # (much faster than the default column ordering; measured in the report)
     perm = reverse_cuthill_mckee(K_ff, symmetric_mode=True) if free.size else np.zeros(0, np.int64)
@@ -310,7 +310,7 @@ def _refine(lu: spla.SuperLU, system: sp.spmatrix, rhs: np.ndarray) -> tuple[np.
 
     The change between the two estimates the forward error. The normwise residual test
     alone passes a singular factor's garbage (a huge x solves a nearby singular system,
-    so ||A x - f|| is small next to ||A|| ||x||; LIBRARIES 4.1), but refinement then
+    so ||A x - f|| is small next to ||A|| ||x||; docs/methods.md, Library behaviour), but refinement then
     changes x by O(1). Raises _SolveFailed for a non-finite solution.
     """
     x0 = lu.solve(rhs)
@@ -358,11 +358,11 @@ def solve_case(
     """Solve one load case (or combination) on every part of ``truss``.
 
     stabilities    one PartStability per part of ``truss.parts`` (matched by index)
-    residual_tol   relative equilibrium residual accepted after a solve (METHODS 1)
+    residual_tol   relative equilibrium residual accepted after a solve (docs/methods.md, Equilibrium matrix)
     zero_tol       a member is zero in the solution when |t| <= zero_tol *
-                   max(max |t|, ||f||) over its part (METHODS 8)
+                   max(max |t|, ||f||) over its part (docs/methods.md, Tolerances)
     admissible_tol a load is carriable by a mechanism part when ||D^T f|| <=
-                   admissible_tol ||f|| (METHODS 3 and 8)
+                   admissible_tol ||f|| (docs/methods.md, SVD and Tolerances)
     symmetry_axis  x of a mirror axis of the truss (symmetry.find_mirror_axis); when
                    given, CaseResult.loads_symmetric says whether the loads mirror too
     symmetry_distance  drawing units within which mirrored joints must meet (use the
@@ -372,10 +372,10 @@ def solve_case(
                    dense SVD; larger ones use the stability stage's mode shapes
     moving_tol     a joint is named as moving in a mechanism finding when its share
                    of the excited shape exceeds moving_tol times the largest one
-    angle_tol      passed to the zero-force rule (METHODS 8)
+    angle_tol      passed to the zero-force rule (docs/methods.md, Tolerances)
     refine_tol     largest relative change of a solution in one step of iterative
                    refinement; above it the factorisation is not trusted (a singular
-                   matrix that SuperLU factored without complaint, LIBRARIES 4.1)
+                   matrix that SuperLU factored without complaint, docs/methods.md, Library behaviour)
 
     Forces and reactions are in the force unit, tension positive; displacements in
     drawing units. Returns the result and the findings: load-excites-mechanism,

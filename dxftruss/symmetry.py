@@ -7,9 +7,9 @@ Glossary:
     symmetric truss  joints, members (as joint pairs) and the supports' vertical
                      restraints map onto themselves. Only the y restraint is compared, so
                      a pin and a roller on a level bed count as a mirrored pair; the
-                     horizontal restraint is not compared (METHODS 7: pin + roller are
+                     horizontal restraint is not compared (docs/methods.md, Mirror symmetry: pin + roller are
                      symmetric only for vertical load components).
-    symmetric load   at mirrored joints fy is equal and fx opposite (METHODS 7, with the
+    symmetric load   at mirrored joints fy is equal and fx opposite (docs/methods.md, Mirror symmetry, with the
                      reflection M = diag(-1, 1)); only then do the vertical reactions of a
                      symmetric pin + roller truss split evenly.
 
@@ -26,7 +26,7 @@ from scipy.spatial import cKDTree
 
 from .model import LoadCase, Truss
 
-#: default geometric tolerance, relative to the bounding-box diagonal (METHODS 8, snap)
+#: default geometric tolerance, relative to the bounding-box diagonal (docs/methods.md, Tolerances: snap)
 MIRROR_TOL = 1e-6
 
 

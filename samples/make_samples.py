@@ -7,7 +7,7 @@ Usage::
 Glossary:
     panel point   a point of a chord where web members meet it (a joint of the truss).
     member layer  any layer that is not SUPPORT* or LOAD*; its lines become members.
-    loads file    the TOML file beside a drawing (SPEC section 4) with extra supports,
+    loads file    the TOML file beside a drawing (docs/user-guide.md, The loads file) with extra supports,
                   loads, load combinations and member sections.
 
 Every drawing is written with ezdxf's fixed meta data, so running the script twice gives

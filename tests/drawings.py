@@ -9,7 +9,7 @@ import numpy as np
 
 
 def pratt_segments(n: int = 6, a: float = 4.0, h: float = 3.0) -> list[tuple[float, float, float, float]]:
-    """Pratt layout of METHODS C1: L0..Ln bottom, U0..Un top, diagonals slope down to mid-span.
+    """Pratt layout of docs/methods.md, check case C1: L0..Ln bottom, U0..Un top, diagonals slope down to mid-span.
 
     U0--U1--U2--U3--U4--U5--U6
     | \\ |  \\ | \\ | /  | /  | / |

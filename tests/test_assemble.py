@@ -1,4 +1,4 @@
-"""Model assembly: supports, loads, defaults of SPEC section 5, parts."""
+"""Model assembly: supports, loads, defaults of docs/user-guide.md, Defaults, parts."""
 
 import numpy as np
 import pytest

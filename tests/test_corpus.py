@@ -160,7 +160,7 @@ WITH_BLOCKS = sorted(
 def _reference_segments(path: Path) -> list[tuple[float, float, float, float]]:
     """Straight segments by ezdxf's own expansion of all block references.
 
-    recursive_decompose also breaks up DIMENSION etc. (LIBRARIES 1.5), so only the
+    recursive_decompose also breaks up DIMENSION etc. (docs/methods.md, Library behaviour), so only the
     line work types are fed to it; spline-fit polylines and meshes are curves and
     surfaces, and repeated polyline vertices draw nothing, as in the reader.
     """

@@ -9,7 +9,7 @@ Glossary:
               block cycles, empty layer names, long strings, markup, non-UTF-8 bytes)
               or a byte edit (truncation, stray bytes, line endings).
     guarantee what every run must do whatever the input (the hostile-input issue,
-              SPEC 9): exit 0, 1 or 2; no exception, hang or "internal error"; the input
+              docs/user-guide.md, Exit codes): exit 0, 1 or 2; no exception, hang or "internal error"; the input
               unchanged; on exit 2 one stderr line and no report; otherwise strict JSON
               with schema ``dxftruss-report/1``. Checked by ``mutators.run_main``.
 
@@ -159,7 +159,8 @@ def test_special_numbers_in_line_coordinates(name, slot, value):
     out = _check(mu.serialize(pairs), (name, k, value))
     v = float(value)
     if out.code != 2 and (not math.isfinite(v) or abs(v) > 1e12):
-        # SPEC 3: a non-finite coordinate is an invalid-coordinate error for that entity;
+        # docs/user-guide.md, Damaged and unusual files: a non-finite coordinate is an
+        # invalid-coordinate error for that entity;
         # read.py also refuses magnitudes beyond 1e12 drawing units
         assert "invalid-coordinate" in _codes(out.report), out.report["findings"]
         assert out.code == 1
@@ -276,7 +277,7 @@ def test_bad_loads_files_exit_2_with_one_line(rng, capsys):
 @pytest.mark.parametrize("kind", ["support", "load"])
 @pytest.mark.parametrize("at", ["[1e300, -1e300]", "[1.7e308, 0.0]", "[1e6, 1e6]", "[4.0, 3.5]"])
 def test_far_points_in_loads_file(kind, at):
-    # SPEC 4: a point with no joint nearby is an input error naming the file and entry;
+    # docs/user-guide.md, The loads file: a point with no joint nearby is an input error naming the file and entry;
     # 1e300 overflows the distance to the nearest joint (inf) - still an input error
     entry = {"at": at, "fix": '"xy"'} if kind == "support" else {"at": at, "fy": "-1.0"}
     with tempfile.TemporaryDirectory() as d:
@@ -336,5 +337,5 @@ def test_hostile_length_options(option, value):
     wrong = ("nan", "inf", "1e400mm", "1/0in", "0/0in", "12,5mm", "", "5 furlong", "9**9**9 mm", "1e308km")
     if v in wrong or v.startswith("-"):
         # not a finite, non-negative length (1e308 km is 1e314 mm: beyond double range):
-        # a wrong option, refused with exit 2 naming the option (SPEC 9)
+        # a wrong option, refused with exit 2 naming the option (docs/user-guide.md, Exit codes)
         assert out.code == 2 and option in out.stderr, out.stderr

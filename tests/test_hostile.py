@@ -1,4 +1,5 @@
-"""Hostile input: one test per guarantee of the command line (SPEC 3, 9; LIBRARIES 1.1, 1.5).
+"""Hostile input: one test per guarantee of the command line (docs/user-guide.md,
+Drawing conventions and Exit codes; docs/methods.md, Library behaviour).
 
 Glossary:
     guarantee  something ``dxftruss check`` does for ANY input: exit 0, 1 or 2; never an
@@ -353,7 +354,7 @@ def test_1e11_and_1e_9_in_one_drawing(tmp_path):
     codes = finding_codes(out.report)
     assert "invalid-coordinate" in codes, codes  # read.py: |coordinate| > 1e12 is refused
     assert all(m["layer"] != "BEYOND" for m in out.report["members"])
-    # default snap is 1e-6 of the extent diagonal (SPEC 6): about 1.4e5 here, so the frame
+    # default snap is 1e-6 of the extent diagonal (docs/user-guide.md, Tolerances): about 1.4e5 here, so the frame
     # collapses into one joint and its members are zero-length; said, not hidden
     assert "zero-length-member" in codes, codes
     # with a stated snap the frame comes back with its forces; the far line is its own part
@@ -514,17 +515,17 @@ def test_crash_while_writing_pdf_or_dxf_keeps_the_old_file(tmp_path, monkeypatch
 
 def _damaged(kind: str) -> bytes:
     data = mu.seed("r2013")
-    if kind == "no EOF":  # LIBRARIES 1.1: readfile fails, recover reads all entities
+    if kind == "no EOF":  # docs/methods.md, Library behaviour: readfile fails, recover reads all entities
         return data[: data.rfind(b"  0\nEOF")]
     if kind == "garbage after EOF-less ENDSEC":
         return data[: data.rfind(b"  0\nEOF")] + b"  0\nJUNK\n"
-    if kind == "last LINE cut after its layer":  # LIBRARIES 1.1: LINE comes back as (0,0)-(0,0)
+    if kind == "last LINE cut after its layer":  # docs/methods.md, Library behaviour: LINE comes back as (0,0)-(0,0)
         pairs = mu.parse_pairs(data)
         ent = next(i for i, p in enumerate(pairs) if p == (b"  2", b"ENTITIES"))
         last_line = max(a for a, _ in mu._entity_spans(pairs, b"LINE") if a > ent)
         k = next(i for i in range(last_line, len(pairs)) if pairs[i][0].strip() == b"8")
         return mu.serialize(pairs[: k + 1]) + b"  0\nENDSEC\n  0\nEOF\n"
-    if kind == "ENTITIES cut off":  # LIBRARIES 1.1: recover silently drops the section
+    if kind == "ENTITIES cut off":  # docs/methods.md, Library behaviour: recover silently drops the section
         k = data.find(b"ENTITIES")
         return data[: data.find(b"\n  0\nLINE", k) + 1]
     raise KeyError(kind)

@@ -1,7 +1,7 @@
 """Tests of dxftruss.audit.pebble: the (2,3) pebble game and its supported-part counts.
 
 References used (named beside each check):
-- METHODS.md section 4 (the game, supports as a ground body) and section 11 (pebble game
+- docs/methods.md, pebble game (the game, supports as a ground body) and Check cases (pebble game
   counts for C1 and C6);
 - Laman's theorem: a graph is generically rigid in the plane iff it contains 2n - 3
   independent edges; K4 (6 edges on 4 vertices) has one redundant edge (closed-form);
@@ -36,7 +36,7 @@ def rigidity_rank(xy: np.ndarray, edges: np.ndarray) -> int:
 
 
 def pratt_graph(n: int, *, drop: int | None = None, extra: int | None = None) -> tuple[int, np.ndarray]:
-    """METHODS C1 Pratt layout as a graph: L_i = 2i, U_i = 2i + 1.
+    """docs/methods.md, check case C1 Pratt layout as a graph: L_i = 2i, U_i = 2i + 1.
 
     U0--U1--U2--U3--U4--U5--U6
     | \\ |  \\ | \\ | /  | /  | / |
@@ -76,7 +76,7 @@ def test_k4_has_one_redundant_edge():
 
 
 def test_square_has_one_internal_dof_and_duplicates_are_redundant():
-    # An open square (METHODS C7a without supports): 4 edges, 2*4 - 3 - 4 = 1 internal dof.
+    # An open square (docs/methods.md, check case C7a without supports): 4 edges, 2*4 - 3 - 4 = 1 internal dof.
     edges = np.array([[0, 1], [1, 3], [2, 3], [0, 2], [0, 1]])
     g = pebble_game(4, edges)
     assert g.n_independent == 4 and g.dof == 1
@@ -94,12 +94,12 @@ def test_edge_out_of_range_is_rejected():
 
 
 # ---------------------------------------------------------------------------------------
-# METHODS section 11 pebble counts
+# docs/methods.md, Check cases pebble counts
 # ---------------------------------------------------------------------------------------
 
 
 def test_c1_pratt_pebble_counts():
-    # METHODS C1 (Pratt n = 6, pin at L0, vertical roller at L6): "Pebble game: 33
+    # docs/methods.md, check case C1 (Pratt n = 6, pin at L0, vertical roller at L6): "Pebble game: 33
     # independent, 0 redundant, internal dof 0" - 25 members + 3 restraints + 5 ground
     # edges (ground body of r + 1 = 4 vertices, 2*4 - 3 edges).
     j, ends = pratt_graph(6)
@@ -107,32 +107,32 @@ def test_c1_pratt_pebble_counts():
     assert res.game.n_independent == 33
     assert res.game.n_redundant == 0
     assert res.game.dof == 0
-    assert (res.rank, res.mechanisms, res.self_stress) == (28, 0, 0)  # METHODS 11 counts table
+    assert (res.rank, res.mechanisms, res.self_stress) == (28, 0, 0)  # docs/methods.md, Check cases (counts)
     assert res.n_ground_edges == 5
 
 
 def test_c6_braced_square_pebble_counts():
-    # METHODS C6: square A(0) B(2) C(3) D(1) numbered by position, four sides, both
+    # docs/methods.md, check case C6: square A(0) B(2) C(3) D(1) numbered by position, four sides, both
     # diagonals, pin at A, vertical roller at B: "1 redundant, internal dof 0".
     ends = np.array([[0, 2], [2, 3], [1, 3], [0, 1], [0, 3], [1, 2]])
     res = supported_pebble_game(4, ends, np.array([0, 0, 2]))
     assert res.game.n_redundant == 1
     assert res.game.dof == 0
-    assert (res.rank, res.mechanisms, res.self_stress) == (8, 0, 1)  # METHODS 11 counts table
+    assert (res.rank, res.mechanisms, res.self_stress) == (8, 0, 1)  # docs/methods.md, Check cases (counts)
 
 
 def test_c7a_open_square_generic_mechanism():
-    # METHODS C7a: "Pebble game: internal dof 1".
+    # docs/methods.md, check case C7a: "Pebble game: internal dof 1".
     ends = np.array([[0, 2], [2, 3], [1, 3], [0, 1]])
     res = supported_pebble_game(4, ends, np.array([0, 0, 2]))
     assert res.game.dof == 1
     assert (res.mechanisms, res.self_stress) == (1, 0)
-    # the top joints C (3) and D (1) sway; A and B are held (METHODS C7a mode)
+    # the top joints C (3) and D (1) sway; A and B are held (docs/methods.md, check case C7a mode)
     assert res.rigid_with_ground().tolist() == [True, False, True, False]
 
 
 def test_c7b_straight_joint_is_generically_rigid():
-    # METHODS C7b: "Pebble game: internal dof 0, redundant 0" (the s = k = 1 is special geometry).
+    # docs/methods.md, check case C7b: "Pebble game: internal dof 0, redundant 0" (the s = k = 1 is special geometry).
     res = supported_pebble_game(3, np.array([[0, 1], [1, 2]]), np.array([0, 0, 2, 2]))
     assert res.game.dof == 0 and res.game.n_redundant == 0
     assert (res.mechanisms, res.self_stress) == (0, 0)
@@ -140,7 +140,7 @@ def test_c7b_straight_joint_is_generically_rigid():
 
 
 def test_planted_defect_long_pratt():
-    # METHODS 11 scale demo: one diagonal removed, one crossing diagonal added elsewhere:
+    # docs/methods.md, scale check: one diagonal removed, one crossing diagonal added elsewhere:
     # "1 redundant, 1 dof" although m + r = 2j.
     j, ends = pratt_graph(2000, drop=300, extra=1500)
     res = supported_pebble_game(j, ends, np.array([0, 0, j - 2]))
@@ -221,7 +221,7 @@ def test_rigid_with_matches_the_motions(graph, seed):
 @PROPERTY
 @given(graphs(max_n=8), st.data())
 def test_supported_counts_match_rank_with_pins(graph, data):
-    # METHODS 4: ground body + one bar per restraint. With pins only (each fixes a joint
+    # docs/methods.md, pebble game: ground body + one bar per restraint. With pins only (each fixes a joint
     # whatever the directions) the counts equal the rank of A at random coordinates.
     n, edges = graph
     pins = data.draw(st.lists(st.integers(0, n - 1), unique=True, max_size=3))

@@ -27,7 +27,7 @@ PRATT_LOADS = "\n".join(
 
 
 def test_pratt_end_to_end(tmp_path):
-    # METHODS C1 (closed-form derivation by the method of sections): Pratt n = 6,
+    # docs/methods.md, check case C1 (closed-form derivation by the method of sections): Pratt n = 6,
     # a = 4 m, h = 3 m, P = 10 kN at L1..L5
     dxf = write_drawing(tmp_path / "pratt.dxf", pratt_segments())
     r = check(dxf, Settings(loads=loads_file(tmp_path, PRATT_LOADS)))

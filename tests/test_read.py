@@ -759,7 +759,7 @@ def test_damaged_beyond_recovery(tmp_path: Path) -> None:
     doc.modelspace().add_line((0, 0), (1, 0))
     path = save(doc, tmp_path)
     text = path.read_text()
-    # a garbage group code in the ENTITIES section: both readers refuse (LIBRARIES 1.1)
+    # a garbage group code in the ENTITIES section: both readers refuse (docs/methods.md, Library behaviour)
     i = text.index("ENTITIES")
     path.write_text(text[:i] + "ENTITIES\nxyz\nLINE\n" + text[i + len("ENTITIES\n") :])
     assert "damaged" in _one_line_error(path)
@@ -784,7 +784,7 @@ def test_recovery_reader_used_for_missing_eof(tmp_path: Path) -> None:
 
 def test_cut_off_line_without_end_points(tmp_path: Path) -> None:
     # the last LINE is cut right after its layer tag and ENDSEC/EOF appended: the DXF
-    # library reads it as (0,0,0)-(0,0,0) (LIBRARIES 1.1); it must not become a member
+    # library reads it as (0,0,0)-(0,0,0) (docs/methods.md, Library behaviour); it must not become a member
     doc = new_doc()
     msp = doc.modelspace()
     msp.add_line((0, 0), (10, 0), dxfattribs={"layer": "TRUSS"})

@@ -6,7 +6,7 @@ Glossary:
               joints lying on it.
     r         the number of restrained directions (reaction components).
     Maxwell   the count m + r - 2j, which equals s - k (self-stress states minus
-              mechanisms; METHODS section 2, closed-form identity).
+              mechanisms; docs/methods.md, Maxwell's rule, closed-form identity).
 
 These tests use only ezdxf, tomllib and numpy: they do not depend on the rest of
 dxftruss, so they check the sample files themselves (intended layers, entity counts,
@@ -116,7 +116,7 @@ def snap_and_split(
 def equilibrium_matrix(
     xy: np.ndarray, members: list[tuple[int, int]], restraints: list[tuple[int, tuple[float, float]]]
 ) -> np.ndarray:
-    """A = [B, -R] of METHODS section 0 (2j x (m + r)), dense."""
+    """A = [B, -R] of docs/methods.md, Notation (2j x (m + r)), dense."""
     j = len(xy)
     a = np.zeros((2 * j, len(members) + len(restraints)))
     for e, (i, k) in enumerate(members):
@@ -265,7 +265,7 @@ def test_footbridge_block_uses_layer_zero_and_is_mirrored_once(generated: Path) 
     assert scales == [-1.0, 1.0]
 
 
-# --------------------------------------------------------------------------- loads files (SPEC section 4)
+# ------------------------------------------------------------- loads files (docs/user-guide.md, The loads file)
 
 ALLOWED = {
     "units": {"force", "length"},
@@ -335,7 +335,7 @@ def test_farm_shed_load_totals() -> None:
 
 
 def test_farm_shed_maxwell_count_is_zero_and_rigid(generated: Path) -> None:
-    """METHODS section 2 (Maxwell, closed form): m + r - 2j = 0 for the Fink truss
+    """docs/methods.md, Maxwell's rule (Maxwell, closed form): m + r - 2j = 0 for the Fink truss
     (j = 7, m = 11, r = 3), and rank(A) = 2j, so s = k = 0: determinate and rigid."""
     doc = read(generated, "farm_shed_truss")
     segments = member_segments(doc)
@@ -360,8 +360,8 @@ def test_farm_shed_maxwell_count_is_zero_and_rigid(generated: Path) -> None:
 
 def test_footbridge_counts_after_blocks_and_splits(generated: Path) -> None:
     """Blocks expanded and the top chord split at T2..T6: j = 16, m = 30, r = 3, so
-    m + r - 2j = 1; rank(A) = 2j gives k = 0, s = 1 (the X-braced panel; METHODS
-    section 2, closed form)."""
+    m + r - 2j = 1; rank(A) = 2j gives k = 0, s = 1 (the X-braced panel;
+    docs/methods.md, Maxwell's rule, closed form)."""
     doc = read(generated, "footbridge_truss")
     segments = member_segments(doc)
     xy, members = snap_and_split(segments)
@@ -399,7 +399,7 @@ def test_footbridge_drawn_loads(generated: Path) -> None:
 
 def test_hoist_bracket_counts_with_file_supports(generated: Path) -> None:
     """Chords split at the panel points: j = 7, m = 11, r = 3 from the loads file;
-    Maxwell count 0 and rank(A) = 2j (closed form, METHODS section 2)."""
+    Maxwell count 0 and rank(A) = 2j (closed form, docs/methods.md, Maxwell's rule)."""
     doc = read(generated, "hoist_bracket")
     xy, members = snap_and_split(member_segments(doc))
     data = load_toml(generated, "hoist_bracket")
@@ -434,7 +434,7 @@ def test_drafting_slips_are_the_intended_ones(generated: Path) -> None:
 
 
 def test_drafting_slips_gap_sits_between_the_default_tolerances(generated: Path) -> None:
-    """SPEC section 6 defaults: snap = 1e-6 x extent diagonal, near-miss radius = 2 % of
+    """docs/user-guide.md, Tolerances defaults: snap = 1e-6 x extent diagonal, near-miss radius = 2 % of
     the median member length. The gap must be a near miss: above the first, below the
     second; the stub's free end must be farther than the radius from everything."""
     doc = read(generated, "drafting_slips")
@@ -459,7 +459,7 @@ def test_drafting_slips_gap_sits_between_the_default_tolerances(generated: Path)
 
 def test_drafting_slips_mechanisms_with_default_supports(generated: Path) -> None:
     """With the assumed pin (lowest, then leftmost joint: B0) and roller (lowest, then
-    rightmost: B6), Maxwell's count is 0 yet s = k = 4 (METHODS section 2: the count
+    rightmost: B6), Maxwell's count is 0 yet s = k = 4 (docs/methods.md, Maxwell's rule: the count
     alone cannot tell). Closed-form counts:
 
     k = 4: panels 2 and 3 have no working diagonal. Block B0..T2 turning about the pin

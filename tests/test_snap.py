@@ -23,7 +23,7 @@ def codes(g):
 
 def test_no_chaining():
     # 100 points 0.9 tol apart in a row: a chaining union-find would make one joint
-    # 89 tol long (LIBRARIES 3.3); leader clustering keeps every cluster within 2 tol.
+    # 89 tol long (docs/methods.md, Library behaviour); leader clustering keeps every cluster within 2 tol.
     tol = 1.0
     pts = np.column_stack([np.arange(100) * 0.9 * tol, np.zeros(100)])
     label, centres = cluster_points(pts, tol=tol)

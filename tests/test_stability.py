@@ -1,10 +1,10 @@
 """Tests of dxftruss.audit.stability: rank, mechanisms, self-stress, near-mechanisms.
 
 References used (named beside each check):
-- METHODS.md section 11 counts table and check cases C1-C7, C9 (closed-form
+- docs/methods.md, Check cases (counts) and check cases C1-C7, C9 (closed-form
   derivations; Felippa IFEM Ch. 2 for C4; Baker & Haynes, Engineering Statics, section
   6.3 for C9) and the scale demo (planted defects in long Pratt trusses);
-- METHODS.md sections 2, 3, 3.1 and 8 (Calladine's identity, mechanisms in null(A^T),
+- docs/methods.md: Maxwell's rule, SVD, Tolerances (Calladine's identity, mechanisms in null(A^T),
   rigid versus internal mechanisms, special geometry, tolerances);
 - exact rational ranks of A diag(L) with sympy (integer coordinates: the entries are
   coordinate differences), independent of the floating-point paths;
@@ -67,7 +67,7 @@ def from_arrays(xy: np.ndarray, ends: np.ndarray, supports: tuple[Support, ...])
 
 
 def parallel_chord(n: int, a: float, h: float, kind: str, *, drop: int | None = None, extra: int | None = None):
-    """METHODS C1/C2 layout: L0..Ln at (i a, 0), U0..Un at (i a, h), pin L0, roller (y) Ln.
+    """docs/methods.md, check cases C1/C2 layout: L0..Ln at (i a, 0), U0..Un at (i a, h), pin L0, roller (y) Ln.
 
     Pratt:  U0--U1--U2--U3--U4--U5--U6      Howe:  U0--U1--U2--U3--U4--U5--U6
             | \\ |  \\ | \\ | /  | /  | / |             | /  | / | /  | \\ | \\ | \\ |
@@ -89,7 +89,7 @@ def parallel_chord(n: int, a: float, h: float, kind: str, *, drop: int | None = 
 
 
 def warren(n: int, a: float, h: float):
-    """METHODS C3 layout: L0..Ln at (i a, 0), U1..Un at ((i - 1/2) a, h), pin L0, roller Ln.
+    """docs/methods.md, check case C3 layout: L0..Ln at (i a, 0), U1..Un at ((i - 1/2) a, h), pin L0, roller Ln.
 
         U1----U2----U3----U4
        /  \\  /  \\  /  \\  /  \\
@@ -103,7 +103,7 @@ def warren(n: int, a: float, h: float):
 
 
 def square(diagonals: bool):
-    """METHODS C6 / C7a: A(0,0) B(1,0) C(1,1) D(0,1), pin A, vertical roller B.
+    """docs/methods.md, check cases C6 / C7a: A(0,0) B(1,0) C(1,1) D(0,1), pin A, vertical roller B.
 
     D----C
     | \\/ |   (diagonals only for C6)
@@ -116,7 +116,7 @@ def square(diagonals: bool):
 
 
 def straight(offset: float = 0.0):
-    """METHODS C7b (offset 0) / C7c: A(0,0) - M(1, offset) - B(2,0), both ends pinned.
+    """docs/methods.md, check case C7b (offset 0) / C7c: A(0,0) - M(1, offset) - B(2,0), both ends pinned.
 
     A------M------B   (M raised by ``offset`` for C7c)
     ^             ^
@@ -125,12 +125,12 @@ def straight(offset: float = 0.0):
 
 
 def c4_felippa():
-    """METHODS C4: 1(0,0), 2(10,0), 3(10,10); bars 1-2, 2-3, 1-3; pin 1, vertical roller 2."""
+    """docs/methods.md, check case C4: 1(0,0), 2(10,0), 3(10,10); bars 1-2, 2-3, 1-3; pin 1, vertical roller 2."""
     return build({"1": (0.0, 0.0), "2": (10.0, 0.0), "3": (10.0, 10.0)}, ["12", "23", "13"], {"1": Fix.XY, "2": Fix.Y})
 
 
 def c5_three_bar():
-    """METHODS C5 (theta = 45 deg, L = 1): O(0,0) hangs from pins P(-1,1), Q(0,1), R(1,1).
+    """docs/methods.md, check case C5 (theta = 45 deg, L = 1): O(0,0) hangs from pins P(-1,1), Q(0,1), R(1,1).
 
     P   Q   R
      \\  |  /
@@ -141,7 +141,7 @@ def c5_three_bar():
 
 
 def c9_textbook():
-    """METHODS C9 (Baker & Haynes section 6.3 zero-force example): pin H, horizontal roller A."""
+    """docs/methods.md, check case C9 (Baker & Haynes section 6.3 zero-force example): pin H, horizontal roller A."""
     joints = {
         "A": (0, 0), "B": (4, 0), "C": (8, 0), "D": (12, 0), "H": (0, 3), "F": (4, 3), "E": (8, 3), "G": (0, 6),
         "I": (6, 1.5),
@@ -164,11 +164,11 @@ def by_code(findings, code: Code) -> list:
 
 
 # ---------------------------------------------------------------------------------------
-# METHODS section 11 counts table, dense and sparse paths
+# docs/methods.md, Check cases (counts), dense and sparse paths
 # ---------------------------------------------------------------------------------------
 
-# (builder, j, m, r, rank, s, k, k_gen, s_gen) - METHODS 11 counts table; k_gen/s_gen from
-# METHODS 11 pebble notes (C1, C6, C7a, C7b) or equal to k/s where the geometry is generic.
+# (builder, j, m, r, rank, s, k, k_gen, s_gen) - docs/methods.md, Check cases (counts); k_gen/s_gen from
+# docs/methods.md, check cases (pebble counts) (C1, C6, C7a, C7b) or equal to k/s where the geometry is generic.
 COUNTS = {
     "C1 Pratt n=6": (lambda: parallel_chord(6, 4.0, 3.0, "pratt"), 14, 25, 3, 28, 0, 0, 0, 0),
     "C2 Howe n=6": (lambda: parallel_chord(6, 4.0, 3.0, "howe"), 14, 25, 3, 28, 0, 0, 0, 0),
@@ -185,14 +185,14 @@ COUNTS = {
 @pytest.mark.parametrize("path", [{}, SPARSE], ids=["dense", "sparse"])
 @pytest.mark.parametrize("case", list(COUNTS))
 def test_methods_counts_table(case, path):
-    # METHODS 11 counts table (m + r - dj, rank, s, k) and pebble notes (k_gen, s_gen).
+    # docs/methods.md, Check cases (counts) (m + r - dj, rank, s, k) and pebble notes (k_gen, s_gen).
     make, j, m, r, rank, s, k, k_gen, s_gen = COUNTS[case]
     truss, _ = make()
     stab, _ = analyse_part(truss, truss.parts[0], **path)
     assert (stab.j, stab.m, stab.r) == (j, m, r)
     assert (stab.rank, stab.self_stress, stab.mechanisms) == (rank, s, k)
     assert (stab.generic_mechanisms, stab.generic_self_stress) == (k_gen, s_gen)
-    # Calladine's identity (METHODS 2), at drawn and at generic coordinates
+    # Calladine's identity (docs/methods.md, Maxwell's rule), at drawn and at generic coordinates
     assert m + r - 2 * j == s - k == s_gen - k_gen
     expected = Verdict.MECHANISM if k else (Verdict.INDETERMINATE if s else Verdict.DETERMINATE)
     assert stab.verdict is expected
@@ -201,7 +201,7 @@ def test_methods_counts_table(case, path):
 
 
 def test_c7b_is_special_geometry_with_its_singular_values():
-    # METHODS C7b: singular values (1.848, 1.414, 1, 1, 0.765, 0); self-stress t1 = t2,
+    # docs/methods.md, check case C7b: singular values (1.848, 1.414, 1, 1, 0.765, 0); self-stress t1 = t2,
     # mechanism = middle joint vertical; pebble game: internal dof 0, so k = 1 is special geometry.
     truss, ix = straight()
     stab, findings = analyse_part(truss, truss.parts[0])
@@ -220,7 +220,7 @@ def test_c7b_is_special_geometry_with_its_singular_values():
 
 @pytest.mark.parametrize("path", [{}, SPARSE], ids=["dense", "sparse"])
 def test_c7a_sway_mode(path):
-    # METHODS C7a: "mode: C and D move together horizontally (sway)"; pebble: finite mechanism.
+    # docs/methods.md, check case C7a: "mode: C and D move together horizontally (sway)"; pebble: finite mechanism.
     truss, ix = square(False)
     stab, findings = analyse_part(truss, truss.parts[0], **path)
     (mode,) = stab.modes
@@ -234,7 +234,7 @@ def test_c7a_sway_mode(path):
 
 
 def test_c1_smallest_singular_value():
-    # METHODS C1: "sigma_min(A) = 0.0838"; the global warning stays quiet (ratio ~ 0.03).
+    # docs/methods.md, check case C1: "sigma_min(A) = 0.0838"; the global warning stays quiet (ratio ~ 0.03).
     truss, _ = parallel_chord(6, 4.0, 3.0, "pratt")
     for path in ({}, SPARSE):
         stab, findings = analyse_part(truss, truss.parts[0], **path)
@@ -250,7 +250,7 @@ def test_c1_smallest_singular_value():
 
 @pytest.mark.parametrize("path", [{}, SPARSE], ids=["dense", "sparse"])
 def test_counting_rule_passes_but_part_is_a_mechanism(path):
-    # METHODS 2 and the scale demo of METHODS 11: a Pratt with one diagonal removed and a
+    # docs/methods.md, Maxwell's rule and the scale check of docs/methods.md: a Pratt with one diagonal removed and a
     # crossing diagonal added in another panel keeps m + r = 2j (Maxwell's count passes)
     # but has one mechanism and one self-stress; generic too (the pebble game sees it).
     truss, _ = parallel_chord(8, 4.0, 3.0, "pratt", drop=1, extra=6)
@@ -264,12 +264,12 @@ def test_counting_rule_passes_but_part_is_a_mechanism(path):
     system = part_system(truss, truss.parts[0])
     (mode,) = stab.modes
     d = full_mode(system, mode)
-    assert np.abs(system.A.T @ d).max() < 1e-9  # METHODS 3: a mechanism strains nothing
+    assert np.abs(system.A.T @ d).max() < 1e-9  # docs/methods.md, SVD: a mechanism strains nothing
 
 
 @pytest.mark.slow
 def test_long_pratt_sparse_path_with_planted_defect():
-    # METHODS 11 scale demo (planted defects in long Pratt trusses): healthy k = s = 0;
+    # docs/methods.md, scale check (planted defects in long Pratt trusses): healthy k = s = 0;
     # one diagonal removed + one crossing diagonal added: k = s = 1. 5000 panels, 20 001
     # members, through the sparse path (2j = 20 004 > dense_limit).
     healthy, _ = parallel_chord(5000, 4.0, 3.0, "pratt")
@@ -292,7 +292,7 @@ def test_long_pratt_sparse_path_with_planted_defect():
 @pytest.mark.parametrize("path", [{}, SPARSE], ids=["dense", "sparse"])
 @pytest.mark.parametrize("kink", [1e-4, 1e-6, 1e-8])
 def test_c7c_kinked_joint_is_a_near_mechanism(kink, path):
-    # METHODS C7c: sigma_min = delta / L (1e-4, 1e-6, 1e-8); rank-deficient only below
+    # docs/methods.md, check case C7c: sigma_min = delta / L (1e-4, 1e-6, 1e-8); rank-deficient only below
     # tau, so k = 0, and the near-mechanism warning fires (global and at the joint).
     truss, ix = straight(kink)
     stab, findings = analyse_part(truss, truss.parts[0], **path)
@@ -313,7 +313,7 @@ def test_c7c_kinked_joint_is_a_near_mechanism(kink, path):
 
 
 def test_c7c_mild_kink_is_below_the_default_thresholds():
-    # METHODS C7c with delta/L = 1e-2: sigma_min = 1e-2; METHODS 8 defaults (ratio 1e-4,
+    # docs/methods.md, check case C7c with delta/L = 1e-2: sigma_min = 1e-2; Tolerances defaults (ratio 1e-4,
     # sin(1e-3 rad)) do not warn; a stricter ratio does.
     truss, _ = straight(1e-2)
     stab, findings = analyse_part(truss, truss.parts[0])
@@ -324,9 +324,9 @@ def test_c7c_mild_kink_is_below_the_default_thresholds():
 
 
 def test_slender_truss_is_not_a_mechanism():
-    # METHODS 8: a fixed relative threshold such as 1e-6 must never be the rank test.
+    # docs/methods.md, Tolerances: a fixed relative threshold such as 1e-6 must never be the rank test.
     # A Pratt truss is determinate for any depth (closed form by the method of sections,
-    # METHODS C1), yet at span/depth 40 000 its sigma_min / sigma_max is below 1e-6.
+    # docs/methods.md, check case C1), yet at span/depth 40 000 its sigma_min / sigma_max is below 1e-6.
     truss, _ = parallel_chord(100, 400.0, 1.0, "pratt")
     stab, findings = analyse_part(truss, truss.parts[0])
     assert stab.sigma_min / stab.sigma_max < 1e-6
@@ -374,7 +374,7 @@ def boxes_on_ground(n_boxes: int, gap: int = 2):
 
 @pytest.mark.parametrize("path", [{}, SPARSE], ids=["dense", "sparse"])
 def test_separate_defects_give_separate_local_modes(path):
-    # METHODS 3: the mechanism space of three separate open boxes is spanned by three
+    # docs/methods.md, SVD: the mechanism space of three separate open boxes is spanned by three
     # sway modes (closed-form: each box's top joints move together horizontally); the
     # reported basis must be those local modes, not mixtures.
     truss, ix = boxes_on_ground(3)
@@ -398,7 +398,7 @@ def test_max_modes_caps_modes_and_findings():
 
 
 def test_rigid_rotation_about_a_single_pin():
-    # METHODS 3 item 4: a triangle held by one pin turns about it - a rigid-body mode
+    # docs/methods.md, SVD item 4: a triangle held by one pin turns about it - a rigid-body mode
     # (insufficient supports); generic, so not special geometry. Closed form: the
     # velocity of joint P is omega x (P - pin), so the far joints move perpendicular to
     # their radius and the pin does not move.
@@ -419,7 +419,7 @@ def test_rigid_rotation_about_a_single_pin():
 def test_parallel_rollers_are_special_geometry():
     # Three vertical rollers on a rigid triangle: 3 restraints, so the generic count says
     # rigid (k_gen = 0), but parallel restraints leave the horizontal slide free (k = 1,
-    # rigid, special geometry; METHODS 2 "parallel members").
+    # rigid, special geometry; docs/methods.md, Maxwell's rule "parallel members").
     joints = {"A": (0.0, 0.0), "B": (4.0, 0.0), "C": (2.0, 3.0)}
     truss, _ix = build(joints, ["AB", "BC", "CA"], {"A": Fix.Y, "B": Fix.Y, "C": Fix.Y})
     for path in ({}, SPARSE):
@@ -432,7 +432,7 @@ def test_parallel_rollers_are_special_geometry():
 
 
 def test_unsupported_part_has_three_rigid_modes():
-    # METHODS 2: without supports k includes the 3 rigid-body motions (translations and a
+    # docs/methods.md, Maxwell's rule: without supports k includes the 3 rigid-body motions (translations and a
     # rotation, given about the centroid).
     truss, _ = build({"A": (0.0, 0.0), "B": (3.0, 0.0), "C": (0.0, 3.0)}, ["AB", "BC", "CA"])
     stab, findings = analyse_part(truss, truss.parts[0])
@@ -471,14 +471,14 @@ def test_generic_fallback_when_too_many_null_vectors():
     truss, ix = square(False)
     stab, findings = analyse_part(truss, truss.parts[0], dense_limit=0, max_sparse_nullity=0)
     assert stab.method == "generic" and stab.modes == ()
-    assert (stab.rank, stab.mechanisms, stab.self_stress) == (7, 1, 0)  # METHODS 11, C7a
+    assert (stab.rank, stab.mechanisms, stab.self_stress) == (7, 1, 0)  # docs/methods.md, Check cases, C7a
     assert len(by_code(findings, Code.UNSUPPORTED_GEOMETRY)) == 1
     (f,) = by_code(findings, Code.MECHANISM)
     assert set(f.joints) == {ix["C"], ix["D"]}
 
 
 def test_generic_fallback_still_warns_of_nearly_straight_joints():
-    # METHODS 8: the local near-mechanism test is per joint, for every part size. A C7c
+    # docs/methods.md, Tolerances: the local near-mechanism test is per joint, for every part size. A C7c
     # kinked joint (delta/L = 1e-6) plus a dangling member (one generic mechanism) forced
     # onto the generic fallback keeps its "local" warning at M.
     joints = {"A": (0.0, 0.0), "M": (1.0, 1e-6), "B": (2.0, 0.0), "N": (3.0, 1.0)}
@@ -492,7 +492,7 @@ def test_generic_fallback_still_warns_of_nearly_straight_joints():
 
 
 def test_uncertain_rank_gap_is_reported():
-    # METHODS 8: the rank needs a gap sigma_r / sigma_(r+1) >= rank_gap. The square Pratt
+    # docs/methods.md, Tolerances: the rank needs a gap sigma_r / sigma_(r+1) >= rank_gap. The square Pratt
     # with a planted defect (m + r = 2j, rank 2j - 1) has sigma_(r+1) at rounding level,
     # a gap of about 1e14-1e16, so demanding 1e30 must flag the rank as uncertain.
     truss, _ = parallel_chord(8, 4.0, 3.0, "pratt", drop=1, extra=6)
@@ -507,7 +507,7 @@ def test_uncertain_rank_gap_is_reported():
 
 
 def exact_rank(xy: np.ndarray, ends: np.ndarray, supports: tuple[Support, ...]) -> int:
-    """Rank over the rationals of A diag(L) (integer coordinates; METHODS 8)."""
+    """Rank over the rationals of A diag(L) (integer coordinates; docs/methods.md, Tolerances)."""
     j = len(xy)
     cols = []
     for a, b in ends:
@@ -551,8 +551,8 @@ def counts(stab: PartStability) -> tuple[int, int, int]:
 @PROPERTY
 @given(small_trusses())
 def test_dense_sparse_and_exact_rank_agree(truss_data):
-    # METHODS 8: the tolerance paths must agree with the exact rank over the rationals;
-    # METHODS 2: s - s_gen = k - k_gen >= 0; METHODS 3: modes span null(A^T).
+    # docs/methods.md, Tolerances: the tolerance paths must agree with the exact rank over the rationals;
+    # docs/methods.md, Maxwell's rule: s - s_gen = k - k_gen >= 0; docs/methods.md, SVD: modes span null(A^T).
     xy, ends, supports = truss_data
     truss = from_arrays(xy, ends, supports)
     dense, _ = analyse_part(truss, truss.parts[0])
@@ -592,7 +592,7 @@ def test_sparse_path_on_larger_grids_matches_exact_rank(truss_data):
 @given(small_trusses(), st.integers(0, 2**31 - 1))
 def test_generic_counts_equal_rank_at_random_coordinates(truss_data, seed):
     # Asimow & Roth: the rank at random coordinates is the generic rank, which the pebble
-    # game counts (METHODS 4). Supports: pins, plus at most one roller (whose direction is
+    # game counts (docs/methods.md, pebble game). Supports: pins, plus at most one roller (whose direction is
     # then generic up to a rotation of the whole drawing).
     xy, ends, supports = truss_data
     rollers = [s for s in supports if s.fix is not Fix.XY]

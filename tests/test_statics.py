@@ -1,10 +1,10 @@
 """Tests of dxftruss.statics: forces, reactions, displacements per part and load case.
 
 References used (named beside each check):
-- METHODS.md section 11 check cases C1-C7, C9, C12 (closed-form derivations, Felippa
+- docs/methods.md, Check cases check cases C1-C7, C9, C12 (closed-form derivations, Felippa
   IFEM Ch. 2-3 for C4, Baker & Haynes Engineering Statics section 6.3 for C9);
 - exact rational solutions of the same equilibrium equations with sympy;
-- the force method of METHODS 3 item 3 (SVD of A), as an independent solution path;
+- the force method of docs/methods.md, SVD item 3 (SVD of A), as an independent solution path;
 - properties of linear statics (linearity, mirror and rotation invariance, independence
   of a uniform stiffness scale).
 
@@ -108,7 +108,7 @@ def reaction_map(result: CaseResult) -> dict[int, tuple[float, float]]:
 
 
 def force_method(truss: Truss, case: LoadCase, ea: np.ndarray) -> np.ndarray:
-    """Bar forces by the force method through the SVD (METHODS 3, item 3; Pellegrino 1993).
+    """Bar forces by the force method through the SVD (docs/methods.md, SVD item 3; Pellegrino 1993).
 
     x = x_p + S alpha, x_p = A^+ f, alpha = -(S^T F S)^-1 S^T F x_p, F = diag(L/EA, 0 for
     reactions). One part only. Independent of statics.py (own SVD, own flexibility).
@@ -132,12 +132,12 @@ def force_method(truss: Truss, case: LoadCase, ea: np.ndarray) -> np.ndarray:
 
 
 # ---------------------------------------------------------------------------------------
-# parallel-chord trusses (METHODS C1-C3 layout)
+# parallel-chord trusses (docs/methods.md, check cases C1-C3 layout)
 # ---------------------------------------------------------------------------------------
 
 
 def parallel_chord(kind: str, n: int, a: float, h: float, P: float, **kw) -> tuple[Truss, LoadCase, dict[str, int]]:
-    """Pratt, Howe or Warren truss exactly as laid out in METHODS C1-C3.
+    """Pratt, Howe or Warren truss exactly as laid out in docs/methods.md, check cases C1-C3.
 
     Pratt/Howe, n = 4:                 Warren, n = 4:
       U0--U1--U2--U3--U4                    U1----U2----U3----U4
@@ -191,7 +191,7 @@ def parallel_chord(kind: str, n: int, a: float, h: float, P: float, **kw) -> tup
 
 
 def chord_formulas(kind: str, n: int, a: float, h: float, P: float) -> dict[str, float]:
-    """METHODS C1-C3 closed-form member forces (method of sections), all members."""
+    """docs/methods.md, check cases C1-C3 closed-form member forces (method of sections), all members."""
     R = (n - 1) * P / 2
     M = [P * a * k * (n - k) / 2 for k in range(n + 1)]
     shear = {i: R - (i - 1) * P for i in range(1, n // 2 + 1)}  # panel shear, left half
@@ -228,7 +228,7 @@ def chord_formulas(kind: str, n: int, a: float, h: float, P: float) -> dict[str,
 @pytest.mark.parametrize("kind", ["pratt", "howe", "warren"])
 @pytest.mark.parametrize("n", [4, 6, 8])
 def test_parallel_chord_closed_form(kind: str, n: int) -> None:
-    # METHODS C1 (Pratt), C2 (Howe), C3 (Warren): closed-form derivation by the method of
+    # docs/methods.md, check case C1 (Pratt), C2 (Howe), C3 (Warren): closed-form derivation by the method of
     # sections, random a, h, P per (kind, n)
     rng = np.random.default_rng(1000 * n + len(kind))
     for _ in range(2):
@@ -250,7 +250,7 @@ def test_parallel_chord_closed_form(kind: str, n: int) -> None:
 
 
 def test_c1_pratt_published_numbers() -> None:
-    # METHODS C1: Pratt n = 6, a = 4 m, h = 3 m, P = 10 kN (values listed in METHODS 11)
+    # docs/methods.md, check case C1: Pratt n = 6, a = 4 m, h = 3 m, P = 10 kN (values listed there)
     truss, case, idx = parallel_chord("pratt", 6, 4.0, 3.0, 10.0)
     result, findings = solve(truss, case)
     table = {
@@ -259,7 +259,7 @@ def test_c1_pratt_published_numbers() -> None:
     }
     for name, value in table.items():
         assert result.forces[idx[name]] == pytest.approx(value, abs=1e-4)
-    # METHODS 6.3 / C1: rules find V3 and B6 only; the solution also finds B1
+    # docs/methods.md, Zero-force members / C1: rules find V3 and B6 only; the solution also finds B1
     assert set(result.zero_by_rule) == {idx["V3"], idx["B6"]}
     assert set(result.zero_by_solution) == {idx["V3"], idx["B6"], idx["B1"]}
     (zf,) = [f for f in findings if f.code is Code.ZERO_FORCE_MEMBER]
@@ -271,7 +271,7 @@ def test_c1_pratt_published_numbers() -> None:
 
 
 def test_c2_howe_published_numbers() -> None:
-    # METHODS C2: Howe, same data as C1
+    # docs/methods.md, check case C2: Howe, same data as C1
     truss, case, idx = parallel_chord("howe", 6, 4.0, 3.0, 10.0)
     result, _ = solve(truss, case)
     table = {
@@ -280,12 +280,12 @@ def test_c2_howe_published_numbers() -> None:
     }
     for name, value in table.items():
         assert result.forces[idx[name]] == pytest.approx(value, abs=1e-4)
-    # METHODS C2: zero by rule 1 at U0 and U6
+    # docs/methods.md, check case C2: zero by rule 1 at U0 and U6
     assert set(result.zero_by_rule) == {idx["T1"], idx["V0"], idx["T6"], idx["V6"]}
 
 
 def test_c3_warren_published_numbers() -> None:
-    # METHODS C3: Warren n = 4, a = 6 m, h = 4 m, P = 12 kN
+    # docs/methods.md, check case C3: Warren n = 4, a = 6 m, h = 4 m, P = 12 kN
     truss, case, idx = parallel_chord("warren", 4, 6.0, 4.0, 12.0)
     result, _ = solve(truss, case)
     table = {
@@ -322,7 +322,7 @@ def c4_truss(scale_len: float = 1.0, length_unit: str = "m", force_unit: str = "
 
 
 def test_c4_felippa_forces_reactions_displacements() -> None:
-    # METHODS C4: Felippa IFEM Ch. 2-3 example truss; EA = 100, 50, 200 sqrt 2 from sections
+    # docs/methods.md, check case C4: Felippa IFEM Ch. 2-3 example truss; EA = 100, 50, 200 sqrt 2 from sections
     truss = c4_truss()
     assert member_ea(truss) == pytest.approx([100.0, 50.0, 200 * SQ2])
     result, findings = solve(truss, truss.cases[0])
@@ -334,7 +334,7 @@ def test_c4_felippa_forces_reactions_displacements() -> None:
 
 
 def test_c4_unit_conversion() -> None:
-    # METHODS C4 in mm and kN: same physics, so displacements 400 mm / -200 mm and forces
+    # docs/methods.md, check case C4 in mm and kN: same physics, so displacements 400 mm / -200 mm and forces
     # in kN (unit tables of units.py: 1 mm = 1e-3 m, 1 kN = 1e3 N)
     truss = c4_truss(scale_len=1000.0, length_unit="mm", force_unit="kN", load=(2e-3, 1e-3))
     result, _ = solve(truss, truss.cases[0])
@@ -343,7 +343,7 @@ def test_c4_unit_conversion() -> None:
 
 
 def test_c4_missing_section_hides_displacements() -> None:
-    # SPEC 8: displacements only when every member has a real section (common practice)
+    # docs/user-guide.md, The loads file: displacements only when every member has a real section (common practice)
     truss = c4_truss()
     truss = dataclasses.replace(truss, sections=C4_SECTIONS[:2])  # no section for B23
     result, findings = solve(truss, truss.cases[0])
@@ -358,7 +358,7 @@ def test_c4_missing_section_hides_displacements() -> None:
 
 
 def three_bar(theta: float, L: float, P: float, sections=()) -> Truss:
-    """METHODS C5: O hangs from three pins; middle bar vertical, outer bars at +-theta.
+    """docs/methods.md, check case C5: O hangs from three pins; middle bar vertical, outer bars at +-theta.
 
         A     M     C        (pins, y = L)
           \\   |   /
@@ -375,7 +375,7 @@ def three_bar(theta: float, L: float, P: float, sections=()) -> Truss:
 
 @pytest.mark.parametrize("theta_deg", [45.0, 30.0, 60.0, 17.0])
 def test_c5_three_bar_closed_form(theta_deg: float) -> None:
-    # METHODS C5: N_m = P/(1 + 2cos^3), N_o = P cos^2/(1 + 2cos^3), delta = N_m L/EA
+    # docs/methods.md, check case C5: N_m = P/(1 + 2cos^3), N_o = P cos^2/(1 + 2cos^3), delta = N_m L/EA
     # (closed-form derivation: equilibrium + compatibility delta_o = delta cos theta)
     theta, L, P = math.radians(theta_deg), 3.0, 10.0
     ea = 0.01 * 2.0e11
@@ -388,13 +388,13 @@ def test_c5_three_bar_closed_form(theta_deg: float) -> None:
     assert result.forces == pytest.approx([n_o, n_m, n_o], rel=1e-10)
     assert result.displacements[0] == pytest.approx([0.0, -n_m * L / ea], rel=1e-10, abs=1e-20)
     if theta_deg == 45.0:
-        assert n_m == pytest.approx(5.857864, abs=1e-6)  # METHODS C5 value
+        assert n_m == pytest.approx(5.857864, abs=1e-6)  # docs/methods.md, check case C5 value
         assert n_o == pytest.approx(2.928932, abs=1e-6)
     assert not [f for f in findings if f.code is Code.ASSUMED_STIFFNESS]
 
 
 def test_c5_uniform_stiffness_is_said_once_per_part() -> None:
-    # SPEC 7 assumed-stiffness: indeterminate part, no sections -> uniform EA and a warning
+    # docs/findings.md assumed-stiffness: indeterminate part, no sections -> uniform EA and a warning
     truss = three_bar(math.radians(45.0), 3.0, 10.0)
     r1, f1 = solve(truss, truss.cases[0])
     _, f2 = solve(truss, case_of("other", {0: (1.0, -2.0)}))
@@ -403,11 +403,11 @@ def test_c5_uniform_stiffness_is_said_once_per_part() -> None:
     assert len(a1) == len(a2) == 1
     assert a1[0].data == a2[0].data == {"part": 0, "unmatched": 3}  # deduplicable: no case
     assert r1.displacements is None
-    assert r1.forces[1] == pytest.approx(5.857864, abs=1e-6)  # METHODS C5 (uniform EA)
+    assert r1.forces[1] == pytest.approx(5.857864, abs=1e-6)  # docs/methods.md, check case C5 (uniform EA)
 
 
 def braced_square(L: float, P: float, sections=(), layers=None) -> tuple[Truss, dict[str, int]]:
-    """METHODS C6: square ABCD with both diagonals, pin A, roller (y) B, P at C along AC.
+    """docs/methods.md, check case C6: square ABCD with both diagonals, pin A, roller (y) B, P at C along AC.
 
         D-----C
         | \\ / |
@@ -424,7 +424,7 @@ def braced_square(L: float, P: float, sections=(), layers=None) -> tuple[Truss, 
 
 @pytest.mark.parametrize("L, P", [(1.0, 1.0), (7.5, 23.0)])
 def test_c6_braced_square_closed_form(L: float, P: float) -> None:
-    # METHODS C6: AC = P/sqrt2, BD = -P/(2 + sqrt2), sides (sqrt2 - 1)P/2, independent of L
+    # docs/methods.md, check case C6: AC = P/sqrt2, BD = -P/(2 + sqrt2), sides (sqrt2 - 1)P/2, independent of L
     # and EA (closed-form derivation, force method with BD redundant)
     truss, idx = braced_square(L, P)
     result, _ = solve(truss, truss.cases[0])
@@ -438,7 +438,7 @@ def test_c6_braced_square_closed_form(L: float, P: float) -> None:
 
 
 def test_c6_matches_force_method_with_unequal_sections() -> None:
-    # METHODS 3 item 3 / 5: stiffness result equals the SVD force method for s > 0
+    # docs/methods.md, SVD item 3 / 5: stiffness result equals the SVD force method for s > 0
     layers = ("CHORD", "POST", "CHORD", "POST", "DIAG-1", "DIAG-2")
     sections = (Section("chord", 4.8e-3, 2.1e11), Section("post", 1.2e-3, 2.1e11), Section("diag-*", 9e-4, 7e10))
     truss, _ = braced_square(2.5, 10.0, sections=sections, layers=layers)
@@ -453,13 +453,13 @@ def test_c6_matches_force_method_with_unequal_sections() -> None:
 
 
 def open_square(loads: dict[int, tuple[float, float]]) -> Truss:
-    """METHODS C7a: C6 without diagonals; pin A (0), roller (y) B (1); sway mode of C, D."""
+    """docs/methods.md, check case C7a: C6 without diagonals; pin A (0), roller (y) B (1); sway mode of C, D."""
     return make_truss([(0, 0), (1, 0), (1, 1), (0, 1)], [(0, 1), (1, 2), (2, 3), (0, 3)],
                       (Support(0, Fix.XY), Support(1, Fix.Y)), (case_of("c", loads),))
 
 
 def test_c7a_sway_load_excites_mechanism() -> None:
-    # METHODS C7a: horizontal load at C is not carriable (D^T f != 0, METHODS 3 item 1)
+    # docs/methods.md, check case C7a: horizontal load at C is not carriable (D^T f != 0, docs/methods.md, SVD item 1)
     truss = open_square({2: (1.0, 0.0)})
     result, findings = solve(truss, truss.cases[0])
     (err,) = [f for f in findings if f.code is Code.LOAD_EXCITES_MECHANISM]
@@ -472,7 +472,7 @@ def test_c7a_sway_load_excites_mechanism() -> None:
 
 
 def test_c7a_carriable_vertical_loads() -> None:
-    # METHODS C7a with loads along the posts (D^T f = 0): closed form, BC = -P_C,
+    # docs/methods.md, check case C7a with loads along the posts (D^T f = 0): closed form, BC = -P_C,
     # DA = -P_D, AB = CD = 0; reactions A = (0, P_D), B = (0, P_C)
     truss = open_square({2: (0.0, -3.0), 3: (0.0, -5.0)})
     result, findings = solve(truss, truss.cases[0])
@@ -507,31 +507,31 @@ def test_mechanism_with_capped_modes_is_never_silent() -> None:
 
 
 def straight_through(ea_left: float, ea_right: float, load: tuple[float, float]) -> Truss:
-    """METHODS C7b: o----o----o, joints (0,0), (1,0), (2,0), both ends pinned."""
+    """docs/methods.md, check case C7b: o----o----o, joints (0,0), (1,0), (2,0), both ends pinned."""
     sections = (Section("LEFT", 1.0, ea_left), Section("RIGHT", 1.0, ea_right))
     return make_truss([(0, 0), (1, 0), (2, 0)], [(0, 1), (1, 2)], (Support(0, Fix.XY), Support(2, Fix.XY)),
                       (case_of("c", {1: load}),), layers=("LEFT", "RIGHT"), sections=sections, force_unit="N")
 
 
 def test_c7b_load_along_line_is_carried() -> None:
-    # METHODS C7b: s = k = 1; a load P along the line is carriable. Closed-form
+    # docs/methods.md, check case C7b: s = k = 1; a load P along the line is carriable. Closed-form
     # derivation: t1 = P k1/(k1 + k2), t2 = -P k2/(k1 + k2), k = EA/L
     truss = straight_through(3.0, 1.0, (4.0, 0.0))
     stab = svd_stability(truss, truss.parts[0])
-    assert (stab.mechanisms, stab.self_stress) == (1, 1)  # METHODS 11 counts table
+    assert (stab.mechanisms, stab.self_stress) == (1, 1)  # docs/methods.md, Check cases (counts)
     result, findings = solve(truss, truss.cases[0])
     assert not [f for f in findings if f.code in (Code.LOAD_EXCITES_MECHANISM, Code.NEAR_MECHANISM)]
     assert result.forces == pytest.approx([3.0, -1.0], rel=1e-12)
     assert reaction_map(result) == {0: pytest.approx((-3.0, 0.0), abs=1e-12),
                                     2: pytest.approx((-1.0, 0.0), abs=1e-12)}
-    # METHODS 3 item 3: the force method gives the same bar forces
+    # docs/methods.md, SVD item 3: the force method gives the same bar forces
     assert result.forces == pytest.approx(force_method(truss, truss.cases[0], member_ea(truss)), rel=1e-10)
     # the displacement of a mechanism part is not unique: NaN, not a number
     assert result.displacements is not None and np.all(np.isnan(result.displacements))
 
 
 def test_c7b_transverse_load_excites_mechanism() -> None:
-    # METHODS C7b: the middle joint moves across the line; a transverse load cannot be carried
+    # docs/methods.md, check case C7b: the middle joint moves across the line; a transverse load cannot be carried
     truss = straight_through(1.0, 1.0, (0.0, -1.0))
     result, findings = solve(truss, truss.cases[0])
     (err,) = [f for f in findings if f.code is Code.LOAD_EXCITES_MECHANISM]
@@ -541,21 +541,21 @@ def test_c7b_transverse_load_excites_mechanism() -> None:
 
 
 def test_c7c_kinked_joint_force_amplification() -> None:
-    # METHODS C7c: offset delta/L = 1e-6, unit transverse load -> bar force 1/(2 delta/L)
+    # docs/methods.md, check case C7c: offset delta/L = 1e-6, unit transverse load -> bar force 1/(2 delta/L)
     for rel in (1e-2, 1e-4, 1e-6):
         truss = make_truss([(0, 0), (1, rel), (2, 0)], [(0, 1), (1, 2)], (Support(0, Fix.XY), Support(2, Fix.XY)),
                            (case_of("c", {1: (0.0, 1.0)}),))
         result, _ = solve(truss, truss.cases[0])
         expected = math.hypot(1.0, rel) / (2 * rel)  # exact statics of the kinked pair
         assert result.forces == pytest.approx([expected, expected], rel=1e-8)
-        assert expected == pytest.approx(1 / (2 * rel), rel=1e-4)  # METHODS C7c values
+        assert expected == pytest.approx(1 / (2 * rel), rel=1e-4)  # docs/methods.md, check case C7c values
 
 
 @pytest.mark.parametrize("degrees", [17.0, 23.0])
 def test_singular_matrix_called_determinate_is_never_silent(degrees: float) -> None:
-    # LIBRARIES 4.1: splu of a square singular A either raises "exactly singular" or, with
+    # docs/methods.md, Library behaviour: splu of a square singular A either raises "exactly singular" or, with
     # rotated geometry, returns garbage without an error (23 degrees here); the residual
-    # check must catch it (METHODS 1). C7b rotated, with a stability record that wrongly
+    # check must catch it (docs/methods.md, Equilibrium matrix). C7b rotated, with a stability record that wrongly
     # says determinate.
     c, s = math.cos(math.radians(degrees)), math.sin(math.radians(degrees))
     xy = np.array([(0.0, 0.0), (1.0, 0.0), (2.0, 0.0)]) @ np.array([[c, s], [-s, c]])
@@ -581,7 +581,7 @@ C9_BARS = ["AH", "HG", "GF", "HF", "FE", "AB", "BC", "CD", "AF", "BF", "FI", "IC
 
 
 def c9_truss(fc: float = 10.0, fe: float = 5.0) -> tuple[Truss, dict[str, int]]:
-    """METHODS C9 (Baker & Haynes, Engineering Statics 6.3, zero-force member example)."""
+    """docs/methods.md, check case C9 (Baker & Haynes, Engineering Statics 6.3, zero-force member example)."""
     names = list(C9_JOINTS)
     j = {n: i for i, n in enumerate(names)}
     ends = [(j[b[0]], j[b[1]]) for b in C9_BARS]
@@ -591,7 +591,7 @@ def c9_truss(fc: float = 10.0, fe: float = 5.0) -> tuple[Truss, dict[str, int]]:
 
 
 def test_c9_textbook_zero_force_set_and_forces() -> None:
-    # METHODS C9: Baker & Haynes 6.3 zero-force set (seven members), forces derived with
+    # docs/methods.md, check case C9: Baker & Haynes 6.3 zero-force set (seven members), forces derived with
     # F_C = 10, F_E = 5
     truss, idx = c9_truss()
     result, _ = solve(truss, truss.cases[0])
@@ -608,7 +608,7 @@ def test_c9_textbook_zero_force_set_and_forces() -> None:
 
 
 def test_c12_symmetric_antisymmetric_split() -> None:
-    # METHODS C12: Warren of C3 with 12 kN at L1 only; sym part 6 kN at L1 and L3,
+    # docs/methods.md, check case C12: Warren of C3 with 12 kN at L1 only; sym part 6 kN at L1 and L3,
     # antisymmetric part 6 kN down at L1 and up at L3 (derived; linear superposition)
     truss, _, idx = parallel_chord("warren", 4, 6.0, 4.0, 12.0)
     L1, L3 = idx["joint:L1"], idx["joint:L3"]
@@ -689,7 +689,7 @@ def henneberg_truss(rng: np.random.Generator, n_joints: int, *, integer: bool = 
 
 
 def sympy_forces(truss: Truss) -> list[float] | None:
-    """Exact solution of the equilibrium equations with rational arithmetic (METHODS 8,
+    """Exact solution of the equilibrium equations with rational arithmetic (docs/methods.md, Tolerances,
     tolerance-free option): unknowns y_e = t_e / L_e and the reactions, matrix entries
     are integer coordinate differences; t_e = y_e sqrt(L_e^2) exactly."""
     xy = [(sympy.Rational(int(x)), sympy.Rational(int(y))) for x, y in truss.xy]
@@ -768,7 +768,7 @@ def test_property_residual_and_linearity(seed: int, factor: float) -> None:
 @PROPERTY
 @given(seed=st.integers(0, 2**31 - 1))
 def test_property_mirror_invariance(seed: int) -> None:
-    # a mirrored truss with mirrored loads has the same member forces (METHODS 7)
+    # a mirrored truss with mirrored loads has the same member forces (docs/methods.md, Mirror symmetry)
     truss = _random_rigid(seed)
     result, _ = solve(truss, truss.cases[0])
     xy = truss.xy * np.array([-1.0, 1.0])
@@ -807,7 +807,7 @@ def test_property_rotation_invariance(seed: int, angle: float) -> None:
 @PROPERTY
 @given(seed=st.integers(0, 2**31 - 1), factor=st.floats(1e-3, 1e3))
 def test_property_uniform_stiffness_scale(seed: int, factor: float) -> None:
-    # indeterminate forces depend on stiffness ratios only (METHODS 5); displacements ~ 1/EA
+    # indeterminate forces depend on stiffness ratios only (docs/methods.md, stiffness method); displacements ~ 1/EA
     layers = ("CHORD", "WEB", "BRACE")
     base = (Section("chord", 3e-3, 2.1e11), Section("web", 1e-3, 2.1e11), Section("brace", 5e-4, 7e10))
     truss = _random_rigid(seed, layers=layers, sections=base)
@@ -818,7 +818,7 @@ def test_property_uniform_stiffness_scale(seed: int, factor: float) -> None:
     scale = max(1.0, float(np.abs(r1.forces).max()))
     assert r2.forces == pytest.approx(r1.forces, abs=1e-9 * scale)
     assert r2.displacements == pytest.approx(r1.displacements / factor, rel=1e-7, abs=1e-20)
-    # and the stiffness result equals the force method (METHODS 3 item 3)
+    # and the stiffness result equals the force method (docs/methods.md, SVD item 3)
     assert r1.forces == pytest.approx(force_method(truss, truss.cases[0], member_ea(truss)), abs=1e-9 * scale)
 
 
@@ -836,7 +836,7 @@ def test_two_parts_one_excited() -> None:
                        (case,))
     result, findings = solve(truss, case)
     assert result.solved_parts == (0,)
-    assert result.forces[:3] == pytest.approx([0.0, -1.0, 2 * SQ2], abs=1e-12)  # METHODS C4
+    assert result.forces[:3] == pytest.approx([0.0, -1.0, 2 * SQ2], abs=1e-12)  # docs/methods.md, check case C4
     assert np.all(np.isnan(result.forces[3:]))
     assert [j for j, _, _ in result.reactions] == [0, 1]
     (err,) = [f for f in findings if f.code is Code.LOAD_EXCITES_MECHANISM]
@@ -852,7 +852,7 @@ def test_unloaded_case_gives_zero_forces() -> None:
 
 @pytest.mark.parametrize("which", ["determinate", "indeterminate", "mechanism"])
 def test_residual_check_runs_after_every_solve(which: str) -> None:
-    # METHODS 1: the residual is checked after every solve; an impossible tolerance makes
+    # docs/methods.md, Equilibrium matrix: the residual is checked after every solve; an impossible tolerance makes
     # every loaded part unsolved with a near-mechanism finding (no silent numbers)
     if which == "determinate":
         truss = c4_truss()
@@ -875,7 +875,7 @@ def test_missing_stability_record_is_an_error() -> None:
 
 
 def test_large_pratt_sparse_solve() -> None:
-    # ~5k members (n = 1250 panels), counted determinate; METHODS C1 closed form at a few
+    # ~5k members (n = 1250 panels), counted determinate; docs/methods.md, check case C1 closed form at a few
     # members; sparse LU path (no dense matrices)
     n, a, h, P = 1250, 4.0, 3.0, 10.0
     truss, case, idx = parallel_chord("pratt", n, a, h, P)

@@ -1,8 +1,8 @@
 """Tests of dxftruss.symmetry: the vertical mirror axis and symmetric load cases.
 
-References: METHODS 7 (reflection M = diag(-1, 1); pin + roller symmetric for vertical
-load components only), METHODS C3/C12 Warren layout, SPEC 8 (a pin and a roller on a
-level bed count as a mirrored pair; fy equal and fx opposite at mirrored joints).
+References: docs/methods.md, Mirror symmetry (reflection M = diag(-1, 1); pin + roller
+symmetric for vertical load components only; a pin and a roller on a level bed count as a
+mirrored pair; fy equal and fx opposite at mirrored joints), check cases C3/C12 (Warren).
 """
 
 from __future__ import annotations
@@ -28,7 +28,7 @@ def make_truss(xy, ends, supports=()) -> Truss:
 
 def pratt(n: int = 6, a: float = 4.0, h: float = 3.0, x0: float = 0.0, roller: Fix = Fix.Y,
           flip: int | None = None) -> Truss:
-    """METHODS C1 layout (tests/trusses.pratt_arrays), pin L0, roller at Ln, optionally
+    """docs/methods.md, check case C1 layout (tests/trusses.pratt_arrays), pin L0, roller at Ln, optionally
     one diagonal flipped."""
     xy, named = pratt_arrays(n, a, h, x0=x0, flip=flip)
     return make_truss(xy, list(named.values()), pin_and_roller(0, n, roller))
@@ -39,14 +39,14 @@ def case(loads: dict[int, tuple[float, float]]) -> LoadCase:
 
 
 def test_pratt_axis_with_pin_and_roller() -> None:
-    # SPEC 8: a pin and a roller (y) on a level bed count as a mirrored pair; the axis is
-    # at mid-span, n a / 2 = 12 (METHODS C1 geometry)
+    # docs/methods.md, Mirror symmetry: a pin and a roller (y) on a level bed count as a mirrored pair; the axis is
+    # at mid-span, n a / 2 = 12 (docs/methods.md, check case C1 geometry)
     assert find_mirror_axis(pratt()) == pytest.approx(12.0)
     assert find_mirror_axis(pratt(x0=-100.0)) == pytest.approx(-88.0)
 
 
 def test_warren_axis() -> None:
-    # METHODS C3/C12: Warren n = 4, a = 6 -> axis x = 12
+    # docs/methods.md, check cases C3/C12: Warren n = 4, a = 6 -> axis x = 12
     n, a, h = 4, 6.0, 4.0
     xy = [(i * a, 0.0) for i in range(n + 1)] + [((i - 0.5) * a, h) for i in range(1, n + 1)]
     U = {i: n + i for i in range(1, n + 1)}
@@ -59,7 +59,7 @@ def test_warren_axis() -> None:
     mm = mirror_members(truss, jm)
     assert mm is not None and np.array_equal(mm[mm], np.arange(truss.n_members))
     t2 = ends.index((U[2], U[3]))
-    assert mm[t2] == t2  # METHODS C12: T2 is its own mirror image
+    assert mm[t2] == t2  # docs/methods.md, check case C12: T2 is its own mirror image
 
 
 def test_asymmetric_members_or_supports() -> None:
@@ -72,7 +72,7 @@ def test_asymmetric_members_or_supports() -> None:
 
 
 def test_tolerance_relative_to_extent() -> None:
-    # tol is relative to the bounding-box diagonal (METHODS 8 snap, 1e-6 x diagonal)
+    # tol is relative to the bounding-box diagonal (docs/methods.md, Tolerances: snap, 1e-6 x diagonal)
     truss = pratt()
     diag = float(np.hypot(24.0, 3.0))
     nudged = truss.xy.copy()
@@ -98,7 +98,7 @@ def test_degenerate_trusses() -> None:
 
 
 def test_loads_symmetric() -> None:
-    # SPEC 8 / METHODS 7: fy equal and fx opposite at mirrored joints (Pratt n = 6,
+    # docs/methods.md, Mirror symmetry: fy equal and fx opposite at mirrored joints (Pratt n = 6,
     # L_i = i mirrors to L_(6 - i), U_i = 7 + i to U_(6 - i) = 13 - i)
     truss = pratt()
     assert loads_symmetric(truss, case({}), 12.0)
@@ -123,7 +123,7 @@ def test_large_truss_is_vectorised() -> None:
 @given(seed=st.integers(0, 2**31 - 1))
 def test_property_mirrored_half_is_found(seed: int) -> None:
     # a random half-truss joined to its mirror image is symmetric; moving one off-axis
-    # joint breaks the symmetry (METHODS 7)
+    # joint breaks the symmetry (docs/methods.md, Mirror symmetry)
     rng = np.random.default_rng(seed)
     c = float(rng.uniform(-50, 50))
     k = int(rng.integers(2, 8))

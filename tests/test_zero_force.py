@@ -1,9 +1,10 @@
-"""Tests of dxftruss.audit.zero_force: the iterated general local rule (METHODS 6.3).
+"""Tests of dxftruss.audit.zero_force: the iterated general local rule (docs/methods.md, Zero-force members).
 
-References: METHODS C1, C2 (closed-form derivation), C9 (Baker & Haynes, Engineering
-Statics: Open and Interactive, section 6.3 'Zero-Force Members' and its example), the
-classical planar rules of METHODS 6.1, and the solved forces of statics.py on random
-trusses (rule set must be a subset of the solution set, SPEC 8).
+References: docs/methods.md, check cases C1, C2 (closed-form derivation), C9 (Baker &
+Haynes, Engineering Statics: Open and Interactive, section 6.3 'Zero-Force Members' and
+its example), the classical planar rules of docs/methods.md, Zero-force members, and the
+solved forces of statics.py on random trusses (rule set must be a subset of the
+solution set, same section).
 """
 
 from __future__ import annotations
@@ -42,7 +43,7 @@ members_named = member_ids
 # Joints 0 (pin) and 1 (roller, y), one loaded joint: (xy, ends, loads, joint pairs the
 # rules must name). The return value is a tuple in every case.
 SMALL_JOINT_CASES = [
-    # METHODS 6.1 rule 1: an unloaded joint with two non-collinear members -> both zero
+    # docs/methods.md, Zero-force members rule 1: an unloaded joint with two non-collinear members -> both zero
     #      2
     #     / \
     #    0---1      joint 2 unloaded and unsupported; pin 0, roller (y) 1 loaded (1, -1)
@@ -61,7 +62,7 @@ SMALL_JOINT_CASES = [
     # two of them parallel) is not decidable either -> empty
     pytest.param([(0, 0), (3, 0), (0, 4)], [(0, 1), (0, 2), (1, 2)], {2: (2, -5)}, [], id="load-across-both"),
     # a joint with one member and a roller (y), unloaded: the member is zero unless it is
-    # vertical (project on x); common consequence of joint equilibrium (METHODS 6.3).
+    # vertical (project on x); common consequence of joint equilibrium (docs/methods.md, Zero-force members).
     # Here joint 1: member 1-2 is vertical, parallel to the roller: no conclusion; joint 2:
     # the load is along neither member
     pytest.param([(0, 0), (3, 0), (3, 4)], [(0, 2), (1, 2)], {2: (1, -1)}, [], id="roller-vertical-member"),
@@ -78,7 +79,7 @@ def test_small_joint_rules(xy, ends, loads, zero) -> None:
 
 
 def test_rule_2_three_members_two_collinear() -> None:
-    # METHODS 6.1 rule 2: the third member at an unloaded joint with a collinear pair
+    # docs/methods.md, Zero-force members rule 2: the third member at an unloaded joint with a collinear pair
     #   3-------4
     #   |\     /|
     #   | \   / |        joint 1 on the bottom chord 0-2, member 1-3 is the third
@@ -99,7 +100,7 @@ def test_rule_2_three_members_two_collinear() -> None:
 
 
 def test_supports_are_forces() -> None:
-    # METHODS 6.3: support aware. Joint 1 with member 0-1 (horizontal), member 1-2
+    # docs/methods.md, Zero-force members: support aware. Joint 1 with member 0-1 (horizontal), member 1-2
     # (vertical) and a roller (y): the vertical member lines up with the roller, so the
     # horizontal member 0-1 is zero (C1's B6 pattern). With a pin at 1 instead: no rule.
     xy = [(0, 0), (4, 0), (4, 3), (0, 3)]
@@ -111,13 +112,13 @@ def test_supports_are_forces() -> None:
 
 
 def test_straight_through_joint_gives_no_zero() -> None:
-    # METHODS 6.3 caveat: straight-through joints give equal forces, never zeros
+    # docs/methods.md, Zero-force members caveat: straight-through joints give equal forces, never zeros
     truss, case = make_truss([(0, 0), (1, 0), (2, 0)], [(0, 1), (1, 2)], (Support(0, Fix.XY), Support(2, Fix.XY)))
     assert zero_force_by_rule(truss, case) == ()
 
 
 def test_iteration_reaches_new_joints() -> None:
-    # METHODS 6.3 / Baker & Haynes 6.3: removing a zero member can create new rule joints.
+    # docs/methods.md, Zero-force members / Baker & Haynes 6.3: removing a zero member can create new rule joints.
     # A chain 0-1-2-3 of unloaded two-member joints hanging off a braced triangle: only
     # the tip (3) is a rule-1 joint at first; then 2, then 1 become one.
     #   a     b       triangle a, b, c carries the load; chain c-1-2-3 and 3-b
@@ -134,7 +135,7 @@ def test_iteration_reaches_new_joints() -> None:
 
 
 def pratt(n: int, a: float = 4.0, h: float = 3.0, P: float = 10.0, *, howe: bool = False):
-    """METHODS C1 layout (C2 with ``howe``): L_i = i, U_i = n + 1 + i; pin L0, roller (y) Ln,
+    """docs/methods.md, check case C1 layout (C2 with ``howe``): L_i = i, U_i = n + 1 + i; pin L0, roller (y) Ln,
     P down at L1..L(n-1)."""
     xy, named = pratt_arrays(n, a, h, howe=howe)
     truss, case = make_truss(xy, list(named.values()), (Support(0, Fix.XY), Support(n, Fix.Y)),
@@ -144,7 +145,7 @@ def pratt(n: int, a: float = 4.0, h: float = 3.0, P: float = 10.0, *, howe: bool
 
 @pytest.mark.parametrize("n", [6, 10, 5000])
 def test_c1_pratt_rules(n: int) -> None:
-    # METHODS C1 / 6.3: rules find the centre vertical and the last bottom panel only
+    # docs/methods.md, check case C1 / 6.3: rules find the centre vertical and the last bottom panel only
     # (the first bottom panel is zero only through the vanishing horizontal reaction).
     # n = 5000 (20 001 members) exercises the vectorised pass.
     truss, case, idx = pratt(n)
@@ -152,13 +153,13 @@ def test_c1_pratt_rules(n: int) -> None:
 
 
 def test_c2_howe_rules() -> None:
-    # METHODS C2: zero by rule 1 at U0 and U6: T1, V0, T6, V6
+    # docs/methods.md, check case C2: zero by rule 1 at U0 and U6: T1, V0, T6, V6
     truss, case, idx = pratt(6, howe=True)
     assert set(zero_force_by_rule(truss, case)) == {idx["T1"], idx["V0"], idx["T6"], idx["V6"]}
 
 
 def test_c9_textbook_seven_members() -> None:
-    # METHODS C9: Baker & Haynes 6.3 zero-force member example; book's answer GH, FG, BF,
+    # docs/methods.md, check case C9: Baker & Haynes 6.3 zero-force member example; book's answer GH, FG, BF,
     # EI, DE, EC, CD, reproduced by the iterated general rule (EC needs two passes)
     pts = {"A": (0, 0), "B": (4, 0), "C": (8, 0), "D": (12, 0), "H": (0, 3), "F": (4, 3), "E": (8, 3),
            "G": (0, 6), "I": (6, 1.5)}
@@ -170,7 +171,7 @@ def test_c9_textbook_seven_members() -> None:
                              {j["C"]: (0.0, -10.0), j["E"]: (5.0, 0.0)})
     found = {bars[e] for e in zero_force_by_rule(truss, case)}
     assert found == {"HG", "GF", "BF", "IE", "ED", "EC", "CD"}
-    # METHODS C9 says the set does not depend on which of A/H is the pin. With the pin at A
+    # docs/methods.md, check case C9 says the set does not depend on which of A/H is the pin. With the pin at A
     # and the x-roller at H, joint H keeps AH (vertical), HF and the roller (both
     # horizontal) once HG is gone, so AH is zero as well (joint equilibrium in y; the
     # solution agrees). The book's seven stay.
@@ -189,7 +190,7 @@ def test_c9_textbook_seven_members() -> None:
 
 @pytest.mark.parametrize("kink, collinear", [(0.0, True), (1e-13, True), (1e-6, False), (1e-2, False)])
 def test_angle_tolerance(kink: float, collinear: bool) -> None:
-    # METHODS 8: "parallel" when |sin| <= max(angle_tol, snap_tol / L_min); snap_tol given
+    # docs/methods.md, Tolerances: "parallel" when |sin| <= max(angle_tol, snap_tol / L_min); snap_tol given
     # explicitly as 1e-12 here, members of length ~1, so the tolerance is 1e-9
     #   0----1----2 (1 lifted by kink), member 1-3 is the third member
     xy = [(0, 0), (1, kink), (2, 0), (1, -1)]
@@ -200,7 +201,7 @@ def test_angle_tolerance(kink: float, collinear: bool) -> None:
 
 
 def test_snap_tolerance_widens_angle_tolerance() -> None:
-    # METHODS 8: phi_tol = max(1e-9, eps_snap / L_min at the joint): a kink of 1e-6 over a
+    # docs/methods.md, Tolerances: phi_tol = max(1e-9, eps_snap / L_min at the joint): a kink of 1e-6 over a
     # member of length 1 is "straight" when eps_snap = 1e-5
     xy = [(0, 0), (1, 1e-6), (2, 0), (1, -1)]
     ends = [(0, 1), (1, 2), (1, 3), (0, 3), (2, 3)]
@@ -290,8 +291,8 @@ def _attempt(rng: np.random.Generator) -> tuple[Truss, LoadCase] | None:
 @settings(parent=PROPERTY)
 @given(seed=st.integers(0, 2**31 - 1))
 def test_property_rules_subset_of_solution(seed: int) -> None:
-    # SPEC 8 / METHODS 6.3: the rules are consequences of equilibrium, so every member they
-    # name is zero in the solution (|t| <= 1e-9 max(max|t|, ||f||), METHODS 8)
+    # docs/methods.md, Zero-force members: the rules follow from equilibrium, so every member
+    # they name is zero in the solution (|t| <= 1e-9 max(max|t|, ||f||), docs/methods.md, Tolerances)
     made = random_truss_with_rules(seed)
     if made is None:
         return
@@ -317,7 +318,7 @@ def test_property_generator_plants_rules() -> None:
 
 def test_rule_members_are_exactly_zero_in_rotated_copy() -> None:
     # rotation by an arbitrary angle changes no rule conclusion for a pin-supported truss
-    # (rules are geometric, METHODS 6.3); Pratt n = 6 with two pins instead of pin + roller
+    # (rules are geometric, docs/methods.md, Zero-force members); Pratt n = 6 with two pins instead of pin + roller
     truss, case, idx = pratt(6)
     theta = math.radians(33.0)
     rot = np.array([[math.cos(theta), -math.sin(theta)], [math.sin(theta), math.cos(theta)]])

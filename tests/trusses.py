@@ -40,9 +40,9 @@ def load_case(name: str, loads: dict[int, tuple[float, float]] | None) -> LoadCa
 def pratt_arrays(
     n: int = 6, a: float = 4.0, h: float = 3.0, *, x0: float = 0.0, flip: int | None = None, howe: bool = False
 ) -> tuple[list[tuple[float, float]], dict[str, tuple[int, int]]]:
-    """METHODS C1 layout: joints L_i = i, U_i = n + 1 + i; members named B_i, T_i, D_i (per
+    """docs/methods.md, check case C1 layout: joints L_i = i, U_i = n + 1 + i; members named B_i, T_i, D_i (per
     panel, in that order), then V_0..V_n. ``flip``: panel i whose diagonal leans the other way;
-    ``howe``: every diagonal the other way (METHODS C2).
+    ``howe``: every diagonal the other way (docs/methods.md, check case C2).
 
       U0--U1--U2--U3--U4--U5--U6
       | \\ | \\ | \\ | / | / | / |
@@ -61,7 +61,7 @@ def pratt_arrays(
 
 
 def svd_stability(truss: Truss, part: Part, *, with_modes: bool = True) -> PartStability:
-    """A PartStability from a dense SVD of A (METHODS 3; LAPACK rank tolerance, METHODS 8)."""
+    """A PartStability from a dense SVD of A (docs/methods.md, SVD; LAPACK rank tolerance, docs/methods.md, Tolerances)."""
     import scipy.linalg as sla
 
     from dxftruss.equilibrium import part_system

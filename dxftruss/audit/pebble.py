@@ -13,7 +13,7 @@ Glossary:
     rigid with    a vertex that moves with a given bar in every generic motion.
 
 Method (Jacobs & Hendrickson 1997; Lee & Streinu 2008, the (k, l) = (2, 3) game;
-METHODS section 4): to insert edge (u, v), collect 2 pebbles on u and 2 on v. A pebble
+docs/methods.md, pebble game): to insert edge (u, v), collect 2 pebbles on u and 2 on v. A pebble
 is collected on u by searching, along directed edges out of u, for a vertex other than
 u and v that holds a free pebble, then reversing the path (the pebble moves to u). The
 search is an iterative breadth-first search (no Python recursion; shortest reversal
@@ -23,9 +23,9 @@ directed u -> v. Otherwise the edge is redundant (it closes an over-braced regio
 Laman's theorem (1970) makes the counts exact for generic coordinates; they are blind
 to special geometry (collinear or parallel bars), which only ever lowers the rank.
 
-Supports (METHODS section 4): the ground is a rigid Laman body of r + 1 ground
+Supports (docs/methods.md, pebble game): the ground is a rigid Laman body of r + 1 ground
 vertices and restraint q is a bar from its joint to its own ground vertex. The body is
-a triangle strip g(i-2)-g(i), g(i-1)-g(i) (2 (r + 1) - 3 edges, like the fan of METHODS
+a triangle strip g(i-2)-g(i), g(i-1)-g(i) (2 (r + 1) - 3 edges, like a fan
 but with bounded degree), inserted first so its edges are all independent. Then the
 independent members and restraints are a generically independent set of columns of the
 equilibrium matrix A = [B, -R], generic rank = their number, mechanisms = 2 j - rank =
@@ -360,7 +360,7 @@ class SupportedPebbleGame:
     mechanisms    k_gen = 2 j - rank;  self_stress  s_gen = m + r - rank
     game          the underlying game; its edges are the ground edges first, then the
                   members, then the restraints (its ``n_independent`` therefore counts
-                  the ground edges too, as METHODS section 11 does)
+                  the ground edges too, as the check cases of docs/methods.md do)
     """
 
     n_joints: int

@@ -2,26 +2,26 @@
 
 Glossary:
     A            the equilibrium matrix [B, -R] of a part, 2j x (m + r), dimensionless
-                 (direction cosines; equilibrium.py, METHODS 0).
+                 (direction cosines; equilibrium.py, docs/methods.md, Notation).
     rank         numerical rank of A at the drawn coordinates.
     mechanism    a joint motion that strains no member and no restraint to first order,
-                 a vector of null(A^T); k = 2j - rank independent ones (METHODS 2, 3).
+                 a vector of null(A^T); k = 2j - rank independent ones (docs/methods.md, Maxwell's rule and SVD).
     rigid mode   a mechanism that is a rigid-body motion of the whole part (the
                  supports are too few or badly placed); otherwise internal.
     self-stress  member forces and reactions in equilibrium with no load, a vector of
                  null(A); s = m + r - rank independent ones.
     generic      the same counts for almost all coordinates of the same members and
                  supports, from the (2,3) pebble game (pebble.py); the drawn counts can
-                 only be higher, by the same amount for k and s (METHODS 2).
+                 only be higher, by the same amount for k and s (docs/methods.md, Maxwell's rule).
     special geometry  k > k_gen: a mechanism that exists only because of how the part
                  is drawn (a straight joint where two collinear members meet with
                  nothing across, parallel rollers, ...); first-order (infinitesimal) only,
-                 but the part is still unfit to carry general loads (METHODS 3.1).
+                 but the part is still unfit to carry general loads (docs/methods.md, SVD item 6).
     near-mechanism  a rank that is full but barely: a tiny smallest singular value
                  sigma_min of A means member forces up to 1/sigma_min per unit load
-                 (METHODS 3, item 5; C7c).
+                 (docs/methods.md, SVD item 5; C7c).
     tau          rank tolerance: sigma counts as zero when sigma <= max(rows, cols) *
-                 eps * sigma_max (the LAPACK / numpy convention; METHODS 8). A fixed
+                 eps * sigma_max (the LAPACK / numpy convention; docs/methods.md, Tolerances). A fixed
                  relative threshold such as 1e-6 is never the rank test, because
                  slender trusses have genuine singular values far below it.
     rank gap     sigma_rank / sigma_(rank+1); a gap below ``rank_gap`` means the rank is
@@ -48,7 +48,7 @@ Which computation (``PartStability.method``):
   the part has no mechanism and at most ``max_sparse_nullity`` self-stresses (then the
   same solve is run on the whole A); otherwise it is sigma_min(A_I), a lower bound
   (``sigma_min_bound``). sigma_max is a power-iteration estimate. A^T A is never formed:
-  it squares the condition number (METHODS 8, LIBRARIES 4). Measured: 50 000 members in
+  it squares the condition number (docs/methods.md, Library behaviour). Measured: 50 000 members in
   about 1.5-2 s with k <= 2 (2 cores, one BLAS thread).
 - ``"generic"``: the sparse path would need more than ``max_sparse_nullity`` null
   vectors (k_gen too large for a few seconds and a little memory), or its eigen-solve
@@ -120,7 +120,7 @@ class Mode:
 
 @dataclass(frozen=True)
 class PartStability:
-    """Counts and classification of one part (METHODS sections 2 to 4 and 8).
+    """Counts and classification of one part (docs/methods.md: counts, SVD, pebble game, Tolerances).
 
     j, m, r      joints, members, reaction components
     rank         numerical rank of A at the drawn geometry
@@ -155,7 +155,7 @@ class PartStability:
 
     @property
     def special_geometry(self) -> bool:
-        """More mechanisms than generic coordinates would give (METHODS 2)."""
+        """More mechanisms than generic coordinates would give (docs/methods.md, Maxwell's rule)."""
         return self.mechanisms > self.generic_mechanisms
 
 
@@ -179,7 +179,7 @@ class _Drawn:
 
 
 def generic_counts(system: PartSystem) -> SupportedPebbleGame:
-    """Pebble-game counts of a part: ground as a rigid body, one bar per restraint (METHODS 4)."""
+    """Pebble-game counts of a part: ground as a rigid body, one bar per restraint (docs/methods.md, pebble game)."""
     return supported_pebble_game(system.n_joints, system.ends, system.local(system.restraints[:, 0]))
 
 

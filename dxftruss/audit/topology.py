@@ -199,7 +199,7 @@ def part_findings(truss: Truss) -> list[Finding]:
 
 
 def audit_topology(truss: Truss, *, snap: float, near_miss: float) -> list[Finding]:
-    """All topology findings of the model (SPEC section 7)."""
+    """All topology findings of the model (docs/findings.md)."""
     if truss.n_members == 0:
         return [Finding(Code.NO_MEMBERS, "the drawing has nothing usable as a member (no straight lines on member layers)")]
     return [

@@ -1,4 +1,4 @@
-"""Zero-force members by the local joint rule (METHODS 6.3), per load case.
+"""Zero-force members by the local joint rule (docs/methods.md, Zero-force members), per load case.
 
 Glossary:
     zero-force member  a member whose force is zero in a load case. "By rule" means the
@@ -26,7 +26,7 @@ with c direction vectors (active members plus restraints), a member e is zero wh
             along w (f_i = 0 included).
 
 "Parallel" means |sin angle| <= tol_i with tol_i = max(angle_tol, snap_tol / L_min,i),
-L_min,i the shortest member at joint i (METHODS 8); "f_i along w" means the component of
+L_min,i the shortest member at joint i (docs/methods.md, Tolerances); "f_i along w" means the component of
 f_i across w is at most ``load_tol`` |f_i|.
 
 The rule uses equilibrium only, so it holds for indeterminate parts too, and for parts
@@ -34,7 +34,7 @@ that are mechanisms: it states what any equilibrium solution must satisfy. For a
 mechanism part whose load case cannot be carried (no solution exists) the members it
 names are still reported; they are the members that would carry nothing in any
 equilibrium state. Zeros that depend on global equilibrium (a vanishing reaction) are
-not found by a local rule; the solution finds them (METHODS 6.3, C1).
+not found by a local rule; the solution finds them (docs/methods.md, Zero-force members, C1).
 
 Cost: one vectorised pass over all joints, then passes over the end joints of the
 members just found, O(sum of degrees) per pass.
@@ -46,7 +46,7 @@ import numpy as np
 
 from ..model import LoadCase, Truss
 
-#: default snap tolerance as a fraction of the bounding-box diagonal (METHODS 8)
+#: default snap tolerance as a fraction of the bounding-box diagonal (docs/methods.md, Tolerances)
 SNAP_FRACTION = 1e-6
 
 
@@ -73,7 +73,7 @@ def zero_force_by_rule(
 ) -> tuple[int, ...]:
     """Members shown to be zero in ``case`` by the iterated general local rule.
 
-    angle_tol  smallest sine of an angle treated as "not parallel" (METHODS 8)
+    angle_tol  smallest sine of an angle treated as "not parallel" (docs/methods.md, Tolerances)
     snap_tol   drawing units; None means SNAP_FRACTION times the bounding-box diagonal.
                Per joint the parallel tolerance is max(angle_tol, snap_tol / L_min).
     load_tol   a joint load counts as lying along a line when its component across the

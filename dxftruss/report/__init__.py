@@ -1,6 +1,6 @@
 """Reports: the only modules that turn a Result into text, JSON, PDF or DXF.
 
-The caution of SPEC section 10 and the list of assumptions live here so every report
+The caution (docs/user-guide.md, What the tool does) and the list of assumptions live here so every report
 says the same words.
 """
 

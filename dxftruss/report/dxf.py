@@ -1,4 +1,4 @@
-"""The annotated copy of the drawing (SPEC section 9, ``--dxf``).
+"""The annotated copy of the drawing (docs/user-guide.md, Outputs, ``--dxf``).
 
 Glossary:
     copy          the input drawing read again (with the recovery reader when the check

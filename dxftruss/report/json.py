@@ -1,4 +1,5 @@
-"""The JSON report, schema ``dxftruss-report/1`` (SPEC section 9).
+"""The JSON report, schema ``dxftruss-report/1`` (docs/report-format.md; JSON Schema in
+docs/report.schema.json).
 
 Numbers are rounded to 12 significant digits, -0.0 is written as 0.0 and NaN as null,
 so the same input and options always give byte-identical JSON.
@@ -17,6 +18,8 @@ from ..model import joint_id, member_id
 from . import CAUTION, assumptions
 
 SCHEMA = "dxftruss-report/1"
+#: integer form of the schema version; raised when a key changes meaning or is removed
+SCHEMA_VERSION = 1
 
 
 def _num(x: float) -> float | None:
@@ -60,6 +63,7 @@ def report_dict(result) -> dict[str, Any]:  # type: ignore[no-untyped-def]
     tol = result.tolerances
     doc: dict[str, Any] = {
         "schema": SCHEMA,
+        "schema_version": SCHEMA_VERSION,
         "source": {
             "path": src.path,
             "sha256": src.sha256,

@@ -1,4 +1,4 @@
-"""The marked-up PDF report (SPEC sections 9 and 10).
+"""The marked-up PDF report (docs/user-guide.md, Outputs).
 
 Glossary:
     drawing page    one page per load case (and combination): the original drawing in
@@ -15,7 +15,7 @@ Glossary:
     page map        drawing units -> page points, applied in numpy (``render.PageMap``).
 
 Forces are in the truss's force unit, tension positive; coordinates in drawing units.
-Every page carries the caution of SPEC section 10 in its footer.
+Every page carries the caution (docs/user-guide.md, What the tool does) in its footer.
 
 Text from the drawing (layer names, file names, case names) is only ever drawn with
 ``canvas.drawString`` and friends, which parse no markup; nothing here builds a

@@ -25,7 +25,7 @@ def _doc(version: str, units: int | None):
 
 
 def pratt_hanging_loads(path: Path) -> None:
-    """METHODS C1 layout (n = 6, a = 4 m, h = 3 m), bottom chord drawn as one LINE
+    """docs/methods.md, check case C1 layout (n = 6, a = 4 m, h = 3 m), bottom chord drawn as one LINE
     (split at L1..L5), top chord as one LWPOLYLINE through the panel points, supports drawn as POINTs, loads drawn on LOAD-deck:
     each line's head is on a bottom joint L1..L5 and its tail 2 m above it, so the load
     points down; the label "10 kN" beside it is the magnitude.
@@ -55,7 +55,7 @@ def pratt_hanging_loads(path: Path) -> None:
 
 
 def braced_square(path: Path) -> None:
-    """METHODS C6: square of side 2 m with both diagonals (crossing, no joint at the
+    """docs/methods.md, check case C6: square of side 2 m with both diagonals (crossing, no joint at the
     centre), pin at A, roller at B, P = 10 kN at C along AC, given in the loads file.
 
     D----C
@@ -79,7 +79,7 @@ def braced_square(path: Path) -> None:
 
 
 def open_square_block(path: Path) -> None:
-    """METHODS C7a drawn as a block inserted twice (rotated 90 degrees and scaled 2):
+    """docs/methods.md, check case C7a drawn as a block inserted twice (rotated 90 degrees and scaled 2):
     each copy is an open square on a pin and a roller, so each part has one sway
     mechanism. Block content is on layer 0, so it takes the INSERT's layer."""
     doc = _doc("R2013", 4)

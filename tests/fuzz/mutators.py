@@ -748,7 +748,7 @@ def run_main(
 ) -> Outcome:
     """Run ``main(["check", drawing, "--json", OUT, ...])`` in-process and check the guarantees.
 
-    Guarantees checked (SPEC 9, the hostile-input issue): exit status in {0, 1, 2}; no
+    Guarantees checked (docs/user-guide.md, Exit codes, the hostile-input issue): exit status in {0, 1, 2}; no
     exception escapes; no hang; no "internal error" (a bug); the input files unchanged;
     on exit 2 one stderr line and no report file; otherwise strict JSON with the schema;
     never a temporary file left beside the report.
