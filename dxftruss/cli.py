@@ -307,10 +307,61 @@ def _check_in_worker(args: argparse.Namespace, drawing: str, outs: Outs) -> tupl
     return check_one(args, drawing, outs, True)
 
 
+def _library_settings_files() -> list[Path]:
+    """The settings files the DXF library (ezdxf) reads when it is imported, in its order."""
+    xdg = os.environ.get("XDG_CONFIG_HOME")
+    try:
+        home = Path(xdg).expanduser() if xdg else Path("~").expanduser() / ".config"
+        paths = [home / "ezdxf" / "ezdxf.ini"]
+    except RuntimeError:  # no home folder at all: the library cannot read one either
+        paths = []
+    paths.append(Path("ezdxf.ini"))
+    if os.environ.get("EZDXF_CONFIG_FILE"):
+        paths.append(Path(os.environ["EZDXF_CONFIG_FILE"]))
+    return paths
+
+
+def _check_library_settings() -> None:
+    """Refuse, in one line, a settings file the DXF library would fail on at import (it
+    prints three lines and exits 1 for a file that is not UTF-8, and raises for one that
+    is not an INI file). A file it cannot open it skips, and so do we."""
+    import configparser
+
+    from .errors import ConfigError
+
+    import errno
+
+    for path in _library_settings_files():
+        try:
+            os.stat(path)
+        except OSError as exc:  # the library asks Path.exists(), which fails on anything else
+            if exc.errno in (errno.ENOENT, errno.ENOTDIR, errno.EBADF, errno.ELOOP):
+                continue
+            raise ConfigError(
+                f"{path}: the DXF library looks for its settings file here and cannot ({exc.strerror}); "
+                "make the folder readable or set XDG_CONFIG_HOME to a readable folder"
+            ) from None
+        try:
+            with open(path, "rb") as fh:
+                data = fh.read(1 << 20)
+        except OSError:
+            continue
+        try:
+            configparser.ConfigParser().read_string(data.decode("utf-8"), source=str(path))
+        except (UnicodeDecodeError, configparser.Error) as exc:
+            why = "not UTF-8 text" if isinstance(exc, UnicodeDecodeError) else type(exc).__name__
+            raise ConfigError(
+                f"{path}: the DXF library's settings file cannot be read ({why}); fix or remove it"
+                + (" or unset EZDXF_CONFIG_FILE" if str(path) == os.environ.get("EZDXF_CONFIG_FILE") else "")
+            ) from None
+
+
 def run_check(args: argparse.Namespace) -> int:
     from .errors import DxftrussError
 
     try:
+        if "ezdxf" not in sys.modules:
+            _check_library_settings()
         drawings, many = _expand(args.drawing)
         if not drawings:
             _err("no DXF drawings found in " + ", ".join(args.drawing))
