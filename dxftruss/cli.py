@@ -1,8 +1,9 @@
 """The command line: argument parsing, the only printing, and the exit codes.
 
 Exit status: 0 no error findings; 1 error findings (a mechanism included);
-2 the input could not be read, an option or the loads file is wrong, or an
-internal error (reported in one line, never a traceback).
+2 the input could not be read, an option or the loads file is wrong, a report could
+not be written, standard output was closed early, or an internal error (reported in
+one line, never a traceback); 130 after Ctrl-C, 143 after SIGTERM.
 """
 
 from __future__ import annotations
@@ -30,7 +31,9 @@ drawing conventions:
   loads     LINE on LOAD or LOAD-<case> pointing at its joint, labelled by the nearest
             TEXT/MTEXT on the same layer ("12.5 kN")
 
-exit status: 0 no errors, 1 error findings (e.g. a mechanism), 2 unreadable input or bad options
+exit status: 0 no errors, 1 error findings (e.g. a mechanism), 2 unreadable input, bad options,
+             an output that cannot be written; 130 Ctrl-C, 143 SIGTERM
+outputs:  only regular files are replaced; a symbolic link's target is written, the link kept
 """
 
 

@@ -109,19 +109,19 @@ _UMASK: int | None = None
 
 def umask() -> int:
     """The process's umask, read without changing it where the system allows
-    (``/proc/self/status``); else set and restored at once (first call only)."""
+    (``/proc/self/status``); else set and restored at once, on the first call only."""
     global _UMASK
+    try:
+        with open("/proc/self/status", encoding="ascii", errors="replace") as fh:
+            m = re.search(r"^Umask:\s*([0-7]+)", fh.read(), re.M)
+        if m is not None:
+            return int(m.group(1), 8)
+    except OSError:
+        pass
     if _UMASK is None:
-        try:
-            with open("/proc/self/status", encoding="ascii", errors="replace") as fh:
-                m = re.search(r"^Umask:\s*([0-7]+)", fh.read(), re.M)
-            if m is None:
-                raise OSError
-            _UMASK = int(m.group(1), 8)
-        except OSError:
-            old = os.umask(0o022)
-            os.umask(old)
-            _UMASK = old
+        old = os.umask(0o022)
+        os.umask(old)
+        _UMASK = old
     return _UMASK
 
 
