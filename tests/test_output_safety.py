@@ -228,6 +228,7 @@ def test_unreadable_home_folder_is_one_line(open_dir):
     )
     home.chmod(0o755)
     assert p.returncode == 2 and one_line(p.stderr) and str(home) in p.stderr, p.stderr
+    assert "internal error" not in p.stderr and "XDG_CONFIG_HOME" in p.stderr, p.stderr  # what to do
 
 
 @pytest.mark.parametrize("content", [b"\xff\xfe[core]\n", b"[core\nnot an ini file\n", b"[core]\n[core]\n"])
@@ -238,6 +239,7 @@ def test_broken_library_settings_file_is_one_line(tmp_path, content):
     env = {**os.environ, "EZDXF_CONFIG_FILE": str(ini)}
     code, out, err = run(["check", dxf, "--json", tmp_path / "o.json"], env=env)
     assert code == 2 and one_line(err) and str(ini) in err and out == "", (code, out, err)
+    assert "internal error" not in err and "settings file" in err, err  # the user's file, not a bug
     # the same file in the working folder, where the library also looks
     (tmp_path / "ezdxf.ini").write_bytes(content)
     env.pop("EZDXF_CONFIG_FILE")
