@@ -12,8 +12,10 @@ Glossary:
               SPEC 9): exit 0, 1 or 2; no exception, hang or "internal error"; the input
               unchanged; on exit 2 one stderr line and no report; otherwise strict JSON
               with schema ``dxftruss-report/1``. Checked by ``mutators.run_main``.
+    target    an output path that is a FIFO, socket, directory or symbolic link: refused
+              (exit 2) and left as it was, or, for a link to a file, the file replaced.
 
-Hypothesis is derandomised and bounded (195 examples in all); each example runs
+Hypothesis is derandomised and bounded (213 examples in all); each example runs
 under an alarm that turns a hang into a failure. Long runs: tests/fuzz/fuzz_long.py.
 """
 
