@@ -1,8 +1,9 @@
 """The command line: argument parsing, the only printing, and the exit codes.
 
 Exit status: 0 no error findings; 1 error findings (a mechanism included);
-2 the input could not be read, an option or the loads file is wrong, or an
-internal error (reported in one line, never a traceback).
+2 the input could not be read, an option or the loads file is wrong, a report could
+not be written, standard output was closed early, or an internal error (reported in
+one line, never a traceback); 130 after Ctrl-C, 143 after SIGTERM.
 """
 
 from __future__ import annotations
@@ -30,7 +31,9 @@ drawing conventions:
   loads     LINE on LOAD or LOAD-<case> pointing at its joint, labelled by the nearest
             TEXT/MTEXT on the same layer ("12.5 kN")
 
-exit status: 0 no errors, 1 error findings (e.g. a mechanism), 2 unreadable input or bad options
+exit status: 0 no errors, 1 error findings (e.g. a mechanism), 2 unreadable input, bad options,
+             an output that cannot be written; 130 Ctrl-C, 143 SIGTERM
+outputs:  only regular files are replaced; a symbolic link's target is written, the link kept
 """
 
 
@@ -88,47 +91,120 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def _err(msg: str) -> None:
-    """One line on standard error, whatever the message holds."""
-    line = " ".join(str(msg).split())
-    print(f"dxftruss: {line}", file=sys.stderr)
+    """One line on standard error, whatever the message holds (control characters escaped)."""
+    from .escape import one_line
+
+    line = one_line(" ".join(str(msg).split()))
+    try:
+        print(f"dxftruss: {line}", file=sys.stderr, flush=True)
+    except (OSError, ValueError, AttributeError):  # standard error closed: nothing to tell
+        pass
 
 
-def _expand(drawings: list[str]) -> list[str]:
-    """Drawings named on the command line; a folder stands for its *.dxf files."""
+class Interrupted(BaseException):
+    """SIGTERM, raised like Ctrl-C's KeyboardInterrupt so that every cleanup runs."""
+
+
+def _expand(drawings: list[str]) -> tuple[list[str], bool]:
+    """Drawings named on the command line; a folder stands for its *.dxf files.
+    The flag says whether output options name folders (several drawings, or a folder)."""
+    from .errors import InputError
+
     out: list[str] = []
+    many = len(drawings) > 1
     for d in drawings:
         p = Path(d)
-        if p.is_dir():
-            out += sorted(str(f) for f in p.iterdir() if f.suffix.lower() == ".dxf" and f.is_file())
+        try:
+            is_dir = p.is_dir()
+        except OSError as exc:
+            raise InputError(f"{d}: cannot open ({exc.strerror or exc})") from None
+        if is_dir:
+            many = True
+            try:
+                out += sorted(str(f) for f in p.iterdir() if f.suffix.lower() == ".dxf" and f.is_file())
+            except OSError as exc:
+                raise InputError(f"{d}: cannot list the folder ({exc.strerror or exc})") from None
         else:
             out.append(d)
-    return out
+    seen: set[str] = set()
+    unique = []
+    for d in out:  # the same drawing twice is checked once
+        key = os.path.realpath(d)
+        if key not in seen:
+            seen.add(key)
+            unique.append(d)
+    return unique, many
 
 
-def _outputs(args: argparse.Namespace, drawing: str, many: bool) -> tuple[str | None, str | None, str | None]:
-    """(pdf, dxf, json) paths for one drawing. With several drawings an output option
-    names a folder that receives <name>.check.<ext>; with none, the PDF goes here."""
+Outs = tuple[str | None, str | None, str | None]
+
+
+def _outputs(args: argparse.Namespace, drawing: str, many: bool, common: str = "") -> Outs:
+    """(pdf, dxf, json) paths for one drawing. With several drawings (or a folder) an
+    output option names a folder that receives <name>.check.<ext>, below it in the
+    drawing's folder relative to the drawings' common folder (out/a/roof.check.json,
+    out/b/roof.check.json); with no output option the PDFs go here, laid out the same."""
     stem = Path(drawing).with_suffix("").name
     if not many:
         pdf = args.pdf or (None if (args.dxf or args.json) else stem + ".check.pdf")
         return pdf, args.dxf, args.json
+    rel = os.path.relpath(os.path.dirname(os.path.abspath(drawing)), common) if common else "."
+
     def inside(folder: str | None, ext: str) -> str | None:
-        return str(Path(folder) / f"{stem}.check.{ext}") if folder else None
-    pdf = inside(args.pdf, "pdf") if args.pdf else (None if (args.dxf or args.json) else stem + ".check.pdf")
+        if not folder:
+            return None
+        return os.path.normpath(os.path.join(folder, rel, f"{stem}.check.{ext}"))
+
+    pdf = inside(args.pdf or (None if (args.dxf or args.json) else "."), "pdf")
     return pdf, inside(args.dxf, "dxf"), inside(args.json, "json")
 
 
-def check_one(args: argparse.Namespace, drawing: str, many: bool) -> tuple[int, str, dict]:
-    """Check one drawing and write its reports. Returns (exit status, printed text, row)."""
-    from .errors import DxftrussError
-    from .outputs import check_output_path, write_atomic
-    from .pipeline import Settings
+def _plan(args: argparse.Namespace, drawings: list[str], many: bool) -> dict[str, Outs]:
+    """Every drawing's output paths, refused before any work if two of them (or one and
+    an input) are the same file, however spelt."""
+    from .errors import ConfigError
+    from .outputs import check_output_path
 
-    pdf, dxf, json_out = _outputs(args, drawing, many)
-    inputs = [drawing] + ([args.loads] if args.loads else [])
+    common = os.path.commonpath([os.path.dirname(os.path.abspath(d)) for d in drawings]) if many else ""
+    inputs = list(drawings) + ([args.loads] if args.loads else [])
+    plan: dict[str, Outs] = {}
+    owner: dict[str, str] = {}
+    for d in drawings:
+        outs = _outputs(args, d, many, common)
+        plan[d] = outs
+        for out, what in zip(outs, ("PDF", "annotated DXF", "JSON")):
+            if not out or out == "-":
+                continue
+            if many:
+                Path(out).parent.mkdir(parents=True, exist_ok=True)
+            target = str(check_output_path(out, inputs, what))
+            key = os.path.normcase(os.path.realpath(target))
+            if key in owner:
+                raise ConfigError(f"{out}: named twice as an output (also as {owner[key]}); give each report its own file")
+            owner[key] = out
+    return plan
+
+
+def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = False) -> tuple[int, str, dict]:
+    """Check one drawing and write its reports. Returns (exit status, printed text, row).
+
+    All of a drawing's reports are written to temporaries first and renamed together at
+    the end, so an interrupt or a failure never leaves old and new reports mixed."""
     row: dict = {"drawing": drawing, "status": "error", "verdict": "-", "errors": "-", "warnings": "-"}
     text = ""
+    staged = None
     try:
+        from .errors import DxftrussError
+    except Exception as exc:  # an import that fails (a broken install, a library's settings file)
+        row["message"] = f"cannot start ({type(exc).__name__}: {exc})"
+        return EXIT_INPUT, text, row
+    try:
+        from .escape import one_line
+        from .outputs import OutputSet, check_output_path
+        from .pipeline import Settings
+
+        pdf, dxf, json_out = outs
+        inputs = [drawing] + ([args.loads] if args.loads else [])
         for out, what in ((pdf, "PDF"), (dxf, "annotated DXF"), (json_out if json_out != "-" else None, "JSON")):
             if out:
                 check_output_path(out, inputs, what)
@@ -145,29 +221,35 @@ def check_one(args: argparse.Namespace, drawing: str, many: bool) -> tuple[int, 
         from .report.text import summary
 
         if not args.quiet:
-            text += summary(result, color=not many and sys.stdout.isatty() and args.json != "-")
+            color = not many and sys.stdout is not None and sys.stdout.isatty() and args.json != "-"
+            text += summary(result, color=color)
+        staged = OutputSet()
+        js = None
         if json_out:
             from .report.json import to_json
 
             js = to_json(result)
-            if json_out == "-":
-                sys.stdout.write(js)
-            else:
+            if json_out != "-":
                 # names from the drawing may hold undecodable bytes: escape, never fail
-                write_atomic(
-                    json_out, lambda tmp: Path(tmp).write_text(js, encoding="utf-8", errors="backslashreplace")
+                staged.stage(
+                    json_out,
+                    lambda tmp: Path(tmp).write_text(js, encoding="utf-8", errors="backslashreplace"),
+                    "JSON",
                 )
         if pdf:
             from .report.pdf import write_pdf
 
-            write_atomic(pdf, lambda tmp: write_pdf(result, tmp, page=args.page))
+            staged.stage(pdf, lambda tmp: write_pdf(result, tmp, page=args.page), "PDF")
         if dxf:
             from .report.dxf import write_dxf
 
-            write_atomic(dxf, lambda tmp: write_dxf(result, tmp))
-        written = [p for p in (json_out if json_out != "-" else None, pdf, dxf) if p]
+            staged.stage(dxf, lambda tmp: write_dxf(result, tmp), "annotated DXF")
+        written = staged.commit()
+        if json_out == "-" and js is not None:
+            sys.stdout.write(js)
+            sys.stdout.flush()
         if written and not args.quiet:
-            text += "wrote " + ", ".join(written) + "\n"
+            text += "wrote " + ", ".join(one_line(p) for p in written) + "\n"
         from .findings import Severity
 
         row.update(
@@ -177,12 +259,21 @@ def check_one(args: argparse.Namespace, drawing: str, many: bool) -> tuple[int, 
             warnings=str(sum(f.severity is Severity.WARNING for f in result.findings)),
         )
         return (EXIT_FINDINGS if result.has_errors else EXIT_OK), text, row
-    except DxftrussError as exc:
-        row["message"] = str(exc)
-        return EXIT_INPUT, text, row
-    except Exception as exc:  # the last line of defence: one line, never a traceback
+    except BaseException as exc:
+        if staged is not None:
+            staged.discard()
+        if isinstance(exc, DxftrussError):
+            row["message"] = str(exc)
+            return EXIT_INPUT, text, row
+        if isinstance(exc, BrokenPipeError) or not isinstance(exc, Exception):
+            raise  # a closed standard output, Ctrl-C, SIGTERM: main() says it in one line
+        if isinstance(exc, OSError) and not os.environ.get("DXFTRUSS_DEBUG"):
+            name = exc.filename if exc.filename is not None else drawing
+            row["message"] = f"{name}: {exc.strerror or exc}"
+            return EXIT_INPUT, text, row
         if os.environ.get("DXFTRUSS_DEBUG"):
             raise
+        # the last line of defence: one line, never a traceback
         row["message"] = f"{drawing}: internal error ({type(exc).__name__}: {exc}); please report it with the drawing"
         return EXIT_INPUT, text, row
 
@@ -202,39 +293,144 @@ def _check_with_progress(drawing: str, settings, *, show: bool):  # type: ignore
         return check(drawing, settings, progress=lambda stage: status.update(names.get(stage, stage)))
 
 
-def _check_in_worker(args: argparse.Namespace, drawing: str) -> tuple[int, str, dict]:
-    return check_one(args, drawing, True)
+def _worker_init(run_id: str) -> None:
+    """A batch worker: Ctrl-C goes to the parent, which stops the workers itself;
+    SIGTERM (the parent's stop) ends the worker at once, its temporaries named for
+    the parent to remove."""
+    import signal
+
+    from . import outputs
+
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    outputs.RUN_ID = run_id
+
+
+def _check_in_worker(args: argparse.Namespace, drawing: str, outs: Outs) -> tuple[int, str, dict]:
+    return check_one(args, drawing, outs, True)
+
+
+def _library_settings_files() -> list[Path]:
+    """The settings files the DXF library (ezdxf) reads when it is imported, in its order."""
+    xdg = os.environ.get("XDG_CONFIG_HOME")
+    try:
+        home = Path(xdg).expanduser() if xdg else Path("~").expanduser() / ".config"
+        paths = [home / "ezdxf" / "ezdxf.ini"]
+    except RuntimeError:  # no home folder at all: the library cannot read one either
+        paths = []
+    paths.append(Path("ezdxf.ini"))
+    if os.environ.get("EZDXF_CONFIG_FILE"):
+        paths.append(Path(os.environ["EZDXF_CONFIG_FILE"]))
+    return paths
+
+
+def _check_library_settings() -> None:
+    """Refuse, in one line, a settings file the DXF library would fail on at import (it
+    prints three lines and exits 1 for a file that is not UTF-8, and raises for one that
+    is not an INI file). A file it cannot open it skips, and so do we."""
+    import configparser
+
+    from .errors import ConfigError
+
+    import errno
+
+    for path in _library_settings_files():
+        try:
+            os.stat(path)
+        except OSError as exc:  # the library asks Path.exists(), which fails on anything else
+            if exc.errno in (errno.ENOENT, errno.ENOTDIR, errno.EBADF, errno.ELOOP):
+                continue
+            raise ConfigError(
+                f"{path}: the DXF library looks for its settings file here and cannot ({exc.strerror}); "
+                "make the folder readable or set XDG_CONFIG_HOME to a readable folder"
+            ) from None
+        try:
+            with open(path, "rb") as fh:
+                data = fh.read(1 << 20)
+        except OSError:
+            continue
+        try:
+            configparser.ConfigParser().read_string(data.decode("utf-8"), source=str(path))
+        except (UnicodeDecodeError, configparser.Error) as exc:
+            why = "not UTF-8 text" if isinstance(exc, UnicodeDecodeError) else type(exc).__name__
+            raise ConfigError(
+                f"{path}: the DXF library's settings file cannot be read ({why}); fix or remove it"
+                + (" or unset EZDXF_CONFIG_FILE" if str(path) == os.environ.get("EZDXF_CONFIG_FILE") else "")
+            ) from None
 
 
 def run_check(args: argparse.Namespace) -> int:
-    drawings = _expand(args.drawing)
-    if not drawings:
-        _err("no DXF drawings found in " + ", ".join(args.drawing))
+    from .errors import DxftrussError
+
+    try:
+        if "ezdxf" not in sys.modules:
+            _check_library_settings()
+        drawings, many = _expand(args.drawing)
+        if not drawings:
+            _err("no DXF drawings found in " + ", ".join(args.drawing))
+            return EXIT_INPUT
+        if many and args.json == "-":
+            _err("--json - takes one drawing; give a folder for several")
+            return EXIT_INPUT
+        if many:
+            for folder, opt in ((args.pdf, "--pdf"), (args.dxf, "--dxf"), (args.json, "--json")):
+                if folder:
+                    try:
+                        Path(folder).mkdir(parents=True, exist_ok=True)
+                    except OSError as exc:
+                        why = "exists and is not a folder" if isinstance(exc, FileExistsError) else exc.strerror
+                        _err(f"{folder}: cannot use it as the {opt} folder ({why})")
+                        return EXIT_INPUT
+        plan = _plan(args, drawings, many)
+    except DxftrussError as exc:
+        _err(str(exc))
         return EXIT_INPUT
-    if len(drawings) == 1:
-        code, text, row = check_one(args, drawings[0], False)
+    except OSError as exc:
+        _err(f"{exc.filename if exc.filename is not None else ''}: {exc.strerror or exc}")
+        return EXIT_INPUT
+    if not many:
+        d = drawings[0]
+        code, text, row = check_one(args, d, plan[d], False)
         stream = sys.stderr if args.json == "-" else sys.stdout
         stream.write(text)
+        stream.flush()
         if "message" in row:
             _err(row["message"])
         return code
-    if args.json == "-":
-        _err("--json - takes one drawing; give a folder for several")
-        return EXIT_INPUT
-    for folder in (args.pdf, args.dxf, args.json):
-        if folder:
-            Path(folder).mkdir(parents=True, exist_ok=True)
-    return _run_many(args, drawings)
+    return _run_many(args, drawings, plan)
 
 
-def _run_many(args: argparse.Namespace, drawings: list[str]) -> int:
+def _stop_pool(pool, plan: dict[str, Outs]) -> None:  # type: ignore[no-untyped-def]
+    """Stop a batch at once: cancel what has not started, end the workers, and remove
+    the temporaries they leave in the output folders."""
+    import multiprocessing
+
+    from .outputs import RUN_ID, remove_run_temporaries
+
+    procs = list(getattr(pool, "_processes", {}).values()) or multiprocessing.active_children()
+    pool.shutdown(wait=False, cancel_futures=True)
+    for p in procs:
+        try:
+            p.terminate()
+        except Exception:  # noqa: BLE001 - already gone
+            pass
+    for p in procs:
+        p.join(timeout=10)
+    folders = {Path(os.path.dirname(os.path.realpath(o))) for outs in plan.values() for o in outs if o and o != "-"}
+    remove_run_temporaries(folders, RUN_ID)
+
+
+def _run_many(args: argparse.Namespace, drawings: list[str], plan: dict[str, Outs]) -> int:
     """Several drawings: both cores, progress on standard error, a summary table."""
-    from concurrent.futures import ProcessPoolExecutor
+    from concurrent.futures import ProcessPoolExecutor, as_completed
 
     from rich.console import Console
     from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeElapsedColumn
     from rich.table import Table
     from rich.text import Text
+
+    from .escape import one_line
+    from .outputs import RUN_ID
 
     err_console = Console(stderr=True)
     results: dict[str, tuple[int, str, dict]] = {}
@@ -244,13 +440,22 @@ def _run_many(args: argparse.Namespace, drawings: list[str]) -> int:
         console=err_console, transient=True, disable=args.quiet or not err_console.is_terminal,
     ) as progress:
         task = progress.add_task("check", total=len(drawings))
-        with ProcessPoolExecutor(max_workers=workers) as pool:
-            futures = {pool.submit(_check_in_worker, args, d): d for d in drawings}
-            from concurrent.futures import as_completed
-
+        pool = ProcessPoolExecutor(max_workers=workers, initializer=_worker_init, initargs=(RUN_ID,))
+        try:
+            futures = {pool.submit(_check_in_worker, args, d, plan[d]): d for d in drawings}
             for fut in as_completed(futures):
-                results[futures[fut]] = fut.result()
+                d = futures[fut]
+                try:
+                    results[d] = fut.result()
+                except Exception as exc:  # a worker that died (out of memory, killed)
+                    row = {"drawing": d, "status": "error", "verdict": "-", "errors": "-", "warnings": "-",
+                           "message": f"{d}: the check stopped ({type(exc).__name__}: {exc})"}
+                    results[d] = (EXIT_INPUT, "", row)
                 progress.advance(task)
+        except BaseException:
+            _stop_pool(pool, plan)
+            raise
+        pool.shutdown(wait=True)
     worst = EXIT_OK
     table = Table(title=f"{len(drawings)} drawings", title_justify="left")
     for col in ("drawing", "status", "verdict", "errors", "warnings"):
@@ -262,15 +467,92 @@ def _run_many(args: argparse.Namespace, drawings: list[str]) -> int:
             sys.stdout.write(text + "\n")
         if "message" in row:
             _err(row["message"])
-        # cells as Text: file names could hold rich markup such as "[bold]"
-        table.add_row(*(Text(str(row[c])) for c in ("drawing", "status", "verdict", "errors", "warnings")))
+        # cells as Text (file names could hold rich markup such as "[bold]"), escaped
+        # (they could hold control characters)
+        table.add_row(*(Text(one_line(row[c])) for c in ("drawing", "status", "verdict", "errors", "warnings")))
     if not args.quiet:
         Console(highlight=False).print(table)
+    sys.stdout.flush()
     return worst
+
+
+def _open_standard_streams() -> None:
+    """Give a closed standard input, output or error /dev/null, so that no report file
+    ever opens as descriptor 1 or 2 and receives the summary."""
+    for fd in (0, 1, 2):
+        try:
+            os.fstat(fd)
+        except OSError:
+            try:
+                got = os.open(os.devnull, os.O_RDWR)
+                if got != fd:
+                    os.dup2(got, fd)
+                    os.close(got)
+            except OSError:
+                pass
+    for name, mode in (("stdin", "r"), ("stdout", "w"), ("stderr", "w")):
+        if getattr(sys, name) is None:
+            setattr(sys, name, open(os.devnull, mode))
+
+
+def _silence_stdout() -> None:
+    """After a closed pipe: no further write (nor the interpreter's last flush) may fail."""
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        os.close(devnull)
+    except (OSError, ValueError, AttributeError):
+        pass
+
+
+def _run_guarded(args: argparse.Namespace) -> int:
+    """run_check with the interrupts and a closed pipe turned into one line and an exit
+    status: Ctrl-C 130, SIGTERM 143 (128 + the signal, the shell's convention), closed
+    standard output 2; never a traceback, never a temporary left behind."""
+    import signal
+
+    from .outputs import remove_live_temporaries
+
+    def on_term(signum, frame):  # type: ignore[no-untyped-def]
+        raise Interrupted()
+
+    try:
+        previous = signal.signal(signal.SIGTERM, on_term)
+    except ValueError:  # not the main thread (main() called from a tool)
+        previous = None
+    try:
+        return run_check(args)
+    except KeyboardInterrupt:
+        remove_live_temporaries()
+        _err("interrupted (Ctrl-C); no report was left half-written")
+        return 130
+    except Interrupted:
+        remove_live_temporaries()
+        _err("stopped (SIGTERM); no report was left half-written")
+        return 143
+    except BrokenPipeError:
+        remove_live_temporaries()
+        _silence_stdout()
+        _err("standard output was closed before everything was written")
+        return EXIT_INPUT
+    except Exception as exc:  # the last line of defence: one line, never a traceback
+        if os.environ.get("DXFTRUSS_DEBUG"):
+            raise
+        remove_live_temporaries()
+        if isinstance(exc, OSError):
+            _err(f"{exc.filename if exc.filename is not None else 'dxftruss'}: {exc.strerror or exc}")
+        else:
+            _err(f"internal error ({type(exc).__name__}: {exc}); please report it")
+        return EXIT_INPUT
+    finally:
+        if previous is not None:
+            signal.signal(signal.SIGTERM, previous)
 
 
 def main(argv: list[str] | None = None) -> int:
     import logging
+
+    _open_standard_streams()
 
     # Each part's dense linear algebra is small: one BLAS thread is faster than two that
     # fight each other (measured: a 204 x 204 SVD 0.01 s vs 0.04-0.16 s on a busy 2-core
@@ -299,7 +581,7 @@ def main(argv: list[str] | None = None) -> int:
         was_enabled = gc.isenabled()
         gc.disable()
         try:
-            return run_check(args)
+            return _run_guarded(args)
         finally:
             if was_enabled:  # main() may be called in-process (tests, tools)
                 gc.enable()

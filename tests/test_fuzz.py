@@ -12,8 +12,10 @@ Glossary:
               docs/user-guide.md, Exit codes): exit 0, 1 or 2; no exception, hang or "internal error"; the input
               unchanged; on exit 2 one stderr line and no report; otherwise strict JSON
               with schema ``dxftruss-report/1``. Checked by ``mutators.run_main``.
+    target    an output path that is a FIFO, socket, directory or symbolic link: refused
+              (exit 2) and left as it was, or, for a link to a file, the file replaced.
 
-Hypothesis is derandomised and bounded (195 examples in all); each example runs
+Hypothesis is derandomised and bounded (213 examples in all); each example runs
 under an alarm that turns a hang into a failure. Long runs: tests/fuzz/fuzz_long.py.
 """
 
@@ -339,3 +341,67 @@ def test_hostile_length_options(option, value):
         # not a finite, non-negative length (1e308 km is 1e314 mm: beyond double range):
         # a wrong option, refused with exit 2 naming the option (docs/user-guide.md, Exit codes)
         assert out.code == 2 and option in out.stderr, out.stderr
+
+
+# ---------------------------------------------------------------------------------------
+# output paths that are not plain new files: refused with exit 2, or written as a regular
+# file at the link's target; a special file is never replaced
+
+OUTPUT_TARGETS = ["new", "regular", "fifo", "socket", "dir", "link-to-file", "dangling-link", "link-to-dir", "link-loop"]
+
+
+def _make_target(kind: str, d: Path) -> Path:
+    import os
+    import socket
+
+    p = d / "out.target"
+    if kind == "regular":
+        p.write_text("old")
+    elif kind == "fifo":
+        os.mkfifo(p)
+    elif kind == "socket":
+        s = socket.socket(socket.AF_UNIX)
+        s.bind(str(p))
+        s.close()
+    elif kind == "dir":
+        p.mkdir()
+    elif kind == "link-to-file":
+        (d / "real.target").write_text("old")
+        p.symlink_to(d / "real.target")
+    elif kind == "dangling-link":
+        p.symlink_to(d / "missing.target")
+    elif kind == "link-to-dir":
+        (d / "folder").mkdir()
+        p.symlink_to(d / "folder")
+    elif kind == "link-loop":
+        p.symlink_to(p)
+    return p
+
+
+@settings(FUZZ, max_examples=18)
+@given(kind=st.sampled_from(OUTPUT_TARGETS), option=st.sampled_from(["--json", "--dxf"]))
+def test_special_output_targets(kind, option):
+    import os
+    import stat
+
+    from dxftruss.cli import main
+
+    with tempfile.TemporaryDirectory(prefix="dxftruss-fuzz-") as d:
+        folder = Path(d)
+        drawing = folder / "seed.dxf"
+        drawing.write_bytes(mu.seed("r2013"))
+        target = _make_target(kind, folder)
+        before = os.lstat(target) if kind != "new" else None
+        code = main(["check", str(drawing), option, str(target), "--quiet"])
+        leftovers = [f.name for f in folder.iterdir() if f.name.endswith(".tmp")]
+        assert leftovers == [], leftovers
+        if kind in ("new", "regular", "link-to-file"):
+            assert code == 0
+            real = folder / "real.target" if kind == "link-to-file" else target
+            assert stat.S_ISREG(os.lstat(real).st_mode) and real.read_bytes() != b"old"
+            if kind == "link-to-file":
+                assert target.is_symlink()  # the link is kept, its target replaced
+        else:
+            assert code == 2, (kind, code)
+            after = os.lstat(target)
+            assert (after.st_ino, stat.S_IFMT(after.st_mode)) == (before.st_ino, stat.S_IFMT(before.st_mode))
