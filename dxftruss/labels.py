@@ -112,7 +112,10 @@ _NUM = re.compile(
 # a word: a letter, then letters and digits, with inner joints (-_.') followed by more
 _WORD = re.compile(r"[^\W\d_][^\W_]*(?:[-_.'][^\W_]+)*")
 # a unit after a number: a word, optionally "/" and a word (kN/m, lb/ft, kN/m2)
-_UNIT = re.compile(r"\ *(?P<u>[^\W\d_][^\W_]*(?:\ ?/\ ?[^\W\d_][^\W_]*(?:\^?[23])?)?)")
+# (a product such as kN.m, kN-m or kN*m is taken whole, so that it is refused as unknown)
+_UNIT = re.compile(
+    r"\ *(?P<u>[^\W\d_][^\W_]*(?:[.\u00b7*-][^\W\d_][^\W_]*)*(?:\ ?/\ ?[^\W\d_][^\W_]*(?:\^?[23])?)?)"
+)
 #: characters allowed between the parts of a label; anything else makes it unclear
 _NEUTRAL = set(" =:()[];,.-\u2013")
 
