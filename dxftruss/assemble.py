@@ -232,7 +232,8 @@ def build_truss(
                 for c in both
             )
             raise ConfigError(
-                f"{spec.path}: {listed}; say which to use: [drawn] loads = \"add\" (both) or \"ignore\" (the file's only)"
+                f"{spec.path}: {listed}; say which to use: "
+                '[drawn] loads = "add" (both) or "ignore" (the file\'s only)'
             )
         if spec.drawn_loads == "ignore":
             ignored_cases = set(both)
@@ -275,7 +276,13 @@ def build_truss(
             unread[mark.case] += 1
             why = "no text on its layer" if text is None else "it is drawn with zero length, so it has no direction"
             findings.append(
-                Finding(Code.LOAD_WITHOUT_VALUE, f"{where} has no magnitude: {why}; {not_solved}", joints=(j,), at=tail, data=data)
+                Finding(
+                    Code.LOAD_WITHOUT_VALUE,
+                    f"{where} has no magnitude: {why}; {not_solved}",
+                    joints=(j,),
+                    at=tail,
+                    data=data,
+                )
             )
             continue
         reading = read_label(text, comma=comma, default_force_unit=force_unit, default_force_newtons=newtons)
@@ -300,7 +307,8 @@ def build_truss(
             findings.append(
                 Finding(
                     Code.LOAD_LABEL_ASSUMPTION,
-                    f"{where}: label '{shown(text)}' read as {value:.6g} {force_unit} along the arrow: " + "; ".join(notes),
+                    f"{where}: label '{shown(text)}' read as {value:.6g} {force_unit} along the arrow: "
+                    + "; ".join(notes),
                     joints=(j,),
                     at=tail,
                     data={**data, "label": text, "assumptions": notes},
@@ -412,7 +420,8 @@ def _not_solved_note(case: str, combos_using: dict[str, list[str]]) -> str:
     tail = ""
     if combos:
         names = ", ".join(f"'{shown(c)}'" for c in combos)
-        tail = f" (nor the combination{'s' if len(combos) > 1 else ''} {names} that use{'' if len(combos) > 1 else 's'} it)"
+        many = len(combos) > 1
+        tail = f" (nor the combination{'s' if many else ''} {names} that use{'' if many else 's'} it)"
     return f"load case '{shown(case)}' is not solved{tail}"
 
 

@@ -188,7 +188,8 @@ def run(tmp_path, labels, loads_toml=None, layer="LOAD", supports=SUPPORTS):
 
         doc = ezdxf.readfile(dxf)
         for i, t in enumerate(labels[1:]):
-            doc.modelspace().add_text(t, dxfattribs={"layer": layer, "height": 0.2}).set_placement((50.0 + 10 * i, 50.0))
+            text = doc.modelspace().add_text(t, dxfattribs={"layer": layer, "height": 0.2})
+            text.set_placement((50.0 + 10 * i, 50.0))
         doc.saveas(dxf)
     settings = Settings()
     if loads_toml is not None:
@@ -290,7 +291,10 @@ def test_unclear_label_exit_1_and_reports_say_not_solved(tmp_path, capsys):
 
 
 def test_unclear_label_blocks_the_combinations_that_use_its_case(tmp_path):
-    toml = '[[load]]\nat = [2, 2]\nfx = 1\ncase = "wind"\n\n[[combination]]\nname = "all"\nfactors = { main = 1.0, wind = 1.0 }\n'
+    toml = (
+        '[[load]]\nat = [2, 2]\nfx = 1\ncase = "wind"\n\n'
+        '[[combination]]\nname = "all"\nfactors = { main = 1.0, wind = 1.0 }\n'
+    )
     r = run(tmp_path, ["12 T"], loads_toml=toml)
     by = {c.name: c for c in r.cases}
     assert by["main"].solved_parts == () and by["all"].solved_parts == ()
@@ -300,7 +304,8 @@ def test_unclear_label_blocks_the_combinations_that_use_its_case(tmp_path):
 
 
 def test_json_loads_name_their_label(tmp_path):
-    dxf = write_drawing(tmp_path / "t.dxf", TRIANGLE, supports=SUPPORTS, loads=[(2.0, 4.0, 2.0, 2.0, "P1 = 12 kN", "LOAD")])
+    load = (2.0, 4.0, 2.0, 2.0, "P1 = 12 kN", "LOAD")
+    dxf = write_drawing(tmp_path / "t.dxf", TRIANGLE, supports=SUPPORTS, loads=[load])
     out = tmp_path / "r.json"
     assert main(["check", str(dxf), "--json", str(out), "--quiet"]) == 0
     (ld,) = json.loads(out.read_text())["cases"][0]["loads"]
@@ -356,3 +361,32 @@ def test_different_supports_drawn_and_in_the_file_are_refused(tmp_path):
 def test_drawn_table_is_checked(tmp_path, bad):
     with pytest.raises(ConfigError, match=r"\[drawn\]"):
         run(tmp_path, ["12 kN"], loads_toml=bad)
+
+
+# ------------------------------------------------------------------ any text at all
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+_PIECES = st.sampled_from(
+    ["12", "1,250", "12,5", ".5", "1/2", "1 1/2", "-", "+", " ", "kN", "K", "T", "t", "kg", "/m", "m2", "P1", "=",
+     "(", ")", "e3", "12 000", "\x1b", "\u202e", "\u00a0", "lbs", "kip", "ton", "#", "x", "\n", "0", "/0", "9" * 400]
+)
+
+
+@settings(max_examples=400, deadline=None)
+@given(st.lists(_PIECES, max_size=8).map("".join), st.sampled_from([None, "decimal", "group"]))
+def test_any_text_reads_or_is_unclear(text, comma):
+    r = read_label(text, comma=comma)
+    assert r.kind in ("force", "per-length", "per-area", "unclear")
+    if r.kind == "unclear":
+        assert r.value is None and r.problem
+    else:
+        assert r.value is not None and math.isfinite(r.value) and r.value >= 0 and r.problem is None
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.text(max_size=40))
+def test_arbitrary_unicode_never_raises(text):
+    r = read_label(text)
+    assert (r.kind == "unclear") == (r.value is None)
+    comma_style([text, text[::-1]])

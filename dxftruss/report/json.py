@@ -141,7 +141,13 @@ def _case(result, c) -> dict[str, Any]:  # type: ignore[no-untyped-def]
         "assumed": c.assumed,
         "combination": {k: _num(v) for k, v in c.factors} if c.factors else None,
         "loads": [
-            {"joint": joint_id(ld.joint), "fx": _num(ld.fx), "fy": _num(ld.fy), "source": ld.source.value, "label": ld.label}
+            {
+                "joint": joint_id(ld.joint),
+                "fx": _num(ld.fx),
+                "fy": _num(ld.fy),
+                "source": ld.source.value,
+                "label": ld.label,
+            }
             for ld in case.loads
         ],
         "reactions": [{"joint": joint_id(j), "fx": _num(rx), "fy": _num(ry)} for j, rx, ry in c.reactions],
