@@ -93,7 +93,7 @@ _DISTRIBUTED_WORDS: dict[str, tuple[str, Kind, float]] = {
 }
 
 _SPACES = str.maketrans(
-    {"\u00a0": " ", "\u2007": " ", "\u2009": " ", "\u202f": " ", "\t": " ", "\n": " ", "\r": " ", "\u2212": "-",
+    {"\u00a0": " ", "\u2007": " ", "\u2009": " ", "\u202f": " ", "\t": " ", "\n": " ", "\r": " ", "\u2212": "-", "\u2013": "-",
      "\u00b2": "2", "\u00b3": "3", "\u2044": "/"}
 )
 
@@ -117,7 +117,7 @@ _UNIT = re.compile(
     r"\ *(?P<u>[^\W\d_][^\W_]*(?:[.\u00b7*-][^\W\d_][^\W_]*)*(?:\ ?/\ ?[^\W\d_][^\W_]*(?:\^?[23])?)?)"
 )
 #: characters allowed between the parts of a label; anything else makes it unclear
-_NEUTRAL = set(" =:()[];,.-\u2013")
+_NEUTRAL = set(" =:()[];,.-")
 
 
 @dataclass(frozen=True)
@@ -153,7 +153,8 @@ class LabelReading:
 class _Number:
     start: int
     end: int
-    raw: str
+    raw: str  # as written, sign included
+    digits: str  # the number without its sign
     negative: bool
     form: str  # "mixed", "frac", "cgroup", "sgroup", "plain"
     unit: str | None  # the unit written right after the number, as written
@@ -178,15 +179,20 @@ def _scan(s: str) -> tuple[list[_Number], list[str], list[str]]:
             i = w.end()
             continue
         j, negative = i, False
-        if c in "+-" and i + 1 < len(s) and (s[i + 1].isdigit() or s[i + 1] == "."):
-            if (s[i - 1] if i else " ") in " =:([":
-                j, negative = i + 1, c == "-"
+        if c in "+-" and (s[i - 1] if i else " ") in " =:([":
+            k = i + 1
+            while k < len(s) and s[k] == " ":
+                k += 1  # "- 12 kN": a minus sign set apart is still a sign (and is flagged)
+            # set apart, it is a sign only at the start or after = : ( [ ("DL - 12 kN" is a dash)
+            spaced = k > i + 1 and s[:i].rstrip()[-1:] not in ("", "=", ":", "(", "[")
+            if k < len(s) and (s[k].isdigit() or s[k] == ".") and not spaced:
+                j, negative = k, c == "-"
         m = _NUM.match(s, j) if j < len(s) and (s[j].isdigit() or s[j] == ".") else None
         if m:
             u = _UNIT.match(s, m.end())
             unit = u.group("u") if u else None
             end = u.end() if u else m.end()
-            numbers.append(_Number(i, m.end(), s[i : m.end()], negative, m.lastgroup or "plain", unit))
+            numbers.append(_Number(i, m.end(), s[i : m.end()], m.group(), negative, m.lastgroup or "plain", unit))
             i = end
             continue
         if c not in _NEUTRAL:
@@ -200,7 +206,7 @@ def _comma_kind(raw: str, form: str) -> str | None:
     if "," not in raw:
         return None
     if form == "cgroup":
-        digits = raw.lstrip("+-")
+        digits = raw
         if digits.count(",") == 1 and "." not in digits and "e" not in digits.lower():
             return "ambiguous"  # 1,250
         return "group"  # 1,250,000 or 1,250.5
@@ -218,7 +224,7 @@ def comma_style(texts: Iterable[str]) -> CommaStyle | None:
     for text in texts:
         numbers, _, _ = _scan(_normalise(text))
         for n in numbers:
-            k = _comma_kind(n.raw, n.form)
+            k = _comma_kind(n.digits, n.form)
             if k in ("decimal", "group"):
                 seen.add(k)
     if len(seen) == 1:
@@ -228,8 +234,8 @@ def comma_style(texts: Iterable[str]) -> CommaStyle | None:
 
 def _number_value(n: _Number, comma: CommaStyle | None) -> tuple[float | None, str | None]:
     """The magnitude of a number token, or (None, reason)."""
-    raw = n.raw.lstrip("+-")
-    kind = _comma_kind(n.raw, n.form)
+    raw = n.digits
+    kind = _comma_kind(n.digits, n.form)
     if kind == "ambiguous":
         if comma is None:
             whole = raw.replace(",", "")
@@ -367,7 +373,7 @@ def read_label(
             if key not in _FORCE:
                 raise ValueError(f"unknown default force unit {default_force_unit!r}")
             default_force_newtons = _FORCE[key][1]
-        assumptions.append(f"{n.raw.lstrip('+-')} has no unit: taken as {default_force_unit}")
+        assumptions.append(f"{n.digits} has no unit: taken as {default_force_unit}")
         return LabelReading(
             text=text,
             kind="force",
@@ -390,7 +396,7 @@ def read_label(
         return _unclear(text, f"{n.raw} {unit} is too large to represent")
     if kind == "mass" or note == "mass":
         assumptions.append(
-            f"{n.raw.lstrip('+-')} {name.split('/')[0]} is a mass: taken as its weight under standard gravity "
+            f"{n.digits} {name.split('/')[0]} is a mass: taken as its weight under standard gravity "
             f"{STANDARD_GRAVITY} m/s2"
         )
     out_kind: Kind = "force" if kind in ("force", "mass") else kind  # type: ignore[assignment]

@@ -90,6 +90,8 @@ FORMS = [
     ("-12 kN", "force", (12, "kN"), True, 0),  # old parser: -12 kN reversed the arrow
     ("P = \u221212 kN", "force", (12, "kN"), True, 0),  # U+2212 minus sign
     ("+12 kN", "force", (12, "kN"), False, 0),
+    ("- 12 kN", "force", (12, "kN"), True, 0),  # a minus set apart is still a sign
+    ("\u2013 12 kN", "force", (12, "kN"), True, 0),  # en dash used as a minus
     # distributed: recognised and converted, never a joint force
     ("0.75 kN/m", "per-length", (0.75, "kN/m"), False, 0),  # old parser: 0.75 kN
     ("2 N/mm", "per-length", (2, "N/mm"), False, 0),
