@@ -283,11 +283,9 @@ def _number_value(n: _Number, comma: CommaStyle | None) -> tuple[float | None, s
 def _classify_unit(unit: str) -> tuple[str, Kind | Literal["mass", "ambiguous", "unknown"], float, str]:
     """(canonical, kind, SI factor, note) of a unit as written."""
     compact = unit.replace(" ", "").replace("^", "")
-    if compact in _AMBIGUOUS or compact.lower() in ("ton", "tons"):
-        return compact, "ambiguous", math.nan, _AMBIGUOUS.get(compact, _AMBIGUOUS.get(compact.lower(), ""))
     low = compact.lower()
-    if compact != "t" and low == "t":  # only "T" reaches here, handled above
-        return compact, "ambiguous", math.nan, _AMBIGUOUS["T"]
+    if compact in _AMBIGUOUS or low in ("ton", "tons"):  # "T" and "mN" by case, "ton(s)" in any case
+        return compact, "ambiguous", math.nan, _AMBIGUOUS.get(compact) or _AMBIGUOUS[low]
     if low in _FORCE:
         name, f = _FORCE[low]
         return name, "force", f, ""
@@ -302,6 +300,8 @@ def _classify_unit(unit: str) -> tuple[str, Kind | Literal["mass", "ambiguous", 
         top_c = compact.split("/", 1)[0]
         area = bottom.endswith("2")
         base = bottom[:-1] if area else bottom
+        if top_c in _AMBIGUOUS or top in ("ton", "tons"):
+            return compact, "ambiguous", math.nan, _AMBIGUOUS.get(top_c) or _AMBIGUOUS[top]
         if base in _LENGTH and not bottom.endswith("3"):
             per = _LENGTH[base] ** (2 if area else 1)
             kind: Kind = "per-area" if area else "per-length"
