@@ -392,3 +392,10 @@ def test_arbitrary_unicode_never_raises(text):
     r = read_label(text)
     assert (r.kind == "unclear") == (r.value is None)
     comma_style([text, text[::-1]])
+
+
+def test_ignored_drawn_loads_are_not_read(tmp_path):
+    # the file's loads replace the drawn ones of that case, so the drawn label cannot block it
+    r = run(tmp_path, ["12 T"], loads_toml='[drawn]\nloads = "ignore"\n' + FILE_LOAD)
+    assert vertical_reaction(r) == pytest.approx(5.0, rel=1e-12)
+    assert Code.LOAD_LABEL_UNCLEAR not in codes(r) and not r.has_errors
