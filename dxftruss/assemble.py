@@ -14,7 +14,7 @@ problems in the loads file are ConfigErrors, because the user wrote the file for
 
 from __future__ import annotations
 
-from collections import defaultdict
+from collections import Counter, defaultdict
 from fnmatch import fnmatchcase
 
 import numpy as np
@@ -23,12 +23,14 @@ from scipy.sparse.csgraph import connected_components
 from scipy.spatial import cKDTree
 
 from .errors import ConfigError, LimitError
+from .escape import shown
 from .findings import Code, Finding
+from .labels import LabelReading, comma_style, read_label
 from .loadsfile import DEFAULT_CASE, LoadsSpec, check_combinations
 from .model import Fix, Load, LoadCase, Part, Source, Support, Truss, joint_id
 from .read import LineWork
 from .snap import Geometry
-from .units import force_from_text
+from .units import FORCE_UNITS
 
 UNIT_PANEL_CASE = "unit-panel"
 
@@ -164,9 +166,9 @@ def build_truss(
     tree = cKDTree(xy) if len(xy) else None
     force_unit = spec.force_unit if spec else "kN"
 
-    # supports: drawn, then file; merged per joint
-    fixes: dict[int, set[int]] = defaultdict(set)
-    sources: dict[int, Source] = {}
+    # supports: drawn, then file; merged per joint. Different restraints drawn and given
+    # in the file at one joint need the file's [drawn] supports to say which to use.
+    drawn_fix: dict[int, set[int]] = defaultdict(set)
     for mark in linework.supports:
         d, j = _nearest(tree, (mark.x, mark.y))
         if d > near_miss:
@@ -180,12 +182,30 @@ def build_truss(
                 )
             )
             continue
-        fixes[j].update(mark.fix.directions)
-        sources.setdefault(j, Source.DRAWING)
+        drawn_fix[j].update(mark.fix.directions)
+    file_fix: dict[int, set[int]] = defaultdict(set)
     if spec:
         for entry, j in zip(spec.supports, _file_joints(tree, xy, spec, "support", near_miss, length_unit)):
-            fixes[j].update(entry.fix.directions)
-            sources.setdefault(j, Source.LOADS_FILE)
+            file_fix[j].update(entry.fix.directions)
+        for j in sorted(set(drawn_fix) & set(file_fix)):
+            if drawn_fix[j] == file_fix[j]:
+                continue  # the same restraint twice: nothing to decide
+            if spec.drawn_supports is None:
+                raise ConfigError(
+                    f"{spec.path}: joint {joint_id(j)} at {list(map(float, xy[j]))} has a {_fix_name(drawn_fix[j])} "
+                    f"support drawn and a {_fix_name(file_fix[j])} support in the loads file; say which to use: "
+                    '[drawn] supports = "add" (both restraints) or "ignore" (the file\'s only)'
+                )
+            if spec.drawn_supports == "ignore":
+                del drawn_fix[j]
+    fixes: dict[int, set[int]] = defaultdict(set)
+    sources: dict[int, Source] = {}
+    for j, dirs in drawn_fix.items():
+        fixes[j].update(dirs)
+        sources.setdefault(j, Source.DRAWING)
+    for j, dirs in file_fix.items():
+        fixes[j].update(dirs)
+        sources.setdefault(j, Source.LOADS_FILE)
     supports = [
         Support(j, Fix.XY if dirs == {0, 1} else (Fix.X if dirs == {0} else Fix.Y), sources[j])
         for j, dirs in sorted(fixes.items())
@@ -209,14 +229,40 @@ def build_truss(
         )
     supports.sort(key=lambda s: s.joint)
 
-    # loads: drawn lines (arrow head at the joint end), labels from the nearest text
+    # loads: drawn lines (arrow head at the joint end), labels from the nearest text.
+    # The drawing and the file both loading one case need [drawn] loads to say which.
+    drawn_cases = Counter(mark.case for mark in linework.loads)
+    ignored_cases: set[str] = set()
+    if spec:
+        file_cases = Counter(entry.case for entry in spec.loads)
+        both = sorted(set(drawn_cases) & set(file_cases))
+        if both and spec.drawn_loads is None:
+            listed = "; ".join(
+                f"load case '{shown(c)}' has {drawn_cases[c]} drawn on the sheet and {file_cases[c]} in the loads file"
+                for c in both
+            )
+            raise ConfigError(
+                f"{spec.path}: {listed}; say which to use: "
+                '[drawn] loads = "add" (both) or "ignore" (the file\'s only)'
+            )
+        if spec.drawn_loads == "ignore":
+            ignored_cases = set(both)
+    combos_using: dict[str, list[str]] = defaultdict(list)
+    for combo in spec.combinations if spec else ():
+        for case, _ in combo.factors:
+            combos_using[case].append(combo.name)
     case_loads: dict[str, list[Load]] = defaultdict(list)
+    unread: Counter[str] = Counter()
     texts_by_layer: dict[str, list] = defaultdict(list)
     for t in linework.texts:
         texts_by_layer[t.layer.upper()].append(t)
     labels = {layer: _Labels(texts) for layer, texts in texts_by_layer.items()}
     no_labels = _Labels([])
+    comma = comma_style(t.text for t in linework.texts)
+    newtons = FORCE_UNITS[force_unit]
     for mark in linework.loads:
+        if mark.case in ignored_cases:
+            continue
         d0, j0 = _nearest(tree, mark.start)
         d1, j1 = _nearest(tree, mark.end)
         head, tail, d, j = (mark.start, mark.end, d0, j0) if d0 <= d1 else (mark.end, mark.start, d1, j1)
@@ -232,32 +278,67 @@ def build_truss(
             continue
         vec = np.subtract(head, tail)
         length = float(np.hypot(*vec))
-        label, value = labels.get(mark.layer.upper(), no_labels).nearest(mark.start, mark.end, force_unit)
-        if value is None or length == 0:
+        where = f"load line ({shown(mark.layer)}, handle {shown(mark.handle)}) at {joint_id(j)}"
+        data = {"handle": mark.handle, "case": mark.case}
+        not_solved = _not_solved_note(mark.case, combos_using)
+        text = labels.get(mark.layer.upper(), no_labels).nearest(mark.start, mark.end)
+        if text is None or length == 0:
+            unread[mark.case] += 1
+            why = "no text on its layer" if text is None else "it is drawn with zero length, so it has no direction"
             findings.append(
                 Finding(
                     Code.LOAD_WITHOUT_VALUE,
-                    f"load line ({mark.layer}, handle {mark.handle}) at {joint_id(j)} has no magnitude: "
-                    + ("no text on its layer" if label is None else f"the nearest text {label!r} holds no number"),
+                    f"{where} has no magnitude: {why}; {not_solved}",
                     joints=(j,),
                     at=tail,
-                    data={"handle": mark.handle, "case": mark.case},
+                    data=data,
                 )
             )
             continue
+        reading = read_label(text, comma=comma, default_force_unit=force_unit, default_force_newtons=newtons)
+        problem = _label_problem(reading)
+        if problem is not None:
+            unread[mark.case] += 1
+            findings.append(
+                Finding(
+                    Code.LOAD_LABEL_UNCLEAR,
+                    f"{where}: cannot read its label '{shown(text)}': {problem}; {not_solved}",
+                    joints=(j,),
+                    at=tail,
+                    data={**data, "label": text},
+                )
+            )
+            continue
+        value = reading.force(newtons)
+        notes = list(reading.assumptions)
+        if reading.negative:
+            notes.append("the minus sign is not used: the arrow gives the direction")
+        if notes:
+            findings.append(
+                Finding(
+                    Code.LOAD_LABEL_ASSUMPTION,
+                    f"{where}: label '{shown(text)}' read as {value:.6g} {force_unit} along the arrow: "
+                    + "; ".join(notes),
+                    joints=(j,),
+                    at=tail,
+                    data={**data, "label": text, "assumptions": notes},
+                )
+            )
         u = vec / length
-        case_loads[mark.case].append(Load(j, float(value * u[0]), float(value * u[1]), Source.DRAWING))
+        case_loads[mark.case].append(Load(j, float(value * u[0]), float(value * u[1]), Source.DRAWING, text))
+    for case in unread:
+        case_loads.setdefault(case, [])
     if spec:
         for entry, j in zip(spec.loads, _file_joints(tree, xy, spec, "load", near_miss, length_unit)):
             case_loads[entry.case].append(Load(j, entry.fx, entry.fy, Source.LOADS_FILE))
 
-    cases = [LoadCase(name, tuple(case_loads[name])) for name in sorted(case_loads)]
+    cases = [LoadCase(name, tuple(case_loads[name]), unread=unread[name]) for name in sorted(case_loads)]
     if spec:
         check_combinations(spec, set(case_loads))
         by_name = {c.name: c for c in cases}
         for combo in spec.combinations:
             loads = [
-                Load(ld.joint, factor * ld.fx, factor * ld.fy, ld.source)
+                Load(ld.joint, factor * ld.fx, factor * ld.fy, ld.source, ld.label)
                 for case, factor in combo.factors
                 for ld in by_name[case].loads
             ]
@@ -265,7 +346,8 @@ def build_truss(
                 raise ConfigError(
                     f"{spec.path}: [[combination]] #{combo.number} {combo.name!r}: factored loads are too large to represent"
                 )
-            cases.append(LoadCase(combo.name, tuple(loads), factors=combo.factors))
+            blocked = sum(by_name[case].unread for case, _ in combo.factors)
+            cases.append(LoadCase(combo.name, tuple(loads), factors=combo.factors, unread=blocked))
 
     if not linework.loads and not (spec and spec.loads) and parts:
         loads = []
@@ -311,19 +393,19 @@ class _Labels:
         self.xy = np.array([[t.x, t.y] for t in texts], dtype=float).reshape(-1, 2)
         self.tree = cKDTree(self.xy) if len(texts) else None
 
-    def nearest(self, start: tuple[float, float], end: tuple[float, float], force_unit: str):  # type: ignore[no-untyped-def]
-        """The text nearest to the segment start-end and the force it holds (or None).
+    def nearest(self, start: tuple[float, float], end: tuple[float, float]) -> str | None:
+        """The text nearest to the segment start-end (None when the layer has none).
 
         Candidates: every text within (distance from the midpoint to its nearest text +
         half the length) of the midpoint - the nearest text to the segment is among them.
         """
         if self.tree is None:
-            return None, None
+            return None
         a, b = np.asarray(start, float), np.asarray(end, float)
         mid, d = (a + b) / 2, b - a
         d0, _ = self.tree.query(mid)
         if not np.isfinite(d0):
-            return None, None
+            return None
         cand = np.asarray(self.tree.query_ball_point(mid, d0 + float(np.hypot(*d)) / 2 + 1e-12), dtype=np.int64)
         if len(cand) > self.MAX_CANDIDATES or len(cand) == 0:
             _, cand = self.tree.query(mid, k=min(self.MAX_CANDIDATES, len(self.texts)))
@@ -334,7 +416,37 @@ class _Labels:
         dist = np.hypot(*(p - (a + t[:, None] * d)).T)
         order = np.lexsort((cand, dist))  # ties: the earlier text in the drawing
         best = self.texts[int(cand[order[0]])]
-        return best.text, force_from_text(best.text, force_unit)
+        return str(best.text)
+
+
+def _fix_name(dirs: set[int]) -> str:
+    """"pin (xy)", "roller (x)" or "roller (y)" for a set of restrained directions."""
+    return "pin (xy)" if dirs == {0, 1} else ("roller (x)" if dirs == {0} else "roller (y)")
+
+
+def _not_solved_note(case: str, combos_using: dict[str, list[str]]) -> str:
+    """"load case 'deck' is not solved (nor the combination 'ULS' that uses it)"."""
+    combos = combos_using.get(case, [])
+    tail = ""
+    if combos:
+        names = ", ".join(f"'{shown(c)}'" for c in combos)
+        many = len(combos) > 1
+        tail = f" (nor the combination{'s' if many else ''} {names} that use{'' if many else 's'} it)"
+    return f"load case '{shown(case)}' is not solved{tail}"
+
+
+def _label_problem(r: LabelReading) -> str | None:
+    """Why a reading cannot be a drawn joint load, with what to do; None when it can."""
+    if r.kind == "unclear":
+        return r.problem
+    if r.kind in ("per-length", "per-area"):
+        si = "N/m" if r.kind == "per-length" else "Pa"
+        return (
+            f"it is a load per {'length' if r.kind == 'per-length' else 'area'} "
+            f"({r.written} {r.unit} = {r.value:.6g} {si}), not a joint force; distributed loads drawn on the sheet "
+            "are not used: give them in the loads file as joint loads ([[load]])"
+        )
+    return None
 
 
 def section_for(layer: str, sections: tuple) -> int | None:

@@ -49,6 +49,8 @@ class Code(str, Enum):
     ASSUMED_STIFFNESS = "assumed-stiffness"
     ARC_SEGMENT = "arc-segment"
     UNSUPPORTED_GEOMETRY = "unsupported-geometry"
+    LOAD_LABEL_UNCLEAR = "load-label-unclear"
+    LOAD_LABEL_ASSUMPTION = "load-label-assumption"
 
     @property
     def severity(self) -> Severity:
@@ -82,6 +84,8 @@ _SEVERITY: dict[Code, Severity] = {
     # curved or partly usable line work (docs/findings.md):
     Code.ARC_SEGMENT: _W,  # a bulged polyline segment or arc on a member layer: not used
     Code.UNSUPPORTED_GEOMETRY: _W,  # e.g. 3-D line work flattened, block cycle, missing block
+    Code.LOAD_LABEL_UNCLEAR: _E,  # a drawn load's label cannot be read exactly: its case is not solved
+    Code.LOAD_LABEL_ASSUMPTION: _W,  # a label read with an assumption: mass via g, bare number, sign ignored
 }
 
 

@@ -61,11 +61,17 @@ class LoadsSpec:
     combinations: tuple[CombinationEntry, ...]
     sections: tuple[Section, ...]
     force_unit_given: bool = False
+    #: what to do where the drawing and this file both give loads to one case
+    #: (``[drawn] loads``): None refuse, "add" use both, "ignore" use the file's only
+    drawn_loads: str | None = None
+    #: the same for different supports drawn and given at one joint (``[drawn] supports``)
+    drawn_supports: str | None = None
 
 
-_TOP_KEYS = {"units", "support", "load", "combination", "section"}
+_TOP_KEYS = {"units", "drawn", "support", "load", "combination", "section"}
 _KEYS = {
     "units": {"force", "length"},
+    "drawn": {"loads", "supports"},
     "support": {"at", "fix"},
     "load": {"at", "fx", "fy", "case"},
     "combination": {"name", "factors"},
@@ -178,6 +184,14 @@ def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:
     if length_unit is not None:
         length_unit = check_unit_name(length_unit, LENGTH_UNITS, f"{name}: [units] length")
 
+    drawn = data.get("drawn", {})
+    if not isinstance(drawn, dict):
+        raise ConfigError(f"{name}: [drawn] must be a table such as [drawn] loads = \"add\"")
+    _unknown(f"{name}: [drawn]", drawn, "drawn")
+    for key in ("loads", "supports"):
+        if key in drawn and drawn[key] not in ("add", "ignore"):
+            raise ConfigError(f"{name}: [drawn] {key} must be \"add\" or \"ignore\", got {drawn[key]!r}")
+
     supports = []
     for i, t in enumerate(_tables(name, data, "support"), 1):
         where = f"{name}: [[support]] #{i}"
@@ -239,7 +253,16 @@ def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:
         sections.append(Section(layer, area, modulus))
 
     return LoadsSpec(
-        name, force_unit, length_unit, tuple(supports), tuple(loads), tuple(combos), tuple(sections), "force" in units
+        name,
+        force_unit,
+        length_unit,
+        tuple(supports),
+        tuple(loads),
+        tuple(combos),
+        tuple(sections),
+        "force" in units,
+        drawn.get("loads"),
+        drawn.get("supports"),
     )
 
 

@@ -59,12 +59,17 @@ class Support:
 
 @dataclass(frozen=True)
 class Load:
-    """A joint load in the force unit; +x right, +y up."""
+    """A joint load in the force unit; +x right, +y up.
+
+    ``label`` is the text a drawn load was read from (None for loads-file and default
+    loads), so reports can name it.
+    """
 
     joint: int
     fx: float
     fy: float
     source: Source = Source.DRAWING
+    label: str | None = None
 
 
 @dataclass(frozen=True)
@@ -72,12 +77,15 @@ class LoadCase:
     """A named load case, or a combination when ``factors`` is not empty.
 
     For a combination ``loads`` already holds the factored, summed joint loads.
+    ``unread`` counts the drawn loads of the case (or of the cases a combination uses)
+    whose labels could not be read (``load-label-unclear``): such a case is not solved.
     """
 
     name: str
     loads: tuple[Load, ...]
     assumed: bool = False
     factors: tuple[tuple[str, float], ...] = ()
+    unread: int = 0
 
     @property
     def is_combination(self) -> bool:

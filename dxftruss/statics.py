@@ -40,6 +40,8 @@ Solution paths per part (the part's ``PartStability`` decides):
   equilibrium and compatible (the same as the force method of docs/methods.md, SVD item 3).
   Displacements of mechanism parts are not unique and are reported as NaN.
 - determinate (k = 0, s = 0): sparse LU of A; then the residual check.
+- a case with unread drawn loads (``LoadCase.unread``, a ``load-label-unclear`` or
+  ``load-without-value`` error from the model stage): no part is solved.
 - indeterminate (k = 0, s > 0): stiffness method. Members without a section make the
   whole part use one uniform EA, with an ``assumed-stiffness`` warning (one per part;
   its data has no case, so the pipeline can drop the copies other cases repeat).
@@ -384,6 +386,10 @@ def solve_case(
     Raises ValueError when a part has no stability record.
     """
     by_part = {int(s.part): s for s in stabilities}
+    if case.unread:
+        # a drawn load of this case (or of a case in this combination) could not be read:
+        # the model building stage reported it; no part is solved, no numbers are given
+        return _unsolved(truss, case), []
     metre = LENGTH_UNITS[truss.length_unit]
     newton = FORCE_UNITS[truss.force_unit]
     n_joints = truss.n_joints
@@ -495,6 +501,23 @@ def solve_case(
         else loads_symmetric(truss, case, symmetry_axis, distance=symmetry_distance),
     )
     return result, findings
+
+
+def _unsolved(truss: Truss, case: LoadCase) -> CaseResult:
+    """The result of a case that is not solved at all: forces NaN, no parts solved."""
+    return CaseResult(
+        name=case.name,
+        assumed=case.assumed,
+        factors=case.factors,
+        forces=np.full(truss.n_members, np.nan),
+        reactions=(),
+        displacements=None,
+        zero_by_rule=(),
+        zero_by_solution=(),
+        solved_parts=(),
+        residual=0.0,
+        loads_symmetric=None,
+    )
 
 
 def _solve_part(

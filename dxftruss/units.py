@@ -1,5 +1,7 @@
 """Units of length, force, area and modulus, and the strict parser for "12.5 kN".
 
+Load labels drawn on the sheet are read by :mod:`dxftruss.labels`, not here.
+
 Glossary:
     drawing unit  the length unit the DXF coordinates are in (header ``$INSUNITS``,
                   ``--units`` or the loads file's ``[units] length``).
@@ -234,26 +236,3 @@ def check_unit_name(name: object, table: dict[str, float], what: str) -> str:
     if not isinstance(name, str) or name not in table:
         raise ConfigError(f"{what}: unknown unit {name!r} (known units: {', '.join(table)})")
     return name
-
-
-_FORCE_IN_TEXT = re.compile(rf"({_NUMBER})\s*(N|daN|kN|MN|lbf|kips?|kgf|tf)?(?![A-Za-z])")
-
-
-def force_from_text(text: str, force_unit: str) -> float | None:
-    """The first number in a drawing's load label, converted to ``force_unit``.
-
-    ``"P = 12.5 kN"`` -> 12.5 (kN). Returns None when the text holds no number.
-    A decimal comma (``"12,5 kN"``) is read as a decimal point: CAD labels are
-    written by people, and a thousands separator in a load label is rarer.
-    """
-    s = re.sub(r"(\d),(\d)", r"\1.\2", text)
-    m = _FORCE_IN_TEXT.search(s)
-    if not m:
-        return None
-    value = float(m.group(1))
-    if not math.isfinite(value):
-        return None
-    unit = m.group(2)
-    if unit is None:
-        return value
-    return value * FORCE_UNITS[unit] / FORCE_UNITS[force_unit]

@@ -122,3 +122,23 @@ def test_parts_are_numbered_from_the_left():
     assert len(t.supports) == 4
     parts = find_parts(t.n_joints, t.ends)
     assert sum(p.members.size for p in parts) == t.n_members
+
+
+def test_unread_drawn_loads_leave_their_case_unsolved_and_labels_are_kept():
+    # "12 T" may be a tonne or a short ton: the case must not be solved with either
+    lw = linework(
+        supports=[SupportMark(0.0, 0.0, Fix.XY, "s1", "SUPPORT-XY"), SupportMark(8.0, 0.0, Fix.Y, "s2", "SUPPORT-Y")],
+        loads=[
+            LoadMark((4.0, 2.0), (4.0, 0.0), "deck", "l1", "LOAD-deck"),
+            LoadMark((0.0, 5.0), (0.0, 3.0), "snow", "l2", "LOAD-snow"),
+            LoadMark((8.0, 5.0), (8.0, 3.0), "wind", "l3", "LOAD-wind"),
+        ],
+        texts=[TextMark(4.2, 1.0, "P1 = 18 kN", "LOAD-deck", "t1"), TextMark(0.2, 4.0, "12 T", "LOAD-snow", "t2")],
+    )
+    t = build(lw)
+    by = {c.name: c for c in t.cases}
+    assert by["deck"].unread == 0 and by["deck"].loads[0].label == "P1 = 18 kN"
+    assert by["snow"].unread == 1 and by["snow"].loads == ()  # unclear label
+    assert by["wind"].unread == 1  # no text on its layer: load-without-value
+    codes = {f.code for f in t.findings}
+    assert Code.LOAD_LABEL_UNCLEAR in codes and Code.LOAD_WITHOUT_VALUE in codes

@@ -3,7 +3,7 @@
 import pytest
 
 from dxftruss.errors import ConfigError
-from dxftruss.loadsfile import check_combinations, read_loads_file
+from dxftruss.loadsfile import check_combinations, parse_loads, read_loads_file
 
 GOOD = """
 [units]
@@ -85,3 +85,12 @@ def test_combination_of_unknown_case(tmp_path):
 def test_missing_file(tmp_path):
     with pytest.raises(ConfigError, match="cannot read"):
         read_loads_file(tmp_path / "nope.toml")
+
+
+def test_drawn_table_says_how_drawn_and_file_entries_combine():
+    # [drawn] decides what to do where the drawing and the file overlap; absent: refuse (None)
+    spec = parse_loads({"drawn": {"loads": "ignore", "supports": "add"}})
+    assert (spec.drawn_loads, spec.drawn_supports) == ("ignore", "add")
+    assert (parse_loads({}).drawn_loads, parse_loads({}).drawn_supports) == (None, None)
+    with pytest.raises(ConfigError, match=r'\[drawn\] supports must be "add" or "ignore"'):
+        parse_loads({"drawn": {"supports": True}})

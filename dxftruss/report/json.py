@@ -149,7 +149,16 @@ def _case(result, c) -> dict[str, Any]:  # type: ignore[no-untyped-def]
         "name": c.name,
         "assumed": c.assumed,
         "combination": {k: _num(v) for k, v in c.factors} if c.factors else None,
-        "loads": [{"joint": joint_id(ld.joint), "fx": _num(ld.fx), "fy": _num(ld.fy)} for ld in case.loads],
+        "loads": [
+            {
+                "joint": joint_id(ld.joint),
+                "fx": _num(ld.fx),
+                "fy": _num(ld.fy),
+                "source": ld.source.value,
+                "label": ld.label,
+            }
+            for ld in case.loads
+        ],
         "reactions": [{"joint": joint_id(j), "fx": _num(rx), "fy": _num(ry)} for j, rx, ry in c.reactions],
         "forces": dict(zip((member_id(e) for e in range(len(c.forces))), _nums(c.forces))),
         "zero_force": {
