@@ -85,6 +85,13 @@ def build_parser() -> argparse.ArgumentParser:
         default=250_000,
         help="refuse drawings with more than N members (default 250000)",
     )
+    c.add_argument(
+        "--max-file-size",
+        metavar="MB",
+        type=float,
+        default=256,
+        help="refuse drawings larger on disk than MB mebibytes before reading them (default 256; 0: no limit)",
+    )
     c.add_argument("--page", choices=["A4", "A3", "letter", "tabloid"], default="A3", help="PDF page size (default A3)")
     c.add_argument("--quiet", action="store_true", help="print nothing but errors")
     return parser
@@ -216,6 +223,7 @@ def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = F
             loads=args.loads,
             max_parts=args.max_parts,
             max_members=args.max_members,
+            max_file_mb=args.max_file_size or None,
         )
         result = _check_with_progress(drawing, settings, show=not args.quiet and not many)
         from .report.text import summary

@@ -266,3 +266,10 @@ def test_intact_drawing_without_members_stays_a_finding(tmp_path: Path) -> None:
     out = _cli("check", str(path), "--json", "-")
     assert out.returncode == 1
     assert "no-members" in {f["code"] for f in json.loads(out.stdout)["findings"]}
+
+
+def test_file_size_option_refuses_and_raises(tmp_path: Path) -> None:
+    path = _many_lines(tmp_path, 200)
+    out = _cli("check", str(path), "--json", "-", "--max-file-size", "0.01")
+    assert out.returncode == 2 and "--max-file-size" in out.stderr and str(path) in out.stderr
+    assert _cli("check", str(path), "--json", "-", "--max-file-size", "0").returncode in (0, 1)
