@@ -6,7 +6,8 @@ Glossary:
               supports and loads; R12, R2013, an ENTITIES-only R12 and a binary R2013.
     mutation  a structural edit of the group-code/value pairs (drop, duplicate, swap,
               move, corrupt code, garbage value, nan/inf/1e308/-1e400, huge counts,
-              block cycles, empty layer names, long strings, markup, non-UTF-8 bytes)
+              block cycles, empty layer names, long strings, markup, terminal control characters,
+              non-UTF-8 bytes)
               or a byte edit (truncation, stray bytes, line endings).
     guarantee what every run must do whatever the input (the hostile-input issue,
               docs/user-guide.md, Exit codes): exit 0, 1 or 2; no exception, hang or "internal error"; the input
@@ -15,7 +16,7 @@ Glossary:
     target    an output path that is a FIFO, socket, directory or symbolic link: refused
               (exit 2) and left as it was, or, for a link to a file, the file replaced.
 
-Hypothesis is derandomised and bounded (213 examples in all); each example runs
+Hypothesis is derandomised and bounded (229 examples in all); each example runs
 under an alarm that turns a hang into a failure. Long runs: tests/fuzz/fuzz_long.py.
 """
 
@@ -244,6 +245,22 @@ def test_layer_names_and_strings(name, rng):
         op = rng.choice([mu.m_empty_layer, mu.m_weird_string, mu.m_weird_string])
         pairs = op(pairs, rng)
     _check(mu.serialize(pairs), name, quiet=rng.random() < 0.5)
+
+
+@settings(FUZZ, max_examples=16)
+@given(
+    name=st.sampled_from(ASCII_SEEDS),
+    control=st.sampled_from(mu.CONTROL),
+    rng=st.randoms(use_true_random=False),
+)
+def test_terminal_control_in_every_layer_name(name, control, rng):
+    # every layer name of the seed (members, supports, loads) gets the same control
+    # sequence; the summary is printed (not --quiet) and must show it escaped
+    pairs = mu.parse_pairs(mu.seed(name))
+    pairs = [(c, v + control) if c.strip() == b"8" and v.strip() else (c, v) for c, v in pairs]
+    if rng.random() < 0.5:
+        pairs = mu.m_weird_string(pairs, rng)
+    _check(mu.serialize(pairs), (name, control), quiet=False)
 
 
 # ---------------------------------------------------------------------------------------

@@ -197,6 +197,10 @@ SPECIAL_NUMBERS = [
 HUGE_INTS = [b"2147483647", b"-2147483648", b"99999999999", b"-1", b"0", b"1e9", b"3.5", b"32767", b"65535"]
 MARKUP = [b"<b>", b"[bold]red[/bold]", b"&amp;&", b'<img src="x"/>', b"</para>", b"[/]", b"<font color=red>"]
 NON_UTF8 = [b"\xff\xfe", b"\xc3\x28", b"\x80", b"\xed\xa0\x80", b"\xf4\x90\x80\x80", b"\xc0\xaf"]
+#: terminal control in names: clear screen, colour, cursor home, CSI as one C1 byte (UTF-8),
+#: bell, backspace, a bidi override and isolate, a carriage return that would overwrite
+CONTROL = [b"\x1b[2J", b"\x1b[31m", b"\x1b[H", "\u009b2J".encode(), b"\x07", b"\x08\x08",
+           "\u202e".encode(), "\u2066".encode(), b"\r"]
 ENTITY_TYPES = [
     b"LINE", b"INSERT", b"POLYLINE", b"VERTEX", b"SEQEND", b"BLOCK", b"ENDBLK", b"SECTION", b"ENDSEC", b"EOF",
     b"LWPOLYLINE", b"MTEXT", b"TEXT", b"HATCH", b"DIMENSION", b"ARC", b"CIRCLE", b"POINT", b"SPLINE", b"FOO",
@@ -379,15 +383,18 @@ def m_empty_layer(p: Pairs, rng: random.Random) -> Pairs:
 
 
 def m_weird_string(p: Pairs, rng: random.Random) -> Pairs:
-    """Long strings, markup or non-UTF-8 bytes in a layer name, block name or text."""
+    """Long strings, markup, terminal control or non-UTF-8 bytes in a layer name, block
+    name or text."""
     i = _pick(p, rng, lambda _, c, v: c.strip() in (b"1", b"2", b"3", b"7", b"8"))
     if i is None:
         return p
-    kind = rng.randrange(3)
+    kind = rng.randrange(4)
     if kind == 0:
         new = b"L" * rng.choice([256, 2049, 70_000])
     elif kind == 1:
         new = p[i][1] + rng.choice(MARKUP)
+    elif kind == 3:
+        new = p[i][1] + rng.choice(CONTROL)
     else:
         v = p[i][1]
         k = rng.randint(0, len(v))
@@ -735,6 +742,17 @@ def memory_cap(extra_bytes: int | None):  # type: ignore[no-untyped-def]
         resource.setrlimit(resource.RLIMIT_AS, (soft, hard))
 
 
+def raw_terminal_control(text: str) -> list[str]:
+    """Characters in printed text that act on a terminal instead of being shown (a line
+    break is the only one allowed): C0 and C1 controls, DEL, bidi overrides and isolates."""
+    return [
+        c
+        for c in text
+        if (ord(c) < 0x20 and c not in "\n") or 0x7F <= ord(c) < 0xA0 or 0x202A <= ord(c) <= 0x202E
+        or 0x2066 <= ord(c) <= 0x2069
+    ]
+
+
 def run_main(
     drawing: Path,
     *,
@@ -817,6 +835,9 @@ def run_main(
         problems.append("internal error: " + stderr.strip()[:400])
     if "Traceback" in stderr:
         problems.append("traceback on stderr")
+    raw = raw_terminal_control(stdout) + raw_terminal_control(stderr)
+    if raw:
+        problems.append(f"terminal control characters printed raw: {sorted(set(raw))!r}")
     for p, (data, mtime) in before.items():
         if not p.exists() or p.read_bytes() != data or p.stat().st_mtime_ns != mtime:
             problems.append(f"input {p.name} was modified")
