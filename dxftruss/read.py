@@ -104,6 +104,9 @@ class LineWork:
     #: layer and block names DXF cannot store (control characters, ``<>/\":;?*|=``):
     #: (kind "layer" or "block", name as read, legal name the annotated DXF writes)
     renamed: tuple[tuple[str, str, str], ...] = ()
+    #: the DXF library's document as read (ezdxf ``Drawing``): the reports draw and copy
+    #: it instead of reading the file again. Not part of comparisons.
+    document: Any = field(default=None, compare=False, repr=False)
 
 
 # ---------------------------------------------------------------------------------------
@@ -1445,6 +1448,7 @@ def read_drawing(
         length_unit=INSUNITS.get(units_code) if units_code is not None else None,
         header_units=units_code,
         renamed=renamed,
+        document=doc,
         findings=tuple(findings),
         recovered=recovered,
     )
