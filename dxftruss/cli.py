@@ -558,16 +558,18 @@ def _run_guarded(args: argparse.Namespace) -> int:
 
 
 def main(argv: list[str] | None = None) -> int:
+    """The command line; every interrupt before the run is guarded is one line too."""
+    try:
+        return _main(argv)
+    except KeyboardInterrupt:
+        _err("interrupted (Ctrl-C)")
+        return 130
+
+
+def _main(argv: list[str] | None) -> int:
     import logging
 
     _open_standard_streams()
-
-    # Each part's dense linear algebra is small: one BLAS thread is faster than two that
-    # fight each other (measured: a 204 x 204 SVD 0.01 s vs 0.04-0.16 s on a busy 2-core
-    # machine), and several drawings already run one process per core. The user's own
-    # setting wins; this must happen before numpy is imported.
-    for var in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
-        os.environ.setdefault(var, "1")
 
     # the DXF library logs repairs to stderr; the reader reports them as findings instead
     ezdxf_log = logging.getLogger("ezdxf")
@@ -580,18 +582,11 @@ def main(argv: list[str] | None = None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
     if args.command == "check":
-        # The DXF document and the model are millions of small objects that live until the
-        # run ends; the cyclic garbage collector frees none of them but walks them again
-        # at every threshold (measured at 100k members: about 1.5 s of 12 s CPU, for
-        # +60 MB peak). Reference counting still frees everything that is dropped.
-        import gc
+        # the run's policy (no cyclic gc, one BLAS thread: dxftruss.pipeline.run_policy)
+        # covers the reports too; check() sets the same policy for library use
+        from .policy import run_policy
 
-        was_enabled = gc.isenabled()
-        gc.disable()
-        try:
+        with run_policy():
             return _run_guarded(args)
-        finally:
-            if was_enabled:  # main() may be called in-process (tests, tools)
-                gc.enable()
     parser.print_help()
     return EXIT_INPUT

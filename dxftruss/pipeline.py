@@ -1,29 +1,32 @@
-"""check(path, settings) -> Result: owns the order of the stages.
+"""check(path, settings) -> Result: owns the order of the stages and the run's policy.
 
 read DXF -> line work -> joints and members -> model (supports, loads, parts)
 -> audit (topology, stability) -> statics (per case) -> Result for the reports.
 
-Nothing here prints or writes files; the reports and the command line do.
+Nothing here prints or writes files; the reports and the command line do. The run's
+policy (no cyclic garbage collection while the model lives, one BLAS thread per
+process) is set around the stages by :func:`run_policy`, so ``dxftruss.check(path)``
+from Python runs as fast as the command line.
 """
 
 from __future__ import annotations
 
 import hashlib
 import os
-from dataclasses import dataclass, field
+from collections.abc import Callable
 from pathlib import Path
-from typing import Callable
 
 import numpy as np
 
 from .assemble import build_truss
 from .audit.stability import PartStability, analyse_part
 from .audit.topology import audit_topology
-from .errors import ConfigError, InputError, LimitError
-from .findings import Code, Finding, Severity, sort_findings
-from .loadsfile import LoadsSpec, read_loads_file
-from .model import Truss
-from .read import LineWork, read_drawing
+from .errors import ConfigError, InputError
+from .findings import Code, Finding, sort_findings
+from .loadsfile import read_loads_file
+from .policy import run_policy
+from .read import read_drawing
+from .result import Result, Settings, SourceInfo, Tolerances
 from .snap import build_geometry
 from .statics import CaseResult, solve_case
 from .symmetry import find_mirror_axis
@@ -32,80 +35,23 @@ from .units import LENGTH_UNITS, check_unit_name, insunits_description, parse_le
 DEFAULT_UNIT = "mm"
 
 
-@dataclass(frozen=True)
-class Settings:
-    """What the user asked for. Lengths are text (``"0.5mm"``, ``"1/16in"``, ``"2"``);
-    a bare number is in drawing units. None means the documented default."""
-
-    snap: str | None = None
-    near_miss: str | None = None
-    units: str | None = None
-    layers: tuple[str, ...] = ()
-    loads: str | None = None
-    #: default snap = this fraction of the line work's extent diagonal (docs/user-guide.md, Tolerances)
-    snap_fraction: float = 1e-6
-    #: default near-miss radius = this fraction of the median member length (docs/user-guide.md, Tolerances)
-    near_miss_fraction: float = 0.02
-    #: refuse drawings that fall into more separate parts than this (--max-parts): each
-    #: part is analysed alone, and tens of thousands of loose lines are not a truss
-    max_parts: int = 5000
-    #: refuse drawings with more members than this (--max-members): bounded run time;
-    #: the benchmark's 100k-member drawings take about 10 s
-    max_members: int = 250_000
-    #: refuse drawings larger on disk than this many MiB before reading anything
-    #: (--max-file-size; 0 or None: no limit). The benchmark's 100k-member drawing is
-    #: about 25 MiB; the member limit is reached long before this size.
-    max_file_mb: float | None = 256
-    #: parts with at most this many joint dofs get a dense SVD; larger ones the sparse path
-    dense_limit: int = 256
-
-
-@dataclass(frozen=True)
-class Tolerances:
-    """The tolerances actually used, in drawing units (reported everywhere)."""
-
-    snap: float
-    near_miss: float
-    snap_source: str
-    near_miss_source: str
-
-
-@dataclass(frozen=True)
-class SourceInfo:
-    path: str
-    sha256: str
-    dxf_version: str
-    length_unit: str
-    unit_source: str  # "header", "option", "loads-file" or "assumed"
-    recovered: bool
-
-
-@dataclass(frozen=True)
-class Result:
-    source: SourceInfo
-    settings: Settings
-    tolerances: Tolerances
-    truss: Truss
-    linework: LineWork
-    stability: tuple[PartStability, ...]
-    cases: tuple[CaseResult, ...]
-    findings: tuple[Finding, ...]
-    symmetry_axis: float | None
-    loads: LoadsSpec | None = None
-    timings: dict[str, float] = field(default_factory=dict, compare=False)
-
-    @property
-    def has_errors(self) -> bool:
-        return any(f.severity is Severity.ERROR for f in self.findings)
-
-
 def file_sha256(path: str | os.PathLike[str]) -> str:
     """Hex sha256 of a file, read in 1 MiB chunks."""
+    return file_digest(path)[0]
+
+
+def file_digest(path: str | os.PathLike[str]) -> tuple[str, bool]:
+    """(hex sha256, binary DXF) of a file in one pass, 1 MiB chunks."""
     h = hashlib.sha256()
+    binary = False
     with open(path, "rb") as fh:
+        first = True
         for chunk in iter(lambda: fh.read(1 << 20), b""):
+            if first:
+                binary = chunk.startswith(b"AutoCAD Binary DXF")
+                first = False
             h.update(chunk)
-    return h.hexdigest()
+    return h.hexdigest(), binary
 
 
 def _tolerance(text: str, unit: str, what: str) -> float:
@@ -124,10 +70,10 @@ def check(
 ) -> Result:
     """Run every stage on one drawing. Raises DxftrussError subclasses on bad input.
 
-    numpy's floating-point warnings are silenced: every stage checks finiteness itself
+    Runs under :func:`run_policy`. numpy's floating-point warnings are silenced: every stage checks finiteness itself
     (invalid coordinates, solve residuals), and the warnings would only reach stderr.
     """
-    with np.errstate(all="ignore"):
+    with run_policy(), np.errstate(all="ignore"):
         return _check(path, settings, progress=progress)
 
 
@@ -161,7 +107,7 @@ def _check(
         max_members=settings.max_members,
         max_bytes=int(settings.max_file_mb * 2**20) if settings.max_file_mb else None,
     )
-    sha = file_sha256(p)
+    sha, binary = file_digest(p)
     stage("read")
 
     findings: list[Finding] = list(linework.findings)
@@ -250,7 +196,7 @@ def _check(
                 findings.append(f)
     stage("statics")
 
-    source = SourceInfo(str(path), sha, linework.dxf_version, unit, unit_source, linework.recovered)
+    source = SourceInfo(str(path), sha, linework.dxf_version, unit, unit_source, linework.recovered, binary)
     return Result(
         source=source,
         settings=settings,

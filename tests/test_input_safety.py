@@ -273,3 +273,24 @@ def test_file_size_option_refuses_and_raises(tmp_path: Path) -> None:
     out = _cli("check", str(path), "--json", "-", "--max-file-size", "0.01")
     assert out.returncode == 2 and "--max-file-size" in out.stderr and str(path) in out.stderr
     assert _cli("check", str(path), "--json", "-", "--max-file-size", "0").returncode in (0, 1)
+
+
+def test_annotated_dxf_leaves_the_document_as_read(tmp_path: Path) -> None:
+    # one read per run: the reports share the document the check read, so writing the
+    # annotated copy must take back every mark and legal name it added
+    from dxftruss.report.dxf import write_dxf
+
+    src = _hostile_frame(tmp_path, fmt="bin", extra_layer="CH\rO:RD")
+    res = check(src)
+    doc = res.linework.document
+
+    def state() -> tuple[object, ...]:
+        ents = sorted((e.dxf.handle, e.dxftype(), e.dxf.get("layer")) for e in doc.modelspace())
+        return (ents, sorted(layer.dxf.name for layer in doc.layers), sorted(b.name for b in doc.blocks))
+
+    before = state()
+    write_dxf(res, tmp_path / "one.dxf")
+    assert state() == before
+    write_dxf(res, tmp_path / "two.dxf")  # a second copy is the same as the first
+    one, two = ezdxf.readfile(tmp_path / "one.dxf"), ezdxf.readfile(tmp_path / "two.dxf")
+    assert len(one.modelspace()) == len(two.modelspace()) > len(doc.modelspace())

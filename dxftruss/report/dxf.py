@@ -26,6 +26,7 @@ from __future__ import annotations
 import math
 import os
 import re
+from collections.abc import Callable
 from typing import Any
 
 import numpy as np
@@ -34,9 +35,8 @@ from ..errors import InputError, OutputError
 from ..escape import legal_names, one_line, shown
 from ..findings import Severity
 from ..model import joint_id
-from ..pipeline import file_sha256
 from .pdf import clean_reactions, fmt_force
-from .render import read_document
+from .render import checked_document
 
 PREFIX = "DXFTRUSS"
 #: ACI colours of the marks: tension blue, compression orange, zero grey
@@ -106,25 +106,63 @@ def write_dxf(
 ) -> None:
     """Write a copy of the checked drawing with the results on new layers to ``path``.
 
-    Raises InputError when the drawing on disk is no longer the one that was checked
-    (its SHA-256 differs) or cannot be read again.
+    The copy is the document the check read (``result.linework.document``): the marks and
+    the legal names are added to it, it is saved, and everything added or renamed is
+    taken back, so the document stays as read for any report after this one. Raises
+    InputError when there is no document and the drawing on disk is no longer the one
+    that was checked (its SHA-256 differs) or cannot be read again.
     """
     import ezdxf
-    from ezdxf.enums import TextEntityAlignment
-    from ezdxf.lldxf.validator import is_binary_dxf_file
 
     src = result.source.path
     try:
-        if file_sha256(src) != result.source.sha256:
-            raise InputError(f"{src}: the drawing changed after it was checked; run the check again")
-        binary = is_binary_dxf_file(str(src))
-        doc = read_document(src, recover=bool(result.source.recovered))
+        doc = checked_document(result)
     except OSError as exc:
         raise InputError(f"{src}: cannot read the drawing again ({exc.strerror or exc})") from exc
     except ezdxf.DXFError as exc:
         raise InputError(f"{src}: cannot read the drawing again ({exc})") from exc
+    if getattr(result.linework, "document", None) is not None:
+        binary = bool(result.source.binary)
+    else:  # a result made by hand: the file on disk says (it was just checked unchanged)
+        from ezdxf.lldxf.validator import is_binary_dxf_file
 
-    _legalise_names(doc, result.linework.renamed)
+        binary = is_binary_dxf_file(str(src))
+    undo = _legalise_names(doc, result.linework.renamed)
+    added: list[Any] = []
+    layers_added: list[str] = []
+    try:
+        _annotate(doc, result, added, layers_added, height_fraction=height_fraction, member_fraction=member_fraction)
+        try:
+            doc.saveas(path, fmt="bin" if binary else "asc")
+        except (AssertionError, ValueError, UnicodeError, ezdxf.DXFError) as exc:
+            # a value the DXF format cannot store (e.g. a line break inside a text of the
+            # input drawing): one line, never a traceback, and nothing is left at ``path``
+            raise OutputError(
+                f"annotated DXF not written: the drawing holds a value DXF cannot store ({one_line(exc, 120)})"
+            ) from None
+    finally:
+        msp = doc.modelspace()
+        for e in added:
+            doc.entitydb.delete_entity(e)
+        msp.entity_space.purge()  # one pass: removing one by one is quadratic
+        for name in layers_added:
+            doc.layers.remove(name)
+        undo()
+
+
+def _annotate(
+    doc: Any,
+    result: Any,
+    added: list[Any],
+    layers_added: list[str],
+    *,
+    height_fraction: float,
+    member_fraction: float,
+) -> None:
+    """Add the force, reaction and finding marks to ``doc``; every new entity goes into
+    ``added`` and every new layer into ``layers_added`` (for the caller to take back)."""
+    from ezdxf.enums import TextEntityAlignment
+
     r12 = doc.dxfversion <= "AC1009"
     names = _LayerNames(doc, max_len=31 if r12 else 120)
     msp = doc.modelspace()
@@ -136,6 +174,7 @@ def write_dxf(
     def add_layer(base: str, color: int, what: str) -> str:
         name = names.new(base)
         layer = doc.layers.add(name, color=color)
+        layers_added.append(name)
         if not r12:
             layer.description = f"dxftruss: {what}"
         return name
@@ -150,7 +189,9 @@ def write_dxf(
         align: Any = TextEntityAlignment.MIDDLE_CENTER,
     ) -> None:
         attribs = {"layer": layer, "color": color, "rotation": rotation}
-        msp.add_text(s, height=height, dxfattribs=attribs).set_placement(at, align=align)
+        e = msp.add_text(s, height=height, dxfattribs=attribs)
+        e.set_placement(at, align=align)
+        added.append(e)
 
     # member forces, one layer per case
     solved_cases = [cs for cs in result.cases if np.isfinite(np.asarray(cs.forces, dtype=float)).any()]
@@ -200,54 +241,67 @@ def write_dxf(
         for n, f in marked:
             x, y = float(f.at[0]), float(f.at[1])
             color = ACI_SEVERITY[f.severity]
-            msp.add_circle((x, y), 0.9 * h, dxfattribs={"layer": layer, "color": color})
+            added.append(msp.add_circle((x, y), 0.9 * h, dxfattribs={"layer": layer, "color": color}))
             text(str(n), (x, y), layer, color, 0.9 * h)
             text(f.code.value, (x + 1.2 * h, y), layer, color, 0.6 * h, align=TextEntityAlignment.MIDDLE_LEFT)
 
-    try:
-        doc.saveas(path, fmt="bin" if binary else "asc")
-    except (AssertionError, ValueError, UnicodeError, ezdxf.DXFError) as exc:
-        # a value the DXF format cannot store (e.g. a line break inside a text of the
-        # input drawing): one line, never a traceback, and nothing is left at ``path``
-        raise OutputError(
-            f"annotated DXF not written: the drawing holds a value DXF cannot store ({one_line(exc, 120)})"
-        ) from None
 
 
-def _legalise_names(doc: Any, renamed: tuple[tuple[str, str, str], ...]) -> None:
+def _legalise_names(doc: Any, renamed: tuple[tuple[str, str, str], ...]) -> Callable[[], None]:
     """Rename the layers and blocks DXF cannot store to the legal names the reader chose
-    (listed in the JSON), and any further ones found in the copy, before writing.
-
-    The copy only: the input drawing is never written."""
+    (listed in the JSON), and any further ones found in the document, before writing.
+    Returns the function that puts every name back."""
     layer_map = {a: b for kind, a, b in renamed if kind == "layer"}
     block_map = {a: b for kind, a, b in renamed if kind == "block"}
     entities = list(doc.entitydb.values())
     entity_layers = {str(e.dxf.get("layer", "0")) for e in entities if e.dxf.hasattr("layer")}
     table_layers = {str(layer.dxf.name) for layer in doc.layers}
     blocks = {str(br.dxf.name) for br in doc.block_records}
-    taken = set(layer_map.values())
-    for a, b in legal_names(entity_layers | table_layers - set(layer_map), taken=taken).items():
+    for a, b in legal_names(entity_layers | table_layers - set(layer_map), taken=set(layer_map.values())).items():
         layer_map.setdefault(a, b)
     for a, b in legal_names(blocks - set(block_map), taken=set(block_map.values())).items():
         block_map.setdefault(a, b)
+    changed: list[tuple[Any, str, str]] = []  # (entity, attribute, old value)
+    tables: list[tuple[str, str]] = []  # (old, new) layer table entries renamed
+    blocks_renamed: list[tuple[str, str]] = []
+
+    def undo() -> None:
+        # the names as read are not legal DXF: set them back without validation
+        for e, attr, old in reversed(changed):
+            e.dxf.unprotected_set(attr, old)
+        for old, new in reversed(tables):
+            layer = doc.layers.get(new)
+            layer.dxf.unprotected_set("name", old)
+            doc.layers.replace(new, layer)
+        for old, new in reversed(blocks_renamed):
+            br = doc.block_records.get(new)
+            br.dxf.unprotected_set("name", old)
+            if br.block is not None:
+                br.block.dxf.unprotected_set("name", old)
+            doc.block_records.replace(new, br)
+            doc.blocks.add(br)
+
     if not layer_map and not block_map:
-        return
+        return undo
     for layer in list(doc.layers):
         old = str(layer.dxf.name)
         if old in layer_map:
             layer.dxf.name = layer_map[old]
             doc.layers.replace(old, layer)  # the table is keyed by name
+            tables.append((old, layer_map[old]))
     for e in entities:
-        if e.dxf.hasattr("layer"):
-            new = layer_map.get(str(e.dxf.layer))
-            if new is not None:
-                e.dxf.layer = new
-    for old_block, new_block in block_map.items():
-        if old_block in doc.blocks:
-            doc.blocks.rename_block(old_block, new_block)
-    if block_map:
-        for e in entities:
-            if e.dxftype() == "INSERT":
-                new = block_map.get(str(e.dxf.name))
-                if new is not None:
-                    e.dxf.name = new
+        if layer_map and e.dxf.hasattr("layer"):
+            old = str(e.dxf.layer)
+            if old in layer_map:
+                changed.append((e, "layer", old))
+                e.dxf.layer = layer_map[old]
+        if block_map and e.dxftype() == "INSERT":
+            old = str(e.dxf.name)
+            if old in block_map:
+                changed.append((e, "name", old))
+                e.dxf.name = block_map[old]
+    for old, new in block_map.items():
+        if old in doc.blocks:
+            doc.blocks.rename_block(old, new)
+            blocks_renamed.append((old, new))
+    return undo

@@ -108,6 +108,24 @@ def read_document(path: str | os.PathLike[str], *, recover: bool = False) -> Any
     return doc
 
 
+def checked_document(result: Any) -> Any:
+    """The document the check read (``result.linework.document``): the reports draw and
+    copy it, so a run opens and hashes the drawing once. A result made without one (a
+    tool that built it by hand) reads the file again, and only if it is still the file
+    that was checked (same SHA-256). Raises OSError, ValueError or the DXF library's
+    errors when that reading fails, InputError when the file changed."""
+    doc = getattr(result.linework, "document", None)
+    if doc is not None:
+        return doc
+    from ..errors import InputError
+    from ..pipeline import file_sha256
+
+    src = result.source.path
+    if file_sha256(src) != result.source.sha256:
+        raise InputError(f"{src}: the drawing changed after it was checked; run the check again")
+    return read_document(src, recover=bool(result.source.recovered))
+
+
 def record_drawing(
     doc: Any,
     *,
