@@ -21,7 +21,7 @@ import numpy as np
 from .assemble import build_truss
 from .audit.stability import PartStability, analyse_part
 from .audit.topology import audit_topology
-from .errors import ConfigError, InputError
+from .errors import ConfigError, InputError, LimitError
 from .findings import Code, Finding, sort_findings
 from .loadsfile import read_loads_file
 from .policy import run_policy

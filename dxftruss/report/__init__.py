@@ -6,7 +6,12 @@ says the same words.
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 from ..findings import Code
+
+if TYPE_CHECKING:
+    from ..result import Result
 
 CAUTION = (
     "Results are for checking a line model under stated loads; they are not a design. "
@@ -18,7 +23,7 @@ CAUTION = (
 ASSUMPTION_CODES = (Code.ASSUMED_UNITS, Code.ASSUMED_SUPPORTS, Code.ASSUMED_LOADS, Code.ASSUMED_STIFFNESS)
 
 
-def assumptions(result) -> list[str]:  # type: ignore[no-untyped-def]
+def assumptions(result: Result) -> list[str]:
     """Every default the tool assumed, as sentences for people (same in every report)."""
     out = [f.message for f in result.findings if f.code in ASSUMPTION_CODES]
     tol = result.tolerances

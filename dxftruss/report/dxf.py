@@ -23,6 +23,8 @@ What goes on the result layers (entities valid in every DXF version, R12 include
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import math
 import os
 import re
@@ -37,6 +39,9 @@ from ..findings import Severity
 from ..model import joint_id
 from .pdf import clean_reactions, fmt_force
 from .render import checked_document
+
+if TYPE_CHECKING:
+    from ..result import Result
 
 PREFIX = "DXFTRUSS"
 #: ACI colours of the marks: tension blue, compression orange, zero grey
@@ -98,7 +103,7 @@ def _upright(dx: float, dy: float) -> float:
 
 
 def write_dxf(
-    result: Any,
+    result: Result,
     path: str | os.PathLike[str],
     *,
     height_fraction: float = 0.012,
@@ -152,7 +157,7 @@ def write_dxf(
 
 def _annotate(
     doc: Any,
-    result: Any,
+    result: Result,
     added: list[Any],
     layers_added: list[str],
     *,
@@ -234,12 +239,12 @@ def _annotate(
 
     # findings
     marked = [
-        (n, f) for n, f in enumerate(result.findings, 1) if f.at is not None and all(math.isfinite(v) for v in f.at)
+        (n, f, f.at) for n, f in enumerate(result.findings, 1) if f.at is not None and all(map(math.isfinite, f.at))
     ]
     if marked:
         layer = add_layer(f"{PREFIX}-FINDINGS", 1, "numbered finding markers (numbers as in the findings list)")
-        for n, f in marked:
-            x, y = float(f.at[0]), float(f.at[1])
+        for n, f, at in marked:
+            x, y = float(at[0]), float(at[1])
             color = ACI_SEVERITY[f.severity]
             added.append(msp.add_circle((x, y), 0.9 * h, dxfattribs={"layer": layer, "color": color}))
             text(str(n), (x, y), layer, color, 0.9 * h)

@@ -7,6 +7,8 @@ so the same input and options always give byte-identical JSON.
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import json
 import math
 import re
@@ -16,6 +18,10 @@ import numpy as np
 
 from ..model import joint_id, member_id
 from . import CAUTION, assumptions
+
+if TYPE_CHECKING:
+    from ..result import Result
+    from ..statics import CaseResult
 
 SCHEMA = "dxftruss-report/1"
 #: integer form of the schema version; raised when a key changes meaning or is removed
@@ -51,7 +57,7 @@ def _jsonable(v: Any) -> Any:
     return str(v)
 
 
-def report_dict(result) -> dict[str, Any]:  # type: ignore[no-untyped-def]
+def report_dict(result: Result) -> dict[str, Any]:
     """The report as plain JSON-ready data."""
     t = result.truss
     lengths = _nums(t.lengths())
@@ -142,7 +148,7 @@ def report_dict(result) -> dict[str, Any]:  # type: ignore[no-untyped-def]
     return doc
 
 
-def _case(result, c) -> dict[str, Any]:  # type: ignore[no-untyped-def]
+def _case(result: Result, c: CaseResult) -> dict[str, Any]:
     t = result.truss
     case = next(lc for lc in t.cases if lc.name == c.name)
     out: dict[str, Any] = {
@@ -176,7 +182,7 @@ def _case(result, c) -> dict[str, Any]:  # type: ignore[no-untyped-def]
     return out
 
 
-def to_json(result) -> str:  # type: ignore[no-untyped-def]
+def to_json(result: Result) -> str:
     # no indent: json's C encoder is used only without one (3-5x faster on large reports)
     text = json.dumps(report_dict(result), ensure_ascii=False, allow_nan=False, separators=(",", ":")) + "\n"
     # JSON escapes C0 itself; C1 controls (a lone CSI is an escape sequence on many

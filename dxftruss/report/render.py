@@ -19,12 +19,17 @@ Heavy imports (ezdxf, its drawing add-on, reportlab) live inside the functions.
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import os
 from collections.abc import Iterable
 from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
+
+if TYPE_CHECKING:
+    from ..result import Result
 
 #: entity types whose fills are area fills (drawn lighter than text glyph fills)
 AREA_FILL_TYPES = frozenset({"HATCH", "MPOLYGON", "SOLID", "TRACE", "3DFACE", "WIPEOUT"})
@@ -108,7 +113,7 @@ def read_document(path: str | os.PathLike[str], *, recover: bool = False) -> Any
     return doc
 
 
-def checked_document(result: Any) -> Any:
+def checked_document(result: Result) -> Any:
     """The document the check read (``result.linework.document``): the reports draw and
     copy it, so a run opens and hashes the drawing once. A result made without one (a
     tool that built it by hand) reads the file again, and only if it is still the file

@@ -20,6 +20,9 @@ from ..model import joint_id, member_id
 from . import CAUTION, assumptions
 
 if TYPE_CHECKING:
+    from ..result import Result
+
+if TYPE_CHECKING:
     from rich.text import Text
 
 
@@ -34,7 +37,7 @@ def _fmt(x: float) -> str:
     return f"{x:.4g}" if abs(x) >= 1e-3 or x == 0 else f"{x:.3e}"
 
 
-def summary(result, *, max_findings: int = 40, width: int = 110, color: bool = False) -> str:  # type: ignore[no-untyped-def]
+def summary(result: Result, *, max_findings: int = 40, width: int = 110, color: bool = False) -> str:
     """The summary as text (ANSI colour only when ``color``)."""
     from rich import box
     from rich.console import Console
