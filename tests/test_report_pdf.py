@@ -395,6 +395,23 @@ def test_markup_in_names_is_literal(tmp_path: Path) -> None:
     assert "<b>snow & <i>" in text
 
 
+def test_control_characters_in_names_are_drawn_as_escapes(tmp_path: Path) -> None:
+    """A layer name with a terminal escape and a case name with a right-to-left override:
+    the PDF shows both as visible escapes (dxftruss.escape.shown), never the raw characters."""
+    dxf = tmp_path / "press_house_roof.dxf"
+    handles = write_king_post_dxf(dxf)
+    layers = ("TIE\x1b[2J",) * 5
+    result = make_result(dxf, handles, layers=layers, snow_name="snow\u202eall")
+    out = tmp_path / "c.pdf"
+    write_pdf(result, out)
+    text = "\n".join(_pages_text(out))
+    assert "TIE\\x1b[2J" in text  # the members table's layer column
+    assert "snow\\u202eall" in text  # page title, tables, the finding that names the case
+    assert "\x1b" not in text and "\u202e" not in text
+    reader = pypdf.PdfReader(str(out))
+    titles = [o.title for o in reader.outline if not isinstance(o, list)]
+    assert "Load case 'snow\\u202eall'" in titles  # the bookmark too
+
 def test_damaged_original_falls_back_to_members(tmp_path: Path) -> None:
     dxf = tmp_path / "press_house_roof.dxf"
     handles = write_king_post_dxf(dxf)

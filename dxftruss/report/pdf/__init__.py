@@ -188,7 +188,7 @@ def write_pdf(
     ctx.page_no = 0
 
     c = Canvas(str(path), pagesize=paper, invariant=1, pageCompression=1)
-    c.setTitle(f"dxftruss check: {ctx.file_name}")
+    c.setTitle(shown(f"dxftruss check: {ctx.file_name}"))
     c.setAuthor("dxftruss")
     c.setSubject("truss line-model check")
     c.setCreator("dxftruss")

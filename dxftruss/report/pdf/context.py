@@ -47,6 +47,7 @@ def _member_states(result: Any, case: Any) -> np.ndarray:
         st[np.asarray(case.zero_by_solution, dtype=int)] = 0
     return st
 
+
 def _case_loads(result: Any, name: str | None) -> np.ndarray:
     t = result.truss
     f = np.zeros((t.n_joints, 2))
@@ -70,6 +71,7 @@ def _findings_for(result: Any, case_name: str | None) -> list[tuple[int, Any]]:
             continue
         out.append((i, f))
     return out
+
 
 def _file_sha256(path: str) -> str:
     """The drawing's hash now, or "" when it cannot be read (then the original is not drawn)."""

@@ -103,17 +103,18 @@ def register_fonts() -> Fonts:
 
 
 def _width(text: str, font: str, size: float) -> float:
+    """The width of ``text`` as drawn (shown text), points."""
     from reportlab.pdfbase.pdfmetrics import stringWidth
 
-    return float(stringWidth(text, font, size))
+    return float(stringWidth(shown(text), font, size))
 
 
 def _wrap(text: str, font: str, size: float, width: float) -> list[str]:
-    """Plain-text line wrapping (no markup); breaks long words too."""
+    """Plain-text line wrapping (no markup) of the shown text; breaks long words too."""
     from reportlab.lib.utils import simpleSplit
 
     out: list[str] = []
-    for line in simpleSplit(text, font, size, width) or [""]:
+    for line in simpleSplit(shown(text), font, size, width) or [""]:
         while _width(line, font, size) > width and len(line) > 1:  # a word longer than the line
             cut = len(line)
             while cut > 1 and _width(line[:cut], font, size) > width:
@@ -125,7 +126,8 @@ def _wrap(text: str, font: str, size: float, width: float) -> list[str]:
 
 
 def _clip(text: str, font: str, size: float, width: float) -> str:
-    """Shorten a single line with an ellipsis to fit ``width``."""
+    """The shown text of a single line, shortened with an ellipsis to fit ``width``."""
+    text = shown(text)
     if _width(text, font, size) <= width:
         return text
     lo, hi = 0, len(text)
@@ -137,6 +139,7 @@ def _clip(text: str, font: str, size: float, width: float) -> str:
             hi = mid - 1
     return text[:lo] + "\u2026"
 
+
 class _Page:
     """Drawing helpers bound to one canvas (all coordinates in page points)."""
 
@@ -147,7 +150,9 @@ class _Page:
     def text(
         self, x: float, y: float, s: str, *, size: float = 7.0, bold: bool = False, gray: float = 0.0, align: str = "l"
     ) -> None:
+        """Draw ``s`` as shown text: the one way plain text reaches a page."""
         c = self.c
+        s = shown(s)
         c.setFillGray(gray)
         c.setFont(self.f.bold if bold else self.f.regular, size)
         if align == "r":

@@ -302,7 +302,8 @@ def place_member_labels(
             continue
         lw = float(line_widths[e]) if line_widths is not None else 1.0
         done = False
-        for text, kind in ((texts[e], "force"), (fallback[e] if fallback is not None else "", "id")):
+        for raw, kind in ((texts[e], "force"), (fallback[e] if fallback is not None else "", "id")):
+            text = shown(raw)
             if not text or lengths[e] < len(text) * min_char:
                 continue
             w = float(stringWidth(text, font, size)) + 2.0
@@ -317,6 +318,7 @@ def place_member_labels(
             left.append(e)
     return left
 
+
 def _draw_label(
     pg: _Page, lab: Label, font: str, size: float, rgb: tuple[float, float, float], *, backing: bool = True
 ) -> None:
@@ -330,8 +332,9 @@ def _draw_label(
         c.rect(-lab.width / 2, -lab.height / 2, lab.width, lab.height, stroke=0, fill=1)
     c.setFillColorRGB(*rgb)
     c.setFont(font, size)
-    c.drawCentredString(0, -size * 0.36, lab.text)
+    c.drawCentredString(0, -size * 0.36, shown(lab.text))
     c.restoreState()
+
 
 def _thin_quad(p: tuple[float, float], q: tuple[float, float], half: float) -> tuple[tuple[float, float], ...]:
     dx, dy = q[0] - p[0], q[1] - p[1]

@@ -24,7 +24,7 @@ import numpy as np
 from ...model import Fix, joint_id, member_id
 from ..render import PageMap, draw_recording, stroke_segments
 from .context import _case_loads, _Context, _findings_for, _member_states
-from .format import _Page, _width, _wrap, clean_reactions, fmt_force
+from .format import _Page, _width, _wrap, clean_reactions, fmt_force, shown
 from .labels import Label, LabelPlacer, _draw_label, _thin_quad, around_candidates, place_member_labels
 from .panel import _flow_panel, _Item, _legend_items, _legend_line, _panel_items
 from .sheet import Sheet, _draw_scale_bar, _footer, _scale_note, frame_pads, sheet_and_map
@@ -59,6 +59,7 @@ def _original_form(ctx: _Context, c: Any, sheet: Sheet, pm: PageMap) -> str | No
             ctx.render_note = (ctx.render_note + "; " if ctx.render_note else "") + f"not drawn: {extra}"
     return name
 
+
 def _member_widths(
     ctx: _Context, forces: np.ndarray, page_len: np.ndarray
 ) -> tuple[np.ndarray, Callable[[float], float]]:
@@ -72,6 +73,7 @@ def _member_widths(
 
     f = np.nan_to_num(np.abs(np.asarray(forces, dtype=float)))
     return wmin + (wmax - wmin) * np.minimum(f / M, 1.0), w_of
+
 
 @dataclass
 class _Marker:
@@ -411,7 +413,7 @@ def _draw_drawing_page(
     c.setPageSize(sheet.size)
     ctx.page_no += 1
     c.bookmarkPage(bookmark)
-    c.addOutlineEntry(title, bookmark, level=0)
+    c.addOutlineEntry(shown(title), bookmark, level=0)
     ov = _Overlay(ctx, c, sheet, pm, title)
     note_lines = ov.frame()
 
@@ -479,6 +481,7 @@ def _draw_drawing_page(
     _flow_panel(pg, sheet.panel, items)
     _footer(ctx, c, sheet.size)
     c.showPage()
+
 
 def _case_summary(ctx: _Context, case: Any) -> list[str]:
     r = ctx.result

@@ -232,6 +232,7 @@ def _legend_items(ctx: _Context, *, solved: bool, w_of: Callable[[float], float]
     ]
     return items
 
+
 def _legend_line(
     rgb: tuple[float, float, float], width: float, dash: tuple[float, float]
 ) -> Callable[[_Page, float, float], None]:

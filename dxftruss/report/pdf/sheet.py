@@ -31,6 +31,7 @@ PAGE_SIZES: dict[str, tuple[float, float]] = {
     "TABLOID": (792.0, 1224.0),
 }
 
+
 # =========================================================================================
 # page layout
 # =========================================================================================
@@ -82,6 +83,7 @@ def choose_sheet(
     assert best is not None
     return best[2]
 
+
 def _drawing_box(
     result: Any, recording: Recording | None, *, stray_factor: float = 4.0
 ) -> tuple[tuple[float, float, float, float], str]:
@@ -129,6 +131,7 @@ def _nice_length(x: float) -> float:
             return m * e
     return e
 
+
 def _footer(ctx: _Context, c: Any, size: tuple[float, float]) -> None:
     pg = _Page(c, ctx.fonts)
     W, _H = size
@@ -152,6 +155,7 @@ def _footer(ctx: _Context, c: Any, size: tuple[float, float]) -> None:
     )
     pg.text(x, y - 2, left, size=6.5, gray=0.3)
     pg.text(x + w, y - 2, right, size=6.5, gray=0.3, align="r")
+
 
 def frame_pads(result: Any) -> tuple[float, float]:
     """Room (points) kept round the truss inside the drawing area for symbols, arrows

@@ -41,6 +41,7 @@ REACTION_RGB = (0.533, 0.133, 0.333)
 MODE_RGB = (0.0, 0.55, 0.40)
 MARKER_FILL = {Severity.ERROR: (0.96, 0.89, 0.26), Severity.WARNING: (1.0, 1.0, 1.0), Severity.INFO: (0.85, 0.85, 0.85)}
 
+
 def _support_symbol(
     pg: _Page, x: float, y: float, fix: Fix, *, size: float, body: tuple[int, int] = (0, -1), assumed: bool = False
 ) -> tuple[tuple[float, float], ...]:
@@ -147,6 +148,7 @@ def _marker(pg: _Page, x: float, y: float, number: int, severity: Severity, r: f
     else:
         c.circle(x, y, r, stroke=1, fill=1)
     pg.text(x, y - size * 0.35, text, size=size, bold=True, align="c")
+
 
 def _draw_members(c: Any, a: np.ndarray, b: np.ndarray, states: np.ndarray | None, widths: np.ndarray) -> None:
     """Members grouped by style: zero and unsolved first, then by increasing width."""

@@ -31,6 +31,7 @@ class _NullCanvas:
     def __getattr__(self, name: str) -> Callable[..., _NullCanvas]:
         return lambda *a, **k: self  # text objects and paths are null too
 
+
 # =========================================================================================
 # flow pages: findings and tables
 # =========================================================================================
@@ -90,7 +91,7 @@ class _Flow:
         self.section = title
         self.new_page()
         self.c.bookmarkPage(key)
-        self.c.addOutlineEntry(title, key, level=0)
+        self.c.addOutlineEntry(shown(title), key, level=0)
         self.pg.text(self.x0, self.y - 14, title, size=13, bold=True)
         self.y -= 22
 
@@ -98,7 +99,7 @@ class _Flow:
         self.need(40)
         if key:
             self.c.bookmarkHorizontal(key, 0, self.y)
-            self.c.addOutlineEntry(text, key, level=1)
+            self.c.addOutlineEntry(shown(text), key, level=1)
         self.y -= 6
         self.pg.text(self.x0, self.y - 9, text, size=9.5, bold=True)
         self.y -= 14
@@ -151,6 +152,7 @@ class _Flow:
 
         def cell(t: Any, k: int, y: float, s: str, font: str) -> None:
             col = cols[k]
+            s = shown(s)
             if not s:
                 return
             if col.align == "l":
