@@ -1,4 +1,4 @@
-"""The marked-up PDF (report/pdf.py, report/render.py), checked with pypdf and pdftoppm.
+"""The marked-up PDF (report/pdf/, report/render.py), checked with pypdf and pdftoppm.
 
 The fixture is a hand-built Result for a small king-post truss of our own (the store
 roof over the orchard press house), so these tests do not depend on the analysis
@@ -37,16 +37,11 @@ from dxftruss.model import Fix, Load, LoadCase, Part, Source, Support, Truss
 from dxftruss.pipeline import Result, Settings, SourceInfo, Tolerances
 from dxftruss.read import LineWork
 from dxftruss.report import CAUTION
-from dxftruss.report.pdf import (
-    COMPRESSION,
-    TENSION,
-    LabelPlacer,
-    choose_sheet,
-    fmt_force,
-    place_member_labels,
-    register_fonts,
-    write_pdf,
-)
+from dxftruss.report.pdf import write_pdf
+from dxftruss.report.pdf.format import fmt_force, register_fonts
+from dxftruss.report.pdf.labels import LabelPlacer, place_member_labels
+from dxftruss.report.pdf.sheet import choose_sheet
+from dxftruss.report.pdf.symbols import COMPRESSION, TENSION
 from dxftruss.statics import CaseResult
 
 pypdf = pytest.importorskip("pypdf")
@@ -578,7 +573,7 @@ def test_rendered_page_colours_members(king_post: tuple[Result, Path], tmp_path:
 def test_round_off_reactions_are_shown_as_zero(king_post: tuple[Result, Path]) -> None:
     from dataclasses import replace
 
-    from dxftruss.report.pdf import clean_reactions
+    from dxftruss.report.pdf.format import clean_reactions
 
     result, _ = king_post
     snow = result.cases[0]

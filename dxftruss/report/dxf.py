@@ -35,7 +35,7 @@ from ..escape import legal_names, one_line, shown
 from ..findings import Severity
 from ..model import joint_id
 from ..pipeline import file_sha256
-from .pdf import clean_reactions, fmt_force
+from .pdf.format import clean_reactions, fmt_force
 from .render import read_document
 
 PREFIX = "DXFTRUSS"
