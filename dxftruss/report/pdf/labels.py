@@ -22,9 +22,6 @@ import numpy as np
 from .format import _Page, shown
 
 
-# =========================================================================================
-# label placement
-# =========================================================================================
 @dataclass(frozen=True)
 class Label:
     """A text box on the page: centre (x, y) in points, rotated by ``angle`` degrees,

@@ -41,7 +41,6 @@ from .symbols import (
 )
 
 
-# ---- a drawing page ---------------------------------------------------------------------
 def _original_form(ctx: _Context, c: Any, sheet: Sheet, pm: PageMap) -> str | None:
     """Draw the recorded original into a Form XObject once per sheet geometry."""
     if ctx.recording is None:

@@ -33,7 +33,6 @@ from .symbols import (
 )
 
 
-# ---- the panel (title block + legend) ---------------------------------------------------
 @dataclass
 class _Item:
     kind: str  # "h" heading, "t" text, "s" small grey text, "legend", "gap", "title"

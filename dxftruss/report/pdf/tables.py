@@ -32,9 +32,6 @@ class _NullCanvas:
         return lambda *a, **k: self  # text objects and paths are null too
 
 
-# =========================================================================================
-# flow pages: findings and tables
-# =========================================================================================
 @dataclass(frozen=True)
 class Column:
     title: str
