@@ -17,7 +17,7 @@ import pytest
 
 from dxftruss.errors import InputError
 from dxftruss.report.dxf import text_height, write_dxf
-from dxftruss.report.pdf import fmt_force
+from dxftruss.report.pdf.format import fmt_force
 from tests.test_report_pdf import (
     N_RAFTER_SNOW,
     N_TIE_SNOW,

@@ -1,4 +1,4 @@
-"""The marked-up PDF (report/pdf.py, report/render.py), checked with pypdf and pdftoppm.
+"""The marked-up PDF (report/pdf/, report/render.py), checked with pypdf and pdftoppm.
 
 The fixture is a hand-built Result for a small king-post truss of our own (the store
 roof over the orchard press house), so these tests do not depend on the analysis
@@ -37,16 +37,11 @@ from dxftruss.model import Fix, Load, LoadCase, Part, Source, Support, Truss
 from dxftruss.pipeline import Result, Settings, SourceInfo, Tolerances
 from dxftruss.read import LineWork
 from dxftruss.report import CAUTION
-from dxftruss.report.pdf import (
-    COMPRESSION,
-    TENSION,
-    LabelPlacer,
-    choose_sheet,
-    fmt_force,
-    place_member_labels,
-    register_fonts,
-    write_pdf,
-)
+from dxftruss.report.pdf import write_pdf
+from dxftruss.report.pdf.format import fmt_force, register_fonts
+from dxftruss.report.pdf.labels import LabelPlacer, place_member_labels
+from dxftruss.report.pdf.sheet import choose_sheet
+from dxftruss.report.pdf.symbols import COMPRESSION, TENSION
 from dxftruss.statics import CaseResult
 
 pypdf = pytest.importorskip("pypdf")
@@ -395,6 +390,23 @@ def test_markup_in_names_is_literal(tmp_path: Path) -> None:
     assert "<b>snow & <i>" in text
 
 
+def test_control_characters_in_names_are_drawn_as_escapes(tmp_path: Path) -> None:
+    """A layer name with a terminal escape and a case name with a right-to-left override:
+    the PDF shows both as visible escapes (dxftruss.escape.shown), never the raw characters."""
+    dxf = tmp_path / "press_house_roof.dxf"
+    handles = write_king_post_dxf(dxf)
+    layers = ("TIE\x1b[2J",) * 5
+    result = make_result(dxf, handles, layers=layers, snow_name="snow\u202eall")
+    out = tmp_path / "c.pdf"
+    write_pdf(result, out)
+    text = "\n".join(_pages_text(out))
+    assert "TIE\\x1b[2J" in text  # the members table's layer column
+    assert "snow\\u202eall" in text  # page title, tables, the finding that names the case
+    assert "\x1b" not in text and "\u202e" not in text
+    reader = pypdf.PdfReader(str(out))
+    titles = [o.title for o in reader.outline if not isinstance(o, list)]
+    assert "Load case 'snow\\u202eall'" in titles  # the bookmark too
+
 def test_damaged_original_falls_back_to_members(tmp_path: Path) -> None:
     dxf = tmp_path / "press_house_roof.dxf"
     handles = write_king_post_dxf(dxf)
@@ -561,7 +573,7 @@ def test_rendered_page_colours_members(king_post: tuple[Result, Path], tmp_path:
 def test_round_off_reactions_are_shown_as_zero(king_post: tuple[Result, Path]) -> None:
     from dataclasses import replace
 
-    from dxftruss.report.pdf import clean_reactions
+    from dxftruss.report.pdf.format import clean_reactions
 
     result, _ = king_post
     snow = result.cases[0]

@@ -37,7 +37,7 @@ from ..errors import InputError, OutputError
 from ..escape import legal_names, one_line, shown
 from ..findings import Severity
 from ..model import joint_id
-from .pdf import clean_reactions, fmt_force
+from .pdf.format import clean_reactions, fmt_force
 from .render import checked_document
 
 if TYPE_CHECKING:

@@ -1,0 +1,213 @@
+"""The sheet of a drawing page: paper sizes, where the drawing, the panel and the footer
+go, the map from drawing units to the page, the scale note and bar, and the footer.
+
+Glossary:
+    sheet       ``Sheet``: page size, drawing area, panel (title block and legend) and
+                footer, for the orientation and panel side that give the largest scale.
+    drawing box the part of the drawing shown, drawing units (``_drawing_box``).
+    frame pads  room kept round the truss in the drawing area for symbols, arrows and
+                their labels (``frame_pads``).
+    page map    drawing units -> page points (``render.PageMap``).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from .. import CAUTION
+from ..render import PageMap, Recording
+from .context import _Context
+from .format import _clip, _Page, _width, _wrap
+
+#: page sizes in points, portrait (width, height)
+PAGE_SIZES: dict[str, tuple[float, float]] = {
+    "A4": (595.2756, 841.8898),
+    "A3": (841.8898, 1190.5512),
+    "LETTER": (612.0, 792.0),
+    "TABLOID": (792.0, 1224.0),
+}
+
+
+# =========================================================================================
+# page layout
+# =========================================================================================
+@dataclass(frozen=True)
+class Sheet:
+    """A drawing page: size, the drawing area, the title-block panel and the footer."""
+
+    size: tuple[float, float]
+    drawing: tuple[float, float, float, float]
+    panel: tuple[float, float, float, float]
+    footer: tuple[float, float, float, float]
+    panel_side: str
+
+
+MARGIN = 10 * 72 / 25.4
+FOOTER_H = 30.0
+GAP = 8.0
+RIGHT_PANEL_W = 236.0
+COL_W = 226.0
+
+
+def choose_sheet(
+    paper: tuple[float, float], box_w: float, box_h: float, pads: tuple[float, float] = (0.0, 0.0)
+) -> Sheet:
+    """Orientation and panel side that give the drawing the largest scale.
+
+    ``paper`` is the portrait page size; the panel goes to the right or the bottom;
+    ``pads`` is the room kept round the drawing (sideways, up and down), points.
+    """
+    best: tuple[float, int, Sheet] | None = None
+    w_p, h_p = paper
+    bottom_h = min(230.0, max(160.0, 0.2 * max(w_p, h_p)))
+    rank = 0
+    for W, H in ((h_p, w_p), (w_p, h_p)):  # landscape first on ties
+        inner = (MARGIN, MARGIN + FOOTER_H, W - 2 * MARGIN, H - 2 * MARGIN - FOOTER_H)
+        footer = (MARGIN, MARGIN, W - 2 * MARGIN, FOOTER_H - 4)
+        x, y, w, h = inner
+        options = []
+        if w > RIGHT_PANEL_W * 2:
+            options.append(("right", (x, y, w - RIGHT_PANEL_W - GAP, h), (x + w - RIGHT_PANEL_W, y, RIGHT_PANEL_W, h)))
+        options.append(("bottom", (x, y + bottom_h + GAP, w, h - bottom_h - GAP), (x, y, w, bottom_h)))
+        for side, draw, panel in options:
+            s = min((draw[2] - 2 * pads[0]) / max(box_w, 1e-300), (draw[3] - 2 * pads[1]) / max(box_h, 1e-300))
+            sheet = Sheet((W, H), draw, panel, footer, side)
+            key = (s * (1 + 1e-9), -rank)
+            if best is None or key > (best[0], best[1]):
+                best = (key[0], key[1], sheet)
+            rank += 1
+    assert best is not None
+    return best[2]
+
+
+def _drawing_box(
+    result: Any, recording: Recording | None, *, stray_factor: float = 4.0
+) -> tuple[tuple[float, float, float, float], str]:
+    """The part of the drawing shown: the members' box, grown to the whole recorded
+    drawing unless that is far larger (a stray entity far away)."""
+    t = result.truss
+    pts = [t.xy] if t.n_joints else []
+    for f in result.findings:
+        if f.at is not None and all(math.isfinite(v) for v in f.at):
+            pts.append(np.asarray([f.at], dtype=float))
+    if not pts and result.linework is not None and len(result.linework.segments):
+        pts.append(np.asarray(result.linework.segments, dtype=float).reshape(-1, 2))
+    note = ""
+    if pts:
+        allp = np.vstack(pts)
+        lo, hi = allp.min(axis=0), allp.max(axis=0)
+        mbox = (float(lo[0]), float(lo[1]), float(hi[0]), float(hi[1]))
+    else:
+        mbox = None
+    rbox = recording.box if recording is not None else None
+    if mbox is None and rbox is None:
+        return (0.0, 0.0, 1.0, 1.0), note
+    if mbox is None:
+        assert rbox is not None
+        return rbox, note
+    if rbox is None:
+        return mbox, note
+    u = (min(mbox[0], rbox[0]), min(mbox[1], rbox[1]), max(mbox[2], rbox[2]), max(mbox[3], rbox[3]))
+    md = math.hypot(mbox[2] - mbox[0], mbox[3] - mbox[1])
+    ud = math.hypot(u[2] - u[0], u[3] - u[1])
+    if md > 0 and ud > stray_factor * md:
+        grow = 0.15 * md
+        note = "parts of the drawing far from the truss are not shown"
+        return (mbox[0] - grow, mbox[1] - grow, mbox[2] + grow, mbox[3] + grow), note
+    return u, note
+
+
+def _nice_length(x: float) -> float:
+    """The largest 1-2-5 step not above x."""
+    if x <= 0 or not math.isfinite(x):
+        return 0.0
+    e = 10 ** math.floor(math.log10(x))
+    for m in (5, 2, 1):
+        if m * e <= x:
+            return m * e
+    return e
+
+
+def _footer(ctx: _Context, c: Any, size: tuple[float, float]) -> None:
+    pg = _Page(c, ctx.fonts)
+    W, _H = size
+    x, y, w = MARGIN, MARGIN, W - 2 * MARGIN
+    c.setStrokeGray(0.5)
+    c.setLineWidth(0.4)
+    c.setDash()
+    c.line(x, y + FOOTER_H - 5, x + w, y + FOOTER_H - 5)
+    lines = _wrap("Caution: " + CAUTION, ctx.fonts.regular, 6.2, w)
+    yy = y + FOOTER_H - 12
+    for s in lines[:2]:
+        pg.text(x, yy, s, size=6.2, gray=0.15)
+        yy -= 7.4
+    right = f"page {ctx.page_no} of {ctx.total_pages}"
+    rw = _width(right, ctx.fonts.regular, 6.5)
+    left = _clip(
+        f"dxftruss check \u00b7 {ctx.file_name} \u00b7 sha256 {ctx.result.source.sha256[:16]} \u00b7 {ctx.date}",
+        ctx.fonts.regular,
+        6.5,
+        w - rw - 20,
+    )
+    pg.text(x, y - 2, left, size=6.5, gray=0.3)
+    pg.text(x + w, y - 2, right, size=6.5, gray=0.3, align="r")
+
+
+def frame_pads(result: Any) -> tuple[float, float]:
+    """Room (points) kept round the truss inside the drawing area for symbols, arrows
+    and their labels: (sideways, up and down). Wider when a horizontal reaction arrow
+    has to fit beside a support."""
+    side = 48.0
+    for cs in result.cases:
+        if any(abs(rx) > 0 for _, rx, _ in cs.reactions):
+            side = 84.0
+            break
+    return side, 56.0
+
+
+def sheet_and_map(
+    paper: tuple[float, float],
+    box: tuple[float, float, float, float],
+    pads: tuple[float, float] = (48.0, 56.0),
+) -> tuple[Sheet, PageMap]:
+    """The drawing-page layout for a box of the drawing and the map into its drawing area
+    (``pads`` = room kept sideways and up/down, points)."""
+    bw, bh = box[2] - box[0], box[3] - box[1]
+    big = max(bw, bh, 1e-300)
+    px, py = pads
+    sheet = choose_sheet(paper, max(bw, 1e-3 * big), max(bh, 1e-3 * big), (px, py))
+    x, y, w, h = sheet.drawing
+    px, py = min(px, w / 4), min(py, h / 4)
+    pm = PageMap.fit(box, (x + px, y + py, max(w - 2 * px, 10), max(h - 2 * py, 10)))
+    return sheet, pm
+
+
+def _scale_note(ctx: _Context, pm: PageMap) -> tuple[str, float, float]:
+    """'scale 1:N' text, a scale bar length in drawing units and in points."""
+    from ...units import LENGTH_UNITS
+
+    unit = ctx.result.source.length_unit
+    mm_per_unit = LENGTH_UNITS.get(unit, 1e-3) * 1000.0
+    paper_mm_per_unit = pm.scale * 25.4 / 72.0
+    ratio = mm_per_unit / paper_mm_per_unit if paper_mm_per_unit > 0 else float("inf")
+    bar_units = _nice_length(90.0 / pm.scale) if pm.scale > 0 else 0.0
+    text = f"scale about 1:{ratio:.4g} on {ctx.paper_name} paper (drawing unit {unit})"
+    return text, bar_units, bar_units * pm.scale
+
+
+def _draw_scale_bar(pg: _Page, x: float, y: float, units: float, pts: float, unit: str) -> None:
+    if pts <= 0:
+        return
+    c = pg.c
+    c.setStrokeGray(0.15)
+    c.setLineWidth(0.6)
+    c.setDash()
+    for k in range(4):
+        c.setFillGray(0.15 if k % 2 == 0 else 1.0)
+        c.rect(x + k * pts / 4, y, pts / 4, 3, stroke=1, fill=1)
+    pg.text(x, y + 5, "0", size=6, gray=0.2)
+    pg.text(x + pts, y + 5, f"{units:g} {unit}", size=6, gray=0.2, align="c")
