@@ -259,18 +259,23 @@ def _number_value(n: _Number, comma: CommaStyle | None) -> tuple[float | None, s
                 "write the number without digit groups"
             )
         raw = raw.replace(",", "")
-    if n.form == "mixed":
-        m = _NUM.fullmatch(raw)
-        assert m is not None
-        whole, num, den = int(m.group("mw")), int(m.group("mn")), int(m.group("md"))
-        if den == 0:
-            return None, f"{raw} divides by zero"
-        return whole + num / den, None
-    if n.form == "frac":
-        num_s, den_s = raw.split("/")
-        if int(den_s) == 0:
-            return None, f"{raw} divides by zero"
-        return int(num_s) / int(den_s), None
+    if n.form in ("mixed", "frac"):
+        try:
+            if n.form == "mixed":
+                m = _NUM.fullmatch(raw)
+                assert m is not None
+                whole, num, den = int(m.group("mw")), int(m.group("mn")), int(m.group("md"))
+            else:
+                num_s, den_s = raw.split("/")
+                whole, num, den = 0, int(num_s), int(den_s)
+            if den == 0:
+                return None, f"{raw} divides by zero"
+            value = whole + num / den
+        except (OverflowError, ValueError):  # digits beyond a float (or int parsing's limit)
+            return None, f"{raw} is too large to represent"
+        if not math.isfinite(value):
+            return None, f"{raw} is too large to represent"
+        return value, None
     try:
         value = float(raw.replace(" ", ""))
     except ValueError:  # pragma: no cover - the scanner only passes numbers
