@@ -164,7 +164,7 @@ def test_special_numbers_in_line_coordinates(name, slot, value):
     if out.code != 2 and (not math.isfinite(v) or abs(v) > 1e12):
         # docs/user-guide.md, Damaged and unusual files: a non-finite coordinate is an
         # invalid-coordinate error for that entity;
-        # read.py also refuses magnitudes beyond 1e12 drawing units
+        # the reader also refuses magnitudes beyond 1e12 drawing units
         assert "invalid-coordinate" in _codes(out.report), out.report["findings"]
         assert out.code == 1
         assert len(out.report["members"]) < 5

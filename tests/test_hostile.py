@@ -352,7 +352,7 @@ def test_1e11_and_1e_9_in_one_drawing(tmp_path):
     out = ok(run(drawing))
     assert out.code == 1  # errors: the line beyond 1e12 at least
     codes = finding_codes(out.report)
-    assert "invalid-coordinate" in codes, codes  # read.py: |coordinate| > 1e12 is refused
+    assert "invalid-coordinate" in codes, codes  # dxftruss.read: |coordinate| > 1e12 is refused
     assert all(m["layer"] != "BEYOND" for m in out.report["members"])
     # default snap is 1e-6 of the extent diagonal (docs/user-guide.md, Tolerances): about 1.4e5 here, so the frame
     # collapses into one joint and its members are zero-length; said, not hidden

@@ -211,7 +211,7 @@ def test_record_count_counts_records_not_zero_values(tmp_path: Path) -> None:
     # group 70 flags and coordinates equal to 0 are value lines "0", not records: a file of
     # 500 LINEs must not be refused by a limit of a few thousand records
     path = _many_lines(tmp_path, 500)
-    from dxftruss.read import _count_records
+    from dxftruss.read.loading import _count_records
 
     n = _count_records(path)
     text = path.read_text()

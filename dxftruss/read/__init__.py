@@ -1,0 +1,188 @@
+"""DXF -> line work: straight segments with their source handle and layer, plus the
+support and load marks, load labels and the drawing's unit.
+
+Glossary:
+    line work      the straight segments that may become members (LINE, LWPOLYLINE
+                   and POLYLINE segments, also inside block references).
+    member layer   any layer except the reserved ``SUPPORT*`` and ``LOAD*`` layers,
+                   optionally narrowed by ``--layers`` globs.
+    support mark   a POINT, CIRCLE or INSERT on SUPPORT-XY / SUPPORT-X / SUPPORT-Y.
+    load mark      a LINE on LOAD or LOAD-<case>; its label is the nearest TEXT or
+                   MTEXT on the same layer.
+    effective layer the layer an entity is shown on: its own, except that layer "0"
+                   inside a block takes the layer of the INSERT that places the block.
+    instance       one placement of a block's content in model space (one INSERT, one
+                   cell of a MINSERT array, or one path through nested INSERTs).
+
+Coordinates are WCS x, y in drawing units (z is dropped; 3-D line work is reported).
+
+How it works: every layout (model space, each block definition used) is read once
+into plain arrays in its own coordinate system; block content is then placed into
+model space by composing the INSERT matrices (ezdxf row-vector convention,
+``p_world = p_local @ M_child @ M_parent``) and transforming all instances of a block
+at once with numpy. Nothing is exploded and the document is never modified apart from
+the audit's repairs. Polyline vertices repeated exactly (zero-length polyline pieces,
+which CAD does not draw) are skipped; a LINE whose two ends coincide is kept, the
+snap stage reports it.
+
+The stages of reading, one module each:
+    loading     open the file (strict reader, recovery reader, limits before reading),
+                collect the library's warnings; afterwards the audit findings and the
+                header (unit, names DXF cannot store)
+    layers      what a layer's name makes of its entities (member, support, load ...)
+    extract     one layout (model space or a block) read into arrays
+    walk        model space and the block tree, depth first, blocks read once
+    place       one layout's content placed into model space under all its placements
+    limits      the entity, array cell and member limits counted during the walk
+    text        plain text of TEXT / MTEXT
+    problems    what the walk found wrong or unused, and the findings made from it
+    linework    the result types (LineWork and the marks)
+    boundary    what the DXF library's entity accessors may raise; small helpers
+"""
+
+from __future__ import annotations
+
+import os
+from pathlib import Path
+from typing import Any
+
+from ..errors import InputError
+from ..findings import Finding
+from ..units import INSUNITS
+from .boundary import _one_line
+from .linework import LineWork, LoadMark, SupportMark, TextMark
+from .loading import (
+    _audit_after_reading,
+    _collect_library_warnings,
+    _header_units,
+    _illegal_names,
+    _load,
+    _removed_block_references,
+    _repair_finding,
+)
+from .problems import _findings
+from .walk import _Reader
+
+__all__ = ["LineWork", "LoadMark", "SupportMark", "TextMark", "read_drawing"]
+
+
+def read_drawing(
+    path: str | os.PathLike[str],
+    *,
+    layers: tuple[str, ...] = (),
+    max_entities: int = 5_000_000,
+    max_block_depth: int = 32,
+    max_array_cells: int = 1_000_000,
+    max_coordinate: float = 1e12,
+    planar_tol: float = 1e-9,
+    max_members: int | None = None,
+    max_bytes: int | None = None,
+) -> LineWork:
+    """Read a DXF drawing into line work, support and load marks and load labels.
+
+    Args:
+        path: an ASCII or binary DXF file (R12 to current). DWG is refused.
+        layers: fnmatch globs (case-insensitive); when given, only line work on
+            matching layers becomes members. Support and load layers are always read.
+        max_entities: most entities the drawing may produce with all block references
+            expanded (safety limit; LimitError beyond it).
+        max_block_depth: deepest block nesting followed; deeper references are skipped
+            with an ``unsupported-geometry`` finding.
+        max_array_cells: most MINSERT array cells expanded in total (LimitError beyond).
+        max_coordinate: a coordinate with a larger magnitude (drawing units) is
+            ``invalid-coordinate``, as is any non-finite one.
+        planar_tol: relative tolerance (to the drawing extent) for z differences and
+            tilted extrusions before the line work counts as not flat.
+        max_members: most straight segments on member layers (LimitError as soon as
+            the walk passes it; None: no limit).
+        max_bytes: largest file size read (LimitError before anything is read; None:
+            no limit). An ASCII file is also counted for records before it is read:
+            more than ``max_entities`` is refused at once.
+
+    Returns:
+        LineWork with segments in WCS drawing units, z dropped. Its findings:
+        ``recovered-file`` (recovery reader used, or the audit / reader found defects;
+        data fixes, errors, messages), ``invalid-coordinate`` (entity skipped; data
+        handle, layer, type, count), ``arc-segment`` (per entity; data handle, layer,
+        arcs), ``unsupported-geometry`` (data reason: block-cycle, too-deep,
+        missing-block, xref, unreadable-entity or non-planar) and ``ignored-entity``
+        (per type; data type, count, layers).
+
+    Raises:
+        InputError: the file is missing, not DXF, DWG, or damaged beyond recovery.
+        LimitError: the drawing exceeds ``max_entities`` or ``max_array_cells``.
+    """
+    p = Path(os.fspath(path))
+    name = str(p)
+    from ezdxf.lldxf.const import DXFError
+
+    with _collect_library_warnings() as log:
+        doc, auditor, recovered = _load(p, max_bytes=max_bytes, max_records=max_entities)
+        reader = _Reader(
+            doc,
+            name,
+            globs=tuple(layers),
+            max_entities=max_entities,
+            max_block_depth=max_block_depth,
+            max_array_cells=max_array_cells,
+            max_coordinate=max_coordinate,
+            planar_tol=planar_tol,
+            max_members=max_members,
+        )
+        try:
+            reader.run()
+        except DXFError as exc:  # a structure the loader accepted but the walk cannot use
+            raise InputError(f"{name}: damaged DXF ({type(exc).__name__}: {_one_line(exc)})") from None
+        except KeyError as exc:  # e.g. a binary file with no model space layout
+            raise InputError(f"{name}: damaged DXF (missing {_one_line(exc)} section or layout)") from None
+        audit_failure = None
+        if auditor is None:  # read as written first, then audit (see loading._load)
+            auditor, audit_failure = _audit_after_reading(doc)
+    seg, handles, seg_layers, z = reader.placed.line_work_arrays()
+    if recovered and not len(seg) and not reader.placed.supports and not reader.placed.loads:
+        # an intact drawing with no members is a finding (no-members); a damaged one from
+        # which the recovery reader salvaged no line work at all is not a drawing we can use
+        raise InputError(
+            f"{name}: damaged, and the recovery reader salvaged no line work from it "
+            f"({reader.msp_entities} model-space entities came back): the drawing could not be used"
+        )
+
+    findings: list[Finding] = []
+    repaired = _repair_finding(
+        auditor,
+        log.messages,
+        recovered=recovered,
+        audit_failure=audit_failure,
+        origin_lines=reader.origin_lines,
+        msp_entities=reader.msp_entities,
+    )
+    if repaired is not None:
+        findings.append(repaired)
+    findings.extend(_findings(reader.problems, seg, z, handles))
+    if recovered:  # the recovery reader's audit ran before the walk and removed these
+        removed = _removed_block_references(auditor)
+        if removed:
+            findings.append(removed)
+
+    seg.setflags(write=False)
+    units_code = _header_units(doc)
+    renamed = _illegal_names(doc, reader.roles)
+
+    def order(item: tuple[int, int, Any]) -> tuple[int, int]:  # model-space order, then reading order
+        return (item[0], item[1])
+
+    return LineWork(
+        segments=seg,
+        handles=handles,
+        layers=seg_layers,
+        supports=tuple(m for *_, m in sorted(reader.placed.supports, key=order)),
+        loads=tuple(m for *_, m in sorted(reader.placed.loads, key=order)),
+        texts=tuple(m for *_, m in sorted(reader.placed.texts, key=order)),
+        dxf_version=str(doc.dxfversion),
+        length_unit=INSUNITS.get(units_code) if units_code is not None else None,
+        header_units=units_code,
+        renamed=renamed,
+        document=doc,
+        findings=tuple(findings),
+        recovered=recovered,
+    )

@@ -1,0 +1,72 @@
+"""What the reader gives the rest of the pipeline: the line work and the marks found
+beside it (support and load marks, load label texts). Plain frozen data, no DXF."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from ..findings import Finding
+from ..model import Fix
+
+
+@dataclass(frozen=True)
+class SupportMark:
+    x: float
+    y: float
+    fix: Fix
+    handle: str
+    layer: str
+
+
+@dataclass(frozen=True)
+class LoadMark:
+    """A drawn load line; which end is the arrow head is decided when joints are known."""
+
+    start: tuple[float, float]
+    end: tuple[float, float]
+    case: str
+    handle: str
+    layer: str
+
+
+@dataclass(frozen=True)
+class TextMark:
+    x: float
+    y: float
+    text: str
+    layer: str
+    handle: str
+
+
+@dataclass(frozen=True)
+class LineWork:
+    """What the reader gives the rest of the pipeline.
+
+    segments  (n, 4) float array x1, y1, x2, y2 in drawing units (finite values only)
+    handles   per segment the handle of the model-space entity it came from (for block
+              content: the top-level INSERT's handle)
+    layers    per segment the effective layer (layer "0" inside a block takes the
+              INSERT's layer)
+    """
+
+    segments: np.ndarray
+    handles: tuple[str, ...]
+    layers: tuple[str, ...]
+    supports: tuple[SupportMark, ...]
+    loads: tuple[LoadMark, ...]
+    texts: tuple[TextMark, ...]
+    dxf_version: str
+    length_unit: str | None
+    findings: tuple[Finding, ...]
+    recovered: bool = False
+    #: the header's ``$INSUNITS`` code as written (None when absent)
+    header_units: int | None = None
+    #: layer and block names DXF cannot store (control characters, ``<>/\":;?*|=``):
+    #: (kind "layer" or "block", name as read, legal name the annotated DXF writes)
+    renamed: tuple[tuple[str, str, str], ...] = ()
+    #: the DXF library's document as read (ezdxf ``Drawing``): the reports draw and copy
+    #: it instead of reading the file again. Not part of comparisons.
+    document: Any = field(default=None, compare=False, repr=False)

@@ -1,0 +1,193 @@
+"""The walk: model space, then the block tree, each block definition read once.
+
+Model space is read into arrays (``extract.py``) and placed as it is; each group of
+INSERTs referring to the same block on the same effective layer becomes one task
+whose batch holds all of their placements (composed matrices, ``place.py``), so the
+Python work grows with the number of distinct blocks and nesting paths, not with the
+number of placements. Tasks are done depth-first in reading order. Cycles, nesting
+deeper than the limit, missing blocks and external references are not followed and
+are recorded as block problems; the limits (``limits.py``) are counted before
+anything they limit is built.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from .boundary import _xyz
+from .extract import _Content, _Extractor
+from .layers import _layer_role, _LayerRole, _Role
+from .limits import _Limits
+from .place import _Batch, _child_batch, _place_line_work, _Placed, _points_to_wcs
+from .problems import _Problems
+from .text import _PlainTexts
+
+
+@dataclass
+class _Task:
+    name: str
+    batch: _Batch
+    inherited: str
+    stack: tuple[str, ...]
+    content: _Content  # already counted against max_entities
+
+
+class _Reader:
+    """Walks model space and the block tree once; what it places is in ``placed``,
+    what it found wrong in ``problems``."""
+
+    def __init__(
+        self,
+        doc: Any,
+        name: str,
+        *,
+        globs: tuple[str, ...],
+        max_entities: int,
+        max_block_depth: int,
+        max_array_cells: int,
+        max_coordinate: float,
+        planar_tol: float,
+        max_members: int | None = None,
+    ) -> None:
+        self.doc = doc
+        self.name = name
+        self.globs = tuple(g.lower() for g in globs)
+        self.max_block_depth = max_block_depth
+        self.extractor = _Extractor(doc, tilt_tol=planar_tol)
+        self.limits = _Limits(name, max_entities=max_entities, max_array_cells=max_array_cells, max_members=max_members)
+        self.problems = _Problems(max_coordinate=max_coordinate, max_block_depth=max_block_depth, planar_tol=planar_tol)
+        self.placed = _Placed()
+        self.plain_text = _PlainTexts(self.extractor.failures)
+        self.roles: dict[str, _LayerRole] = {}
+        self.blocks: dict[str, _Content] = {}
+        self.origin_lines = 0
+        self.msp_entities = 0
+
+    def role(self, layer: str) -> _LayerRole:
+        r = self.roles.get(layer)
+        if r is None:
+            r = self.roles[layer] = _layer_role(layer, self.globs)
+        return r
+
+    def run(self) -> None:
+        msp = self.doc.modelspace()
+        content = self.extractor.read(msp, in_block=False)
+        self.limits.count_entities(content.n_entities)
+        self.msp_entities = content.n_entities
+        self.origin_lines = _count_origin_lines(content)
+        tasks = list(reversed(self.emit(content, None, None, ())))
+        while tasks:
+            task = tasks.pop()
+            tasks.extend(reversed(self.emit(task.content, task.batch, task.inherited, task.stack)))
+
+    def block_content(self, name: str) -> tuple[_Content | None, str | None]:
+        key = name.upper()
+        if key in self.blocks:
+            return self.blocks[key], None
+        blk = self.doc.blocks.get(name)
+        if blk is None:
+            return None, "missing-block"
+        if blk.block_record.is_xref:
+            return None, "xref"
+        content = self.extractor.read(blk, in_block=True)
+        self.blocks[key] = content
+        return content, None
+
+    def emit(self, c: _Content, batch: _Batch | None, inherited: str | None, stack: tuple[str, ...]) -> list[_Task]:
+        """Place one layout's content under ``batch`` (None = model space itself); the
+        tasks for the block references it holds."""
+        n_inst = 1 if batch is None else len(batch.handles)
+        problems, placed = self.problems, self.placed
+
+        def eff(layer: str) -> str:
+            return inherited if (inherited is not None and layer == "0") else layer
+
+        for t, h, _, why in c.unreadable:
+            problems.block_problem("unreadable-entity", f"{t} {h} ({why})", batch, h, None, n_inst)
+
+        _place_line_work(c, batch, inherited, n_inst, self.role, placed, problems, self.limits)
+
+        for t, h, layer, p, pos in c.marks:
+            el = eff(layer)
+            r = self.role(el)
+            if r.role is _Role.SUPPORT:
+                assert r.fix is not None
+                placed.add_supports(t, p, r.fix, h, el, pos, batch, problems)
+            elif r.role is not _Role.SKIP:
+                problems.ignore(t, el, n_inst)
+
+        for t, e, h, layer, p, pos in c.texts:
+            el = eff(layer)
+            r = self.role(el)
+            if r.role in (_Role.LOAD, _Role.LOAD_OTHER):
+                placed.add_texts(t, self.plain_text.get(e), p, h, el, pos, batch, problems)
+            elif r.role is not _Role.SKIP:
+                problems.ignore(t, el, n_inst)
+
+        for (t, layer), n in c.others.items():
+            el = eff(layer)
+            if self.role(el).role is not _Role.SKIP:
+                problems.ignore(t, el, n * n_inst)
+
+        return self.child_tasks(c, batch, inherited, stack, n_inst)
+
+    def child_tasks(
+        self, c: _Content, batch: _Batch | None, inherited: str | None, stack: tuple[str, ...], n_inst: int
+    ) -> list[_Task]:
+        """Tasks for the block references in ``c``: references to the same block on the
+        same effective layer are placed together as one batch."""
+        ins = c.inserts
+        if not ins.name:
+            return []
+        layers = ins.layer if inherited is None else [inherited if s == "0" else s for s in ins.layer]
+        groups: dict[tuple[str, str], list[int]] = {}
+        for i, (nm, el) in enumerate(zip(ins.name, layers)):
+            groups.setdefault((nm.upper(), el), []).append(i)
+        tasks: list[_Task] = []
+        for (key, el), rows in groups.items():
+            name = ins.name[rows[0]]
+            r = self.role(el)
+            if r.role is _Role.SUPPORT:  # support symbols: insertion points; content not read
+                assert r.fix is not None
+                for i in rows:
+                    self.placed.add_supports(
+                        "INSERT", _xyz(ins.point[i]), r.fix, ins.handle[i], el, ins.pos[i], batch, self.problems
+                    )
+                continue
+            content: _Content | None = None
+            problem = None
+            if key in stack:
+                problem = "block-cycle"
+            elif len(stack) >= self.max_block_depth:
+                problem = "too-deep"
+            else:
+                content, problem = self.block_content(name)
+            if problem is not None or content is None:
+                at = _points_to_wcs(_xyz(ins.point[rows[0]]), batch)[0]
+                self.problems.block_problem(
+                    problem or "missing-block", name, batch, ins.handle[rows[0]], at, n_inst * len(rows)
+                )
+                continue
+            plain = [i for i in rows if i not in ins.grid]
+            arrays = [i for i in rows if i in ins.grid]
+            n_cells = sum(ins.cells(i) for i in arrays)
+            if arrays:
+                self.limits.count_cells(n_inst * n_cells)  # before any cell is built
+            # count what these placements produce before any matrix is built
+            self.limits.count_entities(n_inst * (len(plain) + n_cells) * content.n_entities)
+            new = _child_batch(ins, plain, arrays, batch)
+            if new is not None:
+                tasks.append(_Task(key, new, el, stack + (key,), content))
+        return tasks
+
+
+def _count_origin_lines(c: _Content) -> int:
+    """LINEs lying exactly at (0,0,0)-(0,0,0), typical of a cut-off file."""
+    if not len(c.seg):
+        return 0
+    is_line = np.array([t == "LINE" for t in c.ent_type], dtype=bool)
+    seg_ent = np.asarray(c.seg_ent)
+    return int(np.count_nonzero(is_line[seg_ent] & np.all(c.seg == 0.0, axis=1)))
