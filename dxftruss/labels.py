@@ -262,10 +262,10 @@ def _number_value(n: _Number, comma: CommaStyle | None) -> tuple[float | None, s
     if n.form == "mixed":
         m = _NUM.fullmatch(raw)
         assert m is not None
-        whole, num, den = int(m.group("mw")), int(m.group("mn")), int(m.group("md"))
+        whole_n, num, den = int(m.group("mw")), int(m.group("mn")), int(m.group("md"))
         if den == 0:
             return None, f"{raw} divides by zero"
-        return whole + num / den, None
+        return whole_n + num / den, None
     if n.form == "frac":
         num_s, den_s = raw.split("/")
         if int(den_s) == 0:
@@ -304,13 +304,13 @@ def _classify_unit(unit: str) -> tuple[str, Kind | Literal["mass", "ambiguous", 
             return compact, "ambiguous", math.nan, _AMBIGUOUS.get(top_c) or _AMBIGUOUS[top]
         if base in _LENGTH and not bottom.endswith("3"):
             per = _LENGTH[base] ** (2 if area else 1)
-            kind: Kind = "per-area" if area else "per-length"
+            per_kind: Kind = "per-area" if area else "per-length"
             if top in _FORCE:
                 name, f = _FORCE[top]
-                return f"{name}/{base}{'2' if area else ''}", kind, f / per, ""
+                return f"{name}/{base}{'2' if area else ''}", per_kind, f / per, ""
             if top in _MASS and (top != "t" or top_c == "t"):
                 name, kg = _MASS[top]
-                return f"{name}/{base}{'2' if area else ''}", kind, kg * STANDARD_GRAVITY / per, "mass"
+                return f"{name}/{base}{'2' if area else ''}", per_kind, kg * STANDARD_GRAVITY / per, "mass"
     return compact, "unknown", math.nan, ""
 
 

@@ -188,7 +188,7 @@ class OutputSet:
 
     staged: list[Staged] = field(default_factory=list)
 
-    def stage(self, path: str | os.PathLike[str], write: Callable[[str], None], what: str = "report") -> None:
+    def stage(self, path: str | os.PathLike[str], write: Callable[[str], object], what: str = "report") -> None:
         target = output_target(path, what)
         tmp = _temp_in(target.parent if str(target.parent) else Path("."), target.name)
         try:
@@ -276,7 +276,7 @@ class OutputSet:
         return kept
 
 
-def write_atomic(path: str | os.PathLike[str], write: Callable[[str], None]) -> None:
+def write_atomic(path: str | os.PathLike[str], write: Callable[[str], object]) -> None:
     """Call ``write(tmp_path)``, then rename the temporary file over ``path``'s target.
 
     A crash while writing leaves the previous file untouched."""

@@ -162,17 +162,18 @@ def build_geometry(
     pieces_a: list[np.ndarray] = [a[unsplit]]
     pieces_b: list[np.ndarray] = [b[unsplit]]
     split_info: list[tuple[int, list[int]]] = []
-    for s in np.flatnonzero(is_split):
-        stops = inner[int(pair_of[s])]
-        if a[s] != lo_j[s]:
+    for s_np in np.flatnonzero(is_split):
+        sp = int(s_np)
+        stops = inner[int(pair_of[sp])]
+        if a[sp] != lo_j[sp]:
             stops = stops[::-1]
-        chain = [int(a[s]), *stops, int(b[s])]
+        chain = [int(a[sp]), *stops, int(b[sp])]
         # a joint listed twice (two points within tol of the same place) is one stop
         chain = [j for k, j in enumerate(chain) if k == 0 or j != chain[k - 1]]
-        pieces_src.append(np.full(len(chain) - 1, s))
+        pieces_src.append(np.full(len(chain) - 1, sp))
         pieces_a.append(np.array(chain[:-1]))
         pieces_b.append(np.array(chain[1:]))
-        split_info.append((int(s), chain))
+        split_info.append((sp, chain))
     src = live[np.concatenate(pieces_src)] if pieces_src else np.zeros(0, np.int64)
     pa = np.concatenate(pieces_a).astype(np.int64)
     pb = np.concatenate(pieces_b).astype(np.int64)

@@ -73,6 +73,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 from enum import Enum
+from typing import cast
 
 import numpy as np
 import scipy.linalg as la
@@ -233,7 +234,8 @@ def _right_svd(C: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     A QR first leaves a q x q triangle with the same singular values and V.
     """
     if C.shape[0] > C.shape[1]:
-        C = np.linalg.qr(C, mode="r")
+        # numpy's stubs give every mode the (Q, R) result type; mode="r" returns R alone
+        C = cast(np.ndarray, np.linalg.qr(C, mode="r"))
     _, sc, Vt = _svd(C, full=True)
     return sc, Vt
 
@@ -701,13 +703,13 @@ def analyse_part(
             )
     findings += _local_findings(system, xy, p, sigma_local, tau, near_straight_sin)
     if drawn.gap is not None and drawn.gap < rank_gap:
-        amp = 1.0 / drawn.sigma_min if drawn.sigma_min else None  # None: JSON has no infinity
+        gap_amp = 1.0 / drawn.sigma_min if drawn.sigma_min else None  # None: JSON has no infinity
         findings.append(
             Finding(
                 Code.NEAR_MECHANISM,
                 f"the rank of part {p + 1} is uncertain: the singular values on either side of the rank "
                 f"tolerance differ only by a factor {drawn.gap:.3g}; the part is at or very near a mechanism",
-                data={"part": p, "amplification": amp, "kind": "rank-gap", "gap": drawn.gap},
+                data={"part": p, "amplification": gap_amp, "kind": "rank-gap", "gap": drawn.gap},
             )
         )
 
