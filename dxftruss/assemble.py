@@ -130,7 +130,7 @@ def _file_joints(
         d, i = tree.query(np.asarray([e.at for e in entries], dtype=float))
         bad = ~np.isfinite(d) | (i >= tree.n)
         d, i = np.where(bad, np.inf, d), np.where(bad, -1, i)
-    for entry, dist, j in zip(entries, d, i):
+    for entry, dist, j in zip(entries, d, i, strict=True):
         if dist > near_miss:
             where = f"{spec.path}: [[{kind}]] #{entry.number} at {list(entry.at)}"
             raise ConfigError(
@@ -185,7 +185,8 @@ def build_truss(
         drawn_fix[j].update(smark.fix.directions)
     file_fix: dict[int, set[int]] = defaultdict(set)
     if spec:
-        for sentry, j in zip(spec.supports, _file_joints(tree, xy, spec, "support", near_miss, length_unit)):
+        support_joints = _file_joints(tree, xy, spec, "support", near_miss, length_unit)
+        for sentry, j in zip(spec.supports, support_joints, strict=True):
             file_fix[j].update(sentry.fix.directions)
         for j in sorted(set(drawn_fix) & set(file_fix)):
             if drawn_fix[j] == file_fix[j]:
@@ -329,7 +330,8 @@ def build_truss(
     for case in unread:
         case_loads.setdefault(case, [])
     if spec:
-        for entry, j in zip(spec.loads, _file_joints(tree, xy, spec, "load", near_miss, length_unit)):
+        load_joints = _file_joints(tree, xy, spec, "load", near_miss, length_unit)
+        for entry, j in zip(spec.loads, load_joints, strict=True):
             case_loads[entry.case].append(Load(j, entry.fx, entry.fy, Source.LOADS_FILE))
 
     cases = [LoadCase(name, tuple(case_loads[name]), unread=unread[name]) for name in sorted(case_loads)]
@@ -344,7 +346,8 @@ def build_truss(
             ]
             if not all(np.isfinite(ld.fx) and np.isfinite(ld.fy) for ld in loads):
                 raise ConfigError(
-                    f"{spec.path}: [[combination]] #{combo.number} {combo.name!r}: factored loads are too large to represent"
+                    f"{spec.path}: [[combination]] #{combo.number} {combo.name!r}: "
+                    "factored loads are too large to represent"
                 )
             blocked = sum(by_name[case].unread for case, _ in combo.factors)
             cases.append(LoadCase(combo.name, tuple(loads), factors=combo.factors, unread=blocked))

@@ -228,7 +228,7 @@ def test_member_limit_stops_the_walk(tmp_path: Path) -> None:
 
 
 def test_part_limit_before_supports_are_attached(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
-    import dxftruss.assemble as assemble
+    from dxftruss import assemble
 
     def no_support_lookup(*args: object, **kw: object) -> None:
         raise AssertionError("supports were attached before the part limit was checked")

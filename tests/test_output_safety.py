@@ -274,7 +274,7 @@ def test_wrote_line_and_batch_table_escape_control_characters(tmp_path):
     assert code == 0, err
     # the summary's own header belongs to the text report; here: the "wrote" line and the table
     mine = [ln for ln in out.splitlines() if ln.startswith("wrote ") or ln.startswith("\u2502")]
-    assert any("wrote out/a\\x1b[31m.check.json" == ln for ln in mine), out
+    assert any(ln == "wrote out/a\\x1b[31m.check.json" for ln in mine), out
     assert any("in/a\\x1b[31m.dxf" in ln for ln in mine), out
     assert not any("\x1b" in ln for ln in mine), mine
 

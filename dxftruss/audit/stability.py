@@ -433,10 +433,8 @@ def _sparse(system: PartSystem, generic: SupportedPebbleGame, limit: int) -> _Dr
     lam, vec = _near_zero(A_I, generic.mechanisms, tau_h, sigma_max, limit)
     zero = lam <= tau_h
     nz = int(np.count_nonzero(zero))
-    if nz == 0 or nz == lam.size or lam[nz - 1] == 0.0:
-        gap = math.inf
-    else:
-        gap = float(lam[nz]) / float(lam[nz - 1])
+    no_gap = nz == 0 or nz == lam.size or lam[nz - 1] == 0.0
+    gap = math.inf if no_gap else float(lam[nz]) / float(lam[nz - 1])
     # D: orthonormal basis of null(A_I^T) from the joint parts of the zero eigenvectors
     X = vec[:rows, :nz]
     if nz:
@@ -651,10 +649,7 @@ def analyse_part(
 
     modes: list[Mode] = []
     for i, (loc, disp, is_rigid) in enumerate(shapes):
-        if r:
-            special = special_any and bool(np.all(held[loc]))
-        else:
-            special = special_any and not is_rigid
+        special = special_any and (bool(np.all(held[loc])) if r else not is_rigid)
         glob = system.joints[loc]
         mode = Mode(tuple(int(g) for g in glob), disp, is_rigid, special)
         if i < max_modes:
