@@ -26,7 +26,7 @@ from .errors import ConfigError, LimitError
 from .escape import shown
 from .findings import Code, Finding
 from .labels import LabelReading, comma_style, read_label
-from .loadsfile import DEFAULT_CASE, LoadsSpec, check_combinations
+from .loadsfile import DEFAULT_CASE, LoadEntry, LoadsSpec, SupportEntry, check_combinations
 from .model import Fix, Load, LoadCase, Part, Source, Support, Truss, joint_id
 from .read import LineWork
 from .snap import Geometry
@@ -121,7 +121,7 @@ def _file_joints(
     """The joint of every ``[[support]]`` or ``[[load]]`` point of the loads file, in one
     query (loads files can be long); a point with no joint within the near-miss radius
     is a ConfigError naming the entry and the nearest joint."""
-    entries = spec.supports if kind == "support" else spec.loads
+    entries: tuple[SupportEntry | LoadEntry, ...] = spec.supports if kind == "support" else spec.loads
     if not entries:
         return []
     if tree is None:
@@ -130,7 +130,7 @@ def _file_joints(
         d, i = tree.query(np.asarray([e.at for e in entries], dtype=float))
         bad = ~np.isfinite(d) | (i >= tree.n)
         d, i = np.where(bad, np.inf, d), np.where(bad, -1, i)
-    for entry, dist, j in zip(entries, d, i):
+    for entry, dist, j in zip(entries, d, i, strict=True):
         if dist > near_miss:
             where = f"{spec.path}: [[{kind}]] #{entry.number} at {list(entry.at)}"
             raise ConfigError(
@@ -169,24 +169,25 @@ def build_truss(
     # supports: drawn, then file; merged per joint. Different restraints drawn and given
     # in the file at one joint need the file's [drawn] supports to say which to use.
     drawn_fix: dict[int, set[int]] = defaultdict(set)
-    for mark in linework.supports:
-        d, j = _nearest(tree, (mark.x, mark.y))
+    for smark in linework.supports:
+        d, j = _nearest(tree, (smark.x, smark.y))
         if d > near_miss:
             findings.append(
                 Finding(
                     Code.SUPPORT_OFF_JOINT,
-                    f"support ({mark.layer}, handle {mark.handle}) is not on a joint" + _nearest_note(d, j),
+                    f"support ({smark.layer}, handle {smark.handle}) is not on a joint" + _nearest_note(d, j),
                     joints=(j,) if j >= 0 else (),
-                    at=(mark.x, mark.y),
-                    data={"handle": mark.handle, "distance": d if j >= 0 else None},
+                    at=(smark.x, smark.y),
+                    data={"handle": smark.handle, "distance": d if j >= 0 else None},
                 )
             )
             continue
-        drawn_fix[j].update(mark.fix.directions)
+        drawn_fix[j].update(smark.fix.directions)
     file_fix: dict[int, set[int]] = defaultdict(set)
     if spec:
-        for entry, j in zip(spec.supports, _file_joints(tree, xy, spec, "support", near_miss, length_unit)):
-            file_fix[j].update(entry.fix.directions)
+        support_joints = _file_joints(tree, xy, spec, "support", near_miss, length_unit)
+        for sentry, j in zip(spec.supports, support_joints, strict=True):
+            file_fix[j].update(sentry.fix.directions)
         for j in sorted(set(drawn_fix) & set(file_fix)):
             if drawn_fix[j] == file_fix[j]:
                 continue  # the same restraint twice: nothing to decide
@@ -329,7 +330,8 @@ def build_truss(
     for case in unread:
         case_loads.setdefault(case, [])
     if spec:
-        for entry, j in zip(spec.loads, _file_joints(tree, xy, spec, "load", near_miss, length_unit)):
+        load_joints = _file_joints(tree, xy, spec, "load", near_miss, length_unit)
+        for entry, j in zip(spec.loads, load_joints, strict=True):
             case_loads[entry.case].append(Load(j, entry.fx, entry.fy, Source.LOADS_FILE))
 
     cases = [LoadCase(name, tuple(case_loads[name]), unread=unread[name]) for name in sorted(case_loads)]
@@ -344,7 +346,8 @@ def build_truss(
             ]
             if not all(np.isfinite(ld.fx) and np.isfinite(ld.fy) for ld in loads):
                 raise ConfigError(
-                    f"{spec.path}: [[combination]] #{combo.number} {combo.name!r}: factored loads are too large to represent"
+                    f"{spec.path}: [[combination]] #{combo.number} {combo.name!r}: "
+                    "factored loads are too large to represent"
                 )
             blocked = sum(by_name[case].unread for case, _ in combo.factors)
             cases.append(LoadCase(combo.name, tuple(loads), factors=combo.factors, unread=blocked))

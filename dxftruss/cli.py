@@ -9,6 +9,7 @@ one line, never a traceback); 130 after Ctrl-C, 143 after SIGTERM.
 from __future__ import annotations
 
 import argparse
+import contextlib
 import os
 import sys
 from pathlib import Path
@@ -59,9 +60,13 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--pdf", metavar="OUT.pdf", help="marked-up PDF (default: <drawing name>.check.pdf here)")
     c.add_argument("--dxf", metavar="OUT.dxf", help="annotated copy of the drawing with results on new layers")
     c.add_argument("--json", metavar="OUT.json", help="JSON report; '-' for standard output")
-    c.add_argument("--snap", metavar="LENGTH", help="join endpoints closer than this, e.g. 0.5mm (default 1e-6 of the extent)")
     c.add_argument(
-        "--near-miss", metavar="LENGTH", help="report gaps up to this, e.g. 20mm (default 2%% of the median member length)"
+        "--snap", metavar="LENGTH", help="join endpoints closer than this, e.g. 0.5mm (default 1e-6 of the extent)"
+    )
+    c.add_argument(
+        "--near-miss",
+        metavar="LENGTH",
+        help="report gaps up to this, e.g. 20mm (default 2%% of the median member length)",
     )
     c.add_argument("--units", choices=["mm", "cm", "m", "in", "ft"], help="drawing unit (overrides the header)")
     c.add_argument(
@@ -102,10 +107,8 @@ def _err(msg: str) -> None:
     from .escape import one_line
 
     line = one_line(" ".join(str(msg).split()))
-    try:
+    with contextlib.suppress(OSError, ValueError, AttributeError):  # standard error closed: nothing to tell
         print(f"dxftruss: {line}", file=sys.stderr, flush=True)
-    except (OSError, ValueError, AttributeError):  # standard error closed: nothing to tell
-        pass
 
 
 class Interrupted(BaseException):
@@ -179,7 +182,7 @@ def _plan(args: argparse.Namespace, drawings: list[str], many: bool) -> dict[str
     for d in drawings:
         outs = _outputs(args, d, many, common)
         plan[d] = outs
-        for out, what in zip(outs, ("PDF", "annotated DXF", "JSON")):
+        for out, what in zip(outs, ("PDF", "annotated DXF", "JSON"), strict=True):
             if not out or out == "-":
                 continue
             if many:
@@ -187,7 +190,9 @@ def _plan(args: argparse.Namespace, drawings: list[str], many: bool) -> dict[str
             target = str(check_output_path(out, inputs, what))
             key = os.path.normcase(os.path.realpath(target))
             if key in owner:
-                raise ConfigError(f"{out}: named twice as an output (also as {owner[key]}); give each report its own file")
+                raise ConfigError(
+                    f"{out}: named twice as an output (also as {owner[key]}); give each report its own file"
+                )
             owner[key] = out
     return plan
 
@@ -202,7 +207,7 @@ def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = F
     staged = None
     try:
         from .errors import DxftrussError
-    except Exception as exc:  # an import that fails (a broken install, a library's settings file)
+    except Exception as exc:  # noqa: BLE001 - an import that fails (a broken install, a library's settings file)
         row["message"] = f"cannot start ({type(exc).__name__}: {exc})"
         return EXIT_INPUT, text, row
     try:
@@ -337,10 +342,9 @@ def _check_library_settings() -> None:
     prints three lines and exits 1 for a file that is not UTF-8, and raises for one that
     is not an INI file). A file it cannot open it skips, and so do we."""
     import configparser
+    import errno
 
     from .errors import ConfigError
-
-    import errno
 
     for path in _library_settings_files():
         try:
@@ -418,10 +422,8 @@ def _stop_pool(pool, plan: dict[str, Outs]) -> None:  # type: ignore[no-untyped-
     procs = list(getattr(pool, "_processes", {}).values()) or multiprocessing.active_children()
     pool.shutdown(wait=False, cancel_futures=True)
     for p in procs:
-        try:
+        with contextlib.suppress(Exception):  # already gone
             p.terminate()
-        except Exception:  # noqa: BLE001 - already gone
-            pass
     for p in procs:
         p.join(timeout=10)
     folders = {Path(os.path.dirname(os.path.realpath(o))) for outs in plan.values() for o in outs if o and o != "-"}
@@ -455,7 +457,7 @@ def _run_many(args: argparse.Namespace, drawings: list[str], plan: dict[str, Out
                 d = futures[fut]
                 try:
                     results[d] = fut.result()
-                except Exception as exc:  # a worker that died (out of memory, killed)
+                except Exception as exc:  # noqa: BLE001 - a worker that died (out of memory, killed)
                     row = {"drawing": d, "status": "error", "verdict": "-", "errors": "-", "warnings": "-",
                            "message": f"{d}: the check stopped ({type(exc).__name__}: {exc})"}
                     results[d] = (EXIT_INPUT, "", row)
@@ -500,7 +502,7 @@ def _open_standard_streams() -> None:
                 pass
     for name, mode in (("stdin", "r"), ("stdout", "w"), ("stderr", "w")):
         if getattr(sys, name) is None:
-            setattr(sys, name, open(os.devnull, mode))
+            setattr(sys, name, open(os.devnull, mode))  # noqa: SIM115 - stays open as the stream
 
 
 def _silence_stdout() -> None:

@@ -90,7 +90,7 @@ def dxf_name(name: str) -> str:
     if not any(c in DXF_FORBIDDEN or _needs_escape(c) for c in rest):
         return name
     s = "".join("_" if (c in DXF_FORBIDDEN or _needs_escape(c)) else c for c in rest)
-    return head + s if (head + s) else "_"
+    return (head + s) or "_"
 
 
 def is_dxf_name(name: str) -> bool:

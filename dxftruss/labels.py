@@ -93,8 +93,8 @@ _DISTRIBUTED_WORDS: dict[str, tuple[str, Kind, float]] = {
 }
 
 _SPACES = str.maketrans(
-    {"\u00a0": " ", "\u2007": " ", "\u2009": " ", "\u202f": " ", "\t": " ", "\n": " ", "\r": " ", "\u2212": "-", "\u2013": "-",
-     "\u00b2": "2", "\u00b3": "3", "\u2044": "/"}
+    {"\u00a0": " ", "\u2007": " ", "\u2009": " ", "\u202f": " ", "\t": " ", "\n": " ", "\r": " ",
+     "\u2212": "-", "\u2013": "-", "\u00b2": "2", "\u00b3": "3", "\u2044": "/"}
 )
 
 # a number: mixed fraction, fraction, comma groups, space groups, plain decimal (either
@@ -261,21 +261,9 @@ def _number_value(n: _Number, comma: CommaStyle | None) -> tuple[float | None, s
         raw = raw.replace(",", "")
     if n.form in ("mixed", "frac"):
         try:
-            if n.form == "mixed":
-                m = _NUM.fullmatch(raw)
-                assert m is not None
-                whole, num, den = int(m.group("mw")), int(m.group("mn")), int(m.group("md"))
-            else:
-                num_s, den_s = raw.split("/")
-                whole, num, den = 0, int(num_s), int(den_s)
-            if den == 0:
-                return None, f"{raw} divides by zero"
-            value = whole + num / den
-        except (OverflowError, ValueError):  # digits beyond a float (or int parsing's limit)
+            return _fraction_value(raw, n.form)
+        except (OverflowError, ValueError):  # beyond the largest float, or too many digits for an int
             return None, f"{raw} is too large to represent"
-        if not math.isfinite(value):
-            return None, f"{raw} is too large to represent"
-        return value, None
     try:
         value = float(raw.replace(" ", ""))
     except ValueError:  # pragma: no cover - the scanner only passes numbers
@@ -283,6 +271,21 @@ def _number_value(n: _Number, comma: CommaStyle | None) -> tuple[float | None, s
     if not math.isfinite(value):
         return None, f"{raw} is too large to represent"
     return value, None
+
+
+def _fraction_value(raw: str, form: str) -> tuple[float | None, str | None]:
+    """The value of "3 1/2" (mixed) or "7/2" (frac), or (None, reason)."""
+    if form == "mixed":
+        m = _NUM.fullmatch(raw)
+        assert m is not None
+        whole, num, den = int(m.group("mw")), int(m.group("mn")), int(m.group("md"))
+        if den == 0:
+            return None, f"{raw} divides by zero"
+        return whole + num / den, None
+    num_s, den_s = raw.split("/")
+    if int(den_s) == 0:
+        return None, f"{raw} divides by zero"
+    return int(num_s) / int(den_s), None
 
 
 def _classify_unit(unit: str) -> tuple[str, Kind | Literal["mass", "ambiguous", "unknown"], float, str]:
@@ -309,13 +312,13 @@ def _classify_unit(unit: str) -> tuple[str, Kind | Literal["mass", "ambiguous", 
             return compact, "ambiguous", math.nan, _AMBIGUOUS.get(top_c) or _AMBIGUOUS[top]
         if base in _LENGTH and not bottom.endswith("3"):
             per = _LENGTH[base] ** (2 if area else 1)
-            kind: Kind = "per-area" if area else "per-length"
+            per_kind: Kind = "per-area" if area else "per-length"
             if top in _FORCE:
                 name, f = _FORCE[top]
-                return f"{name}/{base}{'2' if area else ''}", kind, f / per, ""
+                return f"{name}/{base}{'2' if area else ''}", per_kind, f / per, ""
             if top in _MASS and (top != "t" or top_c == "t"):
                 name, kg = _MASS[top]
-                return f"{name}/{base}{'2' if area else ''}", kind, kg * STANDARD_GRAVITY / per, "mass"
+                return f"{name}/{base}{'2' if area else ''}", per_kind, kg * STANDARD_GRAVITY / per, "mass"
     return compact, "unknown", math.nan, ""
 
 
@@ -416,4 +419,4 @@ def read_label(
     )
 
 
-__all__ = ["LabelReading", "comma_style", "read_label", "STANDARD_GRAVITY", "LBF", "KIP"]
+__all__ = ["KIP", "LBF", "STANDARD_GRAVITY", "LabelReading", "comma_style", "read_label"]

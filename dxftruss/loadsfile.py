@@ -214,7 +214,6 @@ def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:
         fy = parse_force(t.get("fy", 0.0), force_unit, f"{where} fy")
         loads.append(LoadEntry(i, at, fx, fy, case.strip()))
 
-    case_names = {ld.case for ld in loads}
     combos = []
     seen: set[str] = set()
     for i, t in enumerate(_tables(name, data, "combination"), 1):

@@ -15,15 +15,15 @@ Glossary:
 
 from __future__ import annotations
 
+import contextlib
 import errno
 import os
 import re
-import secrets
 import stat
 import tempfile
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Callable
 
 from .errors import ConfigError, OutputError
 from .escape import one_line
@@ -113,7 +113,7 @@ def umask() -> int:
     global _UMASK
     try:
         with open("/proc/self/status", encoding="ascii", errors="replace") as fh:
-            m = re.search(r"^Umask:\s*([0-7]+)", fh.read(), re.M)
+            m = re.search(r"^Umask:\s*([0-7]+)", fh.read(), re.MULTILINE)
         if m is not None:
             return int(m.group(1), 8)
     except OSError:
@@ -141,10 +141,8 @@ def _temp_in(folder: Path, name: str, kind: str = "") -> str:
 
 
 def _remove(tmp: str) -> None:
-    try:
+    with contextlib.suppress(OSError):
         os.unlink(tmp)
-    except OSError:
-        pass
     _LIVE.discard(tmp)
 
 
@@ -157,7 +155,7 @@ def remove_live_temporaries() -> None:
 def remove_run_temporaries(folders: set[Path], run_id: str = RUN_ID) -> list[Path]:
     """Remove the temporaries of this run's stopped workers from ``folders``."""
     gone = []
-    pat = re.compile(r"^\..*\.dxftruss-" + re.escape(run_id) + r"-.*\.tmp$", re.S)
+    pat = re.compile(r"^\..*\.dxftruss-" + re.escape(run_id) + r"-.*\.tmp$", re.DOTALL)
     for folder in folders:
         try:
             names = os.listdir(folder)
@@ -188,7 +186,7 @@ class OutputSet:
 
     staged: list[Staged] = field(default_factory=list)
 
-    def stage(self, path: str | os.PathLike[str], write: Callable[[str], None], what: str = "report") -> None:
+    def stage(self, path: str | os.PathLike[str], write: Callable[[str], object], what: str = "report") -> None:
         target = output_target(path, what)
         tmp = _temp_in(target.parent if str(target.parent) else Path("."), target.name)
         try:
@@ -276,7 +274,7 @@ class OutputSet:
         return kept
 
 
-def write_atomic(path: str | os.PathLike[str], write: Callable[[str], None]) -> None:
+def write_atomic(path: str | os.PathLike[str], write: Callable[[str], object]) -> None:
     """Call ``write(tmp_path)``, then rename the temporary file over ``path``'s target.
 
     A crash while writing leaves the previous file untouched."""

@@ -137,7 +137,8 @@ def build_geometry(
         findings.append(
             Finding(
                 Code.ZERO_LENGTH_MEMBER,
-                f"a line on layer {layers[i]!r} (handle {handles[i]}) is shorter than the snap tolerance; it is not used",
+                f"a line on layer {layers[i]!r} (handle {handles[i]}) is shorter than the snap tolerance; "
+                "it is not used",
                 at=(float(centres[a[i], 0]), float(centres[a[i], 1])),
                 data={"handle": handles[i], "layer": layers[i]},
             )
@@ -162,17 +163,18 @@ def build_geometry(
     pieces_a: list[np.ndarray] = [a[unsplit]]
     pieces_b: list[np.ndarray] = [b[unsplit]]
     split_info: list[tuple[int, list[int]]] = []
-    for s in np.flatnonzero(is_split):
-        stops = inner[int(pair_of[s])]
-        if a[s] != lo_j[s]:
+    for s_np in np.flatnonzero(is_split):
+        sp = int(s_np)
+        stops = inner[int(pair_of[sp])]
+        if a[sp] != lo_j[sp]:
             stops = stops[::-1]
-        chain = [int(a[s]), *stops, int(b[s])]
+        chain = [int(a[sp]), *stops, int(b[sp])]
         # a joint listed twice (two points within tol of the same place) is one stop
         chain = [j for k, j in enumerate(chain) if k == 0 or j != chain[k - 1]]
-        pieces_src.append(np.full(len(chain) - 1, s))
+        pieces_src.append(np.full(len(chain) - 1, sp))
         pieces_a.append(np.array(chain[:-1]))
         pieces_b.append(np.array(chain[1:]))
-        split_info.append((int(s), chain))
+        split_info.append((sp, chain))
     src = live[np.concatenate(pieces_src)] if pieces_src else np.zeros(0, np.int64)
     pa = np.concatenate(pieces_a).astype(np.int64)
     pb = np.concatenate(pieces_b).astype(np.int64)
@@ -199,14 +201,14 @@ def build_geometry(
     src_list, inv_list = src.tolist(), inverse.tolist()  # Python ints: no numpy scalars in the loops
     if len(inv_list) == m:  # each member from exactly one drawn piece (the usual case)
         src_of = [0] * m
-        for s, e in zip(src_list, inv_list):
+        for s, e in zip(src_list, inv_list, strict=True):
             src_of[e] = s
         out_layers = tuple(layers[s] for s in src_of)
         out_handles: tuple[tuple[str, ...], ...] = tuple((handles[s],) for s in src_of)
     else:
         member_handles: list[set[str]] = [set() for _ in range(m)]
         member_layers: list[set[str]] = [set() for _ in range(m)]
-        for s, e in zip(src_list, inv_list):
+        for s, e in zip(src_list, inv_list, strict=True):
             member_handles[e].add(handles[s])
             member_layers[e].add(layers[s])
         out_layers = tuple(min(ls) for ls in member_layers)
@@ -218,7 +220,8 @@ def build_geometry(
         findings.append(
             Finding(
                 Code.DUPLICATE_MEMBER,
-                f"{int(counts[e])} drawn lines join J{i + 1} and J{k + 1} (drawn twice or overlapping); analysed as one member",
+                f"{int(counts[e])} drawn lines join J{i + 1} and J{k + 1} (drawn twice or overlapping); "
+                "analysed as one member",
                 joints=(int(i), int(k)),
                 members=(int(e),),
                 at=(float(mid[0]), float(mid[1])),
@@ -229,7 +232,7 @@ def build_geometry(
     # members made from each split line, for the split-member finding
     by_src: dict[int, list[int]] = defaultdict(list)
     if split_info:
-        for s, e in zip(src_list, inv_list):
+        for s, e in zip(src_list, inv_list, strict=True):
             by_src[s].append(e)
     for s, chain in split_info:
         row = int(live[s])

@@ -201,7 +201,7 @@ def parse_length(text: str, drawing_unit: str, what: str = "length") -> float:
     return _finite(value, text, what)
 
 
-def parse_force(text: str | float | int, force_unit: str, what: str = "force") -> float:
+def parse_force(text: str | float, force_unit: str, what: str = "force") -> float:
     """A force in ``force_unit``; a bare number is already in ``force_unit``."""
     if isinstance(text, bool):
         raise ConfigError(f"{what}: expected a number or a string such as '12.5 kN', got {text!r}")
@@ -214,9 +214,9 @@ def parse_force(text: str | float | int, force_unit: str, what: str = "force") -
     return _finite(value, text, what)
 
 
-def parse_si(text: str | float | int, table: dict[str, float], what: str) -> float:
+def parse_si(text: str | float, table: dict[str, float], what: str) -> float:
     """An area or modulus converted to SI (m2 or Pa); the unit is required."""
-    if isinstance(text, bool) or isinstance(text, (int, float)):
+    if isinstance(text, (bool, int, float)):
         raise ConfigError(f"{what}: give a unit, e.g. '4800 mm2' or '210 GPa' (known units: {', '.join(table)})")
     q = parse_quantity(text, table, what)
     if q.unit is None:

@@ -372,7 +372,7 @@ def drafting_slips() -> Sample:
         top, bottom = diagonal(p)
         if p == 3:  # stop short of the top joint by a small fraction of the diagonal
             gap = NEAR_MISS_FRACTION * math.dist(top, bottom)
-            ux, uy = ((t - b) / math.dist(top, bottom) for t, b in zip(top, bottom))
+            ux, uy = ((t - b) / math.dist(top, bottom) for t, b in zip(top, bottom, strict=True))
             top = (top[0] - gap * ux, top[1] - gap * uy)
         line(msp, top, bottom, "WEB")
         if p == 0:

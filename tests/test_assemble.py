@@ -15,7 +15,10 @@ from dxftruss.snap import build_geometry
 #  |  \  |  /  |
 #  L0----L1----L2
 SEGS = np.array(
-    [[0, 0, 4, 0], [4, 0, 8, 0], [0, 3, 4, 3], [4, 3, 8, 3], [0, 0, 0, 3], [4, 0, 4, 3], [8, 0, 8, 3], [0, 3, 4, 0], [8, 3, 4, 0]],
+    [
+        [0, 0, 4, 0], [4, 0, 8, 0], [0, 3, 4, 3], [4, 3, 8, 3], [0, 0, 0, 3], [4, 0, 4, 3], [8, 0, 8, 3],
+        [0, 3, 4, 0], [8, 3, 4, 0],
+    ],
     float,
 )
 
@@ -114,7 +117,7 @@ def test_combination_sums_factored_cases():
 
 
 def test_parts_are_numbered_from_the_left():
-    segs = np.vstack([SEGS + [100, 0, 100, 0], SEGS])
+    segs = np.vstack([SEGS + np.array([100, 0, 100, 0]), SEGS])
     lw = linework(segs)
     t = build(lw)
     assert len(t.parts) == 2 and t.parts[0].joints.min() == 0

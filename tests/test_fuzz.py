@@ -364,7 +364,9 @@ def test_hostile_length_options(option, value):
 # output paths that are not plain new files: refused with exit 2, or written as a regular
 # file at the link's target; a special file is never replaced
 
-OUTPUT_TARGETS = ["new", "regular", "fifo", "socket", "dir", "link-to-file", "dangling-link", "link-to-dir", "link-loop"]
+OUTPUT_TARGETS = [
+    "new", "regular", "fifo", "socket", "dir", "link-to-file", "dangling-link", "link-to-dir", "link-loop",
+]
 
 
 def _make_target(kind: str, d: Path) -> Path:

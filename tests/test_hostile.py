@@ -580,7 +580,7 @@ def _markup_drawing(folder: Path, name: str = MARKUP_FILE) -> Path:
     path = folder / name
     doc.saveas(path)
     data = path.read_bytes()
-    for k, v in list(MARKUP_LAYERS.items()) + [("NOTE", MARKUP_NOTE)]:
+    for k, v in [*MARKUP_LAYERS.items(), ("NOTE", MARKUP_NOTE)]:
         data = data.replace(f"MARKUPLAYER{k}".encode(), v.encode())
     path.write_bytes(data)
     return path
@@ -713,7 +713,7 @@ def test_minsert_with_zero_columns_and_a_billion_rows(tmp_path):
     frame.saveas(path)
     pairs = mu.parse_pairs(path.read_bytes())
     _a, b = mu._entity_spans(pairs, b"INSERT")[-1]
-    pairs = pairs[:b] + [(b" 70", b"0"), (b" 71", b"1000000000"), (b" 44", b"1.0"), (b" 45", b"1.0")] + pairs[b:]
+    pairs = [*pairs[:b], (b" 70", b"0"), (b" 71", b"1000000000"), (b" 44", b"1.0"), (b" 45", b"1.0"), *pairs[b:]]
     path.write_bytes(mu.serialize(pairs))
     out = ok(mu.run_main(path, timeout=ALARM, memory=1 << 30))
     assert out.code in (0, 2)

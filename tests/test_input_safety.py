@@ -35,7 +35,8 @@ HOSTILE = "LOAD-\x1b[2J\x1b[31mred\u202egol"
 
 def _cli(*args: str, timeout: float = 60) -> subprocess.CompletedProcess[str]:
     return subprocess.run(
-        [sys.executable, "-m", "dxftruss", *args], capture_output=True, text=True, timeout=timeout, errors="replace"
+        [sys.executable, "-m", "dxftruss", *args], capture_output=True, text=True, timeout=timeout, errors="replace",
+        check=False,
     )
 
 
@@ -60,7 +61,7 @@ def _hostile_frame(tmp_path: Path, *, fmt: str = "asc", extra_layer: str | None 
 
 def _raw_controls(text: str) -> list[str]:
     """Characters that act on a terminal instead of being shown."""
-    return [c for c in text if (ord(c) < 0x20 and c not in "\n") or 0x7F <= ord(c) < 0xA0 or c in "\u202e\u2066"]
+    return [c for c in text if (ord(c) < 0x20 and c != "\n") or 0x7F <= ord(c) < 0xA0 or c in "\u202e\u2066"]
 
 
 def test_terminal_summary_shows_control_characters_visibly(tmp_path: Path) -> None:
@@ -228,7 +229,7 @@ def test_member_limit_stops_the_walk(tmp_path: Path) -> None:
 
 
 def test_part_limit_before_supports_are_attached(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
-    import dxftruss.assemble as assemble
+    from dxftruss import assemble
 
     def no_support_lookup(*args: object, **kw: object) -> None:
         raise AssertionError("supports were attached before the part limit was checked")

@@ -33,10 +33,10 @@ def test_constants_match_nist_sp811():
     # NIST SP 811 (2008) B.8: 1 lbf = 4.448 222 N; the exact value is the international
     # pound 0.45359237 kg times standard gravity 9.80665 m/s2 (CGPM 1901)
     assert STANDARD_GRAVITY == 9.80665
-    assert LBF == pytest.approx(0.45359237 * 9.80665, rel=1e-15)
+    assert pytest.approx(0.45359237 * 9.80665, rel=1e-15) == LBF
     assert round(LBF, 6) == 4.448222
-    assert KIP == pytest.approx(1000 * 0.45359237 * 9.80665, rel=1e-15)
-    assert LBF == pytest.approx(si(1, "lbf"), rel=1e-14)  # pint agrees
+    assert pytest.approx(1000 * 0.45359237 * 9.80665, rel=1e-15) == KIP
+    assert pytest.approx(si(1, "lbf"), rel=1e-14) == LBF  # pint agrees
 
 
 # (label, kind, expected SI magnitude from pint as (value, pint unit) or None, negative, n_assumptions)
@@ -138,10 +138,13 @@ UNCLEAR = [
     ("", "no number"),
     ("3/0 kN", "divides by zero"),
     ("1e999 kN", "too large"),
+    ("9" * 400 + "/2 kN", "too large"),  # the quotient overflows a float
+    ("9" * 400 + " 1/2 kN", "too large"),  # so does the whole part of a mixed number
+    ("9" * 5000 + "/2 kN", "too large"),  # more digits than Python converts to an int
 ]
 
 
-@pytest.mark.parametrize(("text", "why"), UNCLEAR, ids=[u[0] or "empty" for u in UNCLEAR])
+@pytest.mark.parametrize(("text", "why"), UNCLEAR, ids=[u[0][:40] or "empty" for u in UNCLEAR])
 def test_unclear_labels_are_never_guessed(text, why):
     r = read_label(text)
     assert r.kind == "unclear" and r.value is None

@@ -10,6 +10,7 @@ Glossary:
 
 from __future__ import annotations
 
+import contextlib
 import importlib.util
 import json
 import os
@@ -40,7 +41,7 @@ def drawing(folder: Path, name: str = "roof.dxf") -> Path:
 def run(args, cwd=None, env=None, **kw):  # type: ignore[no-untyped-def]
     p = subprocess.run(
         [sys.executable, "-m", "dxftruss", *map(str, args)],
-        capture_output=True, text=True, cwd=cwd, timeout=120, env=env, **kw,
+        capture_output=True, text=True, cwd=cwd, timeout=120, env=env, check=False, **kw,
     )
     return p.returncode, p.stdout, p.stderr
 
@@ -95,7 +96,12 @@ def test_device_output_is_refused_before_any_write(tmp_path, monkeypatch, capsys
     dxf = drawing(tmp_path)
     calls = []
     monkeypatch.setattr(os, "replace", lambda *a: calls.append(("replace", a)))
-    monkeypatch.setattr(outputs.tempfile, "mkstemp", lambda *a, **k: calls.append(("mkstemp", k)) or (_ for _ in ()).throw(OSError("no")))
+
+    def failing_mkstemp(*a, **k):
+        calls.append(("mkstemp", k))
+        raise OSError("no")
+
+    monkeypatch.setattr(outputs.tempfile, "mkstemp", failing_mkstemp)
     assert main(["check", str(dxf), "--json", "/dev/null", "--quiet"]) == 2
     err = capsys.readouterr().err
     assert one_line(err) and "/dev/null" in err and "device" in err, err
@@ -109,7 +115,7 @@ def test_symlink_output_writes_its_target_and_stays_a_link(tmp_path):
     real.write_text("old")
     link = tmp_path / "latest.json"
     link.symlink_to(real)
-    code, out, err = run(["check", dxf, "--json", link, "--quiet"])
+    code, _out, err = run(["check", dxf, "--json", link, "--quiet"])
     assert code == 0, err
     assert link.is_symlink() and os.readlink(link) == str(real)  # the link is untouched...
     assert json.loads(real.read_text())["schema"].startswith("dxftruss-report")  # ...its target is new
@@ -121,9 +127,9 @@ def test_output_mode_follows_the_umask(tmp_path):
     for mask, mode in ((0o022, 0o644), (0o002, 0o664), (0o077, 0o600)):
         out = tmp_path / f"r{mask:o}.json"
         p = subprocess.run(
-            [sys.executable, "-c", f"import os, sys; os.umask({mask}); from dxftruss.cli import main; "
-             f"sys.exit(main(['check', {str(dxf)!r}, '--json', {str(out)!r}, '--quiet']))"],
-            capture_output=True, text=True, timeout=120,
+            [sys.executable, "-c", (f"import os, sys; os.umask({mask}); from dxftruss.cli import main; "
+             f"sys.exit(main(['check', {str(dxf)!r}, '--json', {str(out)!r}, '--quiet']))")],
+            capture_output=True, text=True, timeout=120, check=False,
         )
         assert p.returncode == 0, p.stderr
         assert stat.S_IMODE(out.stat().st_mode) == mode, (oct(mask), oct(out.stat().st_mode))
@@ -151,16 +157,16 @@ def test_two_options_naming_one_file_are_refused_before_any_work(tmp_path, capsy
 def test_file_name_too_long_is_one_line(tmp_path):
     dxf = drawing(tmp_path)
     long = "a" * 300
-    code, out, err = run(["check", tmp_path / f"{long}.dxf", "--json", tmp_path / "o.json"])
+    code, _out, err = run(["check", tmp_path / f"{long}.dxf", "--json", tmp_path / "o.json"])
     assert code == 2 and one_line(err) and "too long" in err, err
-    code, out, err = run(["check", dxf, "--json", tmp_path / f"{long}.json"])
+    code, _out, err = run(["check", dxf, "--json", tmp_path / f"{long}.json"])
     assert code == 2 and one_line(err) and "too long" in err, err
 
 
 def test_batch_output_folder_that_is_a_file_is_one_line(tmp_path):
     a, b = drawing(tmp_path, "a.dxf"), drawing(tmp_path, "b.dxf")
     (tmp_path / "out").write_text("a file")
-    code, out, err = run(["check", a, b, "--json", tmp_path / "out"])
+    code, _out, err = run(["check", a, b, "--json", tmp_path / "out"])
     assert code == 2 and one_line(err) and "out" in err and "--json" in err, err
     assert (tmp_path / "out").read_text() == "a file"
 
@@ -174,10 +180,8 @@ def open_dir():  # type: ignore[no-untyped-def]
     d.chmod(0o777)
     yield d
     for p in [d, *d.rglob("*")]:
-        try:
+        with contextlib.suppress(OSError):
             p.chmod(0o777)
-        except OSError:
-            pass
     shutil.rmtree(d, ignore_errors=True)
 
 
@@ -205,7 +209,7 @@ def test_unreadable_folder_or_file_is_one_line(open_dir, what):
     env["PYTHONPATH"] = str(ROOT)
     p = subprocess.run(
         [*prefix, sys.executable, "-m", "dxftruss", "check", str(secret), "--json", str(tmp_path / "o.json")],
-        capture_output=True, text=True, timeout=120, env=env, cwd=tmp_path,
+        capture_output=True, text=True, timeout=120, env=env, cwd=tmp_path, check=False,
     )
     secret.chmod(0o755)
     assert p.returncode == 2 and one_line(p.stderr), p.stderr
@@ -224,7 +228,7 @@ def test_unreadable_home_folder_is_one_line(open_dir):
     env.pop("XDG_CONFIG_HOME", None)
     p = subprocess.run(
         [*prefix, sys.executable, "-m", "dxftruss", "check", str(dxf), "--json", str(tmp_path / "o.json")],
-        capture_output=True, text=True, timeout=120, env=env, cwd=tmp_path,
+        capture_output=True, text=True, timeout=120, env=env, cwd=tmp_path, check=False,
     )
     home.chmod(0o755)
     assert p.returncode == 2 and one_line(p.stderr) and str(home) in p.stderr, p.stderr
@@ -254,7 +258,7 @@ def test_closed_standard_output_is_one_line_without_traceback(tmp_path, json_to_
     os.close(r)  # the reader is gone before anything is written: every write is EPIPE
     args = [sys.executable, "-m", "dxftruss", "check", str(dxf)]
     args += ["--json", "-"] if json_to_stdout else ["--json", str(tmp_path / "o.json")]
-    p = subprocess.run(args, stdout=w, stderr=subprocess.PIPE, text=True, timeout=120)
+    p = subprocess.run(args, stdout=w, stderr=subprocess.PIPE, text=True, timeout=120, check=False)
     os.close(w)
     assert p.returncode == 2, p.stderr
     assert one_line(p.stderr) and "Exception ignored" not in p.stderr, p.stderr
@@ -262,19 +266,19 @@ def test_closed_standard_output_is_one_line_without_traceback(tmp_path, json_to_
 
 def test_messages_escape_control_characters(tmp_path):
     name = tmp_path / "roof\x1b[2J\u202e.dxf"  # a missing drawing whose name clears the screen
-    code, out, err = run(["check", name, "--json", tmp_path / "o.json"])
+    code, _out, err = run(["check", name, "--json", tmp_path / "o.json"])
     assert code == 2 and one_line(err)
     assert "\x1b" not in err and "\u202e" not in err and "\\x1b[2J" in err, repr(err)
 
 
 def test_wrote_line_and_batch_table_escape_control_characters(tmp_path):
-    a = drawing(tmp_path / "in", "a\x1b[31m.dxf")
+    drawing(tmp_path / "in", "a\x1b[31m.dxf")
     drawing(tmp_path / "in", "b.dxf")
     code, out, err = run(["check", "in", "--json", "out"], cwd=tmp_path)
     assert code == 0, err
     # the summary's own header belongs to the text report; here: the "wrote" line and the table
-    mine = [ln for ln in out.splitlines() if ln.startswith("wrote ") or ln.startswith("\u2502")]
-    assert any("wrote out/a\\x1b[31m.check.json" == ln for ln in mine), out
+    mine = [ln for ln in out.splitlines() if ln.startswith(("wrote ", "\u2502"))]
+    assert any(ln == "wrote out/a\\x1b[31m.check.json" for ln in mine), out
     assert any("in/a\\x1b[31m.dxf" in ln for ln in mine), out
     assert not any("\x1b" in ln for ln in mine), mine
 
@@ -316,7 +320,8 @@ def test_a_failing_rename_rolls_back_the_earlier_ones(tmp_path, monkeypatch, cap
     err = capsys.readouterr().err
     assert one_line(err) and str(out_dxf) in err, err
     assert js.read_text() == "old json" and not out_dxf.exists()
-    assert [f for f in leftovers(tmp_path)] == [] and sorted(p.name for p in tmp_path.iterdir() if p.name.startswith(".")) == []
+    assert list(leftovers(tmp_path)) == []
+    assert sorted(p.name for p in tmp_path.iterdir() if p.name.startswith(".")) == []
 
 
 def _big(folder: Path, name: str, parts: int) -> Path:
@@ -345,7 +350,7 @@ def test_signal_during_a_single_run(tmp_path, sig, code):
     out_dir = tmp_path / "out"
     out_dir.mkdir()
     (out_dir / "big.json").write_text("old")
-    got, out, err = _signal_mid_run(
+    got, _out, err = _signal_mid_run(
         ["check", dxf, "--json", out_dir / "big.json", "--pdf", out_dir / "big.pdf", "--quiet"], sig, tmp_path, 2.0
     )
     assert got == code and one_line(err), err
@@ -358,7 +363,7 @@ def test_signal_during_a_batch_stops_the_workers(tmp_path, sig, code):
     for i in range(3):
         _big(tmp_path / "jobs", f"big{i}.dxf", 100)
     out_dir = tmp_path / "out"
-    got, out, err = _signal_mid_run(
+    got, _out, err = _signal_mid_run(
         ["check", tmp_path / "jobs", "--json", out_dir, "--pdf", out_dir, "--quiet"], sig, tmp_path, 4.0
     )
     assert got == code and one_line(err), err
@@ -367,7 +372,7 @@ def test_signal_during_a_batch_stops_the_workers(tmp_path, sig, code):
         have = {(out_dir / f"{stem}.check.{e}").exists() for e in ("json", "pdf")}
         assert len(have) == 1, stem
     time.sleep(0.5)
-    ps = subprocess.run(["ps", "-eo", "args"], capture_output=True, text=True).stdout
+    ps = subprocess.run(["ps", "-eo", "args"], capture_output=True, text=True, check=False).stdout
     assert str(tmp_path / "jobs") not in ps  # no worker left running
 
 
@@ -381,7 +386,8 @@ def test_same_name_in_two_folders_keeps_both_reports(tmp_path):
     out = tmp_path / "out"
     code, stdout, err = run(["check", a, b, "--json", out])
     assert code == 1, err  # b has a mechanism
-    ra, rb = json.loads((out / "a" / "roof.check.json").read_text()), json.loads((out / "b" / "roof.check.json").read_text())
+    ra = json.loads((out / "a" / "roof.check.json").read_text())
+    rb = json.loads((out / "b" / "roof.check.json").read_text())
     assert ra["source"]["path"] == str(a) and rb["source"]["path"] == str(b)
     assert str(out / "a" / "roof.check.json") in stdout and str(out / "b" / "roof.check.json") in stdout
 
@@ -389,6 +395,6 @@ def test_same_name_in_two_folders_keeps_both_reports(tmp_path):
 def test_folder_with_one_drawing_writes_into_the_output_folder(tmp_path):
     drawing(tmp_path / "jobs")
     out = tmp_path / "out"
-    code, stdout, err = run(["check", tmp_path / "jobs", "--json", out])
+    code, _stdout, err = run(["check", tmp_path / "jobs", "--json", out])
     assert code == 0, err
     assert out.is_dir() and json.loads((out / "roof.check.json").read_text())["schema"].startswith("dxftruss")

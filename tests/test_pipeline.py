@@ -56,7 +56,7 @@ def test_pratt_end_to_end(tmp_path):
 
 
 def test_json_is_byte_identical_between_runs(tmp_path):
-    dxf = write_drawing(tmp_path / "p.dxf", pratt_segments() + [(2, 1, 2, 5)])  # plus a stray line
+    dxf = write_drawing(tmp_path / "p.dxf", [*pratt_segments(), (2, 1, 2, 5)])  # plus a stray line
     a = to_json(check(dxf))
     b = to_json(check(dxf))
     assert a == b
@@ -92,7 +92,7 @@ def summary_of(r):
     )
 
 
-SLIPS = pratt_segments() + [(4.0, 3.0, 5.0, 4.0), (0, 3, 4, 0), (16, 0, 20, 3.0 + 0.05)]
+SLIPS = [*pratt_segments(), (4.0, 3.0, 5.0, 4.0), (0, 3, 4, 0), (16, 0, 20, 3.0 + 0.05)]
 
 
 @settings(max_examples=12, deadline=None, derandomize=True)

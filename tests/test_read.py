@@ -314,7 +314,7 @@ def test_nested_insert_scale_rotation_mirror(tmp_path: Path) -> None:
     # -> rotated 30 deg (-5c+3s, -5s-3c) -> plus (100,50)
     c30, s30 = math.cos(math.radians(30)), math.sin(math.radians(30))
     assert b == pytest.approx((100 - 5 * c30 + 3 * s30, 50 - 5 * s30 - 3 * c30))
-    by_layer = dict(zip(lw.layers, lw.segments.tolist()))
+    by_layer = dict(zip(lw.layers, lw.segments.tolist(), strict=True))
     assert set(lw.layers) == {"CHORD", "WEB"}  # layer 0 -> PANEL INSERT's 0 -> BAY INSERT's CHORD
     assert canon(tuple(by_layer["CHORD"])) == canon((*a, *b))  # type: ignore[arg-type]
     assert lw.handles == (ins.dxf.handle, ins.dxf.handle)

@@ -203,7 +203,7 @@ def make_result(
             ),
             _case(
                 "ULS-1",
-                [k1 * a + k2 * b for a, b in zip(f_snow, f_wind)] if solved else nan5,
+                [k1 * a + k2 * b for a, b in zip(f_snow, f_wind, strict=True)] if solved else nan5,
                 [(0, -k2 * H_WIND, k1 * P_SNOW / 2 - k2 * R_WIND), (3, 0.0, k1 * P_SNOW / 2 + k2 * R_WIND)]
                 if solved
                 else [],
@@ -470,7 +470,8 @@ def test_label_placement_never_overlaps() -> None:
     fonts = register_fonts()
     nx, ny, step = 30, 12, 30.0
     pts = np.array([[i * step + 20, j * step + 20] for i in range(nx) for j in range(ny)])
-    idx = lambda i, j: i * ny + j
+    def idx(i, j):
+        return i * ny + j
     ends = []
     for i in range(nx):
         for j in range(ny):
@@ -501,7 +502,7 @@ def test_label_placement_never_overlaps() -> None:
     from shapely.strtree import STRtree
 
     tree = STRtree(lines)
-    for lab, poly in zip(placed, polys):
+    for lab, poly in zip(placed, polys, strict=True):
         hits = set(tree.query(poly, predicate="intersects").tolist())
         assert hits <= {lab.owner}, (lab, hits)
 

@@ -407,7 +407,7 @@ def test_rigid_rotation_about_a_single_pin():
     assert (stab.mechanisms, stab.generic_mechanisms) == (1, 1)
     (mode,) = stab.modes
     assert mode.rigid and not mode.special_geometry
-    shape = dict(zip(mode.joints, mode.displacement.tolist()))
+    shape = dict(zip(mode.joints, mode.displacement.tolist(), strict=True))
     assert set(shape) == {ix["B"], ix["C"]}
     np.testing.assert_allclose(shape[ix["B"]], [0.0, 1.0], atol=1e-12)  # omega x (4, 0), scaled
     np.testing.assert_allclose(shape[ix["C"]], [-0.75, 0.0], atol=1e-12)  # omega x (0, 3), same omega
@@ -452,7 +452,7 @@ def test_modes_are_deterministic_and_signed():
     a, fa = analyse_part(truss, truss.parts[0])
     b, fb = analyse_part(truss, truss.parts[0])
     assert [m.joints for m in a.modes] == [m.joints for m in b.modes]
-    for ma, mb in zip(a.modes, b.modes):
+    for ma, mb in zip(a.modes, b.modes, strict=True):
         np.testing.assert_array_equal(ma.displacement, mb.displacement)
         flat = ma.displacement.ravel()
         assert flat[np.argmax(np.abs(flat))] > 0  # largest component positive
@@ -612,7 +612,7 @@ def test_counts_unchanged_by_translation_and_mirror(truss_data, dx, dy):
     # their x / y directions under both).
     xy, ends, supports = truss_data
     base, _ = analyse_part(from_arrays(xy, ends, supports), Part(0, np.arange(len(xy)), np.arange(len(ends))))
-    for moved in (xy + [dx, dy], xy * [-1.0, 1.0]):
+    for moved in (xy + np.array([dx, dy]), xy * [-1.0, 1.0]):
         truss = from_arrays(moved, ends, supports)
         stab, _ = analyse_part(truss, truss.parts[0])
         assert counts(stab) == counts(base)

@@ -102,7 +102,7 @@ def test_loads_symmetric() -> None:
     # L_i = i mirrors to L_(6 - i), U_i = 7 + i to U_(6 - i) = 13 - i)
     truss = pratt()
     assert loads_symmetric(truss, case({}), 12.0)
-    assert loads_symmetric(truss, case({i: (0.0, -10.0) for i in range(1, 6)}), 12.0)
+    assert loads_symmetric(truss, case(dict.fromkeys(range(1, 6), (0.0, -10.0))), 12.0)
     assert loads_symmetric(truss, case({1: (0.0, -10.0), 5: (0.0, -10.0)}), 12.0)
     assert loads_symmetric(truss, case({8: (2.0, -1.0), 12: (-2.0, -1.0)}), 12.0)  # fx opposite
     assert not loads_symmetric(truss, case({8: (2.0, -1.0), 12: (2.0, -1.0)}), 12.0)  # fx same

@@ -32,14 +32,14 @@ def test_clean_triangle_has_no_topology_findings():
 
 def test_dangling_stub():
     #    /\__ stub from the apex to (3, 3)
-    t, fs = truss_of(TRI + [[2, 3, 3, 3]])
+    t, fs = truss_of([*TRI, [2, 3, 3, 3]])
     (f,) = by_code(fs, Code.DANGLING_MEMBER)
     assert t.xy[f.joints[0]].tolist() == [3, 3]
 
 
 def test_near_miss_joint_to_joint_and_joint_to_member():
     # a web end stops 0.05 short of the apex, another 0.05 short of the bottom chord
-    _t, fs = truss_of(TRI + [[1, 0, 2, 2.95], [2, 3, 2.5, 0.05]])
+    _t, fs = truss_of([*TRI, [1, 0, 2, 2.95], [2, 3, 2.5, 0.05]])
     near = by_code(fs, Code.NEAR_MISS)
     dists = sorted(round(f.data["distance"], 6) for f in near)
     assert dists == [0.05, 0.05]

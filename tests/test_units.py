@@ -38,7 +38,7 @@ def test_ambiguous_or_hostile_strings_are_refused(bad):
 
 
 def test_unknown_unit_lists_known_units():
-    with pytest.raises(ConfigError, match="known units: .*kN"):
+    with pytest.raises(ConfigError, match=r"known units: .*kN"):
         parse_force("3 tonnes", "kN")
 
 

@@ -139,7 +139,7 @@ def pratt(n: int, a: float = 4.0, h: float = 3.0, P: float = 10.0, *, howe: bool
     P down at L1..L(n-1)."""
     xy, named = pratt_arrays(n, a, h, howe=howe)
     truss, case = make_truss(xy, list(named.values()), (Support(0, Fix.XY), Support(n, Fix.Y)),
-                             {i: (0.0, -P) for i in range(1, n)})
+                             dict.fromkeys(range(1, n), (0.0, -P)))
     return truss, case, {k: i for i, k in enumerate(named)}
 
 

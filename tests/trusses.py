@@ -61,7 +61,8 @@ def pratt_arrays(
 
 
 def svd_stability(truss: Truss, part: Part, *, with_modes: bool = True) -> PartStability:
-    """A PartStability from a dense SVD of A (docs/methods.md, SVD; LAPACK rank tolerance, docs/methods.md, Tolerances)."""
+    """A PartStability from a dense SVD of A (docs/methods.md, SVD; LAPACK rank tolerance,
+    docs/methods.md, Tolerances)."""
     import scipy.linalg as sla
 
     from dxftruss.equilibrium import part_system

@@ -27,7 +27,8 @@ Glossary:
     rank gap     sigma_rank / sigma_(rank+1); a gap below ``rank_gap`` means the rank is
                  uncertain and is reported as a near-mechanism.
 
-Which computation (``PartStability.method``):
+Which computation (``PartStability.method``; the dense and sparse rank computations are
+in rank.py, the counts, modes and findings here):
 
 - ``"dense-svd"`` (2j <= ``dense_limit``): ``scipy.linalg.svd`` of the dense A gives all
   singular values; rank by tau; mechanisms = the last 2j - rank left singular vectors.
@@ -83,17 +84,9 @@ from ..equilibrium import PartSystem, part_system
 from ..findings import Code, Finding
 from ..model import Part, Truss, joint_id
 from .pebble import SupportedPebbleGame, supported_pebble_game
+from .rank import EPS, Drawn, TooManyNull, dense_rank, norm_bound, right_svd, sparse_rank, svd
 
-_EPS = float(np.finfo(float).eps)
 _TIE = 1e-9  # relative tie when picking "the largest component" of a mode (sign rule)
-_SHIFT_RATIO = 1e-10  # eigsh shift = -_SHIFT_RATIO * sigma_max, far inside the nonzero spectrum
-_JOINT_PART = 0.5  # joint parts of H's null vectors have singular values 1 (null(A_I^T)) or 0
-_EXTRA_EIGS = 4  # eigenvalues asked beyond the expected zeros (to see the gap)
-_ARPACK_TOL = 1e-10  # relative accuracy of the shift-inverted eigenvalues (sigma to 1e-10)
-_BLOCK_STEPS = 8  # most block inverse-iteration steps for the null vectors (2-3 usually do)
-_POWER_STEPS = 40  # power-iteration steps for sigma_max on the sparse path
-_POWER_TOL = 1e-4  # relative change that stops the power iteration
-_SEED = 20240531  # fixed start vectors: the same drawing gives the same modes
 
 
 class Verdict(str, Enum):
@@ -159,21 +152,6 @@ class PartStability:
         return self.mechanisms > self.generic_mechanisms
 
 
-@dataclass
-class _Drawn:
-    """Rank-revealing results at the drawn geometry (internal)."""
-
-    rank: int
-    null: np.ndarray | None  # (2j, k) orthonormal basis of null(A^T)
-    sigma_min: float | None
-    sigma_max: float | None
-    gap: float | None
-    u_min: np.ndarray | None  # (2j,) left singular vector of sigma_min
-    method: str
-    tau: float | None
-    sigma_min_bound: bool = False
-
-
 # ----------------------------------------------------------------------------------------
 # generic counts
 
@@ -217,266 +195,6 @@ def joint_direction_sigma(system: PartSystem) -> np.ndarray:
 
 
 # ----------------------------------------------------------------------------------------
-# dense path
-
-
-def _svd(M: np.ndarray, full: bool) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    try:
-        return la.svd(M, full_matrices=full, lapack_driver="gesdd")
-    except la.LinAlgError:  # gesdd rarely fails to converge; gesvd is slower but sturdier
-        return la.svd(M, full_matrices=full, lapack_driver="gesvd")
-
-
-def _right_svd(C: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Singular values and the full V^T of a tall matrix C (n x q, q small), without U.
-
-    A QR first leaves a q x q triangle with the same singular values and V.
-    """
-    if C.shape[0] > C.shape[1]:
-        C = np.linalg.qr(C, mode="r")
-    _, sc, Vt = _svd(C, full=True)
-    return sc, Vt
-
-
-def _gap(values: np.ndarray, n_nonzero: int) -> float | None:
-    """sigma_(n_nonzero) / sigma_(n_nonzero + 1) for values sorted descending."""
-    if n_nonzero == 0:
-        return None
-    if n_nonzero >= values.size:
-        return math.inf
-    nxt = float(values[n_nonzero])
-    return math.inf if nxt == 0.0 else float(values[n_nonzero - 1]) / nxt
-
-
-def _dense(A: sp.spmatrix, *, near_mechanism_ratio: float = 0.0) -> _Drawn:
-    rows, cols = A.shape
-    if cols == 0:
-        return _Drawn(0, np.eye(rows), None, None, None, None, "dense-svd", 0.0)
-    Ad = A.toarray()
-    # Singular values alone cost about a third of a full SVD; the vectors are needed only
-    # when there is a mechanism (its modes) or a near-mechanism (where it is).
-    try:
-        values = la.svd(Ad, compute_uv=False, lapack_driver="gesdd")
-    except la.LinAlgError:
-        values = la.svd(Ad, compute_uv=False, lapack_driver="gesvd")
-    sigma_max = float(values[0])
-    tau = max(rows, cols) * _EPS * sigma_max
-    rank = int(np.count_nonzero(values > tau))
-    if rank == rows and sigma_max > 0 and float(values[rank - 1]) >= near_mechanism_ratio * sigma_max:
-        return _Drawn(
-            rank, np.zeros((rows, 0)), float(values[rank - 1]), sigma_max, _gap(values, rank), None, "dense-svd", tau
-        )
-    U, sv, _ = _svd(Ad, full=cols < rows)
-    sigma_max = float(sv[0])
-    tau = max(rows, cols) * _EPS * sigma_max
-    rank = int(np.count_nonzero(sv > tau))
-    if rank == 0:
-        return _Drawn(0, U, None, sigma_max, None, None, "dense-svd", tau)
-    return _Drawn(rank, U[:, rank:], float(sv[rank - 1]), sigma_max, _gap(sv, rank), U[:, rank - 1], "dense-svd", tau)
-
-
-# ----------------------------------------------------------------------------------------
-# sparse path
-
-
-class _TooManyNull(Exception):
-    """The eigen-solve would need more null vectors than allowed (internal)."""
-
-
-def _power_sigma_max(A: sp.spmatrix) -> float:
-    """Largest singular value of A by power iteration on A^T A (a lower bound, ~1e-4 relative)."""
-    A = A.tocsr()
-    At = A.T.tocsr()
-    x = np.random.default_rng(_SEED).standard_normal(A.shape[1])
-    x /= np.linalg.norm(x)
-    s = 0.0
-    for _ in range(_POWER_STEPS):
-        y = At @ (A @ x)
-        ny = float(np.linalg.norm(y))
-        if ny == 0.0:
-            return 0.0
-        s_new = math.sqrt(ny)
-        x = y / ny
-        if abs(s_new - s) <= _POWER_TOL * s_new:
-            return s_new
-        s = s_new
-    return s
-
-
-def _near_zero(
-    M: sp.spmatrix, expected: int, tau: float, sigma_max: float, limit: int
-) -> tuple[np.ndarray, np.ndarray]:
-    """Eigenpairs of H = [[0, M], [M^T, 0]] nearest zero: every |lambda| <= tau and a few more.
-
-    Returns (|lambda| ascending, eigenvectors as columns in the same order). Shift-invert
-    ``eigsh`` with one sparse LU of H - shift I, asking for the expected number of zeros
-    plus a few (doubled while the farthest one found is not beyond the rank tolerance,
-    so that no zero eigenvalue can hide behind them). Single-vector Lanczos may return
-    only one copy of a multiple eigenvalue, and zero usually is one; so the zero vectors
-    found are deflated (projected out of the operator and the start vector) and the
-    solve repeated until a run finds no new zero: only then is the null space complete
-    (the last run also gives the smallest nonzero ones). Tiny problems (fewer than
-    2 expected + 6 unknowns) use a dense SVD of M instead. Raises _TooManyNull beyond
-    2 limit + 6 eigenvalues per run or limit + expected null vectors.
-    """
-    rows, cols = M.shape
-    H = sp.bmat([[None, M], [M.T, None]], format="csc") if cols else sp.csc_matrix((rows, rows))
-    n = H.shape[0]
-    if expected > limit:
-        raise _TooManyNull
-    cap = 2 * limit + 6
-    if 2 * expected + 6 >= n - 1:
-        return _pairs_from_svd(M)
-    shift = -_SHIFT_RATIO * max(sigma_max, _EPS)
-    lu = sla.splu((H - shift * sp.identity(n, format="csc")).tocsc())
-    rng = np.random.default_rng(_SEED)
-    Z = _zero_block(H, lu, expected, tau, rng, cap) if expected else np.zeros((n, 0))
-    nev = _EXTRA_EIGS
-    while True:
-        if Z.shape[1]:
-            def matvec(x: np.ndarray, Z: np.ndarray = Z) -> np.ndarray:
-                y = lu.solve(x - Z @ (Z.T @ x))
-                return y - Z @ (Z.T @ y)
-        else:
-            matvec = lu.solve
-        op = sla.LinearOperator((n, n), matvec=matvec, dtype=float)
-        v0 = rng.standard_normal(n)
-        v0 -= Z @ (Z.T @ v0)
-        lam, vec = sla.eigsh(H, k=nev, sigma=shift, which="LM", OPinv=op, v0=v0, tol=_ARPACK_TOL)
-        zero = np.abs(lam) <= tau
-        new = vec[:, zero]
-        if new.shape[1]:
-            # one block inverse-iteration step: Lanczos leaves ~1e-10 residuals on a
-            # multiple eigenvalue; this one multiplies them by |shift| / sigma_next
-            new, _ = np.linalg.qr(lu.solve(np.asfortranarray(new)))
-            new = new - Z @ (Z.T @ new)
-            Un, sn, _ = _svd(new, full=False)
-            new = Un[:, sn > _JOINT_PART]
-        if new.shape[1]:  # deflate them and look again
-            Z = np.hstack([Z, new])
-            if Z.shape[1] > limit + expected:
-                raise _TooManyNull
-            nev = min(max(expected - Z.shape[1], 0) + _EXTRA_EIGS, n - 2)
-            continue
-        if float(np.max(np.abs(lam - shift))) <= abs(shift) + tau:
-            # every value found lies nearer the shift than zero does: ask for more
-            if nev >= min(cap, n - 2):
-                raise _TooManyNull
-            nev = min(2 * nev, cap, n - 2)
-            continue
-        rest = np.abs(lam) <= 2.0 * max(sigma_max, _EPS)  # drop deflated directions (1 / 0)
-        zl = np.abs(np.einsum("ij,ij->j", Z, H @ Z)) if Z.shape[1] else np.zeros(0)
-        lam_all = np.concatenate([zl, np.abs(lam[rest])])
-        vec_all = np.hstack([Z, vec[:, rest]])
-        order = np.argsort(lam_all, kind="stable")
-        return lam_all[order], vec_all[:, order]
-
-
-def _zero_block(
-    H: sp.spmatrix, lu: sla.SuperLU, expected: int, tau: float, rng: np.random.Generator, cap: int
-) -> np.ndarray:
-    """Orthonormal null vectors of H by block inverse iteration with the shift-invert LU.
-
-    The zero eigenvalues of H map to 1 / |shift|, far above 1 / sigma_min, so a block of
-    ``expected`` + a few vectors converges to the whole zero cluster (any multiplicity up
-    to the block size) in a few multi-right-hand-side solves; Rayleigh-Ritz on H then
-    separates zero from nonzero directions. The block is doubled when it fills with
-    zeros. ``_near_zero``'s deflated Lanczos check catches anything missed.
-    """
-    n = H.shape[0]
-    b = min(expected + _EXTRA_EIGS, n - 2)
-    while True:
-        X = rng.standard_normal((n, b))  # well-conditioned already; the first solve's QR orthonormalises
-        for _ in range(_BLOCK_STEPS):
-            X, _ = np.linalg.qr(lu.solve(np.asfortranarray(X)))
-            w, V = np.linalg.eigh(X.T @ (H @ X))
-            zero = np.abs(w) <= tau
-            Y = X @ V[:, zero]
-            if not zero.any() or float(np.linalg.norm(H @ Y, axis=0).max()) <= tau:
-                break
-        if np.count_nonzero(zero) < b - 1 or b >= min(cap, n - 2):
-            return Y
-        b = min(2 * b, cap, n - 2)
-
-
-def _pairs_from_svd(M: sp.spmatrix) -> tuple[np.ndarray, np.ndarray]:
-    """|eigenvalues| and eigenvectors of H = [[0, M], [M^T, 0]] from a dense SVD of M.
-
-    One vector per singular triplet ([u; v] / sqrt 2, for +sigma) plus the structural null
-    vectors [u; 0] and [0; v]; sorted by |lambda| like ``_near_zero``.
-    """
-    rows, cols = M.shape
-    p = min(rows, cols)
-    if cols == 0:
-        return np.zeros(rows), np.eye(rows)
-    U, sv, Vt = _svd(M.toarray(), full=True)
-    V = Vt.T
-    paired = np.vstack([U[:, :p], V[:, :p]]) / math.sqrt(2.0)
-    left = np.vstack([U[:, p:], np.zeros((cols, rows - p))])
-    right = np.vstack([np.zeros((rows, cols - p)), V[:, p:]])
-    lam = np.concatenate([sv, np.zeros(rows - p), np.zeros(cols - p)])
-    vec = np.hstack([paired, left, right])
-    order = np.argsort(lam, kind="stable")
-    return lam[order], vec[:, order]
-
-
-def _sparse(system: PartSystem, generic: SupportedPebbleGame, limit: int) -> _Drawn:
-    A = system.A.tocsc()
-    rows, cols = A.shape
-    sigma_max = _power_sigma_max(A) if A.nnz else 0.0
-    tau = max(rows, cols) * _EPS * sigma_max
-    cols_i = np.flatnonzero(generic.independent)
-    A_I = A[:, cols_i]
-    tau_h = (rows + cols_i.size) * _EPS * sigma_max  # the same rule for H's eigenvalues (H's size)
-    lam, vec = _near_zero(A_I, generic.mechanisms, tau_h, sigma_max, limit)
-    zero = lam <= tau_h
-    nz = int(np.count_nonzero(zero))
-    if nz == 0 or nz == lam.size or lam[nz - 1] == 0.0:
-        gap = math.inf
-    else:
-        gap = float(lam[nz]) / float(lam[nz - 1])
-    # D: orthonormal basis of null(A_I^T) from the joint parts of the zero eigenvectors
-    X = vec[:rows, :nz]
-    if nz:
-        Ux, sx, _ = _svd(X, full=False)
-        D = Ux[:, sx > _JOINT_PART]
-    else:
-        D = np.zeros((rows, 0))
-    d = D.shape[1]
-    if d:
-        sc, Vt = _right_svd(np.asarray(A.T @ D))
-        rank_c = int(np.count_nonzero(sc > tau))
-        null = D @ Vt[rank_c:].T
-        if rank_c:
-            gap_c = _gap(sc, rank_c)
-            if gap_c is not None:
-                gap = min(gap, gap_c)
-    else:
-        null = D
-    k = null.shape[1]
-    # sigma_min of A: exact from A_I when A_I is all of A and no extra null vectors
-    exact = cols_i.size == cols  # then the nonzero eigenvalues are sigma_i of A itself
-    nonzero = np.flatnonzero(~zero)
-    sigma_min = float(lam[nonzero[0]]) if nonzero.size else None
-    u_min = vec[:rows, nonzero[0]] if nonzero.size else None
-    bound = not exact
-    if k == 0 and not exact:
-        s = cols - rows
-        try:
-            lam2, vec2 = _near_zero(A, s, (rows + cols) * _EPS * sigma_max, sigma_max, limit)
-        except _TooManyNull:
-            pass
-        else:
-            nz2 = np.flatnonzero(lam2 > (rows + cols) * _EPS * sigma_max)
-            if nz2.size:
-                sigma_min, u_min, bound = float(lam2[nz2[0]]), vec2[:rows, nz2[0]], False
-    if u_min is not None:
-        norm = float(np.linalg.norm(u_min))
-        u_min = u_min / norm if norm > 0 else u_min
-    return _Drawn(rows - k, null, sigma_min, sigma_max, gap, u_min, "sparse", tau, bound)
-
-
-# ----------------------------------------------------------------------------------------
 # mode shapes
 
 
@@ -490,7 +208,7 @@ def _rigid_fields(xy: np.ndarray) -> np.ndarray:
     F[0::2, 2] = -c[:, 1]
     F[1::2, 2] = c[:, 0]
     norms = np.linalg.norm(F, axis=0)  # the three fields are mutually orthogonal already
-    keep = norms > max(F.shape) * _EPS * float(norms.max())
+    keep = norms > max(F.shape) * EPS * float(norms.max())
     return F[:, keep] / norms[keep]
 
 
@@ -524,7 +242,7 @@ def _modes(
     rigid = np.zeros((null.shape[0], 0))
     if G.shape[1]:
         C = np.asarray(A.T @ G) if A.shape[1] else np.zeros((0, G.shape[1]))
-        sc, Vt = _right_svd(C) if C.shape[0] else (np.zeros(0), np.eye(G.shape[1]))
+        sc, Vt = right_svd(C) if C.shape[0] else (np.zeros(0), np.eye(G.shape[1]))
         nr = G.shape[1] - int(np.count_nonzero(sc > tau))
         if nr == G.shape[1]:  # no support acts: translations and rotation about the centroid
             rigid = G
@@ -535,7 +253,7 @@ def _modes(
     R, P = _echelon(rigid)
     if kr:
         W = null - R @ null[P, :]  # the mechanisms that are zero at the rigid pivots
-        Uw, _, _ = _svd(W, full=False)
+        Uw, _, _ = svd(W, full=False)
         internal, _ = _echelon(Uw[:, : k - kr])
     else:
         internal, _ = _echelon(null)
@@ -612,14 +330,14 @@ def analyse_part(
     generic = generic_counts(system)
     findings: list[Finding] = []
 
-    drawn: _Drawn | None = None
+    drawn: Drawn | None = None
     reason = ""
     if rows <= dense_limit:
-        drawn = _dense(system.A, near_mechanism_ratio=near_mechanism_ratio)
+        drawn = dense_rank(system.A, near_mechanism_ratio=near_mechanism_ratio)
     elif generic.mechanisms <= max_sparse_nullity:
         try:
-            drawn = _sparse(system, generic, max_sparse_nullity)
-        except _TooManyNull:
+            drawn = sparse_rank(system, generic, max_sparse_nullity)
+        except TooManyNull:
             reason = f"more than {max_sparse_nullity} mechanisms at the drawn geometry"
         except (sla.ArpackNoConvergence, RuntimeError) as exc:  # ARPACK / SuperLU failure
             reason = f"the large-part eigen-solve failed ({type(exc).__name__})"
@@ -628,7 +346,7 @@ def analyse_part(
 
     if drawn is None:
         st, findings = _generic_only(truss, system, generic, p, reason)
-        tau = max(rows, m + r) * _EPS * _norm_bound(system.A)
+        tau = max(rows, m + r) * EPS * norm_bound(system.A)
         findings += _local_findings(system, xy, p, joint_direction_sigma(system), tau, near_straight_sin)
         return st, findings
 
@@ -649,10 +367,7 @@ def analyse_part(
 
     modes: list[Mode] = []
     for i, (loc, disp, is_rigid) in enumerate(shapes):
-        if r:
-            special = special_any and bool(np.all(held[loc]))
-        else:
-            special = special_any and not is_rigid
+        special = special_any and (bool(np.all(held[loc])) if r else not is_rigid)
         glob = system.joints[loc]
         mode = Mode(tuple(int(g) for g in glob), disp, is_rigid, special)
         if i < max_modes:
@@ -701,13 +416,13 @@ def analyse_part(
             )
     findings += _local_findings(system, xy, p, sigma_local, tau, near_straight_sin)
     if drawn.gap is not None and drawn.gap < rank_gap:
-        amp = 1.0 / drawn.sigma_min if drawn.sigma_min else None  # None: JSON has no infinity
+        gap_amp = 1.0 / drawn.sigma_min if drawn.sigma_min else None  # None: JSON has no infinity
         findings.append(
             Finding(
                 Code.NEAR_MECHANISM,
                 f"the rank of part {p + 1} is uncertain: the singular values on either side of the rank "
                 f"tolerance differ only by a factor {drawn.gap:.3g}; the part is at or very near a mechanism",
-                data={"part": p, "amplification": amp, "kind": "rank-gap", "gap": drawn.gap},
+                data={"part": p, "amplification": gap_amp, "kind": "rank-gap", "gap": drawn.gap},
             )
         )
 
@@ -731,14 +446,6 @@ def analyse_part(
         sigma_min_bound=drawn.sigma_min_bound,
     )
     return stability, findings
-
-
-def _norm_bound(A: sp.spmatrix) -> float:
-    """sqrt(||A||_1 ||A||_inf) >= ||A||_2: a cheap sigma_max bound for the tolerance."""
-    if A.nnz == 0:
-        return 0.0
-    a = abs(A)
-    return math.sqrt(float(a.sum(axis=0).max()) * float(a.sum(axis=1).max()))
 
 
 def _local_findings(

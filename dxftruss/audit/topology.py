@@ -107,7 +107,9 @@ def near_misses(truss: Truss, *, near_miss: float, snap: float) -> list[Finding]
 
     lines = shapely.linestrings(np.stack([xy[ends[:, 0]], xy[ends[:, 1]]], axis=1))
     tree = shapely.STRtree(lines)
-    pj, e, complete = _query_pairs(tree, shapely.points(xy), max_pairs=MAX_PAIRS, predicate="dwithin", distance=near_miss)
+    pj, e, complete = _query_pairs(
+        tree, shapely.points(xy), max_pairs=MAX_PAIRS, predicate="dwithin", distance=near_miss
+    )
     keep = (pj != ends[e, 0]) & (pj != ends[e, 1])
     pj, e = pj[keep], e[keep]
     a, b = xy[ends[e, 0]], xy[ends[e, 1]]
@@ -121,7 +123,7 @@ def near_misses(truss: Truss, *, near_miss: float, snap: float) -> list[Finding]
         out.append(_more(Code.NEAR_MISS, min(len(inside), MAX_LISTED), len(inside) if complete else None,
                          "joints close to a member they are not joined to"))
     inside = inside[:MAX_LISTED]
-    for j, m, g in zip(pj[inside], e[inside], gap[inside]):
+    for j, m, g in zip(pj[inside], e[inside], gap[inside], strict=True):
         out.append(
             Finding(
                 Code.NEAR_MISS,
@@ -147,7 +149,10 @@ def unjoined_crossings(truss: Truss, *, snap: float) -> list[Finding]:
     keep = p < q
     p, q = p[keep], q[keep]
     share = (
-        (ends[p, 0] == ends[q, 0]) | (ends[p, 0] == ends[q, 1]) | (ends[p, 1] == ends[q, 0]) | (ends[p, 1] == ends[q, 1])
+        (ends[p, 0] == ends[q, 0])
+        | (ends[p, 0] == ends[q, 1])
+        | (ends[p, 1] == ends[q, 0])
+        | (ends[p, 1] == ends[q, 1])
     )
     p, q = p[~share], q[~share]
     a, b = xy[ends[p, 0]], xy[ends[p, 1]]
@@ -201,7 +206,9 @@ def part_findings(truss: Truss) -> list[Finding]:
 def audit_topology(truss: Truss, *, snap: float, near_miss: float) -> list[Finding]:
     """All topology findings of the model (docs/findings.md)."""
     if truss.n_members == 0:
-        return [Finding(Code.NO_MEMBERS, "the drawing has nothing usable as a member (no straight lines on member layers)")]
+        return [
+            Finding(Code.NO_MEMBERS, "the drawing has nothing usable as a member (no straight lines on member layers)")
+        ]
     return [
         *dangling_members(truss),
         *near_misses(truss, near_miss=near_miss, snap=snap),

@@ -26,7 +26,8 @@ def _doc(version: str, units: int | None):
 
 def pratt_hanging_loads(path: Path) -> None:
     """docs/methods.md, check case C1 layout (n = 6, a = 4 m, h = 3 m), bottom chord drawn as one LINE
-    (split at L1..L5), top chord as one LWPOLYLINE through the panel points, supports drawn as POINTs, loads drawn on LOAD-deck:
+    (split at L1..L5), top chord as one LWPOLYLINE through the panel points, supports drawn as POINTs,
+    loads drawn on LOAD-deck:
     each line's head is on a bottom joint L1..L5 and its tail 2 m above it, so the load
     points down; the label "10 kN" beside it is the magnitude.
 

@@ -148,7 +148,7 @@ def main(argv: list[str] | None = None) -> int:
             by_code[str(out.code) if out.code is not None else "none"] += 1
             for w in out.warnings:
                 warn_kinds[w] += 1
-            slowest = sorted(slowest + [(out.seconds, n, desc)], reverse=True)[:5]
+            slowest = sorted([*slowest, (out.seconds, n, desc)], reverse=True)[:5]
             if out.problems:
                 sig = mu.signature(out)
                 crashes.setdefault(sig, []).append(n)

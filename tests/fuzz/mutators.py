@@ -132,7 +132,7 @@ def parse_pairs(data: bytes) -> Pairs:
     lines = [ln[:-1] if ln.endswith(b"\r") else ln for ln in lines]
     if len(lines) % 2:
         lines.append(b"")
-    return list(zip(lines[0::2], lines[1::2]))
+    return list(zip(lines[0::2], lines[1::2], strict=True))
 
 
 def serialize(pairs: Pairs) -> bytes:
@@ -177,10 +177,7 @@ def _pick(pairs: Pairs, rng: random.Random, pred: Callable[[int, bytes, bytes], 
     if not pairs:
         return None
     lo, hi = _entity_zone(pairs)
-    if rng.random() < 0.75 and hi > lo:
-        idx = range(lo, hi)
-    else:
-        idx = range(len(pairs))
+    idx = range(lo, hi) if rng.random() < 0.75 and hi > lo else range(len(pairs))
     if pred is None:
         return rng.choice(idx)
     cand = [i for i in idx if pred(i, *pairs[i])]
@@ -334,7 +331,7 @@ def _blocks(p: Pairs) -> list[tuple[bytes, int, int]]:
 
 
 def _is_r12(p: Pairs) -> bool:
-    for i, (c, v) in enumerate(p[:40]):
+    for i, (_c, v) in enumerate(p[:40]):
         if v == b"$ACADVER" and i + 1 < len(p):
             return p[i + 1][1] == b"AC1009"
     return not any(v == b"AcDbEntity" for _, v in p[:2000])
@@ -414,10 +411,10 @@ def m_entity_type(p: Pairs, rng: random.Random) -> Pairs:
 
 
 def m_header_units(p: Pairs, rng: random.Random) -> Pairs:
-    for i, (c, v) in enumerate(p):
+    for i, (_c, v) in enumerate(p):
         if v == b"$INSUNITS" and i + 1 < len(p):
             q = list(p)
-            q[i + 1] = (q[i + 1][0], rng.choice(HUGE_INTS + [b"x", b"", b"3", b"21", b"8"]))
+            q[i + 1] = (q[i + 1][0], rng.choice([*HUGE_INTS, b"x", b"", b"3", b"21", b"8"]))
             return q
     return p
 
@@ -460,7 +457,7 @@ def b_truncate(d: bytes, rng: random.Random) -> bytes:
 
 def b_insert_bytes(d: bytes, rng: random.Random) -> bytes:
     k = rng.randint(0, len(d))
-    junk = rng.choice(NON_UTF8 + [b"\x00" * 8, b"\r", b"\n", b"\x1a", bytes(rng.randrange(256) for _ in range(16))])
+    junk = rng.choice([*NON_UTF8, b"\x00" * 8, b"\r", b"\n", b"\x1a", bytes(rng.randrange(256) for _ in range(16))])
     return d[:k] + junk + d[k:]
 
 
@@ -748,7 +745,7 @@ def raw_terminal_control(text: str) -> list[str]:
     return [
         c
         for c in text
-        if (ord(c) < 0x20 and c not in "\n") or 0x7F <= ord(c) < 0xA0 or 0x202A <= ord(c) <= 0x202E
+        if (ord(c) < 0x20 and c != "\n") or 0x7F <= ord(c) < 0xA0 or 0x202A <= ord(c) <= 0x202E
         or 0x2066 <= ord(c) <= 0x2069
     ]
 
