@@ -152,8 +152,9 @@ def verify_part(part: PartGeometry, *, dense_joints: int = 1500, sigma_ratio: fl
         spla.splu(a)  # RuntimeError "Factor is exactly singular" for a mechanism
 
 
-def expected_extremes(panels: int, *, panel: float = PANEL, depth: float = DEPTH,
-                      load: float = LOAD_KN) -> tuple[float, float, float]:
+def expected_extremes(
+    panels: int, *, panel: float = PANEL, depth: float = DEPTH, load: float = LOAD_KN
+) -> tuple[float, float, float]:
     """(largest tension, largest compression, each support reaction) of one part in kN,
     tension positive, by the method of sections (closed-form derivation).
 
@@ -281,8 +282,9 @@ def _generator_hash() -> str:
     return hashlib.sha256(Path(__file__).read_bytes()).hexdigest()[:16]
 
 
-def generate(size: str, variant: str, *, outdir: Path = DEFAULT_OUTDIR, panels: int = PANELS,
-             force: bool = False) -> Drawing:
+def generate(
+    size: str, variant: str, *, outdir: Path = DEFAULT_OUTDIR, panels: int = PANELS, force: bool = False
+) -> Drawing:
     """Write (or reuse, when its recorded parameters match) one drawing and its loads file."""
     if size not in SIZES:
         raise ValueError(f"unknown size {size!r}; choose from {', '.join(SIZES)}")
@@ -293,11 +295,19 @@ def generate(size: str, variant: str, *, outdir: Path = DEFAULT_OUTDIR, panels: 
     stem = f"pratt_{size}_{variant}" + ("" if panels == PANELS else f"_p{panels}")
     dxf, loads, meta_path = outdir / f"{stem}.dxf", outdir / f"{stem}.toml", outdir / f"{stem}.meta.json"
     meta = {
-        "generator": _generator_hash(), "size": size, "variant": variant, "parts": n_parts, "panels": panels,
-        "members": n_parts * (4 * panels + 1), "joints": n_parts * (2 * panels + 2),
+        "generator": _generator_hash(),
+        "size": size,
+        "variant": variant,
+        "parts": n_parts,
+        "panels": panels,
+        "members": n_parts * (4 * panels + 1),
+        "joints": n_parts * (2 * panels + 2),
     }
     current = (
-        not force and dxf.is_file() and loads.is_file() and meta_path.is_file()
+        not force
+        and dxf.is_file()
+        and loads.is_file()
+        and meta_path.is_file()
         and json.loads(meta_path.read_text()) == meta
     )
     if not current:
@@ -319,10 +329,18 @@ def _split_list(text: str, allowed: Sequence[str]) -> list[str]:
 
 def main(argv: list[str] | None = None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
-    ap.add_argument("--sizes", type=lambda s: _split_list(s, tuple(SIZES)), default=list(SIZES),
-                    help="comma-separated sizes (default 1k,10k,50k,100k)")
-    ap.add_argument("--variants", type=lambda s: _split_list(s, VARIANTS), default=list(DEFAULT_VARIANTS),
-                    help="comma-separated variants: poly, lines, split (default poly,lines)")
+    ap.add_argument(
+        "--sizes",
+        type=lambda s: _split_list(s, tuple(SIZES)),
+        default=list(SIZES),
+        help="comma-separated sizes (default 1k,10k,50k,100k)",
+    )
+    ap.add_argument(
+        "--variants",
+        type=lambda s: _split_list(s, VARIANTS),
+        default=list(DEFAULT_VARIANTS),
+        help="comma-separated variants: poly, lines, split (default poly,lines)",
+    )
     ap.add_argument("--panels", type=int, default=PANELS, help=f"panels per part, even (default {PANELS})")
     ap.add_argument("--outdir", type=Path, default=DEFAULT_OUTDIR, help="output folder (default bench/generated)")
     ap.add_argument("--force", action="store_true", help="rewrite drawings even when current")

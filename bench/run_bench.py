@@ -129,8 +129,14 @@ def run_child(args: list[str], *, timeout: float, cwd: Path = ROOT, env: dict[st
     (os.wait4 returns the rusage of exactly this child and its waited-for children)."""
     with tempfile.TemporaryFile("w+") as out, tempfile.TemporaryFile("w+") as err:
         t0 = time.perf_counter()
-        proc = subprocess.Popen(args, stdout=out, stderr=err, stdin=subprocess.DEVNULL, cwd=cwd,
-                                env=None if env is None else {**os.environ, **env})
+        proc = subprocess.Popen(
+            args,
+            stdout=out,
+            stderr=err,
+            stdin=subprocess.DEVNULL,
+            cwd=cwd,
+            env=None if env is None else {**os.environ, **env},
+        )
         killed = threading.Event()
 
         def kill() -> None:
@@ -245,8 +251,9 @@ def repeated(
     return done, ""
 
 
-def measure(drawing: make_trusses.Drawing, repeat: int, timeout: float, budget: float,
-            env: dict[str, str] | None = None) -> Row:
+def measure(
+    drawing: make_trusses.Drawing, repeat: int, timeout: float, budget: float, env: dict[str, str] | None = None
+) -> Row:
     row = Row(drawing.size, drawing.variant, drawing.members, drawing.dxf.stat().st_size / 2**20)
     dxf, loads = str(drawing.dxf), str(drawing.loads)
     # bare read
@@ -270,8 +277,13 @@ def measure(drawing: make_trusses.Drawing, repeat: int, timeout: float, budget: 
     # end-to-end
     with tempfile.TemporaryDirectory() as tmp:
         out = str(Path(tmp) / "out.json")
-        e2e, why = repeated([PY, "-m", "dxftruss", "check", dxf, "--loads", loads, "--json", out, "--quiet"],
-                            repeat, budget, timeout, env)
+        e2e, why = repeated(
+            [PY, "-m", "dxftruss", "check", dxf, "--loads", loads, "--json", out, "--quiet"],
+            repeat,
+            budget,
+            timeout,
+            env,
+        )
     if why:
         row.notes.append(f"end-to-end failed: {why}")
     row.e2e = _median([c.wall for c in e2e])
@@ -287,9 +299,20 @@ def measure_pdf(drawing: make_trusses.Drawing, timeout: float, env: dict[str, st
     with tempfile.TemporaryDirectory() as tmp:
         out = Path(tmp) / "out.pdf"
         c = run_child(
-            [PY, "-m", "dxftruss", "check", str(drawing.dxf), "--loads", str(drawing.loads), "--pdf", str(out),
-             "--quiet"],
-            timeout=timeout, env=env,
+            [
+                PY,
+                "-m",
+                "dxftruss",
+                "check",
+                str(drawing.dxf),
+                "--loads",
+                str(drawing.loads),
+                "--pdf",
+                str(out),
+                "--quiet",
+            ],
+            timeout=timeout,
+            env=env,
         )
         size = out.stat().st_size / 2**20 if out.exists() else None
     ok = not c.timed_out and c.status in (0, 1) and size is not None
@@ -307,16 +330,44 @@ def _f(x: float | None, fmt: str = "{:.2f}") -> str:
 
 
 def table(rows: list[Row], markdown: bool) -> str:
-    head = ["size", "variant", "members", "MB", "bare read", "readfile()", *STAGE_NAMES,
-            "check()", "end-to-end", "ratio", "ratio cpu", "ratio*", "peak MB", "runs", "result"]
+    head = [
+        "size",
+        "variant",
+        "members",
+        "MB",
+        "bare read",
+        "readfile()",
+        *STAGE_NAMES,
+        "check()",
+        "end-to-end",
+        "ratio",
+        "ratio cpu",
+        "ratio*",
+        "peak MB",
+        "runs",
+        "result",
+    ]
     body = []
     for r in rows:
-        body.append([
-            r.size, r.variant, str(r.members), _f(r.file_mb, "{:.1f}"), _f(r.read_proc), _f(r.read_call),
-            *(_f(r.stages.get(s)) for s in STAGE_NAMES),
-            _f(r.check), _f(r.e2e), _f(r.ratio), _f(r.ratio_cpu), _f(r.ratio_call), _f(r.e2e_rss, "{:.0f}"), r.runs,
-            r.correct if r.correct == "ok" else "WRONG" if r.correct != "not run" else "-",
-        ])
+        body.append(
+            [
+                r.size,
+                r.variant,
+                str(r.members),
+                _f(r.file_mb, "{:.1f}"),
+                _f(r.read_proc),
+                _f(r.read_call),
+                *(_f(r.stages.get(s)) for s in STAGE_NAMES),
+                _f(r.check),
+                _f(r.e2e),
+                _f(r.ratio),
+                _f(r.ratio_cpu),
+                _f(r.ratio_call),
+                _f(r.e2e_rss, "{:.0f}"),
+                r.runs,
+                r.correct if r.correct == "ok" else "WRONG" if r.correct != "not run" else "-",
+            ]
+        )
     if markdown:
         lines = ["| " + " | ".join(head) + " |", "|" + "|".join("---" for _ in head) + "|"]
         lines += ["| " + " | ".join(b) + " |" for b in body]
@@ -355,8 +406,11 @@ def targets(rows: list[Row], pdf: dict | None, pdf_note: str) -> list[str]:
         out.append(f"{verdict(None)}  check --pdf of 50k < {PDF_MAX_S:g} s: {pdf_note}")
     else:
         ok = pdf["ok"] and pdf["wall"] < PDF_MAX_S
-        detail = f"{pdf['drawing']} {pdf['wall']:.1f} s, peak {pdf['rss_mb']:.0f} MB" + (
-            f", PDF {pdf['pdf_mb']:.1f} MB" if pdf["pdf_mb"] else "") + (f" ({pdf['note']})" if pdf["note"] else "")
+        detail = (
+            f"{pdf['drawing']} {pdf['wall']:.1f} s, peak {pdf['rss_mb']:.0f} MB"
+            + (f", PDF {pdf['pdf_mb']:.1f} MB" if pdf["pdf_mb"] else "")
+            + (f" ({pdf['note']})" if pdf["note"] else "")
+        )
         out.append(f"{verdict(ok)}  check --pdf of 50k < {PDF_MAX_S:g} s: {detail}")
     wrong = [f"{r.size}/{r.variant}: {r.correct}" for r in rows if r.correct not in ("ok", "not run")]
     if wrong:
@@ -374,22 +428,42 @@ def _list(text: str, allowed: tuple[str, ...]) -> list[str]:
 
 def main(argv: list[str] | None = None) -> int:
     ap = argparse.ArgumentParser(description="Time dxftruss on synthetic truss drawings (1k-100k members).")
-    ap.add_argument("--sizes", type=lambda s: _list(s, tuple(make_trusses.SIZES)), default=None,
-                    help="comma-separated sizes (default 1k,10k,50k,100k; with --quick 1k,10k)")
-    ap.add_argument("--variants", type=lambda s: _list(s, make_trusses.VARIANTS),
-                    default=list(make_trusses.DEFAULT_VARIANTS), help="comma-separated: poly, lines, split")
+    ap.add_argument(
+        "--sizes",
+        type=lambda s: _list(s, tuple(make_trusses.SIZES)),
+        default=None,
+        help="comma-separated sizes (default 1k,10k,50k,100k; with --quick 1k,10k)",
+    )
+    ap.add_argument(
+        "--variants",
+        type=lambda s: _list(s, make_trusses.VARIANTS),
+        default=list(make_trusses.DEFAULT_VARIANTS),
+        help="comma-separated: poly, lines, split",
+    )
     ap.add_argument("--repeat", type=int, default=None, help="runs of every child process (default 3; --quick 1)")
     ap.add_argument("--quick", action="store_true", help="one repeat, sizes 1k,10k, no PDF")
     ap.add_argument("--no-pdf", action="store_true", help="skip the timed check --pdf of the 50k drawing")
     ap.add_argument("--markdown", action="store_true", help="print the table as Markdown")
     ap.add_argument("--timeout", type=float, default=900.0, help="seconds before a child is killed (default 900)")
-    ap.add_argument("--budget", type=float, default=60.0,
-                    help="stop repeating a measurement once its runs took this many seconds (default 60)")
-    ap.add_argument("--blas-threads", type=int, default=None,
-                    help="set OPENBLAS_NUM_THREADS / OMP_NUM_THREADS / MKL_NUM_THREADS in the children "
-                         "(default: inherit; dxftruss.cli sets 1 unless the environment says otherwise)")
-    ap.add_argument("--save", type=Path, default=make_trusses.DEFAULT_OUTDIR / "results.json",
-                    help="write the raw results here (default bench/generated/results.json)")
+    ap.add_argument(
+        "--budget",
+        type=float,
+        default=60.0,
+        help="stop repeating a measurement once its runs took this many seconds (default 60)",
+    )
+    ap.add_argument(
+        "--blas-threads",
+        type=int,
+        default=None,
+        help="set OPENBLAS_NUM_THREADS / OMP_NUM_THREADS / MKL_NUM_THREADS in the children "
+        "(default: inherit; dxftruss.cli sets 1 unless the environment says otherwise)",
+    )
+    ap.add_argument(
+        "--save",
+        type=Path,
+        default=make_trusses.DEFAULT_OUTDIR / "results.json",
+        help="write the raw results here (default bench/generated/results.json)",
+    )
     args = ap.parse_args(argv)
     sizes = args.sizes or (["1k", "10k"] if args.quick else list(make_trusses.SIZES))
     repeat = args.repeat or (1 if args.quick else 3)
@@ -406,12 +480,20 @@ def main(argv: list[str] | None = None) -> int:
             t0 = time.perf_counter()
             drawing = make_trusses.generate(size, variant)
             gen = time.perf_counter() - t0
-            print(f"{size:>5} {variant:<6} {drawing.members} members ({drawing.parts} parts)"
-                  + (f", written in {gen:.1f} s" if gen > 0.5 else "") + " ...", end="", flush=True)
+            print(
+                f"{size:>5} {variant:<6} {drawing.members} members ({drawing.parts} parts)"
+                + (f", written in {gen:.1f} s" if gen > 0.5 else "")
+                + " ...",
+                end="",
+                flush=True,
+            )
             row = measure(drawing, repeat, args.timeout, args.budget, env)
             rows.append(row)
-            print(f" end-to-end {_f(row.e2e)} s, bare read {_f(row.read_proc)} s, result {row.correct}"
-                  + ("; " + "; ".join(row.notes) if row.notes else ""), flush=True)
+            print(
+                f" end-to-end {_f(row.e2e)} s, bare read {_f(row.read_proc)} s, result {row.correct}"
+                + ("; " + "; ".join(row.notes) if row.notes else ""),
+                flush=True,
+            )
 
     pdf: dict | None = None
     pdf_note = ""
@@ -426,15 +508,19 @@ def main(argv: list[str] | None = None) -> int:
         print(f" {pdf['wall']:.1f} s" + (f" ({pdf['note']})" if pdf["note"] else ""), flush=True)
 
     print()
-    print(f"dxftruss benchmark: up to {repeat} run(s) per child process (fewer once a measurement took "
-          f"{args.budget:g} s; 'runs' = check()/end-to-end runs), medians in seconds; peak MB = max RSS (MiB)"
-          + (f"; BLAS threads {args.blas_threads}" if args.blas_threads is not None else ""))
+    print(
+        f"dxftruss benchmark: up to {repeat} run(s) per child process (fewer once a measurement took "
+        f"{args.budget:g} s; 'runs' = check()/end-to-end runs), medians in seconds; peak MB = max RSS (MiB)"
+        + (f"; BLAS threads {args.blas_threads}" if args.blas_threads is not None else "")
+    )
     print(table(rows, args.markdown))
     print()
     print("ratio = end-to-end / bare read, wall time of whole processes; ratio cpu = the same with user+system")
     print("CPU seconds (steadier on a busy machine); ratio* = end-to-end wall / the readfile() call alone")
-    print(f"load average at start {load0[0]:.2f}, at end {os.getloadavg()[0]:.2f} (2 cores: above ~1 the wall times "
-          "include waiting for a CPU)")
+    print(
+        f"load average at start {load0[0]:.2f}, at end {os.getloadavg()[0]:.2f} (2 cores: above ~1 the wall times "
+        "include waiting for a CPU)"
+    )
     for line in targets(rows, pdf, pdf_note):
         print(line)
     for r in rows:
@@ -445,9 +531,14 @@ def main(argv: list[str] | None = None) -> int:
         args.save.parent.mkdir(parents=True, exist_ok=True)
         rows_out = [asdict(r) | {"ratio": r.ratio, "ratio_cpu": r.ratio_cpu, "ratio_call": r.ratio_call} for r in rows]
         raw = {
-            "repeat": repeat, "budget": args.budget, "blas_threads": args.blas_threads,
-            "python": sys.version.split()[0], "loadavg": [load0[0], os.getloadavg()[0]],
-            "rows": rows_out, "pdf": pdf, "pdf_note": pdf_note,
+            "repeat": repeat,
+            "budget": args.budget,
+            "blas_threads": args.blas_threads,
+            "python": sys.version.split()[0],
+            "loadavg": [load0[0], os.getloadavg()[0]],
+            "rows": rows_out,
+            "pdf": pdf,
+            "pdf_note": pdf_note,
         }
         args.save.write_text(json.dumps(raw, indent=1) + "\n")
     return 0

@@ -48,7 +48,28 @@ _EXPORTS = {
     "OutputError": "errors",
 }
 
-__all__ = ["__version__", *_EXPORTS]
+__all__ = [
+    "CaseResult",
+    "Code",
+    "ConfigError",
+    "DxftrussError",
+    "Finding",
+    "InputError",
+    "LimitError",
+    "OutputError",
+    "PartStability",
+    "Result",
+    "Settings",
+    "Severity",
+    "SourceInfo",
+    "Tolerances",
+    "Truss",
+    "Verdict",
+    "__version__",
+    "check",
+    "run_policy",
+]
+assert set(__all__) == {"__version__", *_EXPORTS}
 
 if TYPE_CHECKING:
     from .audit.stability import PartStability, Verdict

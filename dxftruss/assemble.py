@@ -111,7 +111,7 @@ def _nearest(tree: cKDTree | None, p: tuple[float, float]) -> tuple[float, int]:
 
 
 def _nearest_note(d: float, j: int) -> str:
-    """": nearest joint J3 is 12.5 away" for a drawn mark off its joint ("" when none)."""
+    """ ": nearest joint J3 is 12.5 away" for a drawn mark off its joint ("" when none)."""
     return f": nearest joint {joint_id(j)} is {d:.6g} away" if j >= 0 else ""
 
 
@@ -243,8 +243,7 @@ def build_truss(
                 for c in both
             )
             raise ConfigError(
-                f"{spec.path}: {listed}; say which to use: "
-                '[drawn] loads = "add" (both) or "ignore" (the file\'s only)'
+                f'{spec.path}: {listed}; say which to use: [drawn] loads = "add" (both) or "ignore" (the file\'s only)'
             )
         if spec.drawn_loads == "ignore":
             ignored_cases = set(both)
@@ -423,12 +422,12 @@ class _Labels:
 
 
 def _fix_name(dirs: set[int]) -> str:
-    """"pin (xy)", "roller (x)" or "roller (y)" for a set of restrained directions."""
+    """ "pin (xy)", "roller (x)" or "roller (y)" for a set of restrained directions."""
     return "pin (xy)" if dirs == {0, 1} else ("roller (x)" if dirs == {0} else "roller (y)")
 
 
 def _not_solved_note(case: str, combos_using: dict[str, list[str]]) -> str:
-    """"load case 'deck' is not solved (nor the combination 'ULS' that uses it)"."""
+    """ "load case 'deck' is not solved (nor the combination 'ULS' that uses it)"."""
     combos = combos_using.get(case, [])
     tail = ""
     if combos:

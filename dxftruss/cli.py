@@ -300,8 +300,13 @@ def _check_with_progress(drawing: str, settings, *, show: bool):  # type: ignore
     from rich.console import Console
 
     con = Console(stderr=True)
-    names = {"read": "snapping joints", "snap": "building the model", "model": "checking stability",
-             "stability": "solving load cases", "statics": "writing reports"}
+    names = {
+        "read": "snapping joints",
+        "snap": "building the model",
+        "model": "checking stability",
+        "stability": "solving load cases",
+        "statics": "writing reports",
+    }
     with con.status("reading the drawing") as status:
         return check(drawing, settings, progress=lambda stage: status.update(names.get(stage, stage)))
 
@@ -446,8 +451,13 @@ def _run_many(args: argparse.Namespace, drawings: list[str], plan: dict[str, Out
     results: dict[str, tuple[int, str, dict]] = {}
     workers = min(len(drawings), max(1, min(2, os.cpu_count() or 1)))
     with Progress(
-        TextColumn("checking"), BarColumn(), MofNCompleteColumn(), TimeElapsedColumn(),
-        console=err_console, transient=True, disable=args.quiet or not err_console.is_terminal,
+        TextColumn("checking"),
+        BarColumn(),
+        MofNCompleteColumn(),
+        TimeElapsedColumn(),
+        console=err_console,
+        transient=True,
+        disable=args.quiet or not err_console.is_terminal,
     ) as progress:
         task = progress.add_task("check", total=len(drawings))
         pool = ProcessPoolExecutor(max_workers=workers, initializer=_worker_init, initargs=(RUN_ID,))
@@ -458,8 +468,14 @@ def _run_many(args: argparse.Namespace, drawings: list[str], plan: dict[str, Out
                 try:
                     results[d] = fut.result()
                 except Exception as exc:  # noqa: BLE001 - a worker that died (out of memory, killed)
-                    row = {"drawing": d, "status": "error", "verdict": "-", "errors": "-", "warnings": "-",
-                           "message": f"{d}: the check stopped ({type(exc).__name__}: {exc})"}
+                    row = {
+                        "drawing": d,
+                        "status": "error",
+                        "verdict": "-",
+                        "errors": "-",
+                        "warnings": "-",
+                        "message": f"{d}: the check stopped ({type(exc).__name__}: {exc})",
+                    }
                     results[d] = (EXIT_INPUT, "", row)
                 progress.advance(task)
         except BaseException:

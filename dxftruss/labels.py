@@ -93,8 +93,20 @@ _DISTRIBUTED_WORDS: dict[str, tuple[str, Kind, float]] = {
 }
 
 _SPACES = str.maketrans(
-    {"\u00a0": " ", "\u2007": " ", "\u2009": " ", "\u202f": " ", "\t": " ", "\n": " ", "\r": " ",
-     "\u2212": "-", "\u2013": "-", "\u00b2": "2", "\u00b3": "3", "\u2044": "/"}
+    {
+        "\u00a0": " ",
+        "\u2007": " ",
+        "\u2009": " ",
+        "\u202f": " ",
+        "\t": " ",
+        "\n": " ",
+        "\r": " ",
+        "\u2212": "-",
+        "\u2013": "-",
+        "\u00b2": "2",
+        "\u00b3": "3",
+        "\u2044": "/",
+    }
 )
 
 # a number: mixed fraction, fraction, comma groups, space groups, plain decimal (either
@@ -113,9 +125,7 @@ _NUM = re.compile(
 _WORD = re.compile(r"[^\W\d_][^\W_]*(?:[-_.'][^\W_]+)*")
 # a unit after a number: a word, optionally "/" and a word (kN/m, lb/ft, kN/m2)
 # (a product such as kN.m, kN-m or kN*m is taken whole, so that it is refused as unknown)
-_UNIT = re.compile(
-    r"\ *(?P<u>[^\W\d_][^\W_]*(?:[.\u00b7*-][^\W\d_][^\W_]*)*(?:\ ?/\ ?[^\W\d_][^\W_]*(?:\^?[23])?)?)"
-)
+_UNIT = re.compile(r"\ *(?P<u>[^\W\d_][^\W_]*(?:[.\u00b7*-][^\W\d_][^\W_]*)*(?:\ ?/\ ?[^\W\d_][^\W_]*(?:\^?[23])?)?)")
 #: characters allowed between the parts of a label; anything else makes it unclear
 _NEUTRAL = set(" =:()[];,.-")
 
@@ -202,7 +212,7 @@ def _scan(s: str) -> tuple[list[_Number], list[str], list[str]]:
 
 
 def _comma_kind(raw: str, form: str) -> str | None:
-    """"decimal", "group", "ambiguous" or None (no comma) for one number as written."""
+    """ "decimal", "group", "ambiguous" or None (no comma) for one number as written."""
     if "," not in raw:
         return None
     if form == "cgroup":

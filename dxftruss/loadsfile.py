@@ -129,9 +129,7 @@ def _read_regular_file(name: str, limit: int) -> bytes:
             kind = "a directory" if stat.S_ISDIR(st.st_mode) else "not a regular file (a device, FIFO or socket)"
             raise ConfigError(f"{name}: the loads file is {kind}; give a TOML file")
         if st.st_size > limit:
-            raise ConfigError(
-                f"{name}: the loads file is {st.st_size:,} bytes, more than the limit of {limit:,} bytes"
-            )
+            raise ConfigError(f"{name}: the loads file is {st.st_size:,} bytes, more than the limit of {limit:,} bytes")
         chunks = []
         total = 0
         while True:
@@ -186,11 +184,11 @@ def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:
 
     drawn = data.get("drawn", {})
     if not isinstance(drawn, dict):
-        raise ConfigError(f"{name}: [drawn] must be a table such as [drawn] loads = \"add\"")
+        raise ConfigError(f'{name}: [drawn] must be a table such as [drawn] loads = "add"')
     _unknown(f"{name}: [drawn]", drawn, "drawn")
     for key in ("loads", "supports"):
         if key in drawn and drawn[key] not in ("add", "ignore"):
-            raise ConfigError(f"{name}: [drawn] {key} must be \"add\" or \"ignore\", got {drawn[key]!r}")
+            raise ConfigError(f'{name}: [drawn] {key} must be "add" or "ignore", got {drawn[key]!r}')
 
     supports = []
     for i, t in enumerate(_tables(name, data, "support"), 1):
@@ -199,7 +197,7 @@ def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:
         at = _at(where, t)
         fix = t.get("fix", "xy")
         if not isinstance(fix, str) or fix.lower() not in ("xy", "x", "y"):
-            raise ConfigError(f"{where}: 'fix' must be \"xy\", \"x\" or \"y\", got {fix!r}")
+            raise ConfigError(f'{where}: \'fix\' must be "xy", "x" or "y", got {fix!r}')
         supports.append(SupportEntry(i, at, Fix(fix.lower())))
 
     loads = []

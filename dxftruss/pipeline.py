@@ -64,7 +64,7 @@ def _tolerance(text: str, unit: str, what: str) -> float:
 
 def check(
     path: str | os.PathLike[str],
-    settings: Settings = Settings(),
+    settings: Settings | None = None,
     *,
     progress: Callable[[str], None] | None = None,
 ) -> Result:
@@ -74,7 +74,7 @@ def check(
     (invalid coordinates, solve residuals), and the warnings would only reach stderr.
     """
     with run_policy(), np.errstate(all="ignore"):
-        return _check(path, settings, progress=progress)
+        return _check(path, settings if settings is not None else Settings(), progress=progress)
 
 
 def _check(

@@ -431,8 +431,18 @@ def solve_case(
         # --- solve -------------------------------------------------------------------
         try:
             sol = _solve_part(
-                ps, stab, f, ea, has_sections, basis, mechanism,
-                metre=metre, newton=newton, a_norm=a_norm, residual_tol=residual_tol, refine_tol=refine_tol,
+                ps,
+                stab,
+                f,
+                ea,
+                has_sections,
+                basis,
+                mechanism,
+                metre=metre,
+                newton=newton,
+                a_norm=a_norm,
+                residual_tol=residual_tol,
+                refine_tol=refine_tol,
             )
         except _SolveFailed as err:
             findings.append(_failed_finding(truss, ps, stab, err, where, mechanism and not complete))
@@ -550,15 +560,29 @@ def _solve_part(
         if has_sections:
             try:
                 _, _, displacement, _ = _stiffness_solve(
-                    ps, stiff_ea, f, basis, metre=metre, newton=newton,
-                    a_norm=a_norm, residual_tol=residual_tol, refine_tol=refine_tol,
+                    ps,
+                    stiff_ea,
+                    f,
+                    basis,
+                    metre=metre,
+                    newton=newton,
+                    a_norm=a_norm,
+                    residual_tol=residual_tol,
+                    refine_tol=refine_tol,
                 )
             except _SolveFailed:
                 displacement = np.full((ps.n_joints, 2), np.nan)
         return _PartSolution(x[:m], x[m:], displacement, res)
     t, rho, delta, res = _stiffness_solve(
-        ps, stiff_ea, f, basis, metre=metre, newton=newton,
-        a_norm=a_norm, residual_tol=residual_tol, refine_tol=refine_tol,
+        ps,
+        stiff_ea,
+        f,
+        basis,
+        metre=metre,
+        newton=newton,
+        a_norm=a_norm,
+        residual_tol=residual_tol,
+        refine_tol=refine_tol,
     )
     return _PartSolution(t, rho, None if mechanism else delta, res)
 

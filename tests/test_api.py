@@ -40,7 +40,7 @@ def test_check_from_python_equals_the_command_line(tmp_path: Path) -> None:
     assert isinstance(res, dxftruss.Result)
     got = forces_by_layer(json.loads(to_json(res)))
     assert got["CHORD"] == pytest.approx([4.0, 4.0]) and got["RAFTER"] == pytest.approx([-5.0, -5.0])
-    out = subprocess.run(
+    out = subprocess.run(  # noqa: PLW1510 - the exit status is not the point here
         [sys.executable, "-m", "dxftruss", "check", str(path), "--json", "-", "--quiet"], capture_output=True, text=True
     )
     cli = json.loads(out.stdout)
@@ -51,7 +51,7 @@ def test_check_runs_under_the_policy_and_restores_it(tmp_path: Path, monkeypatch
     # what the stages see: no cyclic gc and one BLAS thread (the command line's policy)
     from threadpoolctl import threadpool_info
 
-    import dxftruss.pipeline as pipeline
+    from dxftruss import pipeline
 
     seen: dict[str, object] = {}
     real = pipeline.analyse_part

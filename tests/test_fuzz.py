@@ -343,8 +343,26 @@ def test_fuzz_inputs_are_reproducible():
 # hostile option values (LENGTH options accept a unit; a bare number is in drawing units)
 
 HOSTILE_LENGTHS = [
-    "0", "-1", "-0.5mm", "1e300", "1e-300", "nan", "inf", "-inf", "1e400mm", "1/0in", "0/0in", "1/16in",
-    "12,5mm", "", " ", "5 furlong", "9**9**9 mm", "0x10", "\u00a01mm", "1e308km",
+    "0",
+    "-1",
+    "-0.5mm",
+    "1e300",
+    "1e-300",
+    "nan",
+    "inf",
+    "-inf",
+    "1e400mm",
+    "1/0in",
+    "0/0in",
+    "1/16in",
+    "12,5mm",
+    "",
+    " ",
+    "5 furlong",
+    "9**9**9 mm",
+    "0x10",
+    "\u00a01mm",
+    "1e308km",
 ]
 
 
@@ -365,7 +383,15 @@ def test_hostile_length_options(option, value):
 # file at the link's target; a special file is never replaced
 
 OUTPUT_TARGETS = [
-    "new", "regular", "fifo", "socket", "dir", "link-to-file", "dangling-link", "link-to-dir", "link-loop",
+    "new",
+    "regular",
+    "fifo",
+    "socket",
+    "dir",
+    "link-to-file",
+    "dangling-link",
+    "link-to-dir",
+    "link-loop",
 ]
 
 

@@ -39,8 +39,13 @@ pytestmark = pytest.mark.filterwarnings("ignore::RuntimeWarning")
 #: seconds before a run counts as hung
 ALARM = 60
 
-FRAME = [((0, 0), (4, 0), "CHORD"), ((4, 0), (8, 0), "CHORD"), ((0, 0), (4, 3), "RAFTER"),
-         ((4, 3), (8, 0), "RAFTER"), ((4, 0), (4, 3), "WEB")]
+FRAME = [
+    ((0, 0), (4, 0), "CHORD"),
+    ((4, 0), (8, 0), "CHORD"),
+    ((0, 0), (4, 3), "RAFTER"),
+    ((4, 3), (8, 0), "RAFTER"),
+    ((4, 0), (4, 3), "WEB"),
+]
 #: expected member forces in kN, tension positive (closed-form derivation, module docstring)
 FRAME_FORCES = {"CHORD": 4.0, "RAFTER": -5.0, "WEB": 0.0}
 
@@ -100,6 +105,7 @@ def finding_codes(report: dict) -> set[str]:
 
 def _hostile_inputs(d: Path) -> dict[str, Path]:
     """Files and paths that are not usable drawings, each the way a user could pass it."""
+
     def w(name: str, data: bytes) -> Path:
         p = d / name
         p.write_bytes(data)
@@ -756,7 +762,10 @@ def test_quiet_run_prints_nothing_for_non_finite_numbers(tmp_path):
     drawing.write_bytes(mu.serialize(pairs))
     proc = subprocess.run(
         [sys.executable, "-m", "dxftruss", "check", str(drawing), "--json", str(tmp_path / "r.json"), "--quiet"],
-        check=False, capture_output=True, text=True, timeout=120,
+        check=False,
+        capture_output=True,
+        text=True,
+        timeout=120,
     )
     assert proc.returncode in (0, 1), proc.stderr
     assert proc.stderr == "", proc.stderr

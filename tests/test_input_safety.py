@@ -35,7 +35,11 @@ HOSTILE = "LOAD-\x1b[2J\x1b[31mred\u202egol"
 
 def _cli(*args: str, timeout: float = 60) -> subprocess.CompletedProcess[str]:
     return subprocess.run(
-        [sys.executable, "-m", "dxftruss", *args], capture_output=True, text=True, timeout=timeout, errors="replace",
+        [sys.executable, "-m", "dxftruss", *args],
+        capture_output=True,
+        text=True,
+        timeout=timeout,
+        errors="replace",
         check=False,
     )
 

@@ -318,7 +318,7 @@ def test_json_loads_name_their_label(tmp_path):
 
 
 # ----------------------------------------------------------- drawn and file loads
-FILE_LOAD = '[[load]]\nat = [2, 2]\nfy = -5\n'
+FILE_LOAD = "[[load]]\nat = [2, 2]\nfy = -5\n"
 
 
 def test_drawn_and_file_loads_in_one_case_are_refused(tmp_path):
@@ -373,8 +373,42 @@ from hypothesis import given, settings  # noqa: E402
 from hypothesis import strategies as st  # noqa: E402
 
 _PIECES = st.sampled_from(
-    ["12", "1,250", "12,5", ".5", "1/2", "1 1/2", "-", "+", " ", "kN", "K", "T", "t", "kg", "/m", "m2", "P1", "=",
-     "(", ")", "e3", "12 000", "\x1b", "\u202e", "\u00a0", "lbs", "kip", "ton", "#", "x", "\n", "0", "/0", "9" * 400]
+    [
+        "12",
+        "1,250",
+        "12,5",
+        ".5",
+        "1/2",
+        "1 1/2",
+        "-",
+        "+",
+        " ",
+        "kN",
+        "K",
+        "T",
+        "t",
+        "kg",
+        "/m",
+        "m2",
+        "P1",
+        "=",
+        "(",
+        ")",
+        "e3",
+        "12 000",
+        "\x1b",
+        "\u202e",
+        "\u00a0",
+        "lbs",
+        "kip",
+        "ton",
+        "#",
+        "x",
+        "\n",
+        "0",
+        "/0",
+        "9" * 400,
+    ]
 )
 
 

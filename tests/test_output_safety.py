@@ -41,7 +41,13 @@ def drawing(folder: Path, name: str = "roof.dxf") -> Path:
 def run(args, cwd=None, env=None, **kw):  # type: ignore[no-untyped-def]
     p = subprocess.run(
         [sys.executable, "-m", "dxftruss", *map(str, args)],
-        capture_output=True, text=True, cwd=cwd, timeout=120, env=env, check=False, **kw,
+        capture_output=True,
+        text=True,
+        cwd=cwd,
+        timeout=120,
+        env=env,
+        check=False,
+        **kw,
     )
     return p.returncode, p.stdout, p.stderr
 
@@ -127,9 +133,18 @@ def test_output_mode_follows_the_umask(tmp_path):
     for mask, mode in ((0o022, 0o644), (0o002, 0o664), (0o077, 0o600)):
         out = tmp_path / f"r{mask:o}.json"
         p = subprocess.run(
-            [sys.executable, "-c", (f"import os, sys; os.umask({mask}); from dxftruss.cli import main; "
-             f"sys.exit(main(['check', {str(dxf)!r}, '--json', {str(out)!r}, '--quiet']))")],
-            capture_output=True, text=True, timeout=120, check=False,
+            [
+                sys.executable,
+                "-c",
+                (
+                    f"import os, sys; os.umask({mask}); from dxftruss.cli import main; "
+                    f"sys.exit(main(['check', {str(dxf)!r}, '--json', {str(out)!r}, '--quiet']))"
+                ),
+            ],
+            capture_output=True,
+            text=True,
+            timeout=120,
+            check=False,
         )
         assert p.returncode == 0, p.stderr
         assert stat.S_IMODE(out.stat().st_mode) == mode, (oct(mask), oct(out.stat().st_mode))
@@ -209,7 +224,12 @@ def test_unreadable_folder_or_file_is_one_line(open_dir, what):
     env["PYTHONPATH"] = str(ROOT)
     p = subprocess.run(
         [*prefix, sys.executable, "-m", "dxftruss", "check", str(secret), "--json", str(tmp_path / "o.json")],
-        capture_output=True, text=True, timeout=120, env=env, cwd=tmp_path, check=False,
+        capture_output=True,
+        text=True,
+        timeout=120,
+        env=env,
+        cwd=tmp_path,
+        check=False,
     )
     secret.chmod(0o755)
     assert p.returncode == 2 and one_line(p.stderr), p.stderr
@@ -228,7 +248,12 @@ def test_unreadable_home_folder_is_one_line(open_dir):
     env.pop("XDG_CONFIG_HOME", None)
     p = subprocess.run(
         [*prefix, sys.executable, "-m", "dxftruss", "check", str(dxf), "--json", str(tmp_path / "o.json")],
-        capture_output=True, text=True, timeout=120, env=env, cwd=tmp_path, check=False,
+        capture_output=True,
+        text=True,
+        timeout=120,
+        env=env,
+        cwd=tmp_path,
+        check=False,
     )
     home.chmod(0o755)
     assert p.returncode == 2 and one_line(p.stderr) and str(home) in p.stderr, p.stderr
@@ -335,8 +360,13 @@ def _big(folder: Path, name: str, parts: int) -> Path:
 
 
 def _signal_mid_run(args, sig, cwd, settle: float):  # type: ignore[no-untyped-def]
-    p = subprocess.Popen([sys.executable, "-m", "dxftruss", *map(str, args)], cwd=cwd,
-                         stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    p = subprocess.Popen(
+        [sys.executable, "-m", "dxftruss", *map(str, args)],
+        cwd=cwd,
+        stdout=subprocess.PIPE,
+        stderr=subprocess.PIPE,
+        text=True,
+    )
     time.sleep(settle)
     assert p.poll() is None, "the run ended before the signal: make the drawing bigger"
     p.send_signal(sig)

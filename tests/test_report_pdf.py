@@ -231,8 +231,9 @@ def make_result(
         Finding(Code.IGNORED_ENTITY, "ignored 1 TEXT, 1 CIRCLE, 1 ARC (not members)", data={"TEXT": 1}),
         Finding(Code.DANGLING_MEMBER, "member M9 has a free end at J9", at=(2 * A, H), joints=(), members=()),
     ]
-    return _result(dxf, truss, (_stability(0, 4, 5, 3),), cases, findings, snap=0.0072, near=72.0, axis=A,
-                   recovered=recovered)
+    return _result(
+        dxf, truss, (_stability(0, 4, 5, 3),), cases, findings, snap=0.0072, near=72.0, axis=A, recovered=recovered
+    )
 
 
 def make_mechanism_result(dxf: Path) -> Result:
@@ -407,6 +408,7 @@ def test_control_characters_in_names_are_drawn_as_escapes(tmp_path: Path) -> Non
     titles = [o.title for o in reader.outline if not isinstance(o, list)]
     assert "Load case 'snow\\u202eall'" in titles  # the bookmark too
 
+
 def test_damaged_original_falls_back_to_members(tmp_path: Path) -> None:
     dxf = tmp_path / "press_house_roof.dxf"
     handles = write_king_post_dxf(dxf)
@@ -470,8 +472,10 @@ def test_label_placement_never_overlaps() -> None:
     fonts = register_fonts()
     nx, ny, step = 30, 12, 30.0
     pts = np.array([[i * step + 20, j * step + 20] for i in range(nx) for j in range(ny)])
+
     def idx(i, j):
         return i * ny + j
+
     ends = []
     for i in range(nx):
         for j in range(ny):

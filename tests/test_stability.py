@@ -61,8 +61,15 @@ def from_arrays(xy: np.ndarray, ends: np.ndarray, supports: tuple[Support, ...])
     m = len(ends)
     part = Part(0, np.arange(len(xy), dtype=np.int64), np.arange(m, dtype=np.int64))
     return Truss(
-        np.asarray(xy, dtype=float), np.asarray(ends, dtype=np.int64).reshape(-1, 2), ("TRUSS",) * m,
-        tuple((f"{e + 1:X}",) for e in range(m)), supports, cases=(), parts=(part,), length_unit="m", force_unit="kN",
+        np.asarray(xy, dtype=float),
+        np.asarray(ends, dtype=np.int64).reshape(-1, 2),
+        ("TRUSS",) * m,
+        tuple((f"{e + 1:X}",) for e in range(m)),
+        supports,
+        cases=(),
+        parts=(part,),
+        length_unit="m",
+        force_unit="kN",
     )
 
 
@@ -143,7 +150,14 @@ def c5_three_bar():
 def c9_textbook():
     """docs/methods.md, check case C9 (Baker & Haynes section 6.3 zero-force example): pin H, horizontal roller A."""
     joints = {
-        "A": (0, 0), "B": (4, 0), "C": (8, 0), "D": (12, 0), "H": (0, 3), "F": (4, 3), "E": (8, 3), "G": (0, 6),
+        "A": (0, 0),
+        "B": (4, 0),
+        "C": (8, 0),
+        "D": (12, 0),
+        "H": (0, 3),
+        "F": (4, 3),
+        "E": (8, 3),
+        "G": (0, 6),
         "I": (6, 1.5),
     }
     members = ["AH", "HG", "GF", "HF", "FE", "AB", "BC", "CD", "AF", "BF", "FI", "IC", "IE", "EC", "ED"]

@@ -162,24 +162,24 @@ def parallel_chord(kind: str, n: int, a: float, h: float, P: float, **kw) -> tup
             joint(f"U{i}", i * a, h)
     members: dict[str, tuple[str, str]] = {}
     for i in range(1, n + 1):
-        members[f"B{i}"] = (f"L{i-1}", f"L{i}")
+        members[f"B{i}"] = (f"L{i - 1}", f"L{i}")
     if kind == "warren":
         for i in range(1, n):
-            members[f"T{i}"] = (f"U{i}", f"U{i+1}")
+            members[f"T{i}"] = (f"U{i}", f"U{i + 1}")
         for i in range(1, n + 1):
-            members[f"Dl{i}"] = (f"L{i-1}", f"U{i}")
+            members[f"Dl{i}"] = (f"L{i - 1}", f"U{i}")
             members[f"Dr{i}"] = (f"U{i}", f"L{i}")
     else:
         for i in range(1, n + 1):
-            members[f"T{i}"] = (f"U{i-1}", f"U{i}")
+            members[f"T{i}"] = (f"U{i - 1}", f"U{i}")
         for i in range(n + 1):
             members[f"V{i}"] = (f"L{i}", f"U{i}")
         for i in range(1, n + 1):
             left = i <= n // 2
             if kind == "pratt":
-                members[f"D{i}"] = (f"U{i-1}", f"L{i}") if left else (f"L{i-1}", f"U{i}")
+                members[f"D{i}"] = (f"U{i - 1}", f"L{i}") if left else (f"L{i - 1}", f"U{i}")
             else:
-                members[f"D{i}"] = (f"L{i-1}", f"U{i}") if left else (f"U{i-1}", f"L{i}")
+                members[f"D{i}"] = (f"L{i - 1}", f"U{i}") if left else (f"U{i - 1}", f"L{i}")
     ends = [(names[p], names[q]) for p, q in members.values()]
     case = case_of("panel", {names[f"L{i}"]: (0.0, -P) for i in range(1, n)})
     supports = (Support(names["L0"], Fix.XY), Support(names[f"L{n}"], Fix.Y))
@@ -254,8 +254,19 @@ def test_c1_pratt_published_numbers() -> None:
     truss, case, idx = parallel_chord("pratt", 6, 4.0, 3.0, 10.0)
     result, findings = solve(truss, case)
     table = {
-        "B1": 0.0, "B2": 33.3333, "B3": 53.3333, "T1": -33.3333, "T2": -53.3333, "T3": -60.0,
-        "D1": 41.6667, "D2": 25.0, "D3": 8.3333, "V0": -25.0, "V1": -15.0, "V2": -5.0, "V3": 0.0,
+        "B1": 0.0,
+        "B2": 33.3333,
+        "B3": 53.3333,
+        "T1": -33.3333,
+        "T2": -53.3333,
+        "T3": -60.0,
+        "D1": 41.6667,
+        "D2": 25.0,
+        "D3": 8.3333,
+        "V0": -25.0,
+        "V1": -15.0,
+        "V2": -5.0,
+        "V3": 0.0,
     }
     for name, value in table.items():
         assert result.forces[idx[name]] == pytest.approx(value, abs=1e-4)
@@ -264,8 +275,11 @@ def test_c1_pratt_published_numbers() -> None:
     assert set(result.zero_by_solution) == {idx["V3"], idx["B6"], idx["B1"]}
     (zf,) = [f for f in findings if f.code is Code.ZERO_FORCE_MEMBER]
     assert zf.members == result.zero_by_solution
-    assert zf.data == {"case": "panel", "by_rule": sorted([idx["V3"], idx["B6"]]),
-                       "by_solution": list(result.zero_by_solution)}
+    assert zf.data == {
+        "case": "panel",
+        "by_rule": sorted([idx["V3"], idx["B6"]]),
+        "by_solution": list(result.zero_by_solution),
+    }
     first = result.zero_by_solution[0]
     assert zf.at == pytest.approx(tuple(truss.xy[truss.ends[first]].mean(axis=0)))
 
@@ -275,8 +289,19 @@ def test_c2_howe_published_numbers() -> None:
     truss, case, idx = parallel_chord("howe", 6, 4.0, 3.0, 10.0)
     result, _ = solve(truss, case)
     table = {
-        "B1": 33.3333, "B2": 53.3333, "B3": 60.0, "T1": 0.0, "T2": -33.3333, "T3": -53.3333,
-        "D1": -41.6667, "D2": -25.0, "D3": -8.3333, "V0": 0.0, "V1": 25.0, "V2": 15.0, "V3": 10.0,
+        "B1": 33.3333,
+        "B2": 53.3333,
+        "B3": 60.0,
+        "T1": 0.0,
+        "T2": -33.3333,
+        "T3": -53.3333,
+        "D1": -41.6667,
+        "D2": -25.0,
+        "D3": -8.3333,
+        "V0": 0.0,
+        "V1": 25.0,
+        "V2": 15.0,
+        "V3": 10.0,
     }
     for name, value in table.items():
         assert result.forces[idx[name]] == pytest.approx(value, abs=1e-4)
@@ -289,8 +314,21 @@ def test_c3_warren_published_numbers() -> None:
     truss, case, idx = parallel_chord("warren", 4, 6.0, 4.0, 12.0)
     result, _ = solve(truss, case)
     table = {
-        "B1": 13.5, "B2": 31.5, "B3": 31.5, "B4": 13.5, "T1": -27.0, "T2": -36.0, "T3": -27.0,
-        "Dl1": -22.5, "Dr1": 22.5, "Dl2": -7.5, "Dr2": 7.5, "Dl3": 7.5, "Dr3": -7.5, "Dl4": 22.5, "Dr4": -22.5,
+        "B1": 13.5,
+        "B2": 31.5,
+        "B3": 31.5,
+        "B4": 13.5,
+        "T1": -27.0,
+        "T2": -36.0,
+        "T3": -27.0,
+        "Dl1": -22.5,
+        "Dr1": 22.5,
+        "Dl2": -7.5,
+        "Dr2": 7.5,
+        "Dl3": 7.5,
+        "Dr3": -7.5,
+        "Dl4": 22.5,
+        "Dr4": -22.5,
     }
     for name, value in table.items():
         assert result.forces[idx[name]] == pytest.approx(value, abs=1e-9)
@@ -316,8 +354,14 @@ def c4_truss(scale_len: float = 1.0, length_unit: str = "m", force_unit: str = "
     xy = np.array([[0.0, 0.0], [10.0, 0.0], [10.0, 10.0]]) * scale_len
     case = case_of("c4", {2: load})
     return make_truss(
-        xy, [(0, 1), (1, 2), (0, 2)], (Support(0, Fix.XY), Support(1, Fix.Y)), (case,),
-        layers=("B12", "B23", "B13"), sections=C4_SECTIONS, length_unit=length_unit, force_unit=force_unit,
+        xy,
+        [(0, 1), (1, 2), (0, 2)],
+        (Support(0, Fix.XY), Support(1, Fix.Y)),
+        (case,),
+        layers=("B12", "B23", "B13"),
+        sections=C4_SECTIONS,
+        length_unit=length_unit,
+        force_unit=force_unit,
     )
 
 
@@ -360,10 +404,10 @@ def test_c4_missing_section_hides_displacements() -> None:
 def three_bar(theta: float, L: float, P: float, sections=()) -> Truss:
     """docs/methods.md, check case C5: O hangs from three pins; middle bar vertical, outer bars at +-theta.
 
-        A     M     C        (pins, y = L)
-          \\   |   /
-            \\ | /
-              O             load P downward
+    A     M     C        (pins, y = L)
+      \\   |   /
+        \\ | /
+          O             load P downward
     """
     w = L * math.tan(theta)
     xy = [(0.0, 0.0), (-w, L), (0.0, L), (w, L)]
@@ -409,16 +453,17 @@ def test_c5_uniform_stiffness_is_said_once_per_part() -> None:
 def braced_square(L: float, P: float, sections=(), layers=None) -> tuple[Truss, dict[str, int]]:
     """docs/methods.md, check case C6: square ABCD with both diagonals, pin A, roller (y) B, P at C along AC.
 
-        D-----C
-        | \\ / |
-        | / \\ |
-        A-----B
+    D-----C
+    | \\ / |
+    | / \\ |
+    A-----B
     """
     xy = [(0, 0), (L, 0), (L, L), (0, L)]
     names = {"AB": (0, 1), "BC": (1, 2), "CD": (2, 3), "DA": (0, 3), "AC": (0, 2), "BD": (1, 3)}
     case = case_of("diag", {2: (P / SQ2, P / SQ2)})
-    truss = make_truss(xy, list(names.values()), (Support(0, Fix.XY), Support(1, Fix.Y)), (case,),
-                       layers=layers, sections=sections)
+    truss = make_truss(
+        xy, list(names.values()), (Support(0, Fix.XY), Support(1, Fix.Y)), (case,), layers=layers, sections=sections
+    )
     return truss, {k: i for i, k in enumerate(names)}
 
 
@@ -454,8 +499,12 @@ def test_c6_matches_force_method_with_unequal_sections() -> None:
 
 def open_square(loads: dict[int, tuple[float, float]]) -> Truss:
     """docs/methods.md, check case C7a: C6 without diagonals; pin A (0), roller (y) B (1); sway mode of C, D."""
-    return make_truss([(0, 0), (1, 0), (1, 1), (0, 1)], [(0, 1), (1, 2), (2, 3), (0, 3)],
-                      (Support(0, Fix.XY), Support(1, Fix.Y)), (case_of("c", loads),))
+    return make_truss(
+        [(0, 0), (1, 0), (1, 1), (0, 1)],
+        [(0, 1), (1, 2), (2, 3), (0, 3)],
+        (Support(0, Fix.XY), Support(1, Fix.Y)),
+        (case_of("c", loads),),
+    )
 
 
 def test_c7a_sway_load_excites_mechanism() -> None:
@@ -509,8 +558,15 @@ def test_mechanism_with_capped_modes_is_never_silent() -> None:
 def straight_through(ea_left: float, ea_right: float, load: tuple[float, float]) -> Truss:
     """docs/methods.md, check case C7b: o----o----o, joints (0,0), (1,0), (2,0), both ends pinned."""
     sections = (Section("LEFT", 1.0, ea_left), Section("RIGHT", 1.0, ea_right))
-    return make_truss([(0, 0), (1, 0), (2, 0)], [(0, 1), (1, 2)], (Support(0, Fix.XY), Support(2, Fix.XY)),
-                      (case_of("c", {1: load}),), layers=("LEFT", "RIGHT"), sections=sections, force_unit="N")
+    return make_truss(
+        [(0, 0), (1, 0), (2, 0)],
+        [(0, 1), (1, 2)],
+        (Support(0, Fix.XY), Support(2, Fix.XY)),
+        (case_of("c", {1: load}),),
+        layers=("LEFT", "RIGHT"),
+        sections=sections,
+        force_unit="N",
+    )
 
 
 def test_c7b_load_along_line_is_carried() -> None:
@@ -522,8 +578,7 @@ def test_c7b_load_along_line_is_carried() -> None:
     result, findings = solve(truss, truss.cases[0])
     assert not [f for f in findings if f.code in (Code.LOAD_EXCITES_MECHANISM, Code.NEAR_MECHANISM)]
     assert result.forces == pytest.approx([3.0, -1.0], rel=1e-12)
-    assert reaction_map(result) == {0: pytest.approx((-3.0, 0.0), abs=1e-12),
-                                    2: pytest.approx((-1.0, 0.0), abs=1e-12)}
+    assert reaction_map(result) == {0: pytest.approx((-3.0, 0.0), abs=1e-12), 2: pytest.approx((-1.0, 0.0), abs=1e-12)}
     # docs/methods.md, SVD item 3: the force method gives the same bar forces
     assert result.forces == pytest.approx(force_method(truss, truss.cases[0], member_ea(truss)), rel=1e-10)
     # the displacement of a mechanism part is not unique: NaN, not a number
@@ -543,8 +598,12 @@ def test_c7b_transverse_load_excites_mechanism() -> None:
 def test_c7c_kinked_joint_force_amplification() -> None:
     # docs/methods.md, check case C7c: offset delta/L = 1e-6, unit transverse load -> bar force 1/(2 delta/L)
     for rel in (1e-2, 1e-4, 1e-6):
-        truss = make_truss([(0, 0), (1, rel), (2, 0)], [(0, 1), (1, 2)], (Support(0, Fix.XY), Support(2, Fix.XY)),
-                           (case_of("c", {1: (0.0, 1.0)}),))
+        truss = make_truss(
+            [(0, 0), (1, rel), (2, 0)],
+            [(0, 1), (1, 2)],
+            (Support(0, Fix.XY), Support(2, Fix.XY)),
+            (case_of("c", {1: (0.0, 1.0)}),),
+        )
         result, _ = solve(truss, truss.cases[0])
         expected = math.hypot(1.0, rel) / (2 * rel)  # exact statics of the kinked pair
         assert result.forces == pytest.approx([expected, expected], rel=1e-8)
@@ -559,8 +618,7 @@ def test_singular_matrix_called_determinate_is_never_silent(degrees: float) -> N
     # says determinate.
     c, s = math.cos(math.radians(degrees)), math.sin(math.radians(degrees))
     xy = np.array([(0.0, 0.0), (1.0, 0.0), (2.0, 0.0)]) @ np.array([[c, s], [-s, c]])
-    truss = make_truss(xy, [(0, 1), (1, 2)], (Support(0, Fix.XY), Support(2, Fix.XY)),
-                       (case_of("c", {1: (0.3, 1.0)}),))
+    truss = make_truss(xy, [(0, 1), (1, 2)], (Support(0, Fix.XY), Support(2, Fix.XY)), (case_of("c", {1: (0.3, 1.0)}),))
     wrong = counted_stability(truss, truss.parts[0])
     result, findings = solve_case(truss, [wrong], truss.cases[0])
     (near,) = [f for f in findings if f.code is Code.NEAR_MECHANISM]
@@ -575,8 +633,17 @@ def test_singular_matrix_called_determinate_is_never_silent(degrees: float) -> N
 # C9 and C12
 # ---------------------------------------------------------------------------------------
 
-C9_JOINTS = {"A": (0, 0), "B": (4, 0), "C": (8, 0), "D": (12, 0), "H": (0, 3), "F": (4, 3), "E": (8, 3),
-             "G": (0, 6), "I": (6, 1.5)}
+C9_JOINTS = {
+    "A": (0, 0),
+    "B": (4, 0),
+    "C": (8, 0),
+    "D": (12, 0),
+    "H": (0, 3),
+    "F": (4, 3),
+    "E": (8, 3),
+    "G": (0, 6),
+    "I": (6, 1.5),
+}
 C9_BARS = ["AH", "HG", "GF", "HF", "FE", "AB", "BC", "CD", "AF", "BF", "FI", "IC", "IE", "EC", "ED"]
 
 
@@ -598,8 +665,16 @@ def test_c9_textbook_zero_force_set_and_forces() -> None:
     seven = {idx[b] for b in ("HG", "GF", "BF", "IE", "ED", "EC", "CD")}
     assert set(result.zero_by_rule) == seven
     assert set(result.zero_by_solution) == seven
-    expected = {"AH": 10.0, "HF": 31.6667, "FE": 5.0, "AB": -13.3333, "BC": -13.3333, "AF": -16.6667,
-                "FI": 16.6667, "IC": 16.6667}
+    expected = {
+        "AH": 10.0,
+        "HF": 31.6667,
+        "FE": 5.0,
+        "AB": -13.3333,
+        "BC": -13.3333,
+        "AF": -16.6667,
+        "FI": 16.6667,
+        "IC": 16.6667,
+    }
     for bar in C9_BARS:
         assert result.forces[idx[bar]] == pytest.approx(expected.get(bar, 0.0), abs=1e-4)
     reac = reaction_map(result)
@@ -620,13 +695,40 @@ def test_c12_symmetric_antisymmetric_split() -> None:
     rf, _ = solve(truss, full, symmetry_axis=axis)
     rs, _ = solve(truss, sym, symmetry_axis=axis)
     ra, _ = solve(truss, anti, symmetry_axis=axis)
-    table_full = {"B1": 6.75, "B2": 11.25, "B3": 6.75, "B4": 2.25, "T1": -13.5, "T2": -9.0, "T3": -4.5,
-                  "Dl1": -11.25, "Dr1": 11.25, "Dl2": 3.75, "Dr2": -3.75, "Dl3": 3.75, "Dr3": -3.75,
-                  "Dl4": 3.75, "Dr4": -3.75}
+    table_full = {
+        "B1": 6.75,
+        "B2": 11.25,
+        "B3": 6.75,
+        "B4": 2.25,
+        "T1": -13.5,
+        "T2": -9.0,
+        "T3": -4.5,
+        "Dl1": -11.25,
+        "Dr1": 11.25,
+        "Dl2": 3.75,
+        "Dr2": -3.75,
+        "Dl3": 3.75,
+        "Dr3": -3.75,
+        "Dl4": 3.75,
+        "Dr4": -3.75,
+    }
     for name, value in table_full.items():
         assert rf.forces[idx[name]] == pytest.approx(value, abs=1e-12)
-    table_sym = {"T1": -9.0, "T2": -9.0, "T3": -9.0, "B1": 4.5, "B4": 4.5, "B2": 9.0, "B3": 9.0,
-                 "Dl1": -7.5, "Dr1": 7.5, "Dl2": 0.0, "Dr2": 0.0, "Dl3": 0.0, "Dr3": 0.0}
+    table_sym = {
+        "T1": -9.0,
+        "T2": -9.0,
+        "T3": -9.0,
+        "B1": 4.5,
+        "B4": 4.5,
+        "B2": 9.0,
+        "B3": 9.0,
+        "Dl1": -7.5,
+        "Dr1": 7.5,
+        "Dl2": 0.0,
+        "Dr2": 0.0,
+        "Dl3": 0.0,
+        "Dr3": 0.0,
+    }
     for name, value in table_sym.items():
         assert rs.forces[idx[name]] == pytest.approx(value, abs=1e-12)
     for name, value in {"T2": 0.0, "T1": -4.5, "T3": 4.5}.items():
@@ -649,14 +751,24 @@ def _cross2(a: np.ndarray, b: np.ndarray) -> float:
     return float(a[0] * b[1] - a[1] * b[0])
 
 
-def henneberg_truss(rng: np.random.Generator, n_joints: int, *, integer: bool = False, extra: int = 0,
-                    pins_only: bool = False, n_loads: int = 2, layers=None, sections=()) -> Truss | None:
+def henneberg_truss(
+    rng: np.random.Generator,
+    n_joints: int,
+    *,
+    integer: bool = False,
+    extra: int = 0,
+    pins_only: bool = False,
+    n_loads: int = 2,
+    layers=None,
+    sections=(),
+) -> Truss | None:
     """A random rigid truss grown by Henneberg type-1 steps (a new joint, two new bars).
 
     Generic positions make it rigid with probability 1; ``extra`` random bars make it
     indeterminate. Pin at joint 0, roller (y) at joint 1 (or a second pin). Returns None
     when a step came out nearly degenerate.
     """
+
     def point() -> np.ndarray:
         return rng.integers(0, 12, 2).astype(float) if integer else rng.uniform(0.0, 10.0, 2)
 
@@ -684,8 +796,9 @@ def henneberg_truss(rng: np.random.Generator, n_joints: int, *, integer: bool = 
         loads[int(jnt)] = tuple(rng.integers(-9, 10, 2).astype(float)) if integer else tuple(rng.normal(0, 5, 2))
     supports = (Support(0, Fix.XY), Support(1, Fix.XY if pins_only else Fix.Y))
     lay = None if layers is None else [layers[e % len(layers)] for e in range(len(ends))]
-    return make_truss(np.array(xy), ends, supports, (case_of("rand", loads),), layers=lay, sections=sections,
-                      force_unit="N")
+    return make_truss(
+        np.array(xy), ends, supports, (case_of("rand", loads),), layers=lay, sections=sections, force_unit="N"
+    )
 
 
 def sympy_forces(truss: Truss) -> list[float] | None:
@@ -832,8 +945,9 @@ def test_two_parts_one_excited() -> None:
     xy = [(0, 0), (10, 0), (10, 10), (20, 0), (21, 0), (22, 0)]
     ends = [(0, 1), (1, 2), (0, 2), (3, 4), (4, 5)]
     case = case_of("mix", {2: (2.0, 1.0), 4: (0.0, -1.0)})
-    truss = make_truss(xy, ends, (Support(0, Fix.XY), Support(1, Fix.Y), Support(3, Fix.XY), Support(5, Fix.XY)),
-                       (case,))
+    truss = make_truss(
+        xy, ends, (Support(0, Fix.XY), Support(1, Fix.Y), Support(3, Fix.XY), Support(5, Fix.XY)), (case,)
+    )
     result, findings = solve(truss, case)
     assert result.solved_parts == (0,)
     assert result.forces[:3] == pytest.approx([0.0, -1.0, 2 * SQ2], abs=1e-12)  # docs/methods.md, check case C4

@@ -26,8 +26,9 @@ def make_truss(xy, ends, supports=()) -> Truss:
     return one_part_truss(xy, ends, supports)
 
 
-def pratt(n: int = 6, a: float = 4.0, h: float = 3.0, x0: float = 0.0, roller: Fix = Fix.Y,
-          flip: int | None = None) -> Truss:
+def pratt(
+    n: int = 6, a: float = 4.0, h: float = 3.0, x0: float = 0.0, roller: Fix = Fix.Y, flip: int | None = None
+) -> Truss:
     """docs/methods.md, check case C1 layout (tests/trusses.pratt_arrays), pin L0, roller at Ln, optionally
     one diagonal flipped."""
     xy, named = pratt_arrays(n, a, h, x0=x0, flip=flip)
@@ -139,8 +140,11 @@ def test_property_mirrored_half_is_found(seed: int) -> None:
     supports = (Support(0, Fix.XY), Support(k, Fix.Y), Support(2 * k, Fix.Y))
     order = rng.permutation(xy.shape[0])  # joint numbering must not matter
     inverse = np.argsort(order)
-    truss = make_truss(xy[order], [(inverse[i], inverse[j]) for i, j in sorted(pairs)],
-                       tuple(Support(int(inverse[s.joint]), s.fix) for s in supports))
+    truss = make_truss(
+        xy[order],
+        [(inverse[i], inverse[j]) for i, j in sorted(pairs)],
+        tuple(Support(int(inverse[s.joint]), s.fix) for s in supports),
+    )
     assert find_mirror_axis(truss) == pytest.approx(c)
     moved = truss.xy.copy()
     moved[inverse[0], 1] += 0.25

@@ -1,6 +1,5 @@
 """Unit parsing: exact tables and strict refusal of anything ambiguous."""
 
-
 import pytest
 
 from dxftruss.errors import ConfigError

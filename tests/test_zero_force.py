@@ -49,15 +49,21 @@ SMALL_JOINT_CASES = [
     #    0---1      joint 2 unloaded and unsupported; pin 0, roller (y) 1 loaded (1, -1)
     pytest.param([(0, 0), (4, 0), (2, 3)], [(0, 1), (0, 2), (1, 2)], {1: (1, -1)}, [(0, 2), (1, 2)], id="rule-1"),
     # with the load at the pin instead, joint 1 becomes a member + roller joint: 0-1 too
-    pytest.param([(0, 0), (4, 0), (2, 3)], [(0, 1), (0, 2), (1, 2)], {0: (1, -1)}, [(0, 1), (0, 2), (1, 2)],
-                 id="rule-1-load-at-pin"),
+    pytest.param(
+        [(0, 0), (4, 0), (2, 3)],
+        [(0, 1), (0, 2), (1, 2)],
+        {0: (1, -1)},
+        [(0, 1), (0, 2), (1, 2)],
+        id="rule-1-load-at-pin",
+    ),
     # Baker & Haynes 6.3: the three-force version of rule 2 covers a two-member joint
     # loaded along one member -> the other member is zero
     #   2
     #   |\        joint 2: members 2-0 (vertical) and 2-1; load straight down at 2
     #   0-1       then joint 1 (member 0-1 and a roller, unloaded) makes 0-1 zero too
-    pytest.param([(0, 0), (3, 0), (0, 4)], [(0, 1), (0, 2), (1, 2)], {2: (0, -5)}, [(1, 2), (0, 1)],
-                 id="load-along-one-member"),
+    pytest.param(
+        [(0, 0), (3, 0), (0, 4)], [(0, 1), (0, 2), (1, 2)], {2: (0, -5)}, [(1, 2), (0, 1)], id="load-along-one-member"
+    ),
     # a load across both members: nothing at joint 2, and joint 1 (0-1, 1-2, roller, no
     # two of them parallel) is not decidable either -> empty
     pytest.param([(0, 0), (3, 0), (0, 4)], [(0, 1), (0, 2), (1, 2)], {2: (2, -5)}, [], id="load-across-both"),
@@ -87,14 +93,16 @@ def test_rule_2_three_members_two_collinear() -> None:
     truss, case = make_truss(
         [(0, 0), (2, 0), (4, 0), (0, 2), (4, 2)],
         [(0, 1), (1, 2), (0, 3), (2, 4), (3, 4), (1, 3), (1, 4)],
-        (Support(0, Fix.XY), Support(2, Fix.XY)), {3: (1, -1), 4: (1, -1)},
+        (Support(0, Fix.XY), Support(2, Fix.XY)),
+        {3: (1, -1), 4: (1, -1)},
     )
     # joint 1 has 0-1, 1-2 (collinear), 1-3 and 1-4: four members, no rule
     assert zero_force_by_rule(truss, case) == ()
     truss, case = make_truss(
         [(0, 0), (2, 0), (4, 0), (0, 2), (4, 2)],
         [(0, 1), (1, 2), (0, 3), (2, 4), (3, 4), (1, 3), (0, 4)],
-        (Support(0, Fix.XY), Support(2, Fix.XY)), {3: (1, -1), 4: (1, -1)},
+        (Support(0, Fix.XY), Support(2, Fix.XY)),
+        {3: (1, -1), 4: (1, -1)},
     )
     assert set(zero_force_by_rule(truss, case)) == members_named(truss, [(1, 3)])
 
@@ -138,8 +146,9 @@ def pratt(n: int, a: float = 4.0, h: float = 3.0, P: float = 10.0, *, howe: bool
     """docs/methods.md, check case C1 layout (C2 with ``howe``): L_i = i, U_i = n + 1 + i; pin L0, roller (y) Ln,
     P down at L1..L(n-1)."""
     xy, named = pratt_arrays(n, a, h, howe=howe)
-    truss, case = make_truss(xy, list(named.values()), (Support(0, Fix.XY), Support(n, Fix.Y)),
-                             dict.fromkeys(range(1, n), (0.0, -P)))
+    truss, case = make_truss(
+        xy, list(named.values()), (Support(0, Fix.XY), Support(n, Fix.Y)), dict.fromkeys(range(1, n), (0.0, -P))
+    )
     return truss, case, {k: i for i, k in enumerate(named)}
 
 
@@ -161,23 +170,38 @@ def test_c2_howe_rules() -> None:
 def test_c9_textbook_seven_members() -> None:
     # docs/methods.md, check case C9: Baker & Haynes 6.3 zero-force member example; book's answer GH, FG, BF,
     # EI, DE, EC, CD, reproduced by the iterated general rule (EC needs two passes)
-    pts = {"A": (0, 0), "B": (4, 0), "C": (8, 0), "D": (12, 0), "H": (0, 3), "F": (4, 3), "E": (8, 3),
-           "G": (0, 6), "I": (6, 1.5)}
+    pts = {
+        "A": (0, 0),
+        "B": (4, 0),
+        "C": (8, 0),
+        "D": (12, 0),
+        "H": (0, 3),
+        "F": (4, 3),
+        "E": (8, 3),
+        "G": (0, 6),
+        "I": (6, 1.5),
+    }
     names = list(pts)
     j = {k: i for i, k in enumerate(names)}
     bars = ["AH", "HG", "GF", "HF", "FE", "AB", "BC", "CD", "AF", "BF", "FI", "IC", "IE", "EC", "ED"]
-    truss, case = make_truss([pts[k] for k in names], [(j[b[0]], j[b[1]]) for b in bars],
-                             (Support(j["H"], Fix.XY), Support(j["A"], Fix.X)),
-                             {j["C"]: (0.0, -10.0), j["E"]: (5.0, 0.0)})
+    truss, case = make_truss(
+        [pts[k] for k in names],
+        [(j[b[0]], j[b[1]]) for b in bars],
+        (Support(j["H"], Fix.XY), Support(j["A"], Fix.X)),
+        {j["C"]: (0.0, -10.0), j["E"]: (5.0, 0.0)},
+    )
     found = {bars[e] for e in zero_force_by_rule(truss, case)}
     assert found == {"HG", "GF", "BF", "IE", "ED", "EC", "CD"}
     # docs/methods.md, check case C9 says the set does not depend on which of A/H is the pin. With the pin at A
     # and the x-roller at H, joint H keeps AH (vertical), HF and the roller (both
     # horizontal) once HG is gone, so AH is zero as well (joint equilibrium in y; the
     # solution agrees). The book's seven stay.
-    truss2, case2 = make_truss([pts[k] for k in names], [(j[b[0]], j[b[1]]) for b in bars],
-                               (Support(j["A"], Fix.XY), Support(j["H"], Fix.X)),
-                               {j["C"]: (0.0, -10.0), j["E"]: (5.0, 0.0)})
+    truss2, case2 = make_truss(
+        [pts[k] for k in names],
+        [(j[b[0]], j[b[1]]) for b in bars],
+        (Support(j["A"], Fix.XY), Support(j["H"], Fix.X)),
+        {j["C"]: (0.0, -10.0), j["E"]: (5.0, 0.0)},
+    )
     assert {bars[e] for e in zero_force_by_rule(truss2, case2)} == found | {"AH"}
     result, _ = solve_case(truss2, [svd_stability(truss2, truss2.parts[0], with_modes=False)], case2)
     assert {bars[e] for e in result.zero_by_solution} == found | {"AH"}

@@ -87,9 +87,21 @@ def svd_stability(truss: Truss, part: Part, *, with_modes: bool = True) -> PartS
             modes.append(Mode(tuple(int(j) for j in part.joints[move]), d[move] / amp.max(), False))
     smin = float(s[rank - 1]) if rank else None
     return PartStability(
-        part=part.index, j=len(part.joints), m=len(part.members), r=cols - len(part.members), rank=rank,
-        mechanisms=k, self_stress=ss, generic_mechanisms=k, generic_self_stress=ss, verdict=verdict,
-        sigma_min=smin, sigma_max=smax, rank_gap=None, modes=tuple(modes), method="dense-svd",
+        part=part.index,
+        j=len(part.joints),
+        m=len(part.members),
+        r=cols - len(part.members),
+        rank=rank,
+        mechanisms=k,
+        self_stress=ss,
+        generic_mechanisms=k,
+        generic_self_stress=ss,
+        verdict=verdict,
+        sigma_min=smin,
+        sigma_max=smax,
+        rank_gap=None,
+        modes=tuple(modes),
+        method="dense-svd",
     )
 
 

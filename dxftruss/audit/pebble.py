@@ -389,9 +389,7 @@ def _ground_edges(first: int, count: int) -> np.ndarray:
     if count < 2:
         return np.zeros((0, 2), dtype=np.int64)
     i = np.arange(2, count)
-    strip = np.concatenate(
-        [np.array([[0, 1]]), np.column_stack([i - 2, i]), np.column_stack([i - 1, i])]
-    )
+    strip = np.concatenate([np.array([[0, 1]]), np.column_stack([i - 2, i]), np.column_stack([i - 1, i])])
     strip = strip[np.lexsort((strip[:, 0], strip[:, 1]))]
     return strip + first
 

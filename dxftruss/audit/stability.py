@@ -388,8 +388,7 @@ def analyse_part(
         findings.append(
             Finding(
                 Code.MECHANISM,
-                f"part {p + 1} has {more} more independent mechanism{'s' if more > 1 else ''} not listed "
-                f"({k} in all)",
+                f"part {p + 1} has {more} more independent mechanism{'s' if more > 1 else ''} not listed ({k} in all)",
                 data={"part": p, "more": more, "mechanisms": k},
             )
         )
@@ -522,7 +521,5 @@ def _generic_only(
                 data={"part": p, "mode": None, "rigid": False, "special_geometry": False, "generic_only": True},
             )
         )
-    st = PartStability(
-        p, j, m, r, generic.rank, k, s, k, s, verdict, None, None, None, (), "generic", None, False
-    )
+    st = PartStability(p, j, m, r, generic.rank, k, s, k, s, verdict, None, None, None, (), "generic", None, False)
     return st, findings

@@ -120,8 +120,14 @@ def near_misses(truss: Truss, *, near_miss: float, snap: float) -> list[Finding]
     along = np.minimum(t, 1 - t) * np.hypot(d[:, 0], d[:, 1])
     inside = np.flatnonzero((t > 0) & (t < 1) & (gap > snap) & (along > near_miss))
     if len(inside) > MAX_LISTED or not complete:
-        out.append(_more(Code.NEAR_MISS, min(len(inside), MAX_LISTED), len(inside) if complete else None,
-                         "joints close to a member they are not joined to"))
+        out.append(
+            _more(
+                Code.NEAR_MISS,
+                min(len(inside), MAX_LISTED),
+                len(inside) if complete else None,
+                "joints close to a member they are not joined to",
+            )
+        )
     inside = inside[:MAX_LISTED]
     for j, m, g in zip(pj[inside], e[inside], gap[inside], strict=True):
         out.append(
@@ -168,8 +174,14 @@ def unjoined_crossings(truss: Truss, *, snap: float) -> list[Finding]:
     out = []
     hits = np.flatnonzero(ok)
     if len(hits) > MAX_LISTED or not complete:
-        out.append(_more(Code.UNJOINED_CROSSING, min(len(hits), MAX_LISTED), len(hits) if complete else None,
-                         "crossings without a joint"))
+        out.append(
+            _more(
+                Code.UNJOINED_CROSSING,
+                min(len(hits), MAX_LISTED),
+                len(hits) if complete else None,
+                "crossings without a joint",
+            )
+        )
     for i in hits[:MAX_LISTED]:
         x = a[i] + t[i] * r[i]
         m1, m2 = int(p[i]), int(q[i])

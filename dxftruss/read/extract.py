@@ -153,7 +153,7 @@ class _Extractor:
 
         self.doc = doc
         self.tilt_tol = tilt_tol
-        self.failures = _ENTITY_FAILURES + (DXFError,)
+        self.failures: tuple[type[BaseException], ...] = (*_ENTITY_FAILURES, DXFError)
         self.base_points: dict[str, tuple[float, float, float]] = {}
 
     def base_point(self, name: str) -> tuple[float, float, float]:
@@ -180,7 +180,7 @@ class _Extractor:
         if line_pos:
             dxf = [ents[i].dxf for i in line_pos]
             n = len(dxf)
-            pts.extend(chain.from_iterable(zip([d.start for d in dxf], [d.end for d in dxf])))
+            pts.extend(chain.from_iterable(zip([d.start for d in dxf], [d.end for d in dxf], strict=True)))
             seg_ent.extend(range(n))
             ent_type.extend(["LINE"] * n)
             ent_handle.extend([d.handle or "" for d in dxf])
@@ -189,7 +189,7 @@ class _Extractor:
             ent_nseg.extend([1] * n)
             ent_tilted.extend([False] * n)
             ent_bad.extend([""] * n)
-        for pos, (e, t) in enumerate(zip(ents, types)):
+        for pos, (e, t) in enumerate(zip(ents, types, strict=True)):
             if t == "LINE":
                 continue
             try:
@@ -301,10 +301,8 @@ class _Extractor:
             c.others[key] = c.others.get(key, 0) + 1
             return
         spline_fit = bool(e.dxf.flags & 4)  # SPLINE_FIT_VERTICES_ADDED
-        if spline_fit:  # only the fitted vertices are drawn, not the frame (flag 16)
-            verts = [v for v in e.vertices if not (v.dxf.flags & 16)]
-        else:
-            verts = list(e.vertices)
+        # with fitted vertices only those are drawn, not the frame (flag 16)
+        verts = [v for v in e.vertices if not (v.dxf.flags & 16)] if spline_fit else list(e.vertices)
         if e.is_2d_polyline:
             elevation = float(e.dxf.elevation.z)
             xyb = [(float(v.dxf.location.x), float(v.dxf.location.y), float(v.dxf.bulge)) for v in verts]

@@ -19,10 +19,7 @@ class _PlainTexts:
         key = id(e)
         if key not in self.cache:
             try:
-                if e.dxftype() == "MTEXT":
-                    text = e.plain_text(fast=False)
-                else:
-                    text = e.plain_text()
+                text = e.plain_text(fast=False) if e.dxftype() == "MTEXT" else e.plain_text()
             except self.failures:
                 text = str(e.dxf.get("text", ""))
             self.cache[key] = str(text)

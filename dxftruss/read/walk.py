@@ -144,7 +144,7 @@ class _Reader:
             return []
         layers = ins.layer if inherited is None else [inherited if s == "0" else s for s in ins.layer]
         groups: dict[tuple[str, str], list[int]] = {}
-        for i, (nm, el) in enumerate(zip(ins.name, layers)):
+        for i, (nm, el) in enumerate(zip(ins.name, layers, strict=True)):
             groups.setdefault((nm.upper(), el), []).append(i)
         tasks: list[_Task] = []
         for (key, el), rows in groups.items():
@@ -180,7 +180,7 @@ class _Reader:
             self.limits.count_entities(n_inst * (len(plain) + n_cells) * content.n_entities)
             new = _child_batch(ins, plain, arrays, batch)
             if new is not None:
-                tasks.append(_Task(key, new, el, stack + (key,), content))
+                tasks.append(_Task(key, new, el, (*stack, key), content))
         return tasks
 
 

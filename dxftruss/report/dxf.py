@@ -23,13 +23,11 @@ What goes on the result layers (entities valid in every DXF version, R12 include
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
-
 import math
 import os
 import re
 from collections.abc import Callable
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
@@ -81,10 +79,7 @@ def text_height(
 ) -> float:
     """Text height in drawing units: ``height_fraction`` x the extent diagonal of the
     joints, at most ``member_fraction`` x the median member length; 1.0 if degenerate."""
-    if len(xy):
-        diag = float(np.hypot(*(xy.max(axis=0) - xy.min(axis=0))))
-    else:
-        diag = 0.0
+    diag = float(np.hypot(*(xy.max(axis=0) - xy.min(axis=0)))) if len(xy) else 0.0
     h = height_fraction * diag
     if len(lengths):
         med = float(np.median(lengths))
@@ -249,7 +244,6 @@ def _annotate(
             added.append(msp.add_circle((x, y), 0.9 * h, dxfattribs={"layer": layer, "color": color}))
             text(str(n), (x, y), layer, color, 0.9 * h)
             text(f.code.value, (x + 1.2 * h, y), layer, color, 0.6 * h, align=TextEntityAlignment.MIDDLE_LEFT)
-
 
 
 def _legalise_names(doc: Any, renamed: tuple[tuple[str, str, str], ...]) -> Callable[[], None]:

@@ -7,12 +7,10 @@ so the same input and options always give byte-identical JSON.
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
-
 import json
 import math
 import re
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
@@ -127,7 +125,7 @@ def report_dict(result: Result) -> dict[str, Any]:
                 "rank_gap": _num(st.rank_gap) if st.rank_gap is not None else None,
                 "rank_method": st.method,
             }
-            for p, st in zip(t.parts, result.stability)
+            for p, st in zip(t.parts, result.stability, strict=True)
         ],
         "findings": [
             {
@@ -166,7 +164,7 @@ def _case(result: Result, c: CaseResult) -> dict[str, Any]:
             for ld in case.loads
         ],
         "reactions": [{"joint": joint_id(j), "fx": _num(rx), "fy": _num(ry)} for j, rx, ry in c.reactions],
-        "forces": dict(zip((member_id(e) for e in range(len(c.forces))), _nums(c.forces))),
+        "forces": dict(zip((member_id(e) for e in range(len(c.forces))), _nums(c.forces), strict=True)),
         "zero_force": {
             "by_rule": [member_id(e) for e in c.zero_by_rule],
             "by_solution": [member_id(e) for e in c.zero_by_solution],

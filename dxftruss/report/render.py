@@ -19,12 +19,10 @@ Heavy imports (ezdxf, its drawing add-on, reportlab) live inside the functions.
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
-
 import os
 from collections.abc import Iterable
 from dataclasses import dataclass, field
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 

@@ -60,12 +60,18 @@ def summary(result: Result, *, max_findings: int = 40, width: int = 110, color: 
 
     parts = Table(box=box.SIMPLE_HEAD, title="parts", title_justify="left", pad_edge=False)
     for col in ("part", "j", "m", "r", "rank", "mechanisms", "self-stress", "verdict"):
-        parts.add_column(col, justify="right" if col not in ("verdict",) else "left")
-    for p, st in zip(t.parts, result.stability):
+        parts.add_column(col, justify="right" if col != "verdict" else "left")
+    for p, st in zip(t.parts, result.stability, strict=True):
         style = "red" if st.mechanisms else ("yellow" if st.self_stress else "green")
         parts.add_row(
-            str(p.index + 1), str(st.j), str(st.m), str(st.r), str(st.rank), str(st.mechanisms),
-            str(st.self_stress), _text(st.verdict.value.upper(), style=style),
+            str(p.index + 1),
+            str(st.j),
+            str(st.m),
+            str(st.r),
+            str(st.rank),
+            str(st.mechanisms),
+            str(st.self_stress),
+            _text(st.verdict.value.upper(), style=style),
         )
     if t.parts:
         con.print(parts)
@@ -92,14 +98,18 @@ def summary(result: Result, *, max_findings: int = 40, width: int = 110, color: 
         ft.add_column("message", overflow="fold")
         sev_style = {Severity.ERROR: "red", Severity.WARNING: "yellow", Severity.INFO: "dim"}
         for i, f in enumerate(result.findings[:max_findings], 1):
-            ft.add_row(str(i), _text(f.severity.value, style=sev_style[f.severity]), _text(f.code.value), _text(f.message))
+            ft.add_row(
+                str(i), _text(f.severity.value, style=sev_style[f.severity]), _text(f.code.value), _text(f.message)
+            )
         con.print(ft)
         if len(result.findings) > max_findings:
             con.print(_text(f"  ... and {len(result.findings) - max_findings} more (see the JSON or PDF report)"))
 
     fu = t.force_unit
     if result.cases:
-        ct = Table(box=box.SIMPLE_HEAD, title=f"load cases (forces in {fu}, tension +)", title_justify="left", pad_edge=False)
+        ct = Table(
+            box=box.SIMPLE_HEAD, title=f"load cases (forces in {fu}, tension +)", title_justify="left", pad_edge=False
+        )
         for col in ("case", "largest tension", "largest compression", "reactions", "zero-force members"):
             ct.add_column(col, overflow="fold")
         notes = []
@@ -125,7 +135,9 @@ def summary(result: Result, *, max_findings: int = 40, width: int = 110, color: 
                 zeros += f" ({by_rule} by the joint rules alone)"
             ct.add_row(_text(name), _text(tension), _text(compression), _text(reactions), _text(zeros or "-"))
             if c.loads_symmetric is False and result.symmetry_axis is not None:
-                notes.append(f"case {c.name!r}: the truss is symmetric but this load is not: the reactions will not split evenly")
+                notes.append(
+                    f"case {c.name!r}: the truss is symmetric but this load is not: the reactions will not split evenly"
+                )
             if len(c.solved_parts) < len(t.parts):
                 notes.append(f"case {c.name!r}: solved {len(c.solved_parts)} of {len(t.parts)} parts (see findings)")
         con.print(ct)

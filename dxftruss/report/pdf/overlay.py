@@ -158,7 +158,7 @@ class _Overlay:
             c.setStrokeGray(0.15)
             c.setLineWidth(2.6)
             c.setLineCap(1)
-            stroke_segments(c, np.column_stack([jp, jp + [0.01, 0.0]]))
+            stroke_segments(c, np.column_stack([jp, jp + np.array([0.01, 0.0])]))
             c.restoreState()
         for x, y in jp.tolist()[:50000]:
             self.placer.block(((x - 1.5, y - 1.5), (x + 1.5, y - 1.5), (x + 1.5, y + 1.5), (x - 1.5, y + 1.5)))
@@ -500,7 +500,8 @@ def _case_summary(ctx: _Context, case: Any) -> list[str]:
         if fs[ec] < 0:
             out.append(f"largest compression {fmt_force(fs[ec])} {fu} in {member_id(ec)}")
         out.append(
-            f"zero-force members: {len(case.zero_by_solution)} by the solution, {len(case.zero_by_rule)} by the joint rules"
+            f"zero-force members: {len(case.zero_by_solution)} by the solution, "
+            f"{len(case.zero_by_rule)} by the joint rules"
         )
     else:
         out.append("not solved (see the findings)")

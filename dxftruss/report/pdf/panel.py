@@ -72,7 +72,7 @@ def _panel_items(
     items += extra
     # verdicts
     items.append(_Item("h", "Verdict per part"))
-    for shown, (p, st) in enumerate(zip(t.parts, r.stability)):
+    for shown, (p, st) in enumerate(zip(t.parts, r.stability, strict=True)):
         if shown >= 8:
             items.append(_Item("s", f"... and {len(t.parts) - shown} more parts (see the parts table)"))
             break
@@ -134,7 +134,7 @@ def _flow_panel(pg: _Page, rect: tuple[float, float, float, float], items: list[
     pos: list[tuple[int, float]] = []
     col, y = 0, y0 + h - GAP
     overflow = False
-    for kind, _payload, lh in lines:
+    for _kind, _payload, lh in lines:
         if y - lh < y0 + GAP:
             col += 1
             y = y0 + h - GAP
@@ -144,8 +144,8 @@ def _flow_panel(pg: _Page, rect: tuple[float, float, float, float], items: list[
         pos.append((col, y))
         y -= lh
     if overflow and pos:  # the last line that fitted becomes the note
-        lines = lines[: len(pos) - 1] + [("s", "... more on the findings and tables pages", 8.2)]
-    for (kind, payload, lh), (col, y) in zip(lines, pos):
+        lines = [*lines[: len(pos) - 1], ("s", "... more on the findings and tables pages", 8.2)]
+    for (kind, payload, lh), (col, y) in zip(lines, pos, strict=False):
         x = x0 + GAP + col * (colw + GAP)
         if kind == "title":
             pg.text(x, y - lh + 3, payload, size=10, bold=True)

@@ -269,7 +269,7 @@ def _tables_section(ctx: _Context, flow: _Flow, *, max_rows: int) -> None:
             st.verdict.value,
             st.method,
         ]
-        for p, st in zip(t.parts[:max_rows], r.stability)
+        for p, st in zip(t.parts[:max_rows], r.stability, strict=False)
     ]
     flow.table(cols, prow)
 
