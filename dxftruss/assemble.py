@@ -25,9 +25,9 @@ from scipy.spatial import cKDTree
 from .errors import ConfigError, LimitError
 from .escape import shown
 from .findings import Code, Finding
-from .labels import LabelReading, comma_style, read_label
+from .labels import CommaStyle, LabelReading, comma_style, read_label
 from .loadsfile import DEFAULT_CASE, LoadEntry, LoadsSpec, SupportEntry, check_combinations
-from .model import Fix, Load, LoadCase, Part, Source, Support, Truss, joint_id
+from .model import Fix, Load, LoadCase, LoadOrigin, Part, Source, Support, Truss, joint_id
 from .read import LineWork
 from .snap import Geometry
 from .units import FORCE_UNITS
@@ -253,13 +253,13 @@ def build_truss(
             combos_using[case].append(combo.name)
     case_loads: dict[str, list[Load]] = defaultdict(list)
     unread: Counter[str] = Counter()
-    texts_by_layer: dict[str, list] = defaultdict(list)
-    for t in linework.texts:
-        texts_by_layer[t.layer.upper()].append(t)
-    labels = {layer: _Labels(texts) for layer, texts in texts_by_layer.items()}
-    no_labels = _Labels([])
-    comma = comma_style(t.text for t in linework.texts)
+    # the comma style is decided from the load layers' texts (dimension texts elsewhere
+    # write other numbers)
+    comma = comma_style(t.text for t in linework.texts if t.layer.upper().startswith("LOAD"))
     newtons = FORCE_UNITS[force_unit]
+    labels = _Labels(linework.texts, comma=comma, force_unit=force_unit, newtons=newtons)
+    # every load line on a joint, with its head, tail and the text chosen for it
+    arrows: list[tuple] = []
     for mark in linework.loads:
         if mark.case in ignored_cases:
             continue
@@ -276,26 +276,54 @@ def build_truss(
                 )
             )
             continue
+        arrows.append((mark, head, tail, j, labels.choose(mark.layer, head, tail)))
+    # one force label is the label of one arrow: the one whose tail is nearest to it
+    owner: dict[int, int] = {}
+    for k, (*_, pick) in enumerate(arrows):
+        if pick is not None and not labels.shareable(pick[0]):
+            i = pick[0]
+            if i not in owner or pick[1] < arrows[owner[i]][4][1]:
+                owner[i] = k
+    for k, (mark, head, tail, j, pick) in enumerate(arrows):
         vec = np.subtract(head, tail)
         length = float(np.hypot(*vec))
         where = f"load line ({shown(mark.layer)}, handle {shown(mark.handle)}) at {joint_id(j)}"
         data = {"handle": mark.handle, "case": mark.case}
         not_solved = _not_solved_note(mark.case, combos_using)
-        text = labels.get(mark.layer.upper(), no_labels).nearest(mark.start, mark.end)
-        if text is None or length == 0:
+        taken = pick is not None and owner.get(pick[0], k) != k
+        if pick is None or length == 0 or taken:
             unread[mark.case] += 1
-            why = "no text on its layer" if text is None else "it is drawn with zero length, so it has no direction"
+            if pick is None:
+                why = (
+                    f"no text on its layer within {labels.reach_note(length)} of its tail, nor a force with its unit "
+                    "on another layer"
+                )
+            elif taken:
+                assert pick is not None
+                other = arrows[owner[pick[0]]]
+                tm = labels.texts[pick[0]]
+                why = (
+                    f"its nearest text '{shown(tm.text)}' (handle {shown(tm.handle)}) is shared with the load line "
+                    f"(handle {shown(other[0].handle)}) at {joint_id(other[3])}, which is nearer to it and takes it; "
+                    "one force label is not used for two arrows: write a label beside each arrow"
+                )
+            else:
+                why = "it is drawn with zero length, so it has no direction"
             findings.append(
                 Finding(
                     Code.LOAD_WITHOUT_VALUE,
                     f"{where} has no magnitude: {why}; {not_solved}",
                     joints=(j,),
                     at=tail,
-                    data=data,
+                    data={**data, "shared": True} if taken else data,
                 )
             )
             continue
-        reading = read_label(text, comma=comma, default_force_unit=force_unit, default_force_newtons=newtons)
+        assert pick is not None
+        tm = labels.texts[pick[0]]
+        text = str(tm.text)
+        origin = LoadOrigin("text", text=text, at=(tm.x, tm.y), handle=tm.handle, layer=tm.layer)
+        reading = labels.reading(pick[0])
         problem = _label_problem(reading)
         if problem is not None:
             unread[mark.case] += 1
@@ -305,7 +333,7 @@ def build_truss(
                     f"{where}: cannot read its label '{shown(text)}': {problem}; {not_solved}",
                     joints=(j,),
                     at=tail,
-                    data={**data, "label": text},
+                    data={**data, "label": text, "label_handle": tm.handle},
                 )
             )
             continue
@@ -313,6 +341,11 @@ def build_truss(
         notes = list(reading.assumptions)
         if reading.negative:
             notes.append("the minus sign is not used: the arrow gives the direction")
+        if pick[2]:
+            notes.append(
+                f"the label is the force with its unit on layer '{shown(tm.layer)}' (handle {shown(tm.handle)}): "
+                f"the load's own layer has no text within reach of its tail"
+            )
         if notes:
             findings.append(
                 Finding(
@@ -325,13 +358,14 @@ def build_truss(
                 )
             )
         u = vec / length
-        case_loads[mark.case].append(Load(j, float(value * u[0]), float(value * u[1]), Source.DRAWING, text))
+        case_loads[mark.case].append(Load(j, float(value * u[0]), float(value * u[1]), Source.DRAWING, text, origin))
     for case in unread:
         case_loads.setdefault(case, [])
     if spec:
         load_joints = _file_joints(tree, xy, spec, "load", near_miss, length_unit)
         for entry, j in zip(spec.loads, load_joints, strict=True):
-            case_loads[entry.case].append(Load(j, entry.fx, entry.fy, Source.LOADS_FILE))
+            origin = LoadOrigin("loads-file", entry=entry.number)
+            case_loads[entry.case].append(Load(j, entry.fx, entry.fy, Source.LOADS_FILE, None, origin))
 
     cases = [LoadCase(name, tuple(case_loads[name]), unread=unread[name]) for name in sorted(case_loads)]
     if spec:
@@ -339,7 +373,7 @@ def build_truss(
         by_name = {c.name: c for c in cases}
         for combo in spec.combinations:
             loads = [
-                Load(ld.joint, factor * ld.fx, factor * ld.fy, ld.source, ld.label)
+                Load(ld.joint, factor * ld.fx, factor * ld.fy, ld.source, ld.label, ld.origin)
                 for case, factor in combo.factors
                 for ld in by_name[case].loads
             ]
@@ -384,41 +418,76 @@ def build_truss(
 
 
 class _Labels:
-    """The load labels of one layer with a k-d tree, for "the nearest text to a line"."""
+    """All texts of the drawing with a k-d tree, for "which text belongs to which arrow"
+    (docs/load-labels.md, Which text belongs to which arrow).
 
-    #: at most this many texts are measured exactly per load line (bounded work when a
-    #: drawing holds thousands of labels around very long load lines)
+    A text reaches an arrow when its insertion point is within ``max(L, 3 h)`` of the
+    arrow's tail (L the arrow's length, h the text's height). The nearest text on the
+    load's own layer within reach is its label; when there is none, the nearest text
+    on any other layer within reach that reads as a force written with its unit.
+    """
+
+    #: at most this many texts are measured per arrow (bounded work when a drawing
+    #: holds thousands of texts around one point)
     MAX_CANDIDATES = 256
+    #: a text reaches this many times its height from an arrow's tail (when more than
+    #: the arrow's length)
+    HEIGHTS = 3.0
 
-    def __init__(self, texts: list) -> None:
-        self.texts = texts
-        self.xy = np.array([[t.x, t.y] for t in texts], dtype=float).reshape(-1, 2)
-        self.tree = cKDTree(self.xy) if len(texts) else None
+    def __init__(self, texts: tuple | list, *, comma: CommaStyle | None, force_unit: str, newtons: float) -> None:
+        self.texts = list(texts)
+        self.xy = np.array([[t.x, t.y] for t in self.texts], dtype=float).reshape(-1, 2)
+        self.height = np.array([float(getattr(t, "height", 0.0)) for t in self.texts], dtype=float)
+        self.layer = [t.layer.upper() for t in self.texts]
+        self.tree = cKDTree(self.xy) if self.texts else None
+        self.max_height = float(self.height.max()) if self.texts else 0.0
+        self.comma, self.force_unit, self.newtons = comma, force_unit, newtons
+        self.readings: dict[int, LabelReading] = {}
 
-    def nearest(self, start: tuple[float, float], end: tuple[float, float]) -> str | None:
-        """The text nearest to the segment start-end (None when the layer has none).
+    def reading(self, i: int) -> LabelReading:
+        r = self.readings.get(i)
+        if r is None:
+            r = self.readings[i] = read_label(
+                self.texts[i].text,
+                comma=self.comma,
+                default_force_unit=self.force_unit,
+                default_force_newtons=self.newtons,
+            )
+        return r
 
-        Candidates: every text within (distance from the midpoint to its nearest text +
-        half the length) of the midpoint - the nearest text to the segment is among them.
-        """
+    def shareable(self, i: int) -> bool:
+        """A per-length label may label a row of arrows; a force labels one."""
+        return self.reading(i).kind == "per-length"
+
+    def reach_note(self, length: float) -> str:
+        return f"{length:.6g} (its length) or {self.HEIGHTS:g} text heights"
+
+    def choose(
+        self, layer: str, head: tuple[float, float], tail: tuple[float, float]
+    ) -> tuple[int, float, bool] | None:
+        """(text index, distance from the tail, from another layer) of the label of the
+        arrow head-tail on ``layer``; None when no text qualifies."""
         if self.tree is None:
             return None
-        a, b = np.asarray(start, float), np.asarray(end, float)
-        mid, d = (a + b) / 2, b - a
-        d0, _ = self.tree.query(mid)
-        if not np.isfinite(d0):
-            return None
-        cand = np.asarray(self.tree.query_ball_point(mid, d0 + float(np.hypot(*d)) / 2 + 1e-12), dtype=np.int64)
-        if len(cand) > self.MAX_CANDIDATES or len(cand) == 0:
-            _, cand = self.tree.query(mid, k=min(self.MAX_CANDIDATES, len(self.texts)))
-            cand = np.atleast_1d(cand)
-        p = self.xy[cand]
-        dd = float(d @ d)
-        t = np.clip(((p - a) @ d) / dd, 0.0, 1.0) if dd > 0 else np.zeros(len(p))
-        dist = np.hypot(*(p - (a + t[:, None] * d)).T)
-        order = np.lexsort((cand, dist))  # ties: the earlier text in the drawing
-        best = self.texts[int(cand[order[0]])]
-        return str(best.text)
+        length = float(np.hypot(head[0] - tail[0], head[1] - tail[1]))
+        reach = max(length, self.HEIGHTS * self.max_height)
+        k = min(self.MAX_CANDIDATES, len(self.texts))
+        dist, idx = self.tree.query(tail, k=k, distance_upper_bound=reach * (1 + 1e-12) + 1e-12)
+        dist, idx = np.atleast_1d(dist), np.atleast_1d(idx)
+        ok = idx < len(self.texts)
+        dist, idx = dist[ok], idx[ok]
+        within = dist <= np.maximum(length, self.HEIGHTS * self.height[idx]) * (1 + 1e-12)
+        dist, idx = dist[within], idx[within]
+        order = np.lexsort((idx, dist))  # ties: the earlier text in the drawing
+        up = layer.upper()
+        for o in order:
+            if self.layer[int(idx[o])] == up:
+                return int(idx[o]), float(dist[o]), False
+        for o in order:
+            r = self.reading(int(idx[o]))
+            if r.kind == "force" and not r.bare:
+                return int(idx[o]), float(dist[o]), True
+        return None
 
 
 def _fix_name(dirs: set[int]) -> str:

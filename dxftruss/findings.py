@@ -51,6 +51,8 @@ class Code(str, Enum):
     UNSUPPORTED_GEOMETRY = "unsupported-geometry"
     LOAD_LABEL_UNCLEAR = "load-label-unclear"
     LOAD_LABEL_ASSUMPTION = "load-label-assumption"
+    SUPPORT_FROM_BLOCK = "support-from-block"
+    INCLINED_SUPPORT = "inclined-support"
 
     @property
     def severity(self) -> Severity:
@@ -86,6 +88,8 @@ _SEVERITY: dict[Code, Severity] = {
     Code.UNSUPPORTED_GEOMETRY: _W,  # e.g. 3-D line work flattened, block cycle, missing block
     Code.LOAD_LABEL_UNCLEAR: _E,  # a drawn load's label cannot be read exactly: its case is not solved
     Code.LOAD_LABEL_ASSUMPTION: _W,  # a label read with an assumption: mass via g, bare number, sign ignored
+    Code.SUPPORT_FROM_BLOCK: _I,  # a block reference read as a support by its name / attribute, or not (unclear)
+    Code.INCLINED_SUPPORT: _E,  # a roller block at an angle: inclined restraints are not modelled, not used
 }
 
 

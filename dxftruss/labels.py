@@ -141,6 +141,7 @@ class LabelReading:
     negative     the label carried a minus sign (the value is the magnitude)
     assumptions  sentences saying what was assumed (mass through gravity, default unit)
     problem      why the label cannot be read and what to write instead (kind "unclear")
+    bare         a force read from a number written without a unit (default unit taken)
     """
 
     text: str
@@ -151,6 +152,7 @@ class LabelReading:
     negative: bool = False
     assumptions: tuple[str, ...] = ()
     problem: str | None = None
+    bare: bool = False
 
     def force(self, unit_newtons: float) -> float:
         """The magnitude of a force in a unit of ``unit_newtons`` N; ValueError otherwise."""
@@ -400,6 +402,7 @@ def read_label(
             written=n.raw,
             negative=n.negative,
             assumptions=tuple(assumptions),
+            bare=True,
         )
     name, kind, factor, note = _classify_unit(unit)
     if kind == "ambiguous":

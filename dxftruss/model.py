@@ -58,11 +58,26 @@ class Support:
 
 
 @dataclass(frozen=True)
+class LoadOrigin:
+    """Where a load's value was read: a drawn text (``kind`` "text": the text as
+    written, its insertion point, handle and layer) or a loads-file entry (``kind``
+    "loads-file": the ``[[load]]`` entry's number, 1-based)."""
+
+    kind: str
+    text: str | None = None
+    at: tuple[float, float] | None = None
+    handle: str | None = None
+    layer: str | None = None
+    entry: int | None = None
+
+
+@dataclass(frozen=True)
 class Load:
     """A joint load in the force unit; +x right, +y up.
 
     ``label`` is the text a drawn load was read from (None for loads-file and default
-    loads), so reports can name it.
+    loads), so reports can name it; ``origin`` says where its value came from (None
+    for default loads).
     """
 
     joint: int
@@ -70,6 +85,7 @@ class Load:
     fy: float
     source: Source = Source.DRAWING
     label: str | None = None
+    origin: LoadOrigin | None = None
 
 
 @dataclass(frozen=True)

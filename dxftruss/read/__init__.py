@@ -47,7 +47,8 @@ from pathlib import Path
 from typing import Any
 
 from ..errors import InputError
-from ..findings import Finding
+from ..escape import shown
+from ..findings import Code, Finding
 from ..units import INSUNITS
 from .boundary import _one_line
 from .linework import LineWork, LoadMark, SupportMark, TextMark
@@ -159,6 +160,7 @@ def read_drawing(
     if repaired is not None:
         findings.append(repaired)
     findings.extend(_findings(reader.problems, seg, z, handles))
+    findings.extend(_block_support_findings(reader.placed.block_notes))
     if recovered:  # the recovery reader's audit ran before the walk and removed these
         removed = _removed_block_references(auditor)
         if removed:
@@ -186,3 +188,27 @@ def read_drawing(
         findings=tuple(findings),
         recovered=recovered,
     )
+
+
+def _block_support_findings(
+    notes: list[tuple[int, int, str, str, str, str, str, tuple[float, float]]],
+) -> list[Finding]:
+    """``support-from-block`` (read as a support, or not because its words are unclear)
+    and ``inclined-support`` findings for block references named as supports."""
+    out: list[Finding] = []
+    for *_, status, block, why, handle, layer, at in sorted(notes, key=lambda n: (n[0], n[1])):
+        where = f"block reference '{shown(block)}' (layer {shown(layer)}, handle {shown(handle)})"
+        data = {"block": block, "handle": handle, "layer": layer, "status": status, "why": why}
+        if status in ("pin", "roller"):
+            msg = f"{where} read as a {status} support: {why}"
+            out.append(Finding(Code.SUPPORT_FROM_BLOCK, msg, at=at, data=data))
+        elif status == "unclear":
+            msg = f"{where} is not read as a support: {why}"
+            out.append(Finding(Code.SUPPORT_FROM_BLOCK, msg, at=at, data=data))
+        else:
+            msg = (
+                f"{where} is a roller at an angle ({why}): inclined restraints are not modelled, so it is not used; "
+                "draw it level (restrains y) or upright (restrains x), or give the support in the loads file"
+            )
+            out.append(Finding(Code.INCLINED_SUPPORT, msg, at=at, data=data))
+    return out

@@ -38,6 +38,8 @@ class _Inserts:
     grid: dict[int, tuple[int, int, float, float, float, tuple[float, ...], tuple[float, ...]]] = field(
         default_factory=dict
     )
+    #: per row with attributes: (ATTRIB entity, handle, layer, position in the layout)
+    attribs: dict[int, list[tuple[Any, str, str, tuple[float, float, float]]]] = field(default_factory=dict)
     mats: np.ndarray = field(default_factory=lambda: np.zeros((0, 4, 4)))
     point: np.ndarray = field(default_factory=lambda: np.zeros((0, 3)))
     handles: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=object))
@@ -337,7 +339,10 @@ class _Extractor:
             params = (math.nan,) * 10
             slow = (np.array(list(e.matrix44()), dtype=float).reshape(4, 4), _xyz(ocs.to_wcs(p)))
             ux, uy = _xyz(ocs.to_wcs(X_AXIS)), _xyz(ocs.to_wcs(Y_AXIS))
+        atts = [(a, a.dxf.handle or "", a.dxf.layer, _xyz(a.ocs().to_wcs(a.dxf.insert))) for a in e.attribs]
         # everything read: commit the row
+        if atts:
+            t.attribs[i] = atts
         t.params.append(params)
         if slow is not None:
             t.slow[i] = slow

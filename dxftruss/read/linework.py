@@ -19,6 +19,10 @@ class SupportMark:
     fix: Fix
     handle: str
     layer: str
+    #: for a support read from a block reference's name or attribute (any layer):
+    #: the block name and the words that made it a support; "" otherwise
+    block: str = ""
+    why: str = ""
 
 
 @dataclass(frozen=True)
@@ -39,6 +43,8 @@ class TextMark:
     text: str
     layer: str
     handle: str
+    #: character height in drawing units (0 when unknown)
+    height: float = 0.0
 
 
 @dataclass(frozen=True)

@@ -92,6 +92,9 @@ class _Placed:
         self.supports: list[tuple[int, int, SupportMark]] = []
         self.loads: list[tuple[int, int, LoadMark]] = []
         self.texts: list[tuple[int, int, TextMark]] = []
+        #: block references read as supports or refused as such, for the findings:
+        #: (order, seq, status "pin" | "roller" | "unclear" | "inclined", block, why, handle, layer, (x, y))
+        self.block_notes: list[tuple[int, int, str, str, str, str, str, tuple[float, float]]] = []
         self.seq = 0
 
     def next_seq(self) -> int:
@@ -129,15 +132,18 @@ class _Placed:
         pos: int,
         batch: _Batch | None,
         problems: _Problems,
+        height: float = 0.0,
     ) -> None:
         w = _points_to_wcs(p, batch)
+        # a placement scales the text height by the square root of its area scale
+        scale = np.ones(len(w)) if batch is None else np.sqrt(np.abs(np.linalg.det(batch.mats[:, :2, :2])))
         for i in range(len(w)):
             hh = h if batch is None else str(batch.handles[i])
             order = pos if batch is None else int(batch.order[i])
             if not problems.ok_point(w[i]):
                 problems.bad_point(t, hh, layer)
                 continue
-            mark = TextMark(float(w[i, 0]), float(w[i, 1]), text, layer, hh)
+            mark = TextMark(float(w[i, 0]), float(w[i, 1]), text, layer, hh, float(height * scale[i]))
             self.texts.append((order, self.next_seq(), mark))
 
     def line_work_arrays(self) -> tuple[np.ndarray, tuple[str, ...], tuple[str, ...], np.ndarray]:
@@ -213,6 +219,16 @@ def _place_line_work(
         _note_tilt(c, is_member, batch, problems)
 
     lm = rows.ok & is_load[rows.ent]
+    if batch is not None and np.count_nonzero(lm) > n_inst:
+        # an arrow drawn as a block: its longest line is the load (the head's short
+        # strokes are not loads); one per placement, the first of equal lengths
+        sel = np.flatnonzero(lm)
+        d = rows.xyz[sel]
+        length = np.hypot(d[:, 3] - d[:, 0], d[:, 4] - d[:, 1])
+        order_ = np.lexsort((sel, -length, rows.inst[sel]))
+        first = np.r_[True, rows.inst[sel][order_][1:] != rows.inst[sel][order_][:-1]]
+        lm = np.zeros_like(lm)
+        lm[np.sort(sel[order_][first])] = True
     for row, le, lj in zip(rows.xyz[lm], rows.ent[lm].tolist(), rows.inst[lm].tolist(), strict=True):
         h = c.ent_handle[le] if batch is None else str(batch.handles[lj])
         order = c.ent_pos[le] if batch is None else int(batch.order[lj])

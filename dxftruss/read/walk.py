@@ -12,15 +12,18 @@ anything they limit is built.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
 
+from ..model import Fix
 from .boundary import _xyz
 from .extract import _Content, _Extractor
-from .layers import _layer_role, _LayerRole, _Role
+from .layers import _layer_role, _LayerRole, _Role, _support_kind
 from .limits import _Limits
+from .linework import SupportMark
 from .place import _Batch, _child_batch, _place_line_work, _Placed, _points_to_wcs
 from .problems import _Problems
 from .text import _PlainTexts
@@ -123,9 +126,23 @@ class _Reader:
             el = eff(layer)
             r = self.role(el)
             if r.role in (_Role.LOAD, _Role.LOAD_OTHER):
-                placed.add_texts(t, self.plain_text.get(e), p, h, el, pos, batch, problems)
+                placed.add_texts(t, self.plain_text.get(e), p, h, el, pos, batch, problems, _height(e))
             elif r.role is not _Role.SKIP:
+                # not a label of its own layer, but kept: a force with its unit may label a
+                # load line on another layer (docs/load-labels.md, Which text belongs to which arrow)
+                placed.add_texts(t, self.plain_text.get(e), p, h, el, pos, batch, problems, _height(e))
                 problems.ignore(t, el, n_inst)
+
+        # ATTRIB values of a block reference are texts at the attribute's position, on the
+        # reference's layer when that is a load layer (else on the attribute's own layer)
+        ins = c.inserts
+        for i, atts in ins.attribs.items():
+            el_ins = eff(ins.layer[i])
+            for a, h, layer, p in atts:
+                el = el_ins if self.role(el_ins).role in (_Role.LOAD, _Role.LOAD_OTHER) else eff(layer)
+                if self.role(el).role in (_Role.SKIP, _Role.RESERVED, _Role.SUPPORT):
+                    continue
+                placed.add_texts("ATTRIB", self.plain_text.get(a), p, h, el, ins.pos[i], batch, problems, _height(a))
 
         for (t, layer), n in c.others.items():
             el = eff(layer)
@@ -150,6 +167,10 @@ class _Reader:
         for (key, el), rows in groups.items():
             name = ins.name[rows[0]]
             r = self.role(el)
+            if r.role not in (_Role.SUPPORT, _Role.SKIP):
+                rows = self.block_supports(name, el, rows, ins, batch)
+                if not rows:
+                    continue
             if r.role is _Role.SUPPORT:  # support symbols: insertion points; content not read
                 assert r.fix is not None
                 for i in rows:
@@ -182,6 +203,72 @@ class _Reader:
             if new is not None:
                 tasks.append(_Task(key, new, el, (*stack, key), content))
         return tasks
+
+    def block_supports(self, name: str, el: str, rows: list[int], ins: Any, batch: _Batch | None) -> list[int]:
+        """Read the references ``rows`` whose block name or attribute values use the
+        trade words as supports (content not read, as on the support layers); the
+        rows that are not supports."""
+        rest: list[int] = []
+        for i in rows:
+            texts = [self.plain_text.get(a) for a, *_ in ins.attribs.get(i, ())]
+            kind, why = _support_kind(name, texts)
+            if kind is None:
+                if why:
+                    at = _points_to_wcs(_xyz(ins.point[i]), batch)
+                    for k in range(len(at)):
+                        hh = ins.handle[i] if batch is None else str(batch.handles[k])
+                        order = ins.pos[i] if batch is None else int(batch.order[k])
+                        xy = (float(at[k, 0]), float(at[k, 1]))
+                        self.placed.block_notes.append(
+                            (order, self.placed.next_seq(), "unclear", name, why, hh, el, xy)
+                        )
+                rest.append(i)
+                continue
+            world = _child_batch(ins, [i] if i not in ins.grid else [], [i] if i in ins.grid else [], batch)
+            if world is None:
+                continue
+            base = np.asarray(self.extractor.base_point(name), dtype=float)
+            pts = base @ world.mats[:, :3, :3] + world.mats[:, 3, :3]
+            for k in range(len(pts)):
+                hh = str(world.handles[k]) if batch is not None else ins.handle[i]
+                order = int(world.order[k])
+                if not self.problems.ok_point(pts[k]):
+                    self.problems.bad_point("INSERT", hh, el)
+                    continue
+                xy = (float(pts[k, 0]), float(pts[k, 1]))
+                fix = Fix.XY
+                if kind == "roller":
+                    # the block's x axis is the roller's base; it restrains the normal to it
+                    ax, ay = float(world.mats[k, 0, 0]), float(world.mats[k, 0, 1])
+                    angle = math.degrees(math.atan2(ay, ax)) % 180.0
+                    if min(angle, 180.0 - angle) <= _ANGLE_TOL:
+                        fix = Fix.Y
+                    elif abs(angle - 90.0) <= _ANGLE_TOL:
+                        fix = Fix.X
+                    else:
+                        note = f"{why}; its base is at {angle:.6g} degrees"
+                        self.placed.block_notes.append(
+                            (order, self.placed.next_seq(), "inclined", name, note, hh, el, xy)
+                        )
+                        continue
+                self.placed.supports.append(
+                    (order, self.placed.next_seq(), SupportMark(xy[0], xy[1], fix, hh, el, block=name, why=why))
+                )
+                self.placed.block_notes.append((order, self.placed.next_seq(), kind, name, why, hh, el, xy))
+        return rest
+
+
+#: a roller block within this many degrees of level (or of plumb) restrains y (or x)
+_ANGLE_TOL = 1e-6
+
+
+def _height(e: Any) -> float:
+    """Character height of a TEXT, ATTRIB or MTEXT (0 when it cannot be read)."""
+    try:
+        h = float(e.dxf.get("char_height" if e.dxftype() == "MTEXT" else "height", 0.0))
+    except (TypeError, ValueError):
+        return 0.0
+    return h if math.isfinite(h) and h > 0 else 0.0
 
 
 def _count_origin_lines(c: _Content) -> int:

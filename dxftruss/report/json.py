@@ -14,7 +14,7 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
-from ..model import joint_id, member_id
+from ..model import LoadOrigin, joint_id, member_id
 from . import CAUTION, assumptions
 
 if TYPE_CHECKING:
@@ -160,6 +160,7 @@ def _case(result: Result, c: CaseResult) -> dict[str, Any]:
                 "fy": _num(ld.fy),
                 "source": ld.source.value,
                 "label": ld.label,
+                "label_source": _origin(ld.origin),
             }
             for ld in case.loads
         ],
@@ -190,3 +191,18 @@ def to_json(result: Result) -> str:
 
 
 _UNSAFE = re.compile("[\u007f-\u009f\u061c\u200b-\u200f\u2028-\u202e\u2060-\u2069\ufeff\ud800-\udfff]")
+
+
+def _origin(o: LoadOrigin | None) -> dict[str, Any] | None:
+    """Where a load's value came from (docs/report-format.md, label_source)."""
+    if o is None:
+        return None
+    if o.kind == "loads-file":
+        return {"kind": "loads-file", "entry": o.entry}
+    return {
+        "kind": "text",
+        "text": o.text,
+        "at": [_num(o.at[0]), _num(o.at[1])] if o.at is not None else None,
+        "handle": o.handle,
+        "layer": o.layer,
+    }
