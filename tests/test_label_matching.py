@@ -84,6 +84,22 @@ def test_attrib_of_an_arrow_block_gives_the_force(tmp_path: Path) -> None:
     assert r[joint_at(res, 0, 0)][1] == pytest.approx(4.25) and r[joint_at(res, 4, 0)][1] == pytest.approx(4.25)
 
 
+def test_a_block_of_two_arrows_is_two_loads(tmp_path: Path) -> None:
+    # shafts (0,0)-(0,2) and (4,0)-(4,2) share no end: both are loads (only a short
+    # stroke at a longer line's end is an arrow head)
+    doc = new_doc()
+    blk = doc.blocks.new("TWO_ARROWS")
+    blk.add_line((0, 2), (0, 0))
+    blk.add_line((4, 2), (4, 0))
+    blk.add_line((0, 0), (0.15, 0.3))
+    doc.modelspace().add_blockref("TWO_ARROWS", (0, 0), dxfattribs={"layer": "LOAD"})
+    text(doc, "3 kN", (0.2, 2.1))
+    text(doc, "4 kN", (4.2, 2.1))
+    res = run(doc, tmp_path)
+    got = sorted((f"J{ld.joint + 1}", round(ld.fy, 9)) for ld in res.truss.cases[0].loads)
+    assert got == sorted([(joint_at(res, 0, 0), -3.0), (joint_at(res, 4, 0), -4.0)])
+
+
 def test_force_with_unit_on_another_layer_is_used_and_named(tmp_path: Path) -> None:
     doc = new_doc()
     doc.modelspace().add_line((2, 5), (2, 3), dxfattribs={"layer": "LOAD"})

@@ -6,9 +6,14 @@ Glossary:
                    and POLYLINE segments, also inside block references).
     member layer   any layer except the reserved ``SUPPORT*`` and ``LOAD*`` layers,
                    optionally narrowed by ``--layers`` globs.
-    support mark   a POINT, CIRCLE or INSERT on SUPPORT-XY / SUPPORT-X / SUPPORT-Y.
-    load mark      a LINE on LOAD or LOAD-<case>; its label is the nearest TEXT or
-                   MTEXT on the same layer.
+    support mark   a POINT, CIRCLE or INSERT on SUPPORT-XY / SUPPORT-X / SUPPORT-Y, or
+                   an INSERT on any layer whose block name or ATTRIB value says pin,
+                   pinned, hinge, roller or sliding as a whole word (layers.py).
+    load mark      a LINE on LOAD or LOAD-<case> (of a block reference there: its
+                   longest line); its label is chosen among the texts when joints are
+                   known (assemble.py, docs/load-labels.md).
+    text mark      a TEXT, MTEXT or ATTRIB value on a load or member layer, with its
+                   height: a label candidate.
     effective layer the layer an entity is shown on: its own, except that layer "0"
                    inside a block takes the layer of the INSERT that places the block.
     instance       one placement of a block's content in model space (one INSERT, one

@@ -220,15 +220,7 @@ def _place_line_work(
 
     lm = rows.ok & is_load[rows.ent]
     if batch is not None and np.count_nonzero(lm) > n_inst:
-        # an arrow drawn as a block: its longest line is the load (the head's short
-        # strokes are not loads); one per placement, the first of equal lengths
-        sel = np.flatnonzero(lm)
-        d = rows.xyz[sel]
-        length = np.hypot(d[:, 3] - d[:, 0], d[:, 4] - d[:, 1])
-        order_ = np.lexsort((sel, -length, rows.inst[sel]))
-        first = np.r_[True, rows.inst[sel][order_][1:] != rows.inst[sel][order_][:-1]]
-        lm = np.zeros_like(lm)
-        lm[np.sort(sel[order_][first])] = True
+        lm = _without_head_strokes(rows, lm)
     for row, le, lj in zip(rows.xyz[lm], rows.ent[lm].tolist(), rows.inst[lm].tolist(), strict=True):
         h = c.ent_handle[le] if batch is None else str(batch.handles[lj])
         order = c.ent_pos[le] if batch is None else int(batch.order[lj])
@@ -244,6 +236,38 @@ def _place_line_work(
         w = _points_to_wcs(mid, batch)
         for h, j, n in _per_handle(c, ai, batch, np.arange(n_inst)):
             problems.arc((h, scope, ai, c.ent_type[ai]), layers[ai], narcs * n, w[j], spline_fit)
+
+
+def _without_head_strokes(rows: _Rows, lm: np.ndarray) -> np.ndarray:
+    """An arrow drawn as a block: a load line of a placement that starts or ends at an
+    end of a longer load line of that placement, and is at most half its length, is a
+    stroke of that arrow's head, not a load. Other lines (a block of several arrows)
+    stay loads."""
+    keep = lm.copy()
+    sel = np.flatnonzero(lm)
+    inst = rows.inst[sel]
+    for i in np.unique(inst).tolist():
+        mine = sel[inst == i]
+        if len(mine) < 2:
+            continue
+        d = rows.xyz[mine][:, [0, 1, 3, 4]]
+        length = np.hypot(d[:, 2] - d[:, 0], d[:, 3] - d[:, 1])
+        kept: list[int] = []
+        for k in np.lexsort((mine, -length)).tolist():
+            ends_k = d[k].reshape(2, 2)
+            stroke = False
+            for q in kept:
+                tol = 1e-9 * max(float(length[q]), 1.0)
+                ends_q = d[q].reshape(2, 2)
+                touch = np.min(np.hypot(*(ends_k[:, None, :] - ends_q[None, :, :]).transpose(2, 0, 1))) <= tol
+                if touch and length[k] <= 0.5 * length[q]:
+                    stroke = True
+                    break
+            if stroke:
+                keep[mine[k]] = False
+            else:
+                kept.append(k)
+    return keep
 
 
 def _rows(c: _Content, batch: _Batch | None, n_inst: int, used: np.ndarray, max_coordinate: float) -> _Rows:
