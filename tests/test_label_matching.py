@@ -272,3 +272,32 @@ def test_unclear_block_name_is_not_a_support(tmp_path: Path, name: str) -> None:
     assert Code.ASSUMED_SUPPORTS.value in codes(res)  # no support was read
     (f,) = [f for f in res.findings if f.code is Code.SUPPORT_FROM_BLOCK]
     assert f.data["status"] == "unclear" and f.data["handle"] == ins.dxf.handle and name in f.message
+
+
+def test_reports_with_label_sources_and_block_supports_fit_the_schema(tmp_path: Path) -> None:
+    jsonschema = pytest.importorskip("jsonschema")
+    import json
+
+    schema = json.loads((Path(__file__).resolve().parents[1] / "docs" / "report.schema.json").read_text("utf-8"))
+    validator = jsonschema.Draft202012Validator(schema)
+    doc = new_doc()
+    msp = doc.modelspace()
+    support_block(doc, "PIN")
+    support_block(doc, "ROLLER")
+    msp.add_blockref("PIN", (0, 0), dxfattribs={"layer": "SYMBOLS"})
+    msp.add_blockref("ROLLER", (4, 0), dxfattribs={"layer": "SYMBOLS", "rotation": 45})
+    msp.add_line((2, 5), (2, 3), dxfattribs={"layer": "LOAD"})
+    text(doc, "6 kN", (2.2, 4.8), layer="NOTES")
+    path = tmp_path / "t.dxf"
+    doc.saveas(path)
+    loads = tmp_path / "loads.toml"
+    loads.write_text('[drawn]\nloads = "add"\n[[load]]\nat = [2, 3]\nfy = -2\n')
+    from dxftruss.pipeline import Settings
+
+    js = to_json_dict(check(path, Settings(loads=str(loads))))
+    errors = [e.message for e in validator.iter_errors(json.loads(json.dumps(js)))]
+    assert errors == []
+    kinds = sorted(ld["label_source"]["kind"] for ld in js["cases"][0]["loads"])
+    assert kinds == ["loads-file", "text"]
+    found = {f["code"] for f in js["findings"]}
+    assert {"support-from-block", "inclined-support"} <= found
