@@ -327,6 +327,19 @@ def drawn_line_loads(
                 )
             )
             continue
+        notes = list(reading.assumptions)
+        if reading.negative:
+            notes.append("the minus sign is not used: the arrows give the direction")
+        if notes:
+            out.findings.append(
+                Finding(
+                    Code.LOAD_LABEL_ASSUMPTION,
+                    f"{where}: label '{shown(reading.text)}' read as {ll.w:.6g} N/m along the arrows: "
+                    + "; ".join(notes),
+                    at=rows[0].start,
+                    data={"case": case, "label": reading.text, "assumptions": notes},
+                )
+            )
         out.loads.append((case, ll))
     return out
 

@@ -46,6 +46,7 @@ def test_uniform_top_chord_load_matches_method_of_sections(tmp_path):
     r = pratt_with_top_load(tmp_path)
     (case,) = r.cases
     t = r.truss
+
     # Closed form (derivation, method of sections): lumping w on the top chord gives w*a/2
     # at U0 and Un (straight down the end verticals into the supports) and w*a at U1..Un-1.
     # Reactions R = w*n*a/2. Free body left of a cut at x = k*a (loads at U0..Uk-1):
@@ -69,7 +70,9 @@ def test_uniform_top_chord_load_matches_method_of_sections(tmp_path):
     # the moment at mid-span from the lumped loads by direct summation agrees with the closed form
     loads = t.cases[0].loads
     k = N // 2
-    direct = W * N * A / 2 * k * A + sum(ld.fy * (k * A - t.xy[ld.joint, 0]) for ld in loads if t.xy[ld.joint, 0] < k * A)
+    direct = W * N * A / 2 * k * A + sum(
+        ld.fy * (k * A - t.xy[ld.joint, 0]) for ld in loads if t.xy[ld.joint, 0] < k * A
+    )
     assert direct == pytest.approx(m(k), rel=1e-12)
     assert m(k) == pytest.approx(W * (N * A) ** 2 / 8, rel=1e-12)  # w L^2 / 8
 
@@ -202,7 +205,7 @@ def test_a_gap_in_the_chord_is_refused(tmp_path):
 @pytest.mark.parametrize(
     "entry, message",
     [
-        ('from = [0, 0]\nto = [1, 0]\nw = 2.5', "needs a unit"),
+        ("from = [0, 0]\nto = [1, 0]\nw = 2.5", "needs a unit"),
         ('from = [0, 0]\nto = [1, 0]\nw = "2.5 kN"', "unknown unit 'kN'"),
         ('from = [0, 0]\nto = [1, 0]\nw = "2.5 kN/m"\nmeasured = "slope"', "'measured' must be"),
         ('from = [0, 0]\nto = [1, 0]\nw = "2.5 kN/m"\ndirection = [0, 0]', "'direction' must be"),
@@ -285,3 +288,18 @@ def test_drawn_row_of_crossing_arrows_is_unclear(tmp_path):
     (unclear,) = [f for f in r.findings if f.code is Code.LOAD_LABEL_UNCLEAR]
     assert "not parallel" in unclear.message
     assert not np.isfinite(r.cases[0].forces).any()
+
+
+def test_drawn_row_minus_sign_is_said_and_the_arrows_give_the_direction(tmp_path):
+    r = drawn(tmp_path, row(label="-0.75 kN/m"))
+    (ll,) = r.truss.cases[0].line_loads
+    assert ll.total == pytest.approx((0.0, -9.0), abs=1e-12)
+    (note,) = [f for f in r.findings if f.code is Code.LOAD_LABEL_ASSUMPTION]
+    assert "minus sign" in note.message
+
+
+def test_drawn_single_per_length_arrow_is_unclear(tmp_path):
+    r = drawn(tmp_path, row(xs=[DA / 2]))
+    (unclear,) = [f for f in r.findings if f.code is Code.LOAD_LABEL_UNCLEAR]
+    assert "at least two arrows" in unclear.message
+    assert Code.LOAD_OFF_JOINT not in {f.code for f in r.findings}
