@@ -98,6 +98,11 @@ def test_lumped_loads_tributary_lengths_and_totals(tmp_path):
     assert jl["defaults"] == ["measured", "direction"]
     assert sum(j["tributary_length"] for j in jl["joints"]) == pytest.approx(N * A)
     assert jl["w"] == pytest.approx(W * 1000)  # N/m
+    from dxftruss.report.text import summary
+
+    assert "case 'snow': 1 line load(s) lumped to 9 joints by tributary length, total (0, -60) kN" in summary(
+        r, width=200
+    )
     lumped = [f for f in r.findings if f.code is Code.LINE_LOAD_LUMPED]
     assert len(lumped) == 1 and lumped[0].severity.value == "warning"
     assert "by default" in lumped[0].message and "bend" in lumped[0].message
@@ -303,3 +308,44 @@ def test_drawn_single_per_length_arrow_is_unclear(tmp_path):
     (unclear,) = [f for f in r.findings if f.code is Code.LOAD_LABEL_UNCLEAR]
     assert "at least two arrows" in unclear.message
     assert Code.LOAD_OFF_JOINT not in {f.code for f in r.findings}
+
+
+def test_reports_with_line_loads_follow_the_schema(tmp_path):
+    jsonschema = pytest.importorskip("jsonschema")
+    from pathlib import Path
+
+    schema = json.loads((Path(__file__).resolve().parents[1] / "docs" / "report.schema.json").read_text())
+    validator = jsonschema.Draft202012Validator(schema)
+    area = (
+        f'[[area_load]]\nfrom = [{N * A}, {H}]\nto = [0, {H}]\nq = "0.6 kN/m2"\nspacing = "600 mm"\n'
+        'case = "roof"\ndirection = "normal"\n[[combination]]\nname = "ULS"\nfactors = { snow = 1.5, roof = 1.35 }\n'
+    )
+    for r in (pratt_with_top_load(tmp_path, area), drawn(tmp_path, row())):
+        doc = json.loads(to_json(r))
+        errors = sorted(validator.iter_errors(doc), key=str)
+        assert not errors, errors[0]
+        assert any("line_loads" in c for c in doc["cases"])
+    # an undocumented key in a line load is rejected: the schema is strict
+    doc["cases"][0]["line_loads"][0]["extra"] = 1
+    assert list(validator.iter_errors(doc))
+
+
+def test_drawn_row_whose_end_arrow_is_between_joints_is_unclear(tmp_path):
+    # the load would start mid-member: where it starts is not guessed
+    r = drawn(tmp_path, row(xs=[DA / 2 + i * DA / 2 for i in range(2 * DN - 1)]))
+    (unclear,) = [f for f in r.findings if f.code is Code.LOAD_LABEL_UNCLEAR]
+    assert "first arrow head [1.5, 2] is not on a joint" in unclear.message
+
+
+def test_file_line_load_and_drawn_row_in_one_case_need_the_drawn_key(tmp_path):
+    dxf = write_drawing(
+        tmp_path / "row.dxf", pratt_segments(DN, DA, DH), loads=row(), supports=[(0, 0, "XY"), (DN * DA, 0, "Y")]
+    )
+    text = f'[[line_load]]\nfrom = [0, 0]\nto = [{DN * DA}, 0]\nw = "1 kN/m"\ncase = "SNOW"\n'
+    with pytest.raises(ConfigError, match="load case 'SNOW' has 9 drawn on the sheet and 1 in the loads file"):
+        check(dxf, Settings(loads=loads_file(tmp_path, text)))
+    added = check(dxf, Settings(loads=loads_file(tmp_path, '[drawn]\nloads = "add"\n' + text, "add.toml")))
+    (lc,) = added.truss.cases
+    # 0.75 kN/m on the top chord and 1 kN/m on the bottom chord, 12 m each (arithmetic)
+    assert sum(ld.fy for ld in lc.loads) == pytest.approx(-(0.75 + 1.0) * DN * DA, rel=1e-12)
+    assert len(lc.line_loads) == 2
