@@ -26,8 +26,9 @@ from .errors import ConfigError, LimitError
 from .escape import shown
 from .findings import Code, Finding
 from .labels import LabelReading, comma_style, read_label
+from .lineloads import drawn_line_loads, file_line_loads, joint_loads, lumped_finding
 from .loadsfile import DEFAULT_CASE, LoadEntry, LoadsSpec, SupportEntry, check_combinations
-from .model import Fix, Load, LoadCase, Part, Source, Support, Truss, joint_id
+from .model import Fix, LineLoad, Load, LoadCase, Part, Source, Support, Truss, joint_id
 from .read import LineWork
 from .snap import Geometry
 from .units import FORCE_UNITS
@@ -150,8 +151,12 @@ def build_truss(
     outline_tol: float,
     max_parts: int | None = None,
     source: str = "drawing",
+    snap: float | None = None,
 ) -> Truss:
     """Attach supports and loads to joints, add the defaults of docs/user-guide.md, Defaults.
+
+    ``snap`` is the tolerance a line load's members must lie on their segment within
+    (default ``outline_tol / 10``).
 
     Raises LimitError as soon as the parts are known when there are more than
     ``max_parts`` (``source`` names the drawing in the message)."""
@@ -236,6 +241,7 @@ def build_truss(
     ignored_cases: set[str] = set()
     if spec:
         file_cases = Counter(entry.case for entry in spec.loads)
+        file_cases.update(entry.case for entry in spec.line_loads)
         both = sorted(set(drawn_cases) & set(file_cases))
         if both and spec.drawn_loads is None:
             listed = "; ".join(
@@ -260,8 +266,29 @@ def build_truss(
     no_labels = _Labels([])
     comma = comma_style(t.text for t in linework.texts)
     newtons = FORCE_UNITS[force_unit]
-    for mark in linework.loads:
-        if mark.case in ignored_cases:
+    line_tol = snap if snap is not None else outline_tol / 10
+    line_loads: dict[str, list[LineLoad]] = defaultdict(list)
+    rows = drawn_line_loads(
+        linework.loads,
+        linework.texts,
+        lambda m: labels.get(m.layer.upper(), no_labels).nearest(m.start, m.end),
+        lambda text: read_label(text, comma=comma, default_force_unit=force_unit, default_force_newtons=newtons),
+        xy,
+        ends,
+        tree,
+        near_miss=near_miss,
+        snap=line_tol,
+        length_unit=length_unit,
+        force_unit=force_unit,
+        skip_cases=ignored_cases,
+        not_solved=lambda case: _not_solved_note(case, combos_using),
+    )
+    findings += rows.findings
+    unread.update(rows.unread)
+    for case, ll in rows.loads:
+        line_loads[case].append(ll)
+    for i, mark in enumerate(linework.loads):
+        if mark.case in ignored_cases or i in rows.claimed:
             continue
         d0, j0 = _nearest(tree, mark.start)
         d1, j1 = _nearest(tree, mark.end)
@@ -332,8 +359,19 @@ def build_truss(
         load_joints = _file_joints(tree, xy, spec, "load", near_miss, length_unit)
         for entry, j in zip(spec.loads, load_joints, strict=True):
             case_loads[entry.case].append(Load(j, entry.fx, entry.fy, Source.LOADS_FILE))
+        for case, ll in file_line_loads(
+            spec, tree, xy, ends, near_miss=near_miss, snap=line_tol, length_unit=length_unit, force_unit=force_unit
+        ):
+            line_loads[case].append(ll)
+    for case, lls in line_loads.items():
+        for ll in lls:
+            case_loads[case].extend(joint_loads(ll))
+            findings.append(lumped_finding(ll, case, xy, length_unit, force_unit))
 
-    cases = [LoadCase(name, tuple(case_loads[name]), unread=unread[name]) for name in sorted(case_loads)]
+    cases = [
+        LoadCase(name, tuple(case_loads[name]), unread=unread[name], line_loads=tuple(line_loads.get(name, ())))
+        for name in sorted(case_loads)
+    ]
     if spec:
         check_combinations(spec, set(case_loads))
         by_name = {c.name: c for c in cases}
@@ -351,7 +389,7 @@ def build_truss(
             blocked = sum(by_name[case].unread for case, _ in combo.factors)
             cases.append(LoadCase(combo.name, tuple(loads), factors=combo.factors, unread=blocked))
 
-    if not linework.loads and not (spec and spec.loads) and parts:
+    if not linework.loads and not (spec and (spec.loads or spec.line_loads)) and parts:
         loads = []
         for part in parts:
             for j in upper_outline_joints(xy, part.joints, tol=outline_tol):
@@ -441,13 +479,13 @@ def _label_problem(r: LabelReading) -> str | None:
     """Why a reading cannot be a drawn joint load, with what to do; None when it can."""
     if r.kind == "unclear":
         return r.problem
-    if r.kind in ("per-length", "per-area"):
-        si = "N/m" if r.kind == "per-length" else "Pa"
+    if r.kind == "per-area":
         return (
-            f"it is a load per {'length' if r.kind == 'per-length' else 'area'} "
-            f"({r.written} {r.unit} = {r.value:.6g} {si}), not a joint force; distributed loads drawn on the sheet "
-            "are not used: give them in the loads file as joint loads ([[load]])"
+            f"it is a load per area ({r.written} {r.unit} = {r.value:.6g} Pa), not a joint force; give it in the "
+            "loads file as [[area_load]] with the truss spacing"
         )
+    if r.kind == "per-length":  # only when the row finder did not take it
+        return f"it is a load per length ({r.written} {r.unit} = {r.value:.6g} N/m), not a joint force"
     return None
 
 

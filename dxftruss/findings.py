@@ -51,6 +51,7 @@ class Code(str, Enum):
     UNSUPPORTED_GEOMETRY = "unsupported-geometry"
     LOAD_LABEL_UNCLEAR = "load-label-unclear"
     LOAD_LABEL_ASSUMPTION = "load-label-assumption"
+    LINE_LOAD_LUMPED = "line-load-lumped"
 
     @property
     def severity(self) -> Severity:
@@ -86,6 +87,7 @@ _SEVERITY: dict[Code, Severity] = {
     Code.UNSUPPORTED_GEOMETRY: _W,  # e.g. 3-D line work flattened, block cycle, missing block
     Code.LOAD_LABEL_UNCLEAR: _E,  # a drawn load's label cannot be read exactly: its case is not solved
     Code.LOAD_LABEL_ASSUMPTION: _W,  # a label read with an assumption: mass via g, bare number, sign ignored
+    Code.LINE_LOAD_LUMPED: _W,  # a line load lumped to joints: the loaded members' bending is not checked
 }
 
 
