@@ -222,18 +222,23 @@ def test_unreadable_folder_or_file_is_one_line(open_dir, what):
     secret.chmod(0o000)
     env = {**os.environ, "HOME": str(tmp_path / "home"), "XDG_CONFIG_HOME": str(tmp_path / "home")}
     env["PYTHONPATH"] = str(ROOT)
-    p = subprocess.run(
-        [*prefix, sys.executable, "-m", "dxftruss", "check", str(secret), "--json", str(tmp_path / "o.json")],
+    p = _run_as(prefix, secret, tmp_path, env)
+    secret.chmod(0o755)
+    assert p.returncode == 2 and one_line(p.stderr), p.stderr
+    assert str(secret) in p.stderr and "Permission denied" in p.stderr, p.stderr
+
+
+def _run_as(prefix: list[str], drawing: Path, folder: Path, env: dict[str, str]) -> subprocess.CompletedProcess[str]:
+    """``dxftruss check DRAWING --json folder/o.json`` as the user ``prefix`` switches to."""
+    return subprocess.run(
+        [*prefix, sys.executable, "-m", "dxftruss", "check", str(drawing), "--json", str(folder / "o.json")],
         capture_output=True,
         text=True,
         timeout=120,
         env=env,
-        cwd=tmp_path,
+        cwd=folder,
         check=False,
     )
-    secret.chmod(0o755)
-    assert p.returncode == 2 and one_line(p.stderr), p.stderr
-    assert str(secret) in p.stderr and "Permission denied" in p.stderr, p.stderr
 
 
 def test_unreadable_home_folder_is_one_line(open_dir):
@@ -246,15 +251,7 @@ def test_unreadable_home_folder_is_one_line(open_dir):
     home.mkdir(mode=0o000)
     env = {**os.environ, "HOME": str(home), "PYTHONPATH": str(ROOT)}
     env.pop("XDG_CONFIG_HOME", None)
-    p = subprocess.run(
-        [*prefix, sys.executable, "-m", "dxftruss", "check", str(dxf), "--json", str(tmp_path / "o.json")],
-        capture_output=True,
-        text=True,
-        timeout=120,
-        env=env,
-        cwd=tmp_path,
-        check=False,
-    )
+    p = _run_as(prefix, dxf, tmp_path, env)
     home.chmod(0o755)
     assert p.returncode == 2 and one_line(p.stderr) and str(home) in p.stderr, p.stderr
     assert "internal error" not in p.stderr and "XDG_CONFIG_HOME" in p.stderr, p.stderr  # what to do
