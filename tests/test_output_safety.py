@@ -16,7 +16,6 @@ import json
 import os
 import shutil
 import signal
-import socket
 import stat
 import subprocess
 import sys
@@ -29,6 +28,7 @@ from dxftruss import outputs
 from dxftruss.cli import main
 
 from .drawings import pratt_segments, write_drawing
+from .fuzz import mutators as mu
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -65,21 +65,7 @@ def leftovers(folder: Path) -> list[str]:
 
 
 def _special(kind: str, d: Path) -> Path:
-    p = d / f"target-{kind}"
-    if kind == "fifo":
-        os.mkfifo(p)
-    elif kind == "socket":
-        s = socket.socket(socket.AF_UNIX)
-        s.bind(str(p))
-        s.close()
-    elif kind == "dir":
-        p.mkdir()
-    elif kind == "dangling-link":
-        p.symlink_to(d / "nowhere.json")
-    elif kind == "link-to-fifo":
-        os.mkfifo(d / "fifo")
-        p.symlink_to(d / "fifo")
-    return p
+    return mu.make_output_target(kind, d, f"target-{kind}")
 
 
 @pytest.mark.parametrize("option", ["--json", "--pdf", "--dxf"])
