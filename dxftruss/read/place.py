@@ -109,15 +109,8 @@ class _Placed:
         batch: _Batch | None,
         problems: _Problems,
     ) -> None:
-        w = _points_to_wcs(p, batch)
-        for i in range(len(w)):
-            hh = h if batch is None else str(batch.handles[i])
-            order = pos if batch is None else int(batch.order[i])
-            if not problems.ok_point(w[i]):
-                problems.bad_point(t, hh, layer)
-                continue
-            mark = SupportMark(float(w[i, 0]), float(w[i, 1]), fix, hh, layer)
-            self.supports.append((order, self.next_seq(), mark))
+        for x, y, hh, order in _placed_points(t, p, h, layer, pos, batch, problems):
+            self.supports.append((order, self.next_seq(), SupportMark(x, y, fix, hh, layer)))
 
     def add_texts(
         self,
@@ -130,15 +123,8 @@ class _Placed:
         batch: _Batch | None,
         problems: _Problems,
     ) -> None:
-        w = _points_to_wcs(p, batch)
-        for i in range(len(w)):
-            hh = h if batch is None else str(batch.handles[i])
-            order = pos if batch is None else int(batch.order[i])
-            if not problems.ok_point(w[i]):
-                problems.bad_point(t, hh, layer)
-                continue
-            mark = TextMark(float(w[i, 0]), float(w[i, 1]), text, layer, hh)
-            self.texts.append((order, self.next_seq(), mark))
+        for x, y, hh, order in _placed_points(t, p, h, layer, pos, batch, problems):
+            self.texts.append((order, self.next_seq(), TextMark(x, y, text, layer, hh)))
 
     def line_work_arrays(self) -> tuple[np.ndarray, tuple[str, ...], tuple[str, ...], np.ndarray]:
         """(segments (n, 4), handles, layers, z (n, 2)) in reading order."""
@@ -302,3 +288,27 @@ def _note_tilt(c: _Content, is_member: np.ndarray, batch: _Batch | None, problem
     tilted_ents = np.flatnonzero(np.asarray(c.ent_tilted, dtype=bool) & is_member)
     for i in tilted_ents[:1]:
         problems.tilted.append(c.ent_handle[i] if batch is None else str(batch.handles[0]))
+
+
+def _placed_points(
+    t: str,
+    p: tuple[float, float, float],
+    h: str,
+    layer: str,
+    pos: int,
+    batch: _Batch | None,
+    problems: _Problems,
+) -> list[tuple[float, float, str, int]]:
+    """(x, y, top-level handle, model-space order) of one local point under every
+    placement of ``batch``; a placement beyond the coordinate limit is recorded as a
+    bad point and left out."""
+    w = _points_to_wcs(p, batch)
+    out = []
+    for i in range(len(w)):
+        hh = h if batch is None else str(batch.handles[i])
+        order = pos if batch is None else int(batch.order[i])
+        if not problems.ok_point(w[i]):
+            problems.bad_point(t, hh, layer)
+            continue
+        out.append((float(w[i, 0]), float(w[i, 1]), hh, order))
+    return out
