@@ -11,8 +11,10 @@ Glossary:
     bare read     a fresh interpreter that imports ezdxf and calls ``ezdxf.readfile`` on
                   the drawing, nothing else: the floor any DXF tool pays.
     stage times   ``Result.timings`` of ``dxftruss.pipeline.check`` (read, snap, model,
-                  stability, statics) in a fresh interpreter, with the command line's
-                  default of one BLAS thread (OPENBLAS/OMP/MKL_NUM_THREADS=1 unless set).
+                  stability, statics) in a fresh interpreter that sets nothing itself:
+                  ``check()`` sets the run's policy (one BLAS thread, no cyclic gc).
+    python        that interpreter's whole wall time (imports, check(), no report):
+                  library use, to compare with ``end-to-end``.
     end-to-end    ``python -m dxftruss check FILE --loads L --json OUT --quiet``: the
                   whole process as a user runs it (interpreter start, imports, JSON).
     ratio         end-to-end wall time / bare-read wall time, both whole processes;
@@ -84,10 +86,8 @@ print(json.dumps({"import": t1 - t0, "readfile": t2 - t1, "entities": n}))
 
 STAGES = r"""
 import os, sys, time, json, collections
-# the same thread defaults as dxftruss.cli.main (set there before numpy is imported), so
-# the stage times match the end-to-end run; a setting in the environment wins
-for var in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
-    os.environ.setdefault(var, "1")
+# library use as a user would write it: no thread or gc settings of our own here -
+# check() sets the run's policy itself (dxftruss.policy.run_policy)
 t0 = time.perf_counter()
 import numpy as np
 from dxftruss.pipeline import Settings, check
@@ -171,6 +171,7 @@ class Row:
     read_cpu: float | None = None  # bare read, whole process, CPU seconds
     stages: dict[str, float] = field(default_factory=dict)
     check: float | None = None  # check() call in the stage-timing child
+    lib: float | None = None  # the stage-timing child's whole process: check() from Python
     e2e: float | None = None
     e2e_rss: float | None = None
     e2e_cpu: float | None = None
@@ -273,6 +274,7 @@ def measure(
         names = list(stage_runs[0]["timings"])
         row.stages = {n: statistics.median(r["timings"].get(n, float("nan")) for r in stage_runs) for n in names}
         row.check = statistics.median(r["check"] for r in stage_runs)
+        row.lib = _median([c.wall for c in done])
         row.correct = verify(stage_runs[0], drawing)
     # end-to-end
     with tempfile.TemporaryDirectory() as tmp:
@@ -339,6 +341,7 @@ def table(rows: list[Row], markdown: bool) -> str:
         "readfile()",
         *STAGE_NAMES,
         "check()",
+        "python",
         "end-to-end",
         "ratio",
         "ratio cpu",
@@ -359,6 +362,7 @@ def table(rows: list[Row], markdown: bool) -> str:
                 _f(r.read_call),
                 *(_f(r.stages.get(s)) for s in STAGE_NAMES),
                 _f(r.check),
+                _f(r.lib),
                 _f(r.e2e),
                 _f(r.ratio),
                 _f(r.ratio_cpu),

@@ -26,8 +26,9 @@ from .errors import ConfigError, LimitError
 from .escape import shown
 from .findings import Code, Finding
 from .labels import CommaStyle, LabelReading, comma_style, read_label
+from .lineloads import drawn_line_loads, file_line_loads, joint_loads, lumped_finding
 from .loadsfile import DEFAULT_CASE, LoadEntry, LoadsSpec, SupportEntry, check_combinations
-from .model import Fix, Load, LoadCase, LoadOrigin, Part, Source, Support, Truss, joint_id
+from .model import Fix, LineLoad, Load, LoadCase, LoadOrigin, Part, Source, Support, Truss, joint_id
 from .read import LineWork
 from .snap import Geometry
 from .units import FORCE_UNITS
@@ -150,8 +151,12 @@ def build_truss(
     outline_tol: float,
     max_parts: int | None = None,
     source: str = "drawing",
+    snap: float | None = None,
 ) -> Truss:
     """Attach supports and loads to joints, add the defaults of docs/user-guide.md, Defaults.
+
+    ``snap`` is the tolerance a line load's members must lie on their segment within
+    (default ``outline_tol / 10``).
 
     Raises LimitError as soon as the parts are known when there are more than
     ``max_parts`` (``source`` names the drawing in the message)."""
@@ -236,6 +241,7 @@ def build_truss(
     ignored_cases: set[str] = set()
     if spec:
         file_cases = Counter(entry.case for entry in spec.loads)
+        file_cases.update(entry.case for entry in spec.line_loads)
         both = sorted(set(drawn_cases) & set(file_cases))
         if both and spec.drawn_loads is None:
             listed = "; ".join(
@@ -258,10 +264,31 @@ def build_truss(
     comma = comma_style(t.text for t in linework.texts if t.layer.upper().startswith("LOAD"))
     newtons = FORCE_UNITS[force_unit]
     labels = _Labels(linework.texts, comma=comma, force_unit=force_unit, newtons=newtons)
+    line_tol = snap if snap is not None else outline_tol / 10
+    line_loads: dict[str, list[LineLoad]] = defaultdict(list)
+    rows = drawn_line_loads(
+        linework.loads,
+        linework.texts,
+        lambda m: labels.row_label(m, tree),
+        lambda text: read_label(text, comma=comma, default_force_unit=force_unit, default_force_newtons=newtons),
+        xy,
+        ends,
+        tree,
+        near_miss=near_miss,
+        snap=line_tol,
+        length_unit=length_unit,
+        force_unit=force_unit,
+        skip_cases=ignored_cases,
+        not_solved=lambda case: _not_solved_note(case, combos_using),
+    )
+    findings += rows.findings
+    unread.update(rows.unread)
+    for case, ll in rows.loads:
+        line_loads[case].append(ll)
     # every load line on a joint, with its head, tail and the text chosen for it
     arrows: list[tuple] = []
-    for mark in linework.loads:
-        if mark.case in ignored_cases:
+    for i, mark in enumerate(linework.loads):
+        if mark.case in ignored_cases or i in rows.claimed:
             continue
         d0, j0 = _nearest(tree, mark.start)
         d1, j1 = _nearest(tree, mark.end)
@@ -366,8 +393,19 @@ def build_truss(
         for entry, j in zip(spec.loads, load_joints, strict=True):
             origin = LoadOrigin("loads-file", entry=entry.number)
             case_loads[entry.case].append(Load(j, entry.fx, entry.fy, Source.LOADS_FILE, None, origin))
+        for case, ll in file_line_loads(
+            spec, tree, xy, ends, near_miss=near_miss, snap=line_tol, length_unit=length_unit, force_unit=force_unit
+        ):
+            line_loads[case].append(ll)
+    for case, lls in line_loads.items():
+        for ll in lls:
+            case_loads[case].extend(joint_loads(ll))
+            findings.append(lumped_finding(ll, case, xy, length_unit, force_unit))
 
-    cases = [LoadCase(name, tuple(case_loads[name]), unread=unread[name]) for name in sorted(case_loads)]
+    cases = [
+        LoadCase(name, tuple(case_loads[name]), unread=unread[name], line_loads=tuple(line_loads.get(name, ())))
+        for name in sorted(case_loads)
+    ]
     if spec:
         check_combinations(spec, set(case_loads))
         by_name = {c.name: c for c in cases}
@@ -385,7 +423,7 @@ def build_truss(
             blocked = sum(by_name[case].unread for case, _ in combo.factors)
             cases.append(LoadCase(combo.name, tuple(loads), factors=combo.factors, unread=blocked))
 
-    if not linework.loads and not (spec and spec.loads) and parts:
+    if not linework.loads and not (spec and (spec.loads or spec.line_loads)) and parts:
         loads = []
         for part in parts:
             for j in upper_outline_joints(xy, part.joints, tol=outline_tol):
@@ -443,6 +481,7 @@ class _Labels:
         self.max_height = float(self.height.max()) if self.texts else 0.0
         self.comma, self.force_unit, self.newtons = comma, force_unit, newtons
         self.readings: dict[int, LabelReading] = {}
+        self.by_layer: dict[str, tuple[np.ndarray, cKDTree | None]] = {}
 
     def reading(self, i: int) -> LabelReading:
         r = self.readings.get(i)
@@ -458,6 +497,50 @@ class _Labels:
     def shareable(self, i: int) -> bool:
         """A per-length label may label a row of arrows; a force labels one."""
         return self.reading(i).kind == "per-length"
+
+    def row_label(self, mark: Any, joints: cKDTree) -> str | None:
+        """The text that may make ``mark`` part of a drawn row of arrows: its own label
+        (as :meth:`choose` finds it), else - when nothing is within reach of its tail -
+        the nearest text on its layer to the line, if that is a load per length (one such
+        label stands over a whole row)."""
+        d0, _ = _nearest(joints, mark.start)
+        d1, _ = _nearest(joints, mark.end)
+        head, tail = (mark.start, mark.end) if d0 <= d1 else (mark.end, mark.start)
+        pick = self.choose(mark.layer, head, tail)
+        if pick is not None:
+            return str(self.texts[pick[0]].text)
+        i = self.nearest_on_layer(mark.layer, mark.start, mark.end)
+        if i is not None and self.shareable(i):
+            return str(self.texts[i].text)
+        return None
+
+    def nearest_on_layer(self, layer: str, start: tuple[float, float], end: tuple[float, float]) -> int | None:
+        """Index of the text on ``layer`` nearest to the segment start-end (None when the
+        layer has none). Candidates: every text of the layer within (distance from the
+        midpoint to its nearest text + half the length) of the midpoint - the nearest text
+        to the segment is among them."""
+        up = layer.upper()
+        if up not in self.by_layer:
+            idx = np.array([i for i, name in enumerate(self.layer) if name == up], dtype=np.int64)
+            self.by_layer[up] = (idx, cKDTree(self.xy[idx]) if idx.size else None)
+        idx, tree = self.by_layer[up]
+        if tree is None:
+            return None
+        a, b = np.asarray(start, float), np.asarray(end, float)
+        mid, d = (a + b) / 2, b - a
+        d0, _ = tree.query(mid)
+        if not np.isfinite(d0):
+            return None
+        cand = np.asarray(tree.query_ball_point(mid, d0 + float(np.hypot(*d)) / 2 + 1e-12), dtype=np.int64)
+        if len(cand) > self.MAX_CANDIDATES or len(cand) == 0:
+            _, cand = tree.query(mid, k=min(self.MAX_CANDIDATES, idx.size))
+            cand = np.atleast_1d(cand)
+        p = self.xy[idx[cand]]
+        dd = float(d @ d)
+        t = np.clip(((p - a) @ d) / dd, 0.0, 1.0) if dd > 0 else np.zeros(len(p))
+        dist = np.hypot(*(p - (a + t[:, None] * d)).T)
+        order = np.lexsort((idx[cand], dist))  # ties: the earlier text in the drawing
+        return int(idx[cand[order[0]]])
 
     def reach_note(self, length: float) -> str:
         return f"{length:.6g} (its length) or {self.HEIGHTS:g} text heights"
@@ -510,13 +593,13 @@ def _label_problem(r: LabelReading) -> str | None:
     """Why a reading cannot be a drawn joint load, with what to do; None when it can."""
     if r.kind == "unclear":
         return r.problem
-    if r.kind in ("per-length", "per-area"):
-        si = "N/m" if r.kind == "per-length" else "Pa"
+    if r.kind == "per-area":
         return (
-            f"it is a load per {'length' if r.kind == 'per-length' else 'area'} "
-            f"({r.written} {r.unit} = {r.value:.6g} {si}), not a joint force; distributed loads drawn on the sheet "
-            "are not used: give them in the loads file as joint loads ([[load]])"
+            f"it is a load per area ({r.written} {r.unit} = {r.value:.6g} Pa), not a joint force; give it in the "
+            "loads file as [[area_load]] with the truss spacing"
         )
+    if r.kind == "per-length":  # only when the row finder did not take it
+        return f"it is a load per length ({r.written} {r.unit} = {r.value:.6g} N/m), not a joint force"
     return None
 
 

@@ -15,6 +15,7 @@ import sys
 from pathlib import Path
 
 from . import __version__
+from .startup import check_library_settings, open_standard_streams, silence_stdout
 
 EXIT_OK, EXIT_FINDINGS, EXIT_INPUT = 0, 1, 2
 
@@ -328,60 +329,12 @@ def _check_in_worker(args: argparse.Namespace, drawing: str, outs: Outs) -> tupl
     return check_one(args, drawing, outs, True)
 
 
-def _library_settings_files() -> list[Path]:
-    """The settings files the DXF library (ezdxf) reads when it is imported, in its order."""
-    xdg = os.environ.get("XDG_CONFIG_HOME")
-    try:
-        home = Path(xdg).expanduser() if xdg else Path("~").expanduser() / ".config"
-        paths = [home / "ezdxf" / "ezdxf.ini"]
-    except RuntimeError:  # no home folder at all: the library cannot read one either
-        paths = []
-    paths.append(Path("ezdxf.ini"))
-    if os.environ.get("EZDXF_CONFIG_FILE"):
-        paths.append(Path(os.environ["EZDXF_CONFIG_FILE"]))
-    return paths
-
-
-def _check_library_settings() -> None:
-    """Refuse, in one line, a settings file the DXF library would fail on at import (it
-    prints three lines and exits 1 for a file that is not UTF-8, and raises for one that
-    is not an INI file). A file it cannot open it skips, and so do we."""
-    import configparser
-    import errno
-
-    from .errors import ConfigError
-
-    for path in _library_settings_files():
-        try:
-            os.stat(path)
-        except OSError as exc:  # the library asks Path.exists(), which fails on anything else
-            if exc.errno in (errno.ENOENT, errno.ENOTDIR, errno.EBADF, errno.ELOOP):
-                continue
-            raise ConfigError(
-                f"{path}: the DXF library looks for its settings file here and cannot ({exc.strerror}); "
-                "make the folder readable or set XDG_CONFIG_HOME to a readable folder"
-            ) from None
-        try:
-            with open(path, "rb") as fh:
-                data = fh.read(1 << 20)
-        except OSError:
-            continue
-        try:
-            configparser.ConfigParser().read_string(data.decode("utf-8"), source=str(path))
-        except (UnicodeDecodeError, configparser.Error) as exc:
-            why = "not UTF-8 text" if isinstance(exc, UnicodeDecodeError) else type(exc).__name__
-            raise ConfigError(
-                f"{path}: the DXF library's settings file cannot be read ({why}); fix or remove it"
-                + (" or unset EZDXF_CONFIG_FILE" if str(path) == os.environ.get("EZDXF_CONFIG_FILE") else "")
-            ) from None
-
-
 def run_check(args: argparse.Namespace) -> int:
     from .errors import DxftrussError
 
     try:
         if "ezdxf" not in sys.modules:
-            _check_library_settings()
+            check_library_settings()
         drawings, many = _expand(args.drawing)
         if not drawings:
             _err("no DXF drawings found in " + ", ".join(args.drawing))
@@ -502,35 +455,6 @@ def _run_many(args: argparse.Namespace, drawings: list[str], plan: dict[str, Out
     return worst
 
 
-def _open_standard_streams() -> None:
-    """Give a closed standard input, output or error /dev/null, so that no report file
-    ever opens as descriptor 1 or 2 and receives the summary."""
-    for fd in (0, 1, 2):
-        try:
-            os.fstat(fd)
-        except OSError:
-            try:
-                got = os.open(os.devnull, os.O_RDWR)
-                if got != fd:
-                    os.dup2(got, fd)
-                    os.close(got)
-            except OSError:
-                pass
-    for name, mode in (("stdin", "r"), ("stdout", "w"), ("stderr", "w")):
-        if getattr(sys, name) is None:
-            setattr(sys, name, open(os.devnull, mode))  # noqa: SIM115 - stays open as the stream
-
-
-def _silence_stdout() -> None:
-    """After a closed pipe: no further write (nor the interpreter's last flush) may fail."""
-    try:
-        devnull = os.open(os.devnull, os.O_WRONLY)
-        os.dup2(devnull, sys.stdout.fileno())
-        os.close(devnull)
-    except (OSError, ValueError, AttributeError):
-        pass
-
-
 def _run_guarded(args: argparse.Namespace) -> int:
     """run_check with the interrupts and a closed pipe turned into one line and an exit
     status: Ctrl-C 130, SIGTERM 143 (128 + the signal, the shell's convention), closed
@@ -558,7 +482,7 @@ def _run_guarded(args: argparse.Namespace) -> int:
         return 143
     except BrokenPipeError:
         remove_live_temporaries()
-        _silence_stdout()
+        silence_stdout()
         _err("standard output was closed before everything was written")
         return EXIT_INPUT
     except Exception as exc:  # the last line of defence: one line, never a traceback
@@ -587,7 +511,7 @@ def main(argv: list[str] | None = None) -> int:
 def _main(argv: list[str] | None) -> int:
     import logging
 
-    _open_standard_streams()
+    open_standard_streams()
 
     # the DXF library logs repairs to stderr; the reader reports them as findings instead
     ezdxf_log = logging.getLogger("ezdxf")

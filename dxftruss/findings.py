@@ -53,6 +53,7 @@ class Code(str, Enum):
     LOAD_LABEL_ASSUMPTION = "load-label-assumption"
     SUPPORT_FROM_BLOCK = "support-from-block"
     INCLINED_SUPPORT = "inclined-support"
+    LINE_LOAD_LUMPED = "line-load-lumped"
 
     @property
     def severity(self) -> Severity:
@@ -90,6 +91,7 @@ _SEVERITY: dict[Code, Severity] = {
     Code.LOAD_LABEL_ASSUMPTION: _W,  # a label read with an assumption: mass via g, bare number, sign ignored
     Code.SUPPORT_FROM_BLOCK: _I,  # a block reference read as a support by its name / attribute, or not (unclear)
     Code.INCLINED_SUPPORT: _E,  # a roller block at an angle: inclined restraints are not modelled, not used
+    Code.LINE_LOAD_LUMPED: _W,  # a line load lumped to joints: the loaded members' bending is not checked
 }
 
 

@@ -21,7 +21,17 @@ from typing import Any
 
 from .errors import ConfigError
 from .model import Fix, Section
-from .units import AREA_UNITS, FORCE_UNITS, LENGTH_UNITS, MODULUS_UNITS, check_unit_name, parse_force, parse_si
+from .units import (
+    AREA_UNITS,
+    FORCE_UNITS,
+    LENGTH_UNITS,
+    MODULUS_UNITS,
+    PER_AREA_UNITS,
+    PER_LENGTH_UNITS,
+    check_unit_name,
+    parse_force,
+    parse_si,
+)
 
 DEFAULT_CASE = "main"
 
@@ -42,6 +52,30 @@ class LoadEntry:
     fx: float
     fy: float
     case: str
+
+
+@dataclass(frozen=True)
+class LineLoadEntry:
+    """A ``[[line_load]]`` or ``[[area_load]]`` (turned into a line load: w = q x spacing).
+
+    ``w`` in N/m (SI); ``direction`` "down", "normal" or a unit vector (dx, dy);
+    ``defaults`` names the keys left out and taken by default ("measured", "direction").
+    """
+
+    number: int
+    kind: str  # "line_load" or "area_load"
+    start: tuple[float, float]
+    end: tuple[float, float]
+    w: float
+    written: str  # w (or "q x spacing") as written, for messages
+    case: str
+    measured: str  # "along" or "horizontal"
+    direction: str | tuple[float, float]
+    defaults: tuple[str, ...] = ()
+
+    @property
+    def name(self) -> str:
+        return f"[[{self.kind}]] #{self.number}"
 
 
 @dataclass(frozen=True)
@@ -66,14 +100,18 @@ class LoadsSpec:
     drawn_loads: str | None = None
     #: the same for different supports drawn and given at one joint (``[drawn] supports``)
     drawn_supports: str | None = None
+    #: ``[[line_load]]`` and ``[[area_load]]`` entries, in file order
+    line_loads: tuple[LineLoadEntry, ...] = ()
 
 
-_TOP_KEYS = {"units", "drawn", "support", "load", "combination", "section"}
+_TOP_KEYS = {"units", "drawn", "support", "load", "line_load", "area_load", "combination", "section"}
 _KEYS = {
     "units": {"force", "length"},
     "drawn": {"loads", "supports"},
     "support": {"at", "fix"},
     "load": {"at", "fx", "fy", "case"},
+    "line_load": {"from", "to", "w", "case", "measured", "direction"},
+    "area_load": {"from", "to", "q", "spacing", "case", "measured", "direction"},
     "combination": {"name", "factors"},
     "section": {"layer", "area", "E"},
 }
@@ -85,21 +123,75 @@ def _unknown(where: str, table: dict[str, Any], kind: str) -> None:
         raise ConfigError(f"{where}: unknown key {extra[0]!r} (known keys: {', '.join(sorted(_KEYS[kind]))})")
 
 
-def _at(where: str, table: dict[str, Any]) -> tuple[float, float]:
-    """The entry's 'at' point: present, a pair of finite numbers."""
-    if "at" not in table:
-        raise ConfigError(f"{where}: 'at' is missing")
-    value = table["at"]
+def _at(where: str, table: dict[str, Any], key: str = "at") -> tuple[float, float]:
+    """The entry's 'at' point (or another point ``key``): present, a pair of finite numbers."""
+    if key not in table:
+        raise ConfigError(f"{where}: '{key}' is missing")
+    value = table[key]
     if (
         not isinstance(value, list)
         or len(value) != 2
         or not all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in value)
     ):
-        raise ConfigError(f"{where}: 'at' must be a pair of numbers such as [3000.0, 0.0], got {value!r}")
+        raise ConfigError(f"{where}: '{key}' must be a pair of numbers such as [3000.0, 0.0], got {value!r}")
     x, y = float(value[0]), float(value[1])
     if not (math.isfinite(x) and math.isfinite(y)):
-        raise ConfigError(f"{where}: 'at' must be finite, got {value!r}")
+        raise ConfigError(f"{where}: '{key}' must be finite, got {value!r}")
     return x, y
+
+
+def _case(where: str, table: dict[str, Any]) -> str:
+    case = table.get("case", DEFAULT_CASE)
+    if not isinstance(case, str) or not case.strip():
+        raise ConfigError(f"{where}: 'case' must be a non-empty string, got {case!r}")
+    return case.strip()
+
+
+def _line_load(where: str, number: int, kind: str, t: dict[str, Any]) -> LineLoadEntry:
+    """One ``[[line_load]]`` or ``[[area_load]]`` table, validated."""
+    _unknown(where, t, kind)
+    start, end = _at(where, t, "from"), _at(where, t, "to")
+    if start == end:
+        raise ConfigError(f"{where}: 'from' and 'to' are the same point {list(start)}")
+    if kind == "line_load":
+        if "w" not in t:
+            raise ConfigError(f"{where}: 'w' is missing (a load per length such as \"2.5 kN/m\")")
+        w = _per_unit(where, "w", t["w"], PER_LENGTH_UNITS, '"2.5 kN/m"')
+        written = str(t["w"])
+    else:
+        for key in ("q", "spacing"):
+            if key not in t:
+                raise ConfigError(f"{where}: '{key}' is missing")
+        q = _per_unit(where, "q", t["q"], PER_AREA_UNITS, '"0.6 kN/m2"')
+        spacing = _per_unit(where, "spacing", t["spacing"], LENGTH_UNITS, '"600 mm"')
+        if spacing <= 0:
+            raise ConfigError(f"{where}: 'spacing' must be positive, got {t['spacing']!r}")
+        w = q * spacing
+        written = f"{t['q']} x {t['spacing']}"
+    if not math.isfinite(w):
+        raise ConfigError(f"{where}: the load per length is too large to represent")
+    defaults = tuple(k for k in ("measured", "direction") if k not in t)
+    measured = t.get("measured", "along")
+    if measured not in ("along", "horizontal"):
+        raise ConfigError(f'{where}: \'measured\' must be "along" or "horizontal", got {measured!r}')
+    direction: str | tuple[float, float]
+    raw = t.get("direction", "down")
+    if raw in ("down", "normal"):
+        direction = raw
+    else:
+        dx, dy = _at(where, {"direction": raw}, "direction") if isinstance(raw, list) else (math.nan, math.nan)
+        size = math.hypot(dx, dy)
+        if not (math.isfinite(size) and size > 0):
+            raise ConfigError(f'{where}: \'direction\' must be "down", "normal" or a non-zero [dx, dy], got {raw!r}')
+        direction = (dx / size, dy / size)
+    return LineLoadEntry(number, kind, start, end, w, written, _case(where, t), measured, direction, defaults)
+
+
+def _per_unit(where: str, key: str, value: Any, table: dict[str, float], example: str) -> float:
+    """A quantity with a required unit from ``table``, in SI."""
+    if isinstance(value, (bool, int, float)) or not isinstance(value, str):
+        raise ConfigError(f"{where}: '{key}' needs a unit, e.g. {example}, got {value!r}")
+    return parse_si(value, table, f"{where} {key}")
 
 
 def _tables(where: str, data: dict[str, Any], kind: str) -> list[dict[str, Any]]:
@@ -212,6 +304,11 @@ def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:
         fy = parse_force(t.get("fy", 0.0), force_unit, f"{where} fy")
         loads.append(LoadEntry(i, at, fx, fy, case.strip()))
 
+    line_loads = []
+    for kind in ("line_load", "area_load"):
+        for i, t in enumerate(_tables(name, data, kind), 1):
+            line_loads.append(_line_load(f"{name}: [[{kind}]] #{i}", i, kind, t))
+
     combos = []
     seen: set[str] = set()
     for i, t in enumerate(_tables(name, data, "combination"), 1):
@@ -260,6 +357,7 @@ def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:
         "force" in units,
         drawn.get("loads"),
         drawn.get("supports"),
+        tuple(line_loads),
     )
 
 

@@ -60,8 +60,9 @@ class Support:
 @dataclass(frozen=True)
 class LoadOrigin:
     """Where a load's value was read: a drawn text (``kind`` "text": the text as
-    written, its insertion point, handle and layer) or a loads-file entry (``kind``
-    "loads-file": the ``[[load]]`` entry's number, 1-based)."""
+    written, its insertion point, handle and layer), a loads-file entry (``kind``
+    "loads-file": the ``[[load]]`` entry's number, 1-based) or a line load the joint
+    load is lumped from (``kind`` "line-load": its name in ``text``)."""
 
     kind: str
     text: str | None = None
@@ -89,12 +90,45 @@ class Load:
 
 
 @dataclass(frozen=True)
+class LineLoad:
+    """A load per length on a chain of members, lumped to joints by tributary length.
+
+    name       where it came from: "[[line_load]] #1", "[[area_load]] #2" or "drawn ..."
+    w          the load per length in N/m (SI); ``written`` as the user wrote it
+    measured   "along" (per member length) or "horizontal" (per horizontal projection)
+    direction  "down", "normal" or "given"; ``unit`` the unit vector the load acts along
+    defaults   the keys taken by default ("measured", "direction")
+    members    the loaded members, in order from the start of the chain to its end
+    length     loaded length as measured, drawing units
+    shares     per joint: (joint, tributary length in drawing units, fx, fy in the force unit)
+    """
+
+    name: str
+    source: Source
+    w: float
+    written: str
+    measured: str
+    direction: str
+    unit: tuple[float, float]
+    defaults: tuple[str, ...]
+    members: tuple[int, ...]
+    length: float
+    shares: tuple[tuple[int, float, float, float], ...]
+
+    @property
+    def total(self) -> tuple[float, float]:
+        """(fx, fy) summed over the joints, in the force unit."""
+        return sum(s[2] for s in self.shares), sum(s[3] for s in self.shares)
+
+
+@dataclass(frozen=True)
 class LoadCase:
     """A named load case, or a combination when ``factors`` is not empty.
 
     For a combination ``loads`` already holds the factored, summed joint loads.
     ``unread`` counts the drawn loads of the case (or of the cases a combination uses)
     whose labels could not be read (``load-label-unclear``): such a case is not solved.
+    ``line_loads`` are the line loads already lumped into ``loads`` (listed for reports).
     """
 
     name: str
@@ -102,6 +136,7 @@ class LoadCase:
     assumed: bool = False
     factors: tuple[tuple[str, float], ...] = ()
     unread: int = 0
+    line_loads: tuple[LineLoad, ...] = ()
 
     @property
     def is_combination(self) -> bool:

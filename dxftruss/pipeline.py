@@ -170,6 +170,7 @@ def _check(
         outline_tol=max(10 * snap, 1e-9 * diag),
         max_parts=settings.max_parts,
         source=str(path),
+        snap=snap,
     )
     findings += truss.findings
     findings += audit_topology(truss, snap=snap, near_miss=near)

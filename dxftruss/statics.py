@@ -1,5 +1,10 @@
 """Member forces, reactions and displacements per part and load case.
 
+One module of about 650 lines on purpose: ``solve_case`` and its numerical helpers
+(LU with refinement, the stiffness solve, the mechanism basis, residual checks and the
+findings they raise) are one solution path whose steps pass private intermediate types
+(``_PartSolution``, ``_SolveFailed``); split apart they would be read back and forth.
+
 Glossary:
     A, x, f      the equilibrium system of a part, A x = f with A = [B, -R] and
                  x = [t; rho] (equilibrium.py; docs/methods.md, Notation and Equilibrium matrix).

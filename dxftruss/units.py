@@ -107,6 +107,24 @@ MODULUS_UNITS: dict[str, float] = {
     "ksi": 4448.2216152605 / 0.0254**2,
 }
 
+#: newtons per metre per load-per-length unit: a force unit over mm, cm, m, in or ft
+#: ("2.5 kN/m", "150 lbf/ft"), and the US words plf (lbf/ft) and klf (kip/ft)
+PER_LENGTH_UNITS: dict[str, float] = {
+    **{f"{f}/{ln}": FORCE_UNITS[f] / LENGTH_UNITS[ln] for f in FORCE_UNITS for ln in ("mm", "cm", "m", "in", "ft")},
+    "plf": FORCE_UNITS["lbf"] / LENGTH_UNITS["ft"],
+    "klf": FORCE_UNITS["kip"] / LENGTH_UNITS["ft"],
+}
+
+#: pascals per load-per-area unit: a force unit over mm2, cm2, m2, in2 or ft2
+#: ("0.6 kN/m2"), and Pa, kPa, psf (lbf/ft2), ksf (kip/ft2)
+PER_AREA_UNITS: dict[str, float] = {
+    **{f"{f}/{a}": FORCE_UNITS[f] / AREA_UNITS[a] for f in FORCE_UNITS for a in AREA_UNITS},
+    "Pa": 1.0,
+    "kPa": 1e3,
+    "psf": FORCE_UNITS["lbf"] / AREA_UNITS["ft2"],
+    "ksf": FORCE_UNITS["kip"] / AREA_UNITS["ft2"],
+}
+
 #: DXF ``$INSUNITS`` code -> our length unit name. 0 is "unitless"; 17-20 (gigametres,
 #: astronomical units, light years, parsecs) are not lengths a truss is drawn in: they
 #: are reported by name (:data:`INSUNITS_UNUSABLE`) and a unit is assumed and said.

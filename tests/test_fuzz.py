@@ -396,31 +396,7 @@ OUTPUT_TARGETS = [
 
 
 def _make_target(kind: str, d: Path) -> Path:
-    import os
-    import socket
-
-    p = d / "out.target"
-    if kind == "regular":
-        p.write_text("old")
-    elif kind == "fifo":
-        os.mkfifo(p)
-    elif kind == "socket":
-        s = socket.socket(socket.AF_UNIX)
-        s.bind(str(p))
-        s.close()
-    elif kind == "dir":
-        p.mkdir()
-    elif kind == "link-to-file":
-        (d / "real.target").write_text("old")
-        p.symlink_to(d / "real.target")
-    elif kind == "dangling-link":
-        p.symlink_to(d / "missing.target")
-    elif kind == "link-to-dir":
-        (d / "folder").mkdir()
-        p.symlink_to(d / "folder")
-    elif kind == "link-loop":
-        p.symlink_to(p)
-    return p
+    return mu.make_output_target(kind, d)
 
 
 @settings(FUZZ, max_examples=18)

@@ -16,7 +16,6 @@ import json
 import os
 import shutil
 import signal
-import socket
 import stat
 import subprocess
 import sys
@@ -29,6 +28,7 @@ from dxftruss import outputs
 from dxftruss.cli import main
 
 from .drawings import pratt_segments, write_drawing
+from .fuzz import mutators as mu
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -65,21 +65,7 @@ def leftovers(folder: Path) -> list[str]:
 
 
 def _special(kind: str, d: Path) -> Path:
-    p = d / f"target-{kind}"
-    if kind == "fifo":
-        os.mkfifo(p)
-    elif kind == "socket":
-        s = socket.socket(socket.AF_UNIX)
-        s.bind(str(p))
-        s.close()
-    elif kind == "dir":
-        p.mkdir()
-    elif kind == "dangling-link":
-        p.symlink_to(d / "nowhere.json")
-    elif kind == "link-to-fifo":
-        os.mkfifo(d / "fifo")
-        p.symlink_to(d / "fifo")
-    return p
+    return mu.make_output_target(kind, d, f"target-{kind}")
 
 
 @pytest.mark.parametrize("option", ["--json", "--pdf", "--dxf"])
@@ -222,18 +208,23 @@ def test_unreadable_folder_or_file_is_one_line(open_dir, what):
     secret.chmod(0o000)
     env = {**os.environ, "HOME": str(tmp_path / "home"), "XDG_CONFIG_HOME": str(tmp_path / "home")}
     env["PYTHONPATH"] = str(ROOT)
-    p = subprocess.run(
-        [*prefix, sys.executable, "-m", "dxftruss", "check", str(secret), "--json", str(tmp_path / "o.json")],
+    p = _run_as(prefix, secret, tmp_path, env)
+    secret.chmod(0o755)
+    assert p.returncode == 2 and one_line(p.stderr), p.stderr
+    assert str(secret) in p.stderr and "Permission denied" in p.stderr, p.stderr
+
+
+def _run_as(prefix: list[str], drawing: Path, folder: Path, env: dict[str, str]) -> subprocess.CompletedProcess[str]:
+    """``dxftruss check DRAWING --json folder/o.json`` as the user ``prefix`` switches to."""
+    return subprocess.run(
+        [*prefix, sys.executable, "-m", "dxftruss", "check", str(drawing), "--json", str(folder / "o.json")],
         capture_output=True,
         text=True,
         timeout=120,
         env=env,
-        cwd=tmp_path,
+        cwd=folder,
         check=False,
     )
-    secret.chmod(0o755)
-    assert p.returncode == 2 and one_line(p.stderr), p.stderr
-    assert str(secret) in p.stderr and "Permission denied" in p.stderr, p.stderr
 
 
 def test_unreadable_home_folder_is_one_line(open_dir):
@@ -246,15 +237,7 @@ def test_unreadable_home_folder_is_one_line(open_dir):
     home.mkdir(mode=0o000)
     env = {**os.environ, "HOME": str(home), "PYTHONPATH": str(ROOT)}
     env.pop("XDG_CONFIG_HOME", None)
-    p = subprocess.run(
-        [*prefix, sys.executable, "-m", "dxftruss", "check", str(dxf), "--json", str(tmp_path / "o.json")],
-        capture_output=True,
-        text=True,
-        timeout=120,
-        env=env,
-        cwd=tmp_path,
-        check=False,
-    )
+    p = _run_as(prefix, dxf, tmp_path, env)
     home.chmod(0o755)
     assert p.returncode == 2 and one_line(p.stderr) and str(home) in p.stderr, p.stderr
     assert "internal error" not in p.stderr and "XDG_CONFIG_HOME" in p.stderr, p.stderr  # what to do

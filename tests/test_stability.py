@@ -30,6 +30,8 @@ from dxftruss.equilibrium import part_system
 from dxftruss.findings import Code
 from dxftruss.model import Fix, Part, Support, Truss
 
+from .trusses import C9_BARS, C9_JOINTS
+
 PROPERTY = settings(derandomize=True, max_examples=30, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 SPARSE = {"dense_limit": 0}  # forces the sparse (pebble game + shift-invert) path
 
@@ -149,18 +151,8 @@ def c5_three_bar():
 
 def c9_textbook():
     """docs/methods.md, check case C9 (Baker & Haynes section 6.3 zero-force example): pin H, horizontal roller A."""
-    joints = {
-        "A": (0, 0),
-        "B": (4, 0),
-        "C": (8, 0),
-        "D": (12, 0),
-        "H": (0, 3),
-        "F": (4, 3),
-        "E": (8, 3),
-        "G": (0, 6),
-        "I": (6, 1.5),
-    }
-    members = ["AH", "HG", "GF", "HF", "FE", "AB", "BC", "CD", "AF", "BF", "FI", "IC", "IE", "EC", "ED"]
+    joints = dict(C9_JOINTS)
+    members = list(C9_BARS)
     return build(joints, members, {"H": Fix.XY, "A": Fix.X})
 
 

@@ -34,7 +34,7 @@ from dxftruss.model import Fix, Load, LoadCase, Part, Section, Support, Truss
 from dxftruss.statics import CaseResult, member_ea, solve_case
 from dxftruss.symmetry import find_mirror_axis, mirror_joints, mirror_members
 
-from .trusses import load_case, svd_stability
+from .trusses import C9_BARS, C9_JOINTS, load_case, svd_stability
 
 SQ2 = math.sqrt(2.0)
 PROPERTY = settings(derandomize=True, max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
@@ -632,19 +632,6 @@ def test_singular_matrix_called_determinate_is_never_silent(degrees: float) -> N
 # ---------------------------------------------------------------------------------------
 # C9 and C12
 # ---------------------------------------------------------------------------------------
-
-C9_JOINTS = {
-    "A": (0, 0),
-    "B": (4, 0),
-    "C": (8, 0),
-    "D": (12, 0),
-    "H": (0, 3),
-    "F": (4, 3),
-    "E": (8, 3),
-    "G": (0, 6),
-    "I": (6, 1.5),
-}
-C9_BARS = ["AH", "HG", "GF", "HF", "FE", "AB", "BC", "CD", "AF", "BF", "FI", "IC", "IE", "EC", "ED"]
 
 
 def c9_truss(fc: float = 10.0, fe: float = 5.0) -> tuple[Truss, dict[str, int]]:

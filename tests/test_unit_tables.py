@@ -65,19 +65,23 @@ def test_nist_sp811_exact_values() -> None:
     assert parse_length("1 usft", "mm") == pytest.approx(1200 / 3937 * 1000, rel=1e-15)
 
 
+def _triangle(tmp_path: Path, doc: ezdxf.document.Drawing) -> Path:
+    """A 3-4-5 triangle drawn into ``doc``, saved; the header's unit as ``doc`` has it."""
+    msp = doc.modelspace()
+    for a, b in (((0, 0), (4, 0)), ((4, 0), (4, 3)), ((4, 3), (0, 0))):
+        msp.add_line(a, b)
+    path = tmp_path / "t.dxf"
+    doc.saveas(path)
+    return path
+
+
 @pytest.mark.parametrize(
     ("code", "unit"),
     [(13, "um"), (21, "usft"), (14, "dm"), (10, "yd"), (9, "mil"), (3, "mi"), (15, "dam"), (16, "hm")],
 )
 def test_header_unit_is_read_and_used(tmp_path: Path, code: int, unit: str) -> None:
     # a 3-4-5 triangle drawn in the header's unit: the unit is read, not assumed
-    doc = ezdxf.new("R2018", setup=False, units=code)
-    msp = doc.modelspace()
-    for a, b in (((0, 0), (4, 0)), ((4, 0), (4, 3)), ((4, 3), (0, 0))):
-        msp.add_line(a, b)
-    path = tmp_path / "t.dxf"
-    doc.saveas(path)
-    res = check(path)
+    res = check(_triangle(tmp_path, ezdxf.new("R2018", setup=False, units=code)))
     assert INSUNITS[code] == unit
     assert (res.source.length_unit, res.source.unit_source) == (unit, "header")
     assert Code.ASSUMED_UNITS not in {f.code for f in res.findings}
@@ -87,12 +91,7 @@ def test_header_unit_is_read_and_used(tmp_path: Path, code: int, unit: str) -> N
 def test_header_unit_no_truss_is_drawn_in_is_named(tmp_path: Path, code: int) -> None:
     doc = ezdxf.new("R2018", setup=False)
     doc.header["$INSUNITS"] = code
-    msp = doc.modelspace()
-    for a, b in (((0, 0), (4, 0)), ((4, 0), (4, 3)), ((4, 3), (0, 0))):
-        msp.add_line(a, b)
-    path = tmp_path / "t.dxf"
-    doc.saveas(path)
-    res = check(path)
+    res = check(_triangle(tmp_path, doc))
     (f,) = [f for f in res.findings if f.code is Code.ASSUMED_UNITS]
     assert f.data["insunits"] == code and res.source.unit_source == "assumed"
     assert f"$INSUNITS is {code} (" in f.message

@@ -22,7 +22,7 @@ from dxftruss.audit.zero_force import zero_force_by_rule
 from dxftruss.model import Fix, Load, LoadCase, Support, Truss
 from dxftruss.statics import solve_case
 
-from .trusses import load_case, member_ids, one_part_truss, pratt_arrays, svd_stability
+from .trusses import C9_BARS, C9_JOINTS, load_case, member_ids, one_part_truss, pratt_arrays, svd_stability
 
 PROPERTY = settings(derandomize=True, max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 
@@ -170,20 +170,10 @@ def test_c2_howe_rules() -> None:
 def test_c9_textbook_seven_members() -> None:
     # docs/methods.md, check case C9: Baker & Haynes 6.3 zero-force member example; book's answer GH, FG, BF,
     # EI, DE, EC, CD, reproduced by the iterated general rule (EC needs two passes)
-    pts = {
-        "A": (0, 0),
-        "B": (4, 0),
-        "C": (8, 0),
-        "D": (12, 0),
-        "H": (0, 3),
-        "F": (4, 3),
-        "E": (8, 3),
-        "G": (0, 6),
-        "I": (6, 1.5),
-    }
+    pts = dict(C9_JOINTS)
     names = list(pts)
     j = {k: i for i, k in enumerate(names)}
-    bars = ["AH", "HG", "GF", "HF", "FE", "AB", "BC", "CD", "AF", "BF", "FI", "IC", "IE", "EC", "ED"]
+    bars = list(C9_BARS)
     truss, case = make_truss(
         [pts[k] for k in names],
         [(j[b[0]], j[b[1]]) for b in bars],

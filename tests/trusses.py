@@ -114,3 +114,19 @@ def member_ids(truss: Truss, pairs: Sequence[tuple[int, int]]) -> set[int]:
     """Member indices of the given joint pairs (either order)."""
     lookup = {tuple(e): i for i, e in enumerate(truss.ends.tolist())}
     return {lookup[tuple(sorted(p))] for p in pairs}
+
+
+#: docs/methods.md, check case C9 (Baker & Haynes section 6.3 zero-force member example):
+#: joint coordinates and bars named by their end joints
+C9_JOINTS: dict[str, tuple[float, float]] = {
+    "A": (0, 0),
+    "B": (4, 0),
+    "C": (8, 0),
+    "D": (12, 0),
+    "H": (0, 3),
+    "F": (4, 3),
+    "E": (8, 3),
+    "G": (0, 6),
+    "I": (6, 1.5),
+}
+C9_BARS = ["AH", "HG", "GF", "HF", "FE", "AB", "BC", "CD", "AF", "BF", "FI", "IC", "IE", "EC", "ED"]

@@ -112,15 +112,8 @@ class _Placed:
         batch: _Batch | None,
         problems: _Problems,
     ) -> None:
-        w = _points_to_wcs(p, batch)
-        for i in range(len(w)):
-            hh = h if batch is None else str(batch.handles[i])
-            order = pos if batch is None else int(batch.order[i])
-            if not problems.ok_point(w[i]):
-                problems.bad_point(t, hh, layer)
-                continue
-            mark = SupportMark(float(w[i, 0]), float(w[i, 1]), fix, hh, layer)
-            self.supports.append((order, self.next_seq(), mark))
+        for x, y, hh, order, _ in _placed_points(t, p, h, layer, pos, batch, problems):
+            self.supports.append((order, self.next_seq(), SupportMark(x, y, fix, hh, layer)))
 
     def add_texts(
         self,
@@ -134,17 +127,9 @@ class _Placed:
         problems: _Problems,
         height: float = 0.0,
     ) -> None:
-        w = _points_to_wcs(p, batch)
-        # a placement scales the text height by the square root of its area scale
-        scale = np.ones(len(w)) if batch is None else np.sqrt(np.abs(np.linalg.det(batch.mats[:, :2, :2])))
-        for i in range(len(w)):
-            hh = h if batch is None else str(batch.handles[i])
-            order = pos if batch is None else int(batch.order[i])
-            if not problems.ok_point(w[i]):
-                problems.bad_point(t, hh, layer)
-                continue
-            mark = TextMark(float(w[i, 0]), float(w[i, 1]), text, layer, hh, float(height * scale[i]))
-            self.texts.append((order, self.next_seq(), mark))
+        for x, y, hh, order, scale in _placed_points(t, p, h, layer, pos, batch, problems):
+            # a placement scales the text height by the square root of its area scale
+            self.texts.append((order, self.next_seq(), TextMark(x, y, text, layer, hh, height * scale)))
 
     def line_work_arrays(self) -> tuple[np.ndarray, tuple[str, ...], tuple[str, ...], np.ndarray]:
         """(segments (n, 4), handles, layers, z (n, 2)) in reading order."""
@@ -342,3 +327,29 @@ def _note_tilt(c: _Content, is_member: np.ndarray, batch: _Batch | None, problem
     tilted_ents = np.flatnonzero(np.asarray(c.ent_tilted, dtype=bool) & is_member)
     for i in tilted_ents[:1]:
         problems.tilted.append(c.ent_handle[i] if batch is None else str(batch.handles[0]))
+
+
+def _placed_points(
+    t: str,
+    p: tuple[float, float, float],
+    h: str,
+    layer: str,
+    pos: int,
+    batch: _Batch | None,
+    problems: _Problems,
+) -> list[tuple[float, float, str, int, float]]:
+    """(x, y, top-level handle, model-space order, length scale) of one local point under
+    every placement of ``batch``; the length scale is the square root of the placement's
+    area scale; a placement beyond the coordinate limit is recorded as a bad point and
+    left out."""
+    w = _points_to_wcs(p, batch)
+    scale = np.ones(len(w)) if batch is None else np.sqrt(np.abs(np.linalg.det(batch.mats[:, :2, :2])))
+    out = []
+    for i in range(len(w)):
+        hh = h if batch is None else str(batch.handles[i])
+        order = pos if batch is None else int(batch.order[i])
+        if not problems.ok_point(w[i]):
+            problems.bad_point(t, hh, layer)
+            continue
+        out.append((float(w[i, 0]), float(w[i, 1]), hh, order, float(scale[i])))
+    return out

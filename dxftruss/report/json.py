@@ -18,6 +18,7 @@ from ..model import LoadOrigin, joint_id, member_id
 from . import CAUTION, assumptions
 
 if TYPE_CHECKING:
+    from ..model import LineLoad
     from ..result import Result
     from ..statics import CaseResult
 
@@ -174,11 +175,37 @@ def _case(result: Result, c: CaseResult) -> dict[str, Any]:
         "solved_parts": [p + 1 for p in c.solved_parts],
         "residual": _num(c.residual),
     }
+    if case.line_loads:
+        out["line_loads"] = [_line_load(ll) for ll in case.line_loads]
+        tx = sum(ll.total[0] for ll in case.line_loads)
+        ty = sum(ll.total[1] for ll in case.line_loads)
+        out["line_load_total"] = {"fx": _num(tx), "fy": _num(ty)}
     if c.displacements is not None:
         out["displacements"] = {
             joint_id(j): [_num(dx), _num(dy)] for j, (dx, dy) in enumerate(np.asarray(c.displacements))
         }
     return out
+
+
+def _line_load(ll: LineLoad) -> dict[str, Any]:
+    fx, fy = ll.total
+    return {
+        "name": ll.name,
+        "source": ll.source.value,
+        "w": _num(ll.w),
+        "written": ll.written,
+        "measured": ll.measured,
+        "direction": ll.direction,
+        "unit_vector": [_num(ll.unit[0]), _num(ll.unit[1])],
+        "defaults": list(ll.defaults),
+        "members": [member_id(e) for e in ll.members],
+        "loaded_length": _num(ll.length),
+        "joints": [
+            {"joint": joint_id(j), "tributary_length": _num(t), "fx": _num(jx), "fy": _num(jy)}
+            for j, t, jx, jy in ll.shares
+        ],
+        "total": {"fx": _num(fx), "fy": _num(fy)},
+    }
 
 
 def to_json(result: Result) -> str:
@@ -199,6 +226,8 @@ def _origin(o: LoadOrigin | None) -> dict[str, Any] | None:
         return None
     if o.kind == "loads-file":
         return {"kind": "loads-file", "entry": o.entry}
+    if o.kind == "line-load":
+        return {"kind": "line-load", "line_load": o.text}
     return {
         "kind": "text",
         "text": o.text,

@@ -138,6 +138,14 @@ def summary(result: Result, *, max_findings: int = 40, width: int = 110, color: 
                 notes.append(
                     f"case {c.name!r}: the truss is symmetric but this load is not: the reactions will not split evenly"
                 )
+            lumped = next((lc.line_loads for lc in t.cases if lc.name == c.name), ())
+            if lumped:
+                tx, ty = sum(ll.total[0] for ll in lumped), sum(ll.total[1] for ll in lumped)
+                joints = len({s[0] for ll in lumped for s in ll.shares})
+                notes.append(
+                    f"case {c.name!r}: {len(lumped)} line load(s) lumped to {joints} joints by tributary length, "
+                    f"total ({_fmt(tx)}, {_fmt(ty)}) {fu}"
+                )
             if len(c.solved_parts) < len(t.parts):
                 notes.append(f"case {c.name!r}: solved {len(c.solved_parts)} of {len(t.parts)} parts (see findings)")
         con.print(ct)

@@ -975,3 +975,35 @@ def configure_stdio_for_unicode() -> None:  # for the script: keep our own print
     for s in (sys.stdout, sys.stderr):
         with contextlib.suppress(AttributeError, ValueError):
             s.reconfigure(errors="backslashreplace")  # type: ignore[union-attr]
+
+
+def make_output_target(kind: str, d: Path, name: str = "out.target") -> Path:
+    """An output path ``d/name`` of one kind: regular (holding "old"), fifo, socket, dir,
+    link-to-file, dangling-link, link-to-dir, link-to-fifo or link-loop."""
+    import socket
+
+    p = d / name
+    if kind == "regular":
+        p.write_text("old")
+    elif kind == "fifo":
+        os.mkfifo(p)
+    elif kind == "socket":
+        s = socket.socket(socket.AF_UNIX)
+        s.bind(str(p))
+        s.close()
+    elif kind == "dir":
+        p.mkdir()
+    elif kind == "link-to-file":
+        (d / "real.target").write_text("old")
+        p.symlink_to(d / "real.target")
+    elif kind == "dangling-link":
+        p.symlink_to(d / "missing.target")
+    elif kind == "link-to-dir":
+        (d / "folder").mkdir()
+        p.symlink_to(d / "folder")
+    elif kind == "link-to-fifo":
+        os.mkfifo(d / "fifo")
+        p.symlink_to(d / "fifo")
+    elif kind == "link-loop":
+        p.symlink_to(p)
+    return p
