@@ -16,6 +16,7 @@ from __future__ import annotations
 
 from collections import Counter, defaultdict
 from fnmatch import fnmatchcase
+from typing import Any
 
 import numpy as np
 from scipy.sparse import coo_matrix
