@@ -54,6 +54,7 @@ class Code(str, Enum):
     SUPPORT_FROM_BLOCK = "support-from-block"
     INCLINED_SUPPORT = "inclined-support"
     LINE_LOAD_LUMPED = "line-load-lumped"
+    SET_ASIDE = "set-aside"
 
     @property
     def severity(self) -> Severity:
@@ -92,6 +93,7 @@ _SEVERITY: dict[Code, Severity] = {
     Code.SUPPORT_FROM_BLOCK: _I,  # a block reference read as a support by its name / attribute, or not (unclear)
     Code.INCLINED_SUPPORT: _E,  # a roller block at an angle: inclined restraints are not modelled, not used
     Code.LINE_LOAD_LUMPED: _W,  # a line load lumped to joints: the loaded members' bending is not checked
+    Code.SET_ASIDE: _I,  # line work not used as members: drafting (no triangles, outlines, plates)
 }
 
 

@@ -18,6 +18,7 @@ from pathlib import Path
 
 import numpy as np
 
+from . import drafting
 from .assemble import build_truss
 from .audit.stability import PartStability, analyse_part
 from .audit.topology import audit_topology
@@ -52,6 +53,21 @@ def file_digest(path: str | os.PathLike[str]) -> tuple[str, bool]:
                 first = False
             h.update(chunk)
     return h.hexdigest(), binary
+
+
+def default_snap(segments: np.ndarray, fraction: float) -> float:
+    """The default snap tolerance: ``fraction`` x the median length of the drawn lines,
+    never below the floating-point noise of the coordinates' magnitude (64 units in the
+    last place). Taken from the lines themselves, so a far-away marker, a huge border or
+    site coordinates do not widen it."""
+    seg = np.asarray(segments, dtype=float).reshape(-1, 4)
+    if not len(seg):
+        return 0.0
+    lengths = np.hypot(seg[:, 2] - seg[:, 0], seg[:, 3] - seg[:, 1])
+    lengths = lengths[lengths > 0]
+    median = float(np.median(lengths)) if len(lengths) else 0.0
+    noise = 64 * float(np.finfo(float).eps) * float(np.abs(seg).max())
+    return max(fraction * median, noise)
 
 
 def _tolerance(text: str, unit: str, what: str) -> float:
@@ -132,18 +148,33 @@ def _check(
             )
         )
 
-    seg = linework.segments
+    all_seg = linework.segments
+    opt_snap = _tolerance(settings.snap, unit, "--snap") if settings.snap is not None else None
+    if settings.layers:
+        selection = drafting.everything(linework.layers, "option")
+    else:
+        first = opt_snap if opt_snap is not None else default_snap(all_seg, settings.snap_fraction)
+        selection = drafting.select_structure(all_seg, linework.layers, snap=first)
+    findings += drafting.findings(selection)
+    if selection.n_set_aside:
+        keep = selection.keep
+        seg = all_seg[keep]
+        seg_handles = tuple(h for h, k in zip(linework.handles, keep.tolist(), strict=True) if k)
+        seg_layers = tuple(n for n, k in zip(linework.layers, keep.tolist(), strict=True) if k)
+    else:
+        seg, seg_handles, seg_layers = all_seg, linework.handles, linework.layers
     if len(seg):
         pts = seg.reshape(-1, 2)
         diag = float(np.hypot(*(pts.max(axis=0) - pts.min(axis=0))))
     else:
         diag = 0.0
-    if settings.snap is not None:
-        snap, snap_source = _tolerance(settings.snap, unit, "--snap"), "option"
+    if opt_snap is not None:
+        snap, snap_source = opt_snap, "option"
     else:
-        snap, snap_source = settings.snap_fraction * diag, f"{settings.snap_fraction:g} x extent diagonal"
+        snap = default_snap(seg, settings.snap_fraction)
+        snap_source = f"{settings.snap_fraction:g} x median drawn line length"
     limit_hint = "raise it with --max-members if the drawing is genuine"
-    geometry = build_geometry(seg, linework.handles, linework.layers, snap=snap)
+    geometry = build_geometry(seg, seg_handles, seg_layers, snap=snap)
     if len(geometry.ends) > settings.max_members:
         raise LimitError(
             f"{path}: {len(geometry.ends):,} members after splitting at joints, more than the limit of "
@@ -210,4 +241,5 @@ def _check(
         symmetry_axis=axis,
         loads=spec,
         timings=timings,
+        selection=selection,
     )

@@ -17,6 +17,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+from .drafting import Selection
 from .audit.stability import PartStability
 from .findings import Finding, Severity
 from .loadsfile import LoadsSpec
@@ -35,8 +36,8 @@ class Settings:
     units: str | None = None
     layers: tuple[str, ...] = ()
     loads: str | None = None
-    #: default snap = this fraction of the line work's extent diagonal (docs/user-guide.md, Tolerances)
-    snap_fraction: float = 1e-6
+    #: default snap = this fraction of the median drawn line length (docs/user-guide.md, Tolerances)
+    snap_fraction: float = 1e-5
     #: default near-miss radius = this fraction of the median member length (docs/user-guide.md, Tolerances)
     near_miss_fraction: float = 0.02
     #: refuse drawings that fall into more separate parts than this (--max-parts): each
@@ -97,6 +98,8 @@ class Result:
     symmetry_axis: float | None
     loads: LoadsSpec | None = None
     timings: dict[str, float] = field(default_factory=dict, compare=False)
+    #: which drawn lines were used as members and what was set aside (drafting.py)
+    selection: Selection | None = None
 
     @property
     def has_errors(self) -> bool:

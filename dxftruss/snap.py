@@ -113,37 +113,39 @@ def _split_on_joints(
     return seg[order], pj[order], t[order]
 
 
-def build_geometry(
-    segments: np.ndarray,
-    handles: tuple[str, ...],
-    layers: tuple[str, ...],
-    *,
-    snap: float,
-) -> Geometry:
-    """Snap segment endpoints into joints, split lines at joints on them, merge duplicates.
+@dataclass(frozen=True)
+class Pieces:
+    """Drawn lines cut into pieces between joints (the first half of :func:`build_geometry`).
 
-    ``segments`` is (n, 4): x1, y1, x2, y2. Findings: zero-length-member (error),
-    split-member (info), duplicate-member (error).
+    centres      (k, 2) joint positions (every cluster of endpoints)
+    label        (2n,) cluster of each endpoint (2i start, 2i + 1 end of line i)
+    nonzero      (n,) bool: the line's two ends are different joints
+    live         indices of the nonzero lines
+    start_joint, end_joint   the live lines' end clusters
+    src, pa, pb  per piece: the drawn line (index into ``segments``) and its two joints
+    split_info   (index into ``live``, joint chain) for every line split at joints on it
     """
-    findings: list[Finding] = []
+
+    centres: np.ndarray
+    label: np.ndarray
+    nonzero: np.ndarray
+    live: np.ndarray
+    start_joint: np.ndarray
+    end_joint: np.ndarray
+    src: np.ndarray
+    pa: np.ndarray
+    pb: np.ndarray
+    split_info: list[tuple[int, list[int]]]
+
+
+def line_pieces(segments: np.ndarray, *, snap: float) -> Pieces:
+    """Snap endpoints into joints and cut every line at the joints lying on it."""
     seg = np.asarray(segments, dtype=float).reshape(-1, 4)
     pts = seg.reshape(-1, 2)  # point 2i = start of i, 2i + 1 = end of i
     label, centres = cluster_points(pts, tol=snap)
     a, b = label[0::2], label[1::2]
-
-    # zero-length lines: both ends in one joint
-    zero = a == b
-    for i in np.flatnonzero(zero):
-        findings.append(
-            Finding(
-                Code.ZERO_LENGTH_MEMBER,
-                f"a line on layer {layers[i]!r} (handle {handles[i]}) is shorter than the snap tolerance; "
-                "it is not used",
-                at=(float(centres[a[i], 0]), float(centres[a[i], 1])),
-                data={"handle": handles[i], "layer": layers[i]},
-            )
-        )
-    live = np.flatnonzero(~zero)
+    nonzero = a != b
+    live = np.flatnonzero(nonzero)
     a, b = a[live], b[live]
 
     # split lines at joints lying on them; lines drawn over each other (same two joints)
@@ -180,6 +182,36 @@ def build_geometry(
     pb = np.concatenate(pieces_b).astype(np.int64)
     keep = pa != pb
     src, pa, pb = src[keep], pa[keep], pb[keep]
+
+    return Pieces(centres, label, nonzero, live, a, b, src, pa, pb, split_info)
+
+
+def build_geometry(
+    segments: np.ndarray,
+    handles: tuple[str, ...],
+    layers: tuple[str, ...],
+    *,
+    snap: float,
+) -> Geometry:
+    """Snap segment endpoints into joints, split lines at joints on them, merge duplicates.
+
+    ``segments`` is (n, 4): x1, y1, x2, y2. Findings: zero-length-member (error),
+    split-member (info), duplicate-member (error).
+    """
+    findings: list[Finding] = []
+    g = line_pieces(segments, snap=snap)
+    centres, a, b, live = g.centres, g.start_joint, g.end_joint, g.live
+    for i in np.flatnonzero(~g.nonzero):
+        findings.append(
+            Finding(
+                Code.ZERO_LENGTH_MEMBER,
+                f"a line on layer {layers[i]!r} (handle {handles[i]}) is shorter than the snap tolerance; "
+                "it is not used",
+                at=(float(centres[g.label[2 * i], 0]), float(centres[g.label[2 * i], 1])),
+                data={"handle": handles[i], "layer": layers[i]},
+            )
+        )
+    src, pa, pb, split_info = g.src, g.pa, g.pb, g.split_info
 
     # number the joints that members use, by x (on a grid of 10 snap) then y
     used = np.unique(np.concatenate([pa, pb]))

@@ -11,6 +11,7 @@ from typing import TYPE_CHECKING
 from ..findings import Code
 
 if TYPE_CHECKING:
+    from ..drafting import Selection
     from ..result import Result
 
 CAUTION = (
@@ -28,9 +29,30 @@ def assumptions(result: Result) -> list[str]:
     out = [f.message for f in result.findings if f.code in ASSUMPTION_CODES]
     tol = result.tolerances
     unit = result.source.length_unit
+    sel = result.selection
+    if sel is not None:
+        out.append(layers_sentence(sel))
     out.append(f"snap tolerance {tol.snap:.6g} {unit} ({tol.snap_source})")
     out.append(f"near-miss radius {tol.near_miss:.6g} {unit} ({tol.near_miss_source})")
     if result.loads is None or not result.loads.force_unit_given:
         out.append(f"forces in {result.truss.force_unit} (the default force unit)")
     out.append("members are pin-ended bars carrying axial force only; loads act at joints; small displacements")
     return out
+
+
+def layers_sentence(sel: Selection) -> str:
+    """Which layers gave the members, and how they were chosen (escaped names)."""
+    from ..escape import shown
+
+    used = ", ".join(f"{shown(name)} ({n})" for name, n in sorted(sel.used.items())) or "none"
+    if sel.rule == "option":
+        return f"members from the layers named with --layers: {used} lines"
+    if sel.fallback:
+        return f"members from all visible line work (nothing formed triangulated structure): {used} lines"
+    if not sel.set_aside:
+        return f"members from all visible line work ({used} lines): it forms triangulated structure"
+    aside = sum(sum(v.values()) for v in sel.set_aside.values())
+    return (
+        f"members from the line work that forms triangulated structure: {used} lines; {aside} lines on "
+        f"{len(sel.set_aside)} layer(s) set aside as drafting (see the set-aside findings)"
+    )

@@ -92,6 +92,7 @@ def report_dict(result: Result) -> dict[str, Any]:
             "force_unit": t.force_unit,
         },
         "assumptions": assumptions(result),
+        "line_work": _line_work(result),
         "joints": [{"id": jid[i], "x": xs[i], "y": ys[i]} for i in range(len(jid))],
         "members": [
             {
@@ -205,6 +206,22 @@ def _line_load(ll: LineLoad) -> dict[str, Any]:
             for j, t, jx, jy in ll.shares
         ],
         "total": {"fx": _num(fx), "fy": _num(fy)},
+    }
+
+
+def _line_work(result: Result) -> dict[str, Any]:
+    """Which drawn lines were used as members, per layer, and what was set aside."""
+    sel = result.selection
+    if sel is None:
+        return {"rule": "option", "fallback": False, "used": [], "set_aside": []}
+    return {
+        "rule": sel.rule,
+        "fallback": sel.fallback,
+        "used": [{"layer": name, "lines": n} for name, n in sorted(sel.used.items())],
+        "set_aside": [
+            {"layer": name, "lines": sum(r.values()), "reasons": dict(sorted(r.items()))}
+            for name, r in sorted(sel.set_aside.items())
+        ],
     }
 
 

@@ -1,0 +1,362 @@
+"""Tell the structure from the drafting: which drawn lines are the truss.
+
+A sheet as offices send it holds, beside the truss, a border and title block,
+dimensions, grid lines, walls, member outlines and plates. With no ``--layers``, the
+line work is sorted by rules each stated in one sentence (they are printed with what
+they set aside):
+
+    triangulated   lines are grouped by layer within each connected piece of the line
+                   work; a group is structure when at least half of its length lies in
+                   triangles (three members joined pairwise), the mark of a truss.
+    attached       a group without triangles is still structure when its layer is
+                   structure elsewhere and it lies within the outline (convex hull) of
+                   a piece of structure: a bar drawn short of its joints is a fault to
+                   report, not drafting.
+    outline        a line with a parallel line at the same small offset on the other
+                   side of a structural line is one of a member's two outline lines
+                   around its centre line.
+    plate          a small closed outline (a single loop, smaller than half the median
+                   member length) around a joint of the structure is a plate or gusset.
+
+Everything else (borders, title-block cells, dimension lines with their ticks and
+extension lines, grid lines, walls) has no triangles and is set aside. When nothing
+qualifies, all line work is used and that is said.
+"""
+
+from __future__ import annotations
+
+from collections import defaultdict
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .escape import shown
+from .findings import Code, Finding
+
+#: share of a group's length in triangles for it to be structure
+TRIANGULATED_SHARE = 0.5
+#: an outline line is at most this fraction of the centre line's length from it, and at
+#: most this fraction of the median member length
+OUTLINE_MAX_OFFSET = 0.25
+#: two outlines of one member: offsets equal within this fraction
+OUTLINE_OFFSET_MATCH = 0.2
+#: parallel: sine of the angle between the lines at most this
+PARALLEL_SIN = 0.01
+#: a plate is smaller (its bounding box diagonal) than this fraction of the median member length
+PLATE_SIZE = 0.5
+
+RULES = {
+    "no-triangles": "no triangulated structure",
+    "outline": "member outlines around centre lines",
+    "plate": "closed outlines around joints (plates)",
+}
+
+
+@dataclass(frozen=True)
+class Selection:
+    """Which drawn lines are used as members.
+
+    keep        (n,) bool per line of the line work
+    rule        "auto" (the rules above set something aside), "all" (nothing set aside,
+                or nothing qualified and everything is used) or "option" (``--layers``)
+    set_aside   per layer: {reason: count of lines}
+    used        per layer: count of lines used
+    fallback    nothing qualified as structure, so everything is used
+    """
+
+    keep: np.ndarray
+    rule: str
+    set_aside: dict[str, dict[str, int]] = field(default_factory=dict)
+    used: dict[str, int] = field(default_factory=dict)
+    fallback: bool = False
+    #: per line: the reason it was set aside ("" when kept)
+    why: tuple[str, ...] = ()
+
+    @property
+    def n_set_aside(self) -> int:
+        return int((~self.keep).sum())
+
+
+def everything(layers: tuple[str, ...], rule: str) -> Selection:
+    """All lines used (``--layers`` given, or nothing to decide)."""
+    used: dict[str, int] = defaultdict(int)
+    for name in layers:
+        used[name] += 1
+    return Selection(np.ones(len(layers), dtype=bool), rule, {}, dict(used), False, ("",) * len(layers))
+
+
+def select_structure(segments: np.ndarray, layers: tuple[str, ...], *, snap: float) -> Selection:
+    """Decide which drawn lines are the truss (see the module docstring)."""
+    from scipy.sparse import coo_matrix
+    from scipy.sparse.csgraph import connected_components
+
+    from .snap import line_pieces
+
+    seg = np.asarray(segments, dtype=float).reshape(-1, 4)
+    n = len(seg)
+    if n == 0:
+        return everything(layers, "all")
+    g = line_pieces(seg, snap=snap)
+    src, pa, pb, xy = g.src, g.pa, g.pb, g.centres
+    k = len(xy)
+    why = np.full(n, "", dtype=object)
+    if len(src) == 0:
+        return everything(layers, "all")
+    # distinct joint pairs (duplicates count once for triangles)
+    lo, hi = np.minimum(pa, pb), np.maximum(pa, pb)
+    key = lo * k + hi
+    ukey, inv = np.unique(key, return_inverse=True)
+    inv = inv.reshape(-1)
+    ulo, uhi = ukey // k, ukey % k
+    adj = coo_matrix((np.ones(len(ukey)), (ulo, uhi)), shape=(k, k)).tocsr()
+    adj = ((adj + adj.T) > 0).astype(np.float64)
+    common = adj @ adj  # (i, j): number of joints joined to both i and j
+    in_tri_u = np.asarray(common[ulo, uhi]).reshape(-1) > 0
+    in_tri = in_tri_u[inv]
+    _, comp_of_joint = connected_components(adj, directed=False)
+    comp = comp_of_joint[pa]
+    plen = np.hypot(*(xy[pb] - xy[pa]).T)
+
+    layer_ids = {name: i for i, name in enumerate(sorted(set(layers)))}
+    lay = np.array([layer_ids[layers[s]] for s in src.tolist()], dtype=np.int64)
+    group = comp * len(layer_ids) + lay
+    ug, ginv = np.unique(group, return_inverse=True)
+    ginv = ginv.reshape(-1)
+    tot = np.bincount(ginv, weights=plen, minlength=len(ug))
+    tri = np.bincount(ginv, weights=plen * in_tri, minlength=len(ug))
+    structural_group = tri >= TRIANGULATED_SHARE * tot - 1e-12 * tot
+    structural_group &= tri > 0
+    piece_keep = structural_group[ginv]
+    if not piece_keep.any():
+        return Selection(np.ones(n, dtype=bool), "all", {}, _counts(layers, np.ones(n, bool)), True, ("",) * n)
+
+    # attached: a group on a structural layer inside the hull of a structural piece
+    struct_layers = set(lay[piece_keep].tolist())
+    hulls = _hulls(xy, comp, pa, pb, piece_keep)
+    for gi in np.flatnonzero(~structural_group).tolist():
+        members = np.flatnonzero(ginv == gi)
+        if int(lay[members[0]]) not in struct_layers:
+            continue
+        pts = np.concatenate([xy[pa[members]], xy[pb[members]]])
+        tol = max(snap, 1e-9)
+        if any(_inside(h, pts, tol) for h in hulls):
+            piece_keep[members] = True
+
+    # a drawn line is kept when any of its pieces is
+    keep = np.zeros(n, dtype=bool)
+    np.logical_or.at(keep, src, piece_keep)
+    why[~keep] = "no-triangles"
+
+    kept_len = plen[piece_keep]
+    median = float(np.median(kept_len)) if len(kept_len) else 0.0
+    _plates(seg, keep, why, xy, g, src, pa, pb, comp, piece_keep, median)
+    _outlines(seg, keep, why, median)
+
+    if not keep.any():
+        return Selection(np.ones(n, dtype=bool), "all", {}, _counts(layers, np.ones(n, bool)), True, ("",) * n)
+    # lines no piece of which survived the cut (zero length) follow their layer's fate
+    set_aside: dict[str, dict[str, int]] = defaultdict(lambda: defaultdict(int))
+    for i in np.flatnonzero(~keep).tolist():
+        set_aside[layers[i]][str(why[i])] += 1
+    out = {name: dict(v) for name, v in set_aside.items()}
+    rule = "auto" if out else "all"
+    return Selection(keep, rule, out, _counts(layers, keep), False, tuple(str(w) for w in why))
+
+
+def _counts(layers: tuple[str, ...], keep: np.ndarray) -> dict[str, int]:
+    used: dict[str, int] = defaultdict(int)
+    for name, k in zip(layers, keep.tolist(), strict=True):
+        if k:
+            used[name] += 1
+    return dict(used)
+
+
+def _hulls(xy: np.ndarray, comp: np.ndarray, pa: np.ndarray, pb: np.ndarray, keep: np.ndarray) -> list[np.ndarray]:
+    """Convex hull (counter-clockwise vertices) of each piece's structural members."""
+    from scipy.spatial import ConvexHull, QhullError
+
+    out = []
+    for c in np.unique(comp[keep]).tolist():
+        sel = keep & (comp == c)
+        pts = np.unique(np.concatenate([xy[pa[sel]], xy[pb[sel]]]), axis=0)
+        if len(pts) < 3:
+            continue
+        try:
+            h = ConvexHull(pts)
+        except QhullError:
+            continue
+        out.append(pts[h.vertices])
+    return out
+
+
+def _inside(hull: np.ndarray, pts: np.ndarray, tol: float) -> bool:
+    """Every point within ``tol`` of the convex polygon ``hull`` (counter-clockwise)."""
+    a = hull
+    b = np.roll(hull, -1, axis=0)
+    e = b - a
+    ln = np.hypot(e[:, 0], e[:, 1])
+    ln[ln == 0] = 1.0
+    # signed distance of each point to the left of each edge
+    cross = (e[None, :, 0] * (pts[:, None, 1] - a[None, :, 1]) - e[None, :, 1] * (pts[:, None, 0] - a[None, :, 0])) / ln
+    return bool((cross >= -tol).all())
+
+
+def _plates(
+    seg: np.ndarray,
+    keep: np.ndarray,
+    why: np.ndarray,
+    xy: np.ndarray,
+    g: object,
+    src: np.ndarray,
+    pa: np.ndarray,
+    pb: np.ndarray,
+    comp: np.ndarray,
+    piece_keep: np.ndarray,
+    median: float,
+) -> None:
+    """Set aside small single loops that hold a joint of the rest of the structure."""
+    if median <= 0:
+        return
+    deg = np.bincount(np.concatenate([pa, pb]), minlength=len(xy))
+    comps = np.unique(comp[piece_keep]).tolist()
+    loops = []
+    for c in comps:
+        sel = np.flatnonzero(comp == c)
+        joints = np.unique(np.concatenate([pa[sel], pb[sel]]))
+        if len(joints) < 3 or (deg[joints] != 2).any() or len(sel) != len(joints):
+            continue
+        pts = xy[joints]
+        size = float(np.hypot(*(pts.max(axis=0) - pts.min(axis=0))))
+        if size < PLATE_SIZE * median:
+            loops.append((c, sel, joints))
+    if not loops:
+        return
+    loop_comps = {c for c, _, _ in loops}
+    other = piece_keep & ~np.isin(comp, list(loop_comps))
+    if not other.any():
+        return
+    struct_joints = np.unique(np.concatenate([pa[other], pb[other]]))
+    sp = xy[struct_joints]
+    for _, sel, joints in loops:
+        poly = _cycle(xy, pa[sel], pb[sel])
+        if poly is None:
+            continue
+        lo, hi = poly.min(axis=0), poly.max(axis=0)
+        near = sp[((sp >= lo) & (sp <= hi)).all(axis=1)]
+        if len(near) and _point_in_polygon(poly, near).any():
+            lines = np.unique(src[sel])
+            keep[lines] = False
+            why[lines] = "plate"
+
+
+def _cycle(xy: np.ndarray, a: np.ndarray, b: np.ndarray) -> np.ndarray | None:
+    """Vertices of a single loop in order (None when the pieces are not one loop)."""
+    nb: dict[int, list[int]] = defaultdict(list)
+    for i, j in zip(a.tolist(), b.tolist(), strict=True):
+        nb[i].append(j)
+        nb[j].append(i)
+    start = a.tolist()[0]
+    order, prev, cur = [start], -1, start
+    for _ in range(len(nb)):
+        nxt = [j for j in nb[cur] if j != prev]
+        if not nxt:
+            return None
+        prev, cur = cur, nxt[0]
+        if cur == start:
+            break
+        order.append(cur)
+    return xy[order] if len(order) == len(nb) else None
+
+
+def _point_in_polygon(poly: np.ndarray, pts: np.ndarray) -> np.ndarray:
+    """Even-odd rule, vectorised over points."""
+    x, y = pts[:, 0][:, None], pts[:, 1][:, None]
+    x1, y1 = poly[:, 0][None, :], poly[:, 1][None, :]
+    x2, y2 = np.roll(poly[:, 0], -1)[None, :], np.roll(poly[:, 1], -1)[None, :]
+    crosses = (y1 > y) != (y2 > y)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        xi = x1 + (y - y1) * (x2 - x1) / (y2 - y1)
+    return ((crosses & (x < xi)).sum(axis=1) % 2) == 1
+
+
+def _outlines(seg: np.ndarray, keep: np.ndarray, why: np.ndarray, median: float) -> None:
+    """Set aside lines that are one of a member's two outlines around a kept centre line:
+    a kept line c with parallel kept lines on both sides at the same small offset, each
+    overlapping c, keeps c and sets the two aside."""
+    import shapely
+
+    idx = np.flatnonzero(keep)
+    if len(idx) < 3 or median <= 0:
+        return
+    s = seg[idx]
+    a, b = s[:, :2], s[:, 2:]
+    d = b - a
+    ln = np.hypot(d[:, 0], d[:, 1])
+    ok = ln > 0
+    idx, a, b, d, ln = idx[ok], a[ok], b[ok], d[ok], ln[ok]
+    u = d / ln[:, None]
+    mid = (a + b) / 2
+    reach = OUTLINE_MAX_OFFSET * median
+    tree = shapely.STRtree(shapely.linestrings(np.stack([a, b], axis=1)))
+    qs, qc = tree.query(shapely.points(mid), predicate="dwithin", distance=reach)
+    pick = qs != qc
+    qs, qc = qs[pick], qc[pick]
+    if not len(qs):
+        return
+    par = np.abs(u[qs, 0] * u[qc, 1] - u[qs, 1] * u[qc, 0]) <= PARALLEL_SIN
+    rel = mid[qs] - a[qc]
+    off = u[qc, 0] * rel[:, 1] - u[qc, 1] * rel[:, 0]  # left of c positive
+    t = (rel * u[qc]).sum(axis=1) / ln[qc]
+    good = (
+        par
+        & (np.abs(off) > 1e-6 * ln[qc])
+        & (np.abs(off) <= OUTLINE_MAX_OFFSET * ln[qc])
+        & (t >= 0)
+        & (t <= 1)
+    )
+    qs, qc, off = qs[good], qc[good], off[good]
+    by_c: dict[int, list[tuple[int, float]]] = defaultdict(list)
+    for si, ci, o in zip(qs.tolist(), qc.tolist(), off.tolist(), strict=True):
+        by_c[ci].append((si, o))
+    out: set[int] = set()
+    for ci, cand in by_c.items():
+        if ci in out:
+            continue
+        left = [(si, o) for si, o in cand if o > 0]
+        right = [(si, -o) for si, o in cand if o < 0]
+        for si, o in left:
+            for sj, p in right:
+                if abs(o - p) <= OUTLINE_OFFSET_MATCH * max(o, p):
+                    out.update((si, sj))
+    if out:
+        lines = idx[sorted(out)]
+        keep[lines] = False
+        why[lines] = "outline"
+
+
+def findings(selection: Selection) -> list[Finding]:
+    """One ``set-aside`` info finding per layer, and one when nothing qualified."""
+    out: list[Finding] = []
+    if selection.fallback:
+        out.append(
+            Finding(
+                Code.SET_ASIDE,
+                "no line work forms triangulated structure, so all visible line work is used as members; "
+                "name the truss layers with --layers if the drawing holds other line work (see dxftruss layers)",
+                data={"layer": None, "reasons": {}, "fallback": True},
+            )
+        )
+    for name in sorted(selection.set_aside):
+        reasons = selection.set_aside[name]
+        total = sum(reasons.values())
+        parts = "; ".join(f"{c} {RULES[r]}" for r, c in sorted(reasons.items()))
+        used = selection.used.get(name, 0)
+        tail = f" ({used} used)" if used else ""
+        out.append(
+            Finding(
+                Code.SET_ASIDE,
+                f"layer {shown(name)}: {total} line{'s' if total != 1 else ''} set aside{tail}: {parts}",
+                data={"layer": name, "reasons": dict(reasons), "fallback": False},
+            )
+        )
+    return out
