@@ -42,6 +42,8 @@ OUTLINE_MAX_OFFSET = 0.25
 OUTLINE_OFFSET_MATCH = 0.2
 #: parallel: sine of the angle between the lines at most this
 PARALLEL_SIN = 0.01
+#: at most this many layers (the largest) are also searched for triangles alone
+MAX_LAYERS_ALONE = 200
 #: a plate is smaller (its bounding box diagonal) than this fraction of the median member length
 PLATE_SIZE = 0.5
 
@@ -87,70 +89,58 @@ def everything(layers: tuple[str, ...], rule: str) -> Selection:
 
 def select_structure(segments: np.ndarray, layers: tuple[str, ...], *, snap: float) -> Selection:
     """Decide which drawn lines are the truss (see the module docstring)."""
-    from scipy.sparse import coo_matrix
-    from scipy.sparse.csgraph import connected_components
-
-    from .snap import line_pieces
 
     seg = np.asarray(segments, dtype=float).reshape(-1, 4)
     n = len(seg)
     if n == 0:
         return everything(layers, "all")
-    g = line_pieces(seg, snap=snap)
-    src, pa, pb, xy = g.src, g.pa, g.pb, g.centres
-    k = len(xy)
     why = np.full(n, "", dtype=object)
-    if len(src) == 0:
-        return everything(layers, "all")
-    # distinct joint pairs (duplicates count once for triangles)
-    lo, hi = np.minimum(pa, pb), np.maximum(pa, pb)
-    key = lo * k + hi
-    ukey, inv = np.unique(key, return_inverse=True)
-    inv = inv.reshape(-1)
-    ulo, uhi = ukey // k, ukey % k
-    adj = coo_matrix((np.ones(len(ukey)), (ulo, uhi)), shape=(k, k)).tocsr()
-    adj = ((adj + adj.T) > 0).astype(np.float64)
-    common = adj @ adj  # (i, j): number of joints joined to both i and j
-    in_tri_u = np.asarray(common[ulo, uhi]).reshape(-1) > 0
-    in_tri = in_tri_u[inv]
-    _, comp_of_joint = connected_components(adj, directed=False)
-    comp = comp_of_joint[pa]
-    plen = np.hypot(*(xy[pb] - xy[pa]).T)
-
     layer_ids = {name: i for i, name in enumerate(sorted(set(layers)))}
-    lay = np.array([layer_ids[layers[s]] for s in src.tolist()], dtype=np.int64)
-    group = comp * len(layer_ids) + lay
-    ug, ginv = np.unique(group, return_inverse=True)
-    ginv = ginv.reshape(-1)
-    tot = np.bincount(ginv, weights=plen, minlength=len(ug))
-    tri = np.bincount(ginv, weights=plen * in_tri, minlength=len(ug))
-    structural_group = tri >= TRIANGULATED_SHARE * tot - 1e-12 * tot
-    structural_group &= tri > 0
-    piece_keep = structural_group[ginv]
+    line_layer = np.array([layer_ids[name] for name in layers], dtype=np.int64)
+    g, comp, lay, _, ginv, line_struct = _triangulated(seg, line_layer, snap, len(layer_ids))
+    if g is None:
+        return everything(layers, "all")
+    src, pa, pb, xy = g.src, g.pa, g.pb, g.centres
+    # each layer alone too: line work of other layers ending on a member between its
+    # joints (an outline drawn to the centre line) would otherwise break its triangles
+    counts = np.bincount(line_layer, minlength=len(layer_ids))
+    for lid in np.argsort(-counts)[:MAX_LAYERS_ALONE].tolist():
+        if counts[lid] < 3:
+            break
+        rows = np.flatnonzero(line_layer == lid)
+        res = _triangulated(seg[rows], line_layer[rows], snap, len(layer_ids))
+        if res[0] is not None:
+            line_struct[rows] |= res[5]
+    piece_keep = line_struct[src]
     if not piece_keep.any():
         return Selection(np.ones(n, dtype=bool), "all", {}, _counts(layers, np.ones(n, bool)), True, ("",) * n)
 
     # attached: a group on a structural layer inside the hull of a structural piece
     struct_layers = set(lay[piece_keep].tolist())
     hulls = _hulls(xy, comp, pa, pb, piece_keep)
-    for gi in np.flatnonzero(~structural_group).tolist():
-        members = np.flatnonzero(ginv == gi)
-        if int(lay[members[0]]) not in struct_layers:
-            continue
-        pts = np.concatenate([xy[pa[members]], xy[pb[members]]])
+    if hulls:
+        box_lo = np.array([h.min(axis=0) for h in hulls])
+        box_hi = np.array([h.max(axis=0) for h in hulls])
         tol = max(snap, 1e-9)
-        if any(_inside(h, pts, tol) for h in hulls):
-            piece_keep[members] = True
+        for members in _groups(ginv, ~piece_keep):
+            if int(lay[members[0]]) not in struct_layers or piece_keep[members].any():
+                continue
+            pts = np.concatenate([xy[pa[members]], xy[pb[members]]])
+            lo, hi = pts.min(axis=0), pts.max(axis=0)
+            cand = np.flatnonzero(((box_lo - tol) <= lo).all(axis=1) & ((box_hi + tol) >= hi).all(axis=1))
+            if any(_inside(hulls[int(c)], pts, tol) for c in cand):
+                piece_keep[members] = True
 
     # a drawn line is kept when any of its pieces is
     keep = np.zeros(n, dtype=bool)
     np.logical_or.at(keep, src, piece_keep)
     why[~keep] = "no-triangles"
 
-    kept_len = plen[piece_keep]
+    seg_len = np.hypot(seg[:, 2] - seg[:, 0], seg[:, 3] - seg[:, 1])
+    kept_len = seg_len[keep & (seg_len > 0)]
     median = float(np.median(kept_len)) if len(kept_len) else 0.0
-    _plates(seg, keep, why, xy, g, src, pa, pb, comp, piece_keep, median)
     _outlines(seg, keep, why, median)
+    _plates(keep, why, xy, src, pa, pb, comp, piece_keep, median)  # a plate's edges may look like outlines
 
     if not keep.any():
         return Selection(np.ones(n, dtype=bool), "all", {}, _counts(layers, np.ones(n, bool)), True, ("",) * n)
@@ -161,6 +151,54 @@ def select_structure(segments: np.ndarray, layers: tuple[str, ...], *, snap: flo
     out = {name: dict(v) for name, v in set_aside.items()}
     rule = "auto" if out else "all"
     return Selection(keep, rule, out, _counts(layers, keep), False, tuple(str(w) for w in why))
+
+
+def _triangulated(seg: np.ndarray, line_layer: np.ndarray, snap: float, n_layers: int) -> tuple:
+    """Cut the lines into pieces between joints and find the triangulated groups.
+
+    Returns (pieces, component per piece, layer per piece, structural per group, group
+    per piece, structural per drawn line); (None, ...) when no line has length."""
+    from scipy.sparse import coo_matrix
+    from scipy.sparse.csgraph import connected_components
+
+    from .snap import line_pieces
+
+    g = line_pieces(seg, snap=snap)
+    src, pa, pb, xy = g.src, g.pa, g.pb, g.centres
+    if len(src) == 0:
+        return None, None, None, None, None, np.zeros(len(seg), dtype=bool)
+    k = len(xy)
+    # distinct joint pairs (duplicates count once for triangles)
+    key = np.minimum(pa, pb) * k + np.maximum(pa, pb)
+    ukey, inv = np.unique(key, return_inverse=True)
+    inv = inv.reshape(-1)
+    ulo, uhi = ukey // k, ukey % k
+    adj = coo_matrix((np.ones(len(ukey)), (ulo, uhi)), shape=(k, k)).tocsr()
+    adj = ((adj + adj.T) > 0).astype(np.float64)
+    common = adj @ adj  # (i, j): number of joints joined to both i and j
+    in_tri = (np.asarray(common[ulo, uhi]).reshape(-1) > 0)[inv]
+    _, comp_of_joint = connected_components(adj, directed=False)
+    comp = comp_of_joint[pa]
+    plen = np.hypot(*(xy[pb] - xy[pa]).T)
+    lay = line_layer[src]
+    _, ginv = np.unique(comp * n_layers + lay, return_inverse=True)
+    ginv = ginv.reshape(-1)
+    tot = np.bincount(ginv, weights=plen)
+    tri = np.bincount(ginv, weights=plen * in_tri)
+    structural = (tri >= TRIANGULATED_SHARE * tot * (1 - 1e-12)) & (tri > 0)
+    line_struct = np.zeros(len(seg), dtype=bool)
+    np.logical_or.at(line_struct, src, structural[ginv])
+    return g, comp, lay, structural, ginv, line_struct
+
+
+def _groups(labels: np.ndarray, mask: np.ndarray) -> list[np.ndarray]:
+    """Indices of the masked entries, grouped by label (one sort, no scan per group)."""
+    idx = np.flatnonzero(mask)
+    if not len(idx):
+        return []
+    order = idx[np.argsort(labels[idx], kind="stable")]
+    cuts = np.flatnonzero(np.diff(labels[order])) + 1
+    return np.split(order, cuts)
 
 
 def _counts(layers: tuple[str, ...], keep: np.ndarray) -> dict[str, int]:
@@ -176,8 +214,7 @@ def _hulls(xy: np.ndarray, comp: np.ndarray, pa: np.ndarray, pb: np.ndarray, kee
     from scipy.spatial import ConvexHull, QhullError
 
     out = []
-    for c in np.unique(comp[keep]).tolist():
-        sel = keep & (comp == c)
+    for sel in _groups(comp, keep):
         pts = np.unique(np.concatenate([xy[pa[sel]], xy[pb[sel]]]), axis=0)
         if len(pts) < 3:
             continue
@@ -202,11 +239,9 @@ def _inside(hull: np.ndarray, pts: np.ndarray, tol: float) -> bool:
 
 
 def _plates(
-    seg: np.ndarray,
     keep: np.ndarray,
     why: np.ndarray,
     xy: np.ndarray,
-    g: object,
     src: np.ndarray,
     pa: np.ndarray,
     pb: np.ndarray,
@@ -218,10 +253,9 @@ def _plates(
     if median <= 0:
         return
     deg = np.bincount(np.concatenate([pa, pb]), minlength=len(xy))
-    comps = np.unique(comp[piece_keep]).tolist()
     loops = []
-    for c in comps:
-        sel = np.flatnonzero(comp == c)
+    for sel in _groups(comp, np.ones(len(comp), dtype=bool)):
+        c = int(comp[sel[0]])
         joints = np.unique(np.concatenate([pa[sel], pb[sel]]))
         if len(joints) < 3 or (deg[joints] != 2).any() or len(sel) != len(joints):
             continue
@@ -237,7 +271,7 @@ def _plates(
         return
     struct_joints = np.unique(np.concatenate([pa[other], pb[other]]))
     sp = xy[struct_joints]
-    for _, sel, joints in loops:
+    for _, sel, _ in loops:
         poly = _cycle(xy, pa[sel], pb[sel])
         if poly is None:
             continue
@@ -285,8 +319,8 @@ def _outlines(seg: np.ndarray, keep: np.ndarray, why: np.ndarray, median: float)
     overlapping c, keeps c and sets the two aside."""
     import shapely
 
-    idx = np.flatnonzero(keep)
-    if len(idx) < 3 or median <= 0:
+    idx = np.arange(len(seg))
+    if keep.sum() < 1 or median <= 0:
         return
     s = seg[idx]
     a, b = s[:, :2], s[:, 2:]
@@ -299,7 +333,7 @@ def _outlines(seg: np.ndarray, keep: np.ndarray, why: np.ndarray, median: float)
     reach = OUTLINE_MAX_OFFSET * median
     tree = shapely.STRtree(shapely.linestrings(np.stack([a, b], axis=1)))
     qs, qc = tree.query(shapely.points(mid), predicate="dwithin", distance=reach)
-    pick = qs != qc
+    pick = (qs != qc) & keep[idx[qc]]  # a centre line is a used line; an outline any line
     qs, qc = qs[pick], qc[pick]
     if not len(qs):
         return
@@ -307,13 +341,7 @@ def _outlines(seg: np.ndarray, keep: np.ndarray, why: np.ndarray, median: float)
     rel = mid[qs] - a[qc]
     off = u[qc, 0] * rel[:, 1] - u[qc, 1] * rel[:, 0]  # left of c positive
     t = (rel * u[qc]).sum(axis=1) / ln[qc]
-    good = (
-        par
-        & (np.abs(off) > 1e-6 * ln[qc])
-        & (np.abs(off) <= OUTLINE_MAX_OFFSET * ln[qc])
-        & (t >= 0)
-        & (t <= 1)
-    )
+    good = par & (np.abs(off) > 1e-6 * ln[qc]) & (np.abs(off) <= OUTLINE_MAX_OFFSET * ln[qc]) & (t >= 0) & (t <= 1)
     qs, qc, off = qs[good], qc[good], off[good]
     by_c: dict[int, list[tuple[int, float]]] = defaultdict(list)
     for si, ci, o in zip(qs.tolist(), qc.tolist(), off.tolist(), strict=True):

@@ -17,8 +17,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
-from .drafting import Selection
 from .audit.stability import PartStability
+from .drafting import Selection
 from .findings import Finding, Severity
 from .loadsfile import LoadsSpec
 from .model import Truss

@@ -200,7 +200,7 @@ def build_geometry(
     """
     findings: list[Finding] = []
     g = line_pieces(segments, snap=snap)
-    centres, a, b, live = g.centres, g.start_joint, g.end_joint, g.live
+    centres, live = g.centres, g.live
     for i in np.flatnonzero(~g.nonzero):
         findings.append(
             Finding(
