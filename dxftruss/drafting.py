@@ -50,7 +50,7 @@ PLATE_SIZE = 0.5
 RULES = {
     "no-triangles": "no triangulated structure",
     "outline": "member outlines around centre lines",
-    "plate": "closed outlines around joints (plates)",
+    "plate": "plates: closed outlines around joints",
 }
 
 
@@ -377,7 +377,7 @@ def findings(selection: Selection) -> list[Finding]:
     for name in sorted(selection.set_aside):
         reasons = selection.set_aside[name]
         total = sum(reasons.values())
-        parts = "; ".join(f"{c} {RULES[r]}" for r, c in sorted(reasons.items()))
+        parts = "; ".join(f"{RULES[r]} ({c})" for r, c in sorted(reasons.items()))
         used = selection.used.get(name, 0)
         tail = f" ({used} used)" if used else ""
         out.append(

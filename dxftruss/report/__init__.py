@@ -44,15 +44,19 @@ def layers_sentence(sel: Selection) -> str:
     """Which layers gave the members, and how they were chosen (escaped names)."""
     from ..escape import shown
 
-    used = ", ".join(f"{shown(name)} ({n})" for name, n in sorted(sel.used.items())) or "none"
+    used = ", ".join(f"{shown(name)} ({n} lines)" for name, n in sorted(sel.used.items())) or "none"
     if sel.rule == "option":
-        return f"members from the layers named with --layers: {used} lines"
+        return f"members from the layers named with --layers: {used}"
     if sel.fallback:
-        return f"members from all visible line work (nothing formed triangulated structure): {used} lines"
+        return f"members from all visible line work (nothing formed triangulated structure): {used}"
     if not sel.set_aside:
-        return f"members from all visible line work ({used} lines): it forms triangulated structure"
-    aside = sum(sum(v.values()) for v in sel.set_aside.values())
+        return f"members from all visible line work, which forms triangulated structure: {used}"
+    from ..drafting import RULES
+
+    rows = sorted(sel.set_aside.items(), key=lambda kv: (-sum(kv[1].values()), kv[0]))
+    listed = [f"{shown(name)} {sum(r.values())} ({', '.join(RULES[k] for k in sorted(r))})" for name, r in rows[:6]]
+    more = f" and {len(rows) - 6} more layer(s)" if len(rows) > 6 else ""
     return (
-        f"members from the line work that forms triangulated structure: {used} lines; {aside} lines on "
-        f"{len(sel.set_aside)} layer(s) set aside as drafting (see the set-aside findings)"
+        f"members from the line work that forms triangulated structure: {used}; set aside as drafting: "
+        f"{'; '.join(listed)}{more} (drawn faintly on the PDF; name the truss layers with --layers to choose)"
     )
