@@ -317,15 +317,16 @@ def add_title_block(layout: Any, box: tuple[float, float, float, float], *, titl
     )
 
 
-def add_dimensions(layout: Any, known: Known, *, exploded: bool, layer: str = "DIM") -> None:
+def add_dimensions(layout: Any, known: Known, *, exploded: bool, layer: str = "DIM", level: float = 1.0) -> None:
     """A chain of panel dimensions under the truss, an overall span below it and the rise
-    at the right end. Real DIMENSION entities (rendered), or "exploded" ones: dimension
-    line, 45 degree ticks, extension lines and the value as TEXT, all plain entities."""
+    at the right end (``level`` scales their distance from the truss). Real DIMENSION
+    entities (rendered), or "exploded" ones: dimension line, 45 degree ticks, extension
+    lines and the value as TEXT, all plain entities."""
     _layer(layout.doc, layer, 3)
     xy = known.joints
     bottom = sorted({float(x) for x, y in xy if abs(y) < 1e-9})
     span = known.span
-    y1, y2 = -0.08 * span, -0.14 * span
+    y1, y2 = -0.08 * span * level, -0.14 * span * level
     chains = [(bottom, y1), ([bottom[0], bottom[-1]], y2)]
     top = float(xy[:, 1].max())
     x_apex = float(xy[int(np.argmax(xy[:, 1])), 0])
@@ -339,7 +340,7 @@ def add_dimensions(layout: Any, known: Known, *, exploded: bool, layer: str = "D
                 )
                 dim.render()
     # the rise: a vertical dimension right of the truss
-    xr = bottom[-1] + 0.06 * span
+    xr = bottom[-1] + 0.06 * span * level
     if exploded:
         _exploded_dim(layout, (x_apex, top), (bottom[-1], 0.0), (xr, top), (xr, 0.0), f"{top:.0f}", layer)
     else:
@@ -729,7 +730,7 @@ def sheet_everything(folder: Path) -> Sheet:
         msp, (-6000.0, -48000.0, 30000.0, 9000.0), title="Cold store ext. roof truss RT2", number="OV-2291-S-103"
     )
     add_dimensions(msp, known, exploded=False, layer="DIM")
-    add_dimensions(msp, known.moved(0.0, 0.0), exploded=True, layer="DIM-X")
+    add_dimensions(msp, known, exploded=True, layer="DIM-X", level=2.0)
     add_outlines_and_plates(msp, known)
     add_grid_and_plan(msp, known, plan_y=-10000.0)
     add_old_revision(msp, known)
