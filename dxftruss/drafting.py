@@ -97,12 +97,9 @@ def select_structure(segments: np.ndarray, layers: tuple[str, ...], *, snap: flo
     why = np.full(n, "", dtype=object)
     layer_ids = {name: i for i, name in enumerate(sorted(set(layers)))}
     line_layer = np.array([layer_ids[name] for name in layers], dtype=np.int64)
-    g, comp, lay, _, ginv, line_struct = _triangulated(seg, line_layer, snap, len(layer_ids))
-    if g is None:
-        return everything(layers, "all")
-    src, pa, pb, xy = g.src, g.pa, g.pb, g.centres
-    # each layer alone too: line work of other layers ending on a member between its
-    # joints (an outline drawn to the centre line) would otherwise break its triangles
+    # each layer alone first: line work of other layers ending on a member between its
+    # joints (an outline drawn to the centre line) would break its triangles
+    alone = np.zeros(n, dtype=bool)
     counts = np.bincount(line_layer, minlength=len(layer_ids))
     for lid in np.argsort(-counts)[:MAX_LAYERS_ALONE].tolist():
         if counts[lid] < 3:
@@ -110,7 +107,15 @@ def select_structure(segments: np.ndarray, layers: tuple[str, ...], *, snap: flo
         rows = np.flatnonzero(line_layer == lid)
         res = _triangulated(seg[rows], line_layer[rows], snap, len(layer_ids))
         if res[0] is not None:
-            line_struct[rows] |= res[5]
+            alone[rows] |= res[5]
+    # then all layers together (a truss whose chords and webs are on different layers);
+    # a line drawn over members already found (an extension line along a chord) adds no
+    # triangles of its own
+    g, comp, lay, _, ginv, line_struct = _triangulated(seg, line_layer, snap, len(layer_ids), alone)
+    if g is None:
+        return everything(layers, "all")
+    src, pa, pb, xy = g.src, g.pa, g.pb, g.centres
+    line_struct |= alone
     piece_keep = line_struct[src]
     if not piece_keep.any():
         return Selection(np.ones(n, dtype=bool), "all", {}, _counts(layers, np.ones(n, bool)), True, ("",) * n)
@@ -153,11 +158,15 @@ def select_structure(segments: np.ndarray, layers: tuple[str, ...], *, snap: flo
     return Selection(keep, rule, out, _counts(layers, keep), False, tuple(str(w) for w in why))
 
 
-def _triangulated(seg: np.ndarray, line_layer: np.ndarray, snap: float, n_layers: int) -> tuple:
+def _triangulated(
+    seg: np.ndarray, line_layer: np.ndarray, snap: float, n_layers: int, found: np.ndarray | None = None
+) -> tuple:
     """Cut the lines into pieces between joints and find the triangulated groups.
 
     Returns (pieces, component per piece, layer per piece, structural per group, group
-    per piece, structural per drawn line); (None, ...) when no line has length."""
+    per piece, structural per drawn line); (None, ...) when no line has length. A piece
+    of a line not in ``found`` that lies over a piece of a line in ``found`` (the same two
+    joints) does not count as in a triangle."""
     from scipy.sparse import coo_matrix
     from scipy.sparse.csgraph import connected_components
 
@@ -177,6 +186,11 @@ def _triangulated(seg: np.ndarray, line_layer: np.ndarray, snap: float, n_layers
     adj = ((adj + adj.T) > 0).astype(np.float64)
     common = adj @ adj  # (i, j): number of joints joined to both i and j
     in_tri = (np.asarray(common[ulo, uhi]).reshape(-1) > 0)[inv]
+    if found is not None and found.any():
+        piece_found = found[src]
+        edge_found = np.zeros(len(ukey), dtype=bool)
+        edge_found[inv[piece_found]] = True
+        in_tri &= piece_found | ~edge_found[inv]
     _, comp_of_joint = connected_components(adj, directed=False)
     comp = comp_of_joint[pa]
     plen = np.hypot(*(xy[pb] - xy[pa]).T)
