@@ -27,6 +27,7 @@ from __future__ import annotations
 
 from collections import defaultdict
 from dataclasses import dataclass, field
+from typing import Any
 
 import numpy as np
 
@@ -97,25 +98,32 @@ def select_structure(segments: np.ndarray, layers: tuple[str, ...], *, snap: flo
     why = np.full(n, "", dtype=object)
     layer_ids = {name: i for i, name in enumerate(sorted(set(layers)))}
     line_layer = np.array([layer_ids[name] for name in layers], dtype=np.int64)
-    # each layer alone first: line work of other layers ending on a member between its
+    # all layers together (a truss whose chords and webs are on different layers)
+    res = _triangulated(seg, line_layer, snap, len(layer_ids))
+    if res[0] is None:
+        return everything(layers, "all")
+    # then each layer alone: line work of other layers ending on a member between its
     # joints (an outline drawn to the centre line) would break its triangles
+    line_struct = res[5]
     alone = np.zeros(n, dtype=bool)
     counts = np.bincount(line_layer, minlength=len(layer_ids))
-    for lid in np.argsort(-counts)[:MAX_LAYERS_ALONE].tolist():
-        if counts[lid] < 3:
-            break
-        rows = np.flatnonzero(line_layer == lid)
-        res = _triangulated(seg[rows], line_layer[rows], snap, len(layer_ids))
-        if res[0] is not None:
-            alone[rows] |= res[5]
-    # then all layers together (a truss whose chords and webs are on different layers);
-    # a line drawn over members already found (an extension line along a chord) adds no
-    # triangles of its own
-    g, comp, lay, _, ginv, line_struct = _triangulated(seg, line_layer, snap, len(layer_ids), alone)
-    if g is None:
-        return everything(layers, "all")
+    if int((counts > 0).sum()) > 1:
+        for lid in sorted(_cut_by_others(res[0], line_layer, len(layer_ids)), key=lambda k: -counts[k])[
+            :MAX_LAYERS_ALONE
+        ]:
+            if counts[lid] < 3:
+                continue
+            rows = np.flatnonzero(line_layer == lid)
+            one = _triangulated(seg[rows], line_layer[rows], snap, len(layer_ids))
+            if one[0] is not None:
+                alone[rows] |= one[5]
+    if alone.any() and (line_struct & ~alone).any():
+        # a line drawn over members found alone (an extension line along a chord) adds
+        # no triangles of its own
+        res = _triangulated(seg, line_layer, snap, len(layer_ids), alone)
+    g, comp, lay, _, ginv, line_struct = res
     src, pa, pb, xy = g.src, g.pa, g.pb, g.centres
-    line_struct |= alone
+    line_struct = line_struct | alone
     piece_keep = line_struct[src]
     if not piece_keep.any():
         return Selection(np.ones(n, dtype=bool), "all", {}, _counts(layers, np.ones(n, bool)), True, ("",) * n)
@@ -203,6 +211,20 @@ def _triangulated(
     line_struct = np.zeros(len(seg), dtype=bool)
     np.logical_or.at(line_struct, src, structural[ginv])
     return g, comp, lay, structural, ginv, line_struct
+
+
+def _cut_by_others(g: Any, line_layer: np.ndarray, n_layers: int) -> set[int]:
+    """Layers with a line cut at a joint where no line of that layer ends: another
+    layer's line work ending on it (these are searched for triangles alone)."""
+    if not g.split_info:
+        return set()
+    ends = set((g.label.astype(np.int64) * n_layers + np.repeat(line_layer, 2)).tolist())
+    out: set[int] = set()
+    for live_idx, chain in g.split_info:
+        lid = int(line_layer[g.live[live_idx]])
+        if lid not in out and any(j * n_layers + lid not in ends for j in chain[1:-1]):
+            out.add(lid)
+    return out
 
 
 def _groups(labels: np.ndarray, mask: np.ndarray) -> list[np.ndarray]:
