@@ -25,6 +25,7 @@ from .audit.topology import audit_topology
 from .errors import ConfigError, InputError, LimitError
 from .findings import Code, Finding, sort_findings
 from .loadsfile import read_loads_file
+from .naming import part_names
 from .policy import run_policy
 from .read import read_drawing
 from .result import Result, Settings, SourceInfo, Tolerances
@@ -242,4 +243,5 @@ def _check(
         loads=spec,
         timings=timings,
         selection=selection,
+        part_names=part_names(truss, linework.texts, linework.document),
     )

@@ -100,6 +100,8 @@ class Result:
     timings: dict[str, float] = field(default_factory=dict, compare=False)
     #: which drawn lines were used as members and what was set aside (drafting.py)
     selection: Selection | None = None
+    #: one name per part, the way the sheet names it (naming.py)
+    part_names: tuple[str, ...] = ()
 
     @property
     def has_errors(self) -> bool:

@@ -15,6 +15,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from ..model import LoadOrigin, joint_id, member_id
+from ..naming import finding_parts, part_index
 from . import CAUTION, assumptions
 
 if TYPE_CHECKING:
@@ -66,6 +67,7 @@ def report_dict(result: Result) -> dict[str, Any]:
     src = result.source
     s = result.settings
     tol = result.tolerances
+    index = part_index(t)
     doc: dict[str, Any] = {
         "schema": SCHEMA,
         "schema_version": SCHEMA_VERSION,
@@ -111,6 +113,7 @@ def report_dict(result: Result) -> dict[str, Any]:
         "parts": [
             {
                 "id": p.index + 1,
+                "name": result.part_names[p.index] if result.part_names else f"P{p.index + 1}",
                 "joints": [jid[j] for j in p.joints.tolist()],
                 "members": [mid[e] for e in p.members.tolist()],
                 "j": st.j,
@@ -137,6 +140,7 @@ def report_dict(result: Result) -> dict[str, Any]:
                 "joints": [joint_id(j) for j in f.joints if j >= 0],
                 "members": [member_id(e) for e in f.members],
                 "at": [_num(f.at[0]), _num(f.at[1])] if f.at is not None else None,
+                "parts": finding_parts(f, index, result.part_names),
                 **({"data": _jsonable(f.data)} if f.data else {}),
             }
             for f in result.findings

@@ -17,6 +17,7 @@ import numpy as np
 from ..escape import shown
 from ..findings import Severity
 from ..model import joint_id, member_id
+from ..naming import finding_parts, part_index
 from . import CAUTION, assumptions
 
 if TYPE_CHECKING:
@@ -60,11 +61,11 @@ def summary(result: Result, *, max_findings: int = 40, width: int = 110, color: 
 
     parts = Table(box=box.SIMPLE_HEAD, title="parts", title_justify="left", pad_edge=False)
     for col in ("part", "j", "m", "r", "rank", "mechanisms", "self-stress", "verdict"):
-        parts.add_column(col, justify="right" if col != "verdict" else "left")
+        parts.add_column(col, justify="right" if col not in ("verdict", "part") else "left")
     for p, st in zip(t.parts, result.stability, strict=True):
         style = "red" if st.mechanisms else ("yellow" if st.self_stress else "green")
         parts.add_row(
-            str(p.index + 1),
+            _text(result.part_names[p.index] if result.part_names else str(p.index + 1)),
             str(st.j),
             str(st.m),
             str(st.r),
@@ -97,9 +98,15 @@ def summary(result: Result, *, max_findings: int = 40, width: int = 110, color: 
         ft.add_column("code")
         ft.add_column("message", overflow="fold")
         sev_style = {Severity.ERROR: "red", Severity.WARNING: "yellow", Severity.INFO: "dim"}
+        index = part_index(t)
         for i, f in enumerate(result.findings[:max_findings], 1):
+            named = finding_parts(f, index, result.part_names) if len(t.parts) > 1 else []
+            where = f"[{', '.join(named[:3])}{', ...' if len(named) > 3 else ''}] " if named else ""
             ft.add_row(
-                str(i), _text(f.severity.value, style=sev_style[f.severity]), _text(f.code.value), _text(f.message)
+                str(i),
+                _text(f.severity.value, style=sev_style[f.severity]),
+                _text(f.code.value),
+                _text(where + f.message),
             )
         con.print(ft)
         if len(result.findings) > max_findings:
