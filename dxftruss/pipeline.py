@@ -25,7 +25,8 @@ from .errors import ConfigError, InputError, LimitError
 from .findings import Code, Finding, sort_findings
 from .loadsfile import read_loads_file
 from .policy import run_policy
-from .read import read_drawing
+from .escape import shown
+from .read import LineWork, read_drawing
 from .result import Result, Settings, SourceInfo, Tolerances
 from .snap import build_geometry
 from .statics import CaseResult, solve_case
@@ -52,6 +53,29 @@ def file_digest(path: str | os.PathLike[str]) -> tuple[str, bool]:
                 first = False
             h.update(chunk)
     return h.hexdigest(), binary
+
+
+def _with_inventory(findings: list[Finding], linework: LineWork, globs: tuple[str, ...]) -> list[Finding]:
+    """``no-members`` with the layer inventory in brief (each layer's line count and use)
+    and what to do: name the truss layers with --layers, list them with ``dxftruss layers``."""
+    from dataclasses import replace
+
+    from .inventory import brief, layer_inventory
+
+    out = []
+    for f in findings:
+        if f.code is Code.NO_MEMBERS:
+            entries = layer_inventory(linework, globs)
+            where = "" if linework.layout == "Model" else f" (layout '{shown(linework.layout)}')"
+            msg = (
+                f"{f.message}; layers{where}: {brief(entries)}; name the truss's layers with --layers "
+                "(e.g. --layers NAME), or list every layer and its use with 'dxftruss layers DRAWING'"
+            )
+            data = dict(f.data)
+            data["layers"] = [{"name": e.name, "lines": e.lines, "use": e.use} for e in entries[:100]]
+            f = replace(f, message=msg, data=data)
+        out.append(f)
+    return out
 
 
 def _tolerance(text: str, unit: str, what: str) -> float:
@@ -106,6 +130,7 @@ def _check(
         layers=settings.layers,
         max_members=settings.max_members,
         max_bytes=int(settings.max_file_mb * 2**20) if settings.max_file_mb else None,
+        layout=settings.layout,
     )
     sha, binary = file_digest(p)
     stage("read")
@@ -173,7 +198,7 @@ def _check(
         snap=snap,
     )
     findings += truss.findings
-    findings += audit_topology(truss, snap=snap, near_miss=near)
+    findings += _with_inventory(audit_topology(truss, snap=snap, near_miss=near), linework, settings.layers)
     stage("model")
 
     stability: list[PartStability] = []
@@ -197,7 +222,9 @@ def _check(
                 findings.append(f)
     stage("statics")
 
-    source = SourceInfo(str(path), sha, linework.dxf_version, unit, unit_source, linework.recovered, binary)
+    source = SourceInfo(
+        str(path), sha, linework.dxf_version, unit, unit_source, linework.recovered, binary, linework.layout
+    )
     return Result(
         source=source,
         settings=settings,
