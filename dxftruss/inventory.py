@@ -82,7 +82,8 @@ def layer_use(name: str, role: _LayerRole, state: LayerState, named_hidden: bool
         return "hidden", f"{' and '.join(state.hidden)}: nothing on it is read; name it with --layers to read it"
     why_named = f"; {' and '.join(state.hidden)} but read because --layers names it" if named_hidden else ""
     if role.role is _Role.SKIP:
-        return "outside --layers", "no --layers glob matches it: nothing on it is read"
+        also = f" (and it is {' and '.join(state.hidden)})" if state.hidden else ""
+        return "outside --layers", f"no --layers glob matches it: nothing on it is read{also}"
     if role.role is _Role.SUPPORT:
         return "supports", f"points, circles and block references are supports that {_FIX_WORDS[up]}{why_named}"
     if role.role is _Role.LOAD:
