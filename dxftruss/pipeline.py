@@ -22,10 +22,10 @@ from .assemble import build_truss
 from .audit.stability import PartStability, analyse_part
 from .audit.topology import audit_topology
 from .errors import ConfigError, InputError, LimitError
+from .escape import shown
 from .findings import Code, Finding, sort_findings
 from .loadsfile import read_loads_file
 from .policy import run_policy
-from .escape import shown
 from .read import LineWork, read_drawing
 from .result import Result, Settings, SourceInfo, Tolerances
 from .snap import build_geometry

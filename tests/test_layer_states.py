@@ -131,7 +131,7 @@ def test_block_content_on_its_own_frozen_layer_is_hidden(tmp_path):
 
 
 def test_a_hidden_layer_named_exactly_is_read_with_a_warning(tmp_path):
-    doc, msp = _doc()
+    doc, _ = _doc()
     doc.layers.add("TRUSS")
     _hide(doc, "TRUSS", "off")
     path = tmp_path / "off.dxf"
@@ -174,7 +174,7 @@ def test_a_layer_missing_from_the_table_is_visible_and_a_locked_one_is_read(tmp_
 
 
 def test_no_members_lists_the_layers_and_suggests_the_options(tmp_path):
-    doc, msp = _doc()
+    doc, _ = _doc()
     doc.layers.add("TRUSS")
     _hide(doc, "TRUSS", "off")
     path = tmp_path / "all_hidden.dxf"

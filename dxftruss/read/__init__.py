@@ -335,11 +335,11 @@ def _hidden_layer_findings(reader: _Reader, states: dict[str, LayerState]) -> li
     out: list[Finding] = []
     for key in sorted(by_layer):
         st = states[key]
-        counts = by_layer[key]
-        total = sum(counts.values())
-        data = {"layer": st.name, "state": list(st.hidden), "counts": counts}
+        held_counts = by_layer[key]
+        total = sum(held_counts.values())
+        data = {"layer": st.name, "state": list(st.hidden), "counts": held_counts}
         what = f"layer '{shown(st.name)}' is {' and '.join(st.hidden)}"
-        held = f"{total} entit{'ies' if total != 1 else 'y'}: {_count_words(counts)}"
+        held = f"{total} entit{'ies' if total != 1 else 'y'}: {_count_words(held_counts)}"
         if key in named:
             msg = f"{what} but was read because --layers names it ({held})"
             out.append(Finding(Code.HIDDEN_LAYER_READ, msg, data=data))

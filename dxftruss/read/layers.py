@@ -114,7 +114,7 @@ def _layer_states(doc: Any) -> dict[str, LayerState]:
                 locked=bool(layer.is_locked()),
                 plot=bool(int(layer.dxf.get("plot", 1))),
             )
-        except (*_ENTITY_FAILURES, TypeError, ValueError):
+        except _ENTITY_FAILURES:  # ValueError and TypeError included
             continue
         out.setdefault(name.upper(), st)
     return out
