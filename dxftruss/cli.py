@@ -33,6 +33,11 @@ drawing conventions:
   loads     LINE on LOAD or LOAD-<case> pointing at its joint, labelled by the nearest
             TEXT/MTEXT on the same layer ("12.5 kN")
 
+layers and layouts:
+  layers that are off, frozen or not plotted are not read; --layers NAME (exactly) reads one
+  model space is read; a paper-space layout when model space has no line work (--layout NAME)
+  dxftruss layers DRAWING lists every layer, what it holds and what check does with it
+
 exit status: 0 no errors, 1 error findings (e.g. a mechanism), 2 unreadable input, bad options,
              an output that cannot be written; 130 Ctrl-C, 143 SIGTERM
 outputs:  only regular files are replaced; a symbolic link's target is written, the link kept
@@ -46,7 +51,7 @@ def build_parser() -> argparse.ArgumentParser:
         "zero-force members, member forces and reactions.",
     )
     parser.add_argument("--version", action="version", version=f"dxftruss {__version__}")
-    sub = parser.add_subparsers(dest="command", required=True, metavar="check")
+    sub = parser.add_subparsers(dest="command", required=True, metavar="{check,layers}")
     c = sub.add_parser(
         "check",
         help="check one drawing",
@@ -75,8 +80,10 @@ def build_parser() -> argparse.ArgumentParser:
         metavar="GLOB",
         action="append",
         default=[],
-        help="only members on layers matching GLOB, e.g. 'TRUSS*'; repeat for more globs",
+        help="only members on layers matching GLOB, e.g. 'TRUSS*'; repeat for more globs "
+        "(a hidden layer is read only when named exactly)",
     )
+    c.add_argument("--layout", metavar="NAME", help=LAYOUT_HELP)
     c.add_argument(
         "--max-parts",
         metavar="N",
@@ -100,7 +107,36 @@ def build_parser() -> argparse.ArgumentParser:
     )
     c.add_argument("--page", choices=["A4", "A3", "letter", "tabloid"], default="A3", help="PDF page size (default A3)")
     c.add_argument("--quiet", action="store_true", help="print nothing but errors")
+    lay = sub.add_parser(
+        "layers",
+        help="list a drawing's layers and what check does with each",
+        description="List every layer of a drawing: its state, the entities on it by type (block content "
+        "counted once per placement, on the layer it is shown on) and what 'dxftruss check' does with it.",
+    )
+    lay.add_argument("drawing", metavar="DRAWING.dxf", help="a DXF drawing (never modified)")
+    lay.add_argument(
+        "--layers",
+        metavar="GLOB",
+        action="append",
+        default=[],
+        help="the --layers globs check would be given: shows which layers they leave out",
+    )
+    lay.add_argument("--layout", metavar="NAME", help=LAYOUT_HELP)
+    lay.add_argument("--json", action="store_true", help="JSON on standard output instead of the table")
+    lay.add_argument(
+        "--max-file-size",
+        metavar="MB",
+        type=float,
+        default=256,
+        help="refuse drawings larger on disk than MB mebibytes (default 256; 0: no limit)",
+    )
     return parser
+
+
+LAYOUT_HELP = (
+    "read this layout (any case; 'Model' is model space); default: model space, or a paper-space layout "
+    "when model space holds no line work"
+)
 
 
 def _err(msg: str) -> None:
@@ -230,6 +266,7 @@ def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = F
             max_parts=args.max_parts,
             max_members=args.max_members,
             max_file_mb=args.max_file_size or None,
+            layout=args.layout,
         )
         result = _check_with_progress(drawing, settings, show=not args.quiet and not many)
         from .report.text import summary
@@ -455,6 +492,38 @@ def _run_many(args: argparse.Namespace, drawings: list[str], plan: dict[str, Out
     return worst
 
 
+def run_layers(args: argparse.Namespace) -> int:
+    """``dxftruss layers``: the inventory as a table or JSON on standard output."""
+    from .errors import DxftrussError
+
+    try:
+        if "ezdxf" not in sys.modules:
+            check_library_settings()
+        from .inventory import layer_inventory
+        from .read import read_drawing
+
+        size = args.max_file_size
+        linework = read_drawing(
+            args.drawing,
+            layers=tuple(args.layers),
+            layout=args.layout,
+            max_bytes=int(size * 2**20) if size else None,
+        )
+        entries = layer_inventory(linework, tuple(args.layers))
+    except DxftrussError as exc:
+        _err(str(exc))
+        return EXIT_INPUT
+    except OSError as exc:
+        _err(f"{exc.filename if exc.filename is not None else args.drawing}: {exc.strerror or exc}")
+        return EXIT_INPUT
+    from .report.layers import layers_json, layers_text
+
+    text = layers_json(args.drawing, linework, entries) if args.json else layers_text(args.drawing, linework, entries)
+    sys.stdout.write(text)
+    sys.stdout.flush()
+    return EXIT_OK
+
+
 def _run_guarded(args: argparse.Namespace) -> int:
     """run_check with the interrupts and a closed pipe turned into one line and an exit
     status: Ctrl-C 130, SIGTERM 143 (128 + the signal, the shell's convention), closed
@@ -471,7 +540,7 @@ def _run_guarded(args: argparse.Namespace) -> int:
     except ValueError:  # not the main thread (main() called from a tool)
         previous = None
     try:
-        return run_check(args)
+        return run_layers(args) if args.command == "layers" else run_check(args)
     except KeyboardInterrupt:
         remove_live_temporaries()
         _err("interrupted (Ctrl-C); no report was left half-written")
@@ -523,7 +592,7 @@ def _main(argv: list[str] | None) -> int:
             reconfigure(errors="backslashreplace")
     parser = build_parser()
     args = parser.parse_args(argv)
-    if args.command == "check":
+    if args.command in ("check", "layers"):
         # the run's policy (no cyclic gc, one BLAS thread: dxftruss.pipeline.run_policy)
         # covers the reports too; check() sets the same policy for library use
         from .policy import run_policy

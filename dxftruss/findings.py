@@ -55,6 +55,10 @@ class Code(str, Enum):
     INCLINED_SUPPORT = "inclined-support"
     LINE_LOAD_LUMPED = "line-load-lumped"
     SET_ASIDE = "set-aside"
+    HIDDEN_LAYER = "hidden-layer"
+    HIDDEN_LAYER_READ = "hidden-layer-read"
+    PAPER_SPACE_READ = "paper-space-read"
+    PAPER_SPACE_LINE_WORK = "paper-space-line-work"
 
     @property
     def severity(self) -> Severity:
@@ -94,6 +98,10 @@ _SEVERITY: dict[Code, Severity] = {
     Code.INCLINED_SUPPORT: _E,  # a roller block at an angle: inclined restraints are not modelled, not used
     Code.LINE_LOAD_LUMPED: _W,  # a line load lumped to joints: the loaded members' bending is not checked
     Code.SET_ASIDE: _I,  # line work not used as members: drafting (no triangles, outlines, plates)
+    Code.HIDDEN_LAYER: _I,  # a layer off, frozen or not plotted: nothing on it was read
+    Code.HIDDEN_LAYER_READ: _W,  # a hidden layer read because --layers names it
+    Code.PAPER_SPACE_READ: _W,  # model space held no member line work: a paper-space layout was read
+    Code.PAPER_SPACE_LINE_WORK: _I,  # model space read; paper-space layouts hold line work too
 }
 
 

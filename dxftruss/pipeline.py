@@ -23,11 +23,12 @@ from .assemble import build_truss
 from .audit.stability import PartStability, analyse_part
 from .audit.topology import audit_topology
 from .errors import ConfigError, InputError, LimitError
+from .escape import shown
 from .findings import Code, Finding, sort_findings
 from .loadsfile import read_loads_file
 from .naming import part_names
 from .policy import run_policy
-from .read import read_drawing
+from .read import LineWork, read_drawing
 from .result import Result, Settings, SourceInfo, Tolerances
 from .snap import build_geometry
 from .statics import CaseResult, solve_case
@@ -69,6 +70,29 @@ def default_snap(segments: np.ndarray, fraction: float) -> float:
     median = float(np.median(lengths)) if len(lengths) else 0.0
     noise = 64 * float(np.finfo(float).eps) * float(np.abs(seg).max())
     return max(fraction * median, noise)
+
+
+def _with_inventory(findings: list[Finding], linework: LineWork, globs: tuple[str, ...]) -> list[Finding]:
+    """``no-members`` with the layer inventory in brief (each layer's line count and use)
+    and what to do: name the truss layers with --layers, list them with ``dxftruss layers``."""
+    from dataclasses import replace
+
+    from .inventory import brief, layer_inventory
+
+    out = []
+    for f in findings:
+        if f.code is Code.NO_MEMBERS:
+            entries = layer_inventory(linework, globs)
+            where = "" if linework.layout == "Model" else f" (layout '{shown(linework.layout)}')"
+            msg = (
+                f"{f.message}; layers{where}: {brief(entries)}; name the truss's layers with --layers "
+                "(e.g. --layers NAME), or list every layer and its use with 'dxftruss layers DRAWING'"
+            )
+            data = dict(f.data)
+            data["layers"] = [{"name": e.name, "lines": e.lines, "use": e.use} for e in entries[:100]]
+            f = replace(f, message=msg, data=data)
+        out.append(f)
+    return out
 
 
 def _tolerance(text: str, unit: str, what: str) -> float:
@@ -123,6 +147,7 @@ def _check(
         layers=settings.layers,
         max_members=settings.max_members,
         max_bytes=int(settings.max_file_mb * 2**20) if settings.max_file_mb else None,
+        layout=settings.layout,
     )
     sha, binary = file_digest(p)
     stage("read")
@@ -205,7 +230,7 @@ def _check(
         snap=snap,
     )
     findings += truss.findings
-    findings += audit_topology(truss, snap=snap, near_miss=near)
+    findings += _with_inventory(audit_topology(truss, snap=snap, near_miss=near), linework, settings.layers)
     stage("model")
 
     stability: list[PartStability] = []
@@ -229,7 +254,9 @@ def _check(
                 findings.append(f)
     stage("statics")
 
-    source = SourceInfo(str(path), sha, linework.dxf_version, unit, unit_source, linework.recovered, binary)
+    source = SourceInfo(
+        str(path), sha, linework.dxf_version, unit, unit_source, linework.recovered, binary, linework.layout
+    )
     return Result(
         source=source,
         settings=settings,

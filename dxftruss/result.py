@@ -52,6 +52,9 @@ class Settings:
     max_file_mb: float | None = 256
     #: parts with at most this many joint dofs get a dense SVD; larger ones the sparse path
     dense_limit: int = 256
+    #: the layout to read by name (--layout; any case, "Model" = model space); None:
+    #: model space, or a paper-space layout when model space holds no member line work
+    layout: str | None = None
 
 
 @dataclass(frozen=True)
@@ -76,6 +79,8 @@ class SourceInfo:
     recovered: bool
     #: binary DXF (the annotated copy is written in the same format)
     binary: bool = False
+    #: the layout read: "Model" (model space) or a paper-space layout's name
+    layout: str = "Model"
 
 
 @dataclass(frozen=True)

@@ -4,8 +4,17 @@
 ``LOAD-<case>`` load lines and their labels, other ``LOAD*`` layers labels only, other
 ``SUPPORT*`` layers nothing; every other layer holds members, unless the ``--layers``
 globs leave it out (then nothing on it is read or reported). Names are compared
-case-insensitively. Layer states (off, frozen, locked) are not read: line work on an
-invisible layer is still read.
+case-insensitively.
+
+Layer states come from the layer table (:func:`_layer_states`): a layer that is off
+(negative colour), frozen, or set not to plot is *hidden*, and nothing on it is read
+(not members, supports, loads nor label texts; ``hidden-layer`` says what it holds),
+unless ``--layers`` names it exactly (no glob characters, any case): then it is read
+with its usual role and ``hidden-layer-read`` warns. A glob never matches a hidden
+layer. A layer used by entities but missing from the table is visible. Locked layers
+are read (locking only stops editing). An INSERT on a frozen layer hides all of its
+content; on an off or not-plotted layer only the content on layer "0" (which takes
+the INSERT's layer) is hidden, as CAD shows it (see ``walk.py``).
 """
 
 from __future__ import annotations
@@ -14,6 +23,7 @@ import fnmatch
 import re
 from dataclasses import dataclass
 from enum import IntEnum
+from typing import Any
 
 from ..model import Fix
 
@@ -25,6 +35,7 @@ class _Role(IntEnum):
     LOAD = 3  # LOAD or LOAD-<case>: lines are loads, texts are labels
     LOAD_OTHER = 4  # other LOAD* layers: texts are labels, nothing else is used
     RESERVED = 5  # other SUPPORT* layers: nothing is used
+    HIDDEN = 6  # off, frozen or not plotted (layer table) and not named by --layers: nothing is read
 
 
 _SUPPORT_FIX = {"SUPPORT-XY": Fix.XY, "SUPPORT-X": Fix.X, "SUPPORT-Y": Fix.Y}
@@ -53,6 +64,81 @@ def _layer_role(layer: str, globs: tuple[str, ...]) -> _LayerRole:
         if not any(fnmatch.fnmatchcase(low, g) for g in globs):
             return _LayerRole(_Role.SKIP)
     return _LayerRole(_Role.MEMBER)
+
+
+#: characters that make a ``--layers`` value a glob rather than a layer name
+_GLOB_CHARS = frozenset("*?[")
+
+
+@dataclass(frozen=True)
+class LayerState:
+    """A layer's entry in the layer table (``name`` as written there)."""
+
+    name: str
+    on: bool = True
+    frozen: bool = False
+    locked: bool = False
+    plot: bool = True
+
+    @property
+    def hidden(self) -> tuple[str, ...]:
+        """Why nothing on the layer is shown on a plot: ("off", "frozen", "not plotted"),
+        empty when it is visible."""
+        why = []
+        if not self.on:
+            why.append("off")
+        if self.frozen:
+            why.append("frozen")
+        if not self.plot:
+            why.append("not plotted")
+        return tuple(why)
+
+
+def _layer_states(doc: Any) -> dict[str, LayerState]:
+    """The layer table, keyed by the upper-case name (DXF names are case-insensitive).
+    An entry whose flags cannot be read counts as visible."""
+    from .boundary import _ENTITY_FAILURES
+
+    out: dict[str, LayerState] = {}
+    try:
+        entries = list(doc.layers)
+    except _ENTITY_FAILURES:
+        return out
+    for layer in entries:
+        try:
+            name = str(layer.dxf.name)
+            st = LayerState(
+                name,
+                on=not layer.is_off(),
+                frozen=bool(layer.is_frozen()),
+                locked=bool(layer.is_locked()),
+                plot=bool(int(layer.dxf.get("plot", 1))),
+            )
+        except _ENTITY_FAILURES:  # ValueError and TypeError included
+            continue
+        out.setdefault(name.upper(), st)
+    return out
+
+
+def _names_exactly(layer: str, globs: tuple[str, ...]) -> bool:
+    """True when one of the ``--layers`` values (lower case) is this layer's name, not a glob."""
+    low = layer.lower()
+    return any(g == low and not (_GLOB_CHARS & set(g)) for g in globs)
+
+
+def _resolve_role(layer: str, globs: tuple[str, ...], states: dict[str, LayerState]) -> tuple[_LayerRole, bool]:
+    """The role of ``layer`` with its state: (role, read although hidden). A hidden
+    layer is ``HIDDEN`` unless named exactly by ``globs`` (lower case); a layer the
+    globs leave out stays ``SKIP`` whatever its state."""
+    r = _layer_role(layer, globs)
+    if r.role is _Role.SKIP:
+        return r, False
+    st = states.get(layer.upper())
+    if st is None or not st.hidden:
+        return r, False
+    if _names_exactly(layer, globs):
+        return r, True
+    return _LayerRole(_Role.HIDDEN), False
 
 
 #: the trade words that make a block reference a support on any layer: whole words,

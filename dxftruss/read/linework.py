@@ -10,6 +10,7 @@ import numpy as np
 
 from ..findings import Finding
 from ..model import Fix
+from .layers import LayerState
 
 
 @dataclass(frozen=True)
@@ -76,3 +77,12 @@ class LineWork:
     #: the DXF library's document as read (ezdxf ``Drawing``): the reports draw and copy
     #: it instead of reading the file again. Not part of comparisons.
     document: Any = field(default=None, compare=False, repr=False)
+    #: the layout read: "Model" for model space, else a paper-space layout's name
+    #: (coordinates are then that layout's paper units)
+    layout: str = "Model"
+    #: the layer table as read (name, on, frozen, locked, plot), in table order
+    layer_states: tuple[LayerState, ...] = ()
+    #: effective layer -> entity type -> count of what the walk met in the layout read
+    #: (block content once per placement; content of a reference on a frozen layer is
+    #: not walked, the reference itself is counted)
+    layer_counts: dict[str, dict[str, int]] = field(default_factory=dict, compare=False, repr=False)

@@ -184,7 +184,7 @@ def _place_line_work(
     is_load = (code == _Role.LOAD) & single
 
     # entities that are not used: ignored (reserved layers, multi-piece load lines, empty)
-    unused = (code != _Role.SKIP) & ~is_member & ~is_load
+    unused = (code != _Role.SKIP) & (code != _Role.HIDDEN) & ~is_member & ~is_load
     unused |= is_member & (nseg == 0)
     for i in np.flatnonzero(unused):
         if is_member[i] and i in arcs_of:

@@ -8,11 +8,24 @@ number of placements. Tasks are done depth-first in reading order. Cycles, nesti
 deeper than the limit, missing blocks and external references are not followed and
 are recorded as block problems; the limits (``limits.py``) are counted before
 anything they limit is built.
+
+Hidden layers (``layers.py``): nothing on a hidden layer is used or reported as
+ignored; it is only counted. An INSERT on a frozen layer hides its whole content (the
+INSERT is counted, its content is not walked); an INSERT on an off or not-plotted
+layer hides only the content that takes its layer (layer "0").
+
+Every entity walked is counted per effective layer and type, block content once per
+placement (``counts``): the layer inventory and the ``hidden-layer`` findings.
+
+The walk reads model space or one paper-space layout (``run(layout)``); VIEWPORT
+entities of a paper-space layout are windows onto model space, not line work, and
+are left out.
 """
 
 from __future__ import annotations
 
 import math
+from collections import Counter
 from dataclasses import dataclass
 from typing import Any
 
@@ -21,7 +34,7 @@ import numpy as np
 from ..model import Fix
 from .boundary import _xyz
 from .extract import _Content, _Extractor
-from .layers import _layer_role, _LayerRole, _Role, _support_kind
+from .layers import LayerState, _LayerRole, _names_exactly, _resolve_role, _Role, _support_kind
 from .limits import _Limits
 from .linework import SupportMark
 from .place import _Batch, _child_batch, _place_line_work, _Placed, _points_to_wcs
@@ -54,8 +67,14 @@ class _Reader:
         max_coordinate: float,
         planar_tol: float,
         max_members: int | None = None,
+        states: dict[str, LayerState] | None = None,
     ) -> None:
         self.doc = doc
+        self.states = states if states is not None else {}
+        #: hidden layers read because --layers names them (effective names as used)
+        self.named_hidden: set[str] = set()
+        #: effective layer -> entity type -> count (block content once per placement)
+        self.counts: dict[str, Counter[str]] = {}
         self.name = name
         self.globs = tuple(g.lower() for g in globs)
         self.max_block_depth = max_block_depth
@@ -72,12 +91,48 @@ class _Reader:
     def role(self, layer: str) -> _LayerRole:
         r = self.roles.get(layer)
         if r is None:
-            r = self.roles[layer] = _layer_role(layer, self.globs)
+            r, named = _resolve_role(layer, self.globs, self.states)
+            self.roles[layer] = r
+            if named:
+                self.named_hidden.add(layer)
         return r
 
-    def run(self) -> None:
-        msp = self.doc.modelspace()
-        content = self.extractor.read(msp, in_block=False)
+    def frozen(self, layer: str) -> bool:
+        """An INSERT on this layer hides all of its content: the layer is frozen and not
+        named by --layers (also when the globs leave the layer out: its content on
+        other layers is not shown either)."""
+        st = self.states.get(layer.upper())
+        return st is not None and st.frozen and not _names_exactly(layer, self.globs)
+
+    def count(self, layer: str, typ: str, n: int) -> None:
+        c = self.counts.get(layer)
+        if c is None:
+            c = self.counts[layer] = Counter()
+        c[typ] += n
+
+    def count_content(self, c: _Content, inherited: str | None, n_inst: int) -> None:
+        """Count every entity of ``c`` on its effective layer, ``n_inst`` times."""
+
+        def eff(layer: str) -> str:
+            return inherited if (inherited is not None and layer == "0") else layer
+
+        pairs: Counter[tuple[str, str]] = Counter(zip(c.ent_type, c.ent_layer, strict=True))
+        pairs.update((t, layer) for t, _, layer, _, _ in c.marks)
+        pairs.update((t, layer) for t, _, _, layer, _, _ in c.texts)
+        pairs.update(("MINSERT" if i in c.inserts.grid else "INSERT", layer) for i, layer in enumerate(c.inserts.layer))
+        pairs.update((t, layer) for t, _, layer, _ in c.unreadable)
+        for (t, layer), n in c.others.items():
+            pairs[(t, layer)] += n
+        for (t, layer), n in pairs.items():
+            self.count(eff(layer), t, n * n_inst)
+
+    def run(self, layout: Any = None) -> None:
+        """Walk model space (``layout`` None) or one paper-space layout."""
+        if layout is None:
+            entities: Any = self.doc.modelspace()
+        else:
+            entities = [e for e in layout if e.dxftype() != "VIEWPORT"]
+        content = self.extractor.read(entities, in_block=False)
         self.limits.count_entities(content.n_entities)
         self.msp_entities = content.n_entities
         self.origin_lines = _count_origin_lines(content)
@@ -108,6 +163,7 @@ class _Reader:
         def eff(layer: str) -> str:
             return inherited if (inherited is not None and layer == "0") else layer
 
+        self.count_content(c, inherited, n_inst)
         for t, h, _, why in c.unreadable:
             problems.block_problem("unreadable-entity", f"{t} {h} ({why})", batch, h, None, n_inst)
 
@@ -119,7 +175,7 @@ class _Reader:
             if r.role is _Role.SUPPORT:
                 assert r.fix is not None
                 placed.add_supports(t, p, r.fix, h, el, pos, batch, problems)
-            elif r.role is not _Role.SKIP:
+            elif r.role not in (_Role.SKIP, _Role.HIDDEN):
                 problems.ignore(t, el, n_inst)
 
         for t, e, h, layer, p, pos in c.texts:
@@ -127,7 +183,7 @@ class _Reader:
             r = self.role(el)
             if r.role in (_Role.LOAD, _Role.LOAD_OTHER):
                 placed.add_texts(t, self.plain_text.get(e), p, h, el, pos, batch, problems, _height(e))
-            elif r.role is not _Role.SKIP:
+            elif r.role not in (_Role.SKIP, _Role.HIDDEN):
                 # not a label of its own layer, but kept: a force with its unit may label a
                 # load line on another layer (docs/load-labels.md, Which text belongs to which arrow)
                 placed.add_texts(t, self.plain_text.get(e), p, h, el, pos, batch, problems, _height(e))
@@ -138,15 +194,17 @@ class _Reader:
         ins = c.inserts
         for i, atts in ins.attribs.items():
             el_ins = eff(ins.layer[i])
+            if self.frozen(el_ins):  # a frozen reference shows none of its attributes
+                continue
             for a, h, layer, p in atts:
                 el = el_ins if self.role(el_ins).role in (_Role.LOAD, _Role.LOAD_OTHER) else eff(layer)
-                if self.role(el).role in (_Role.SKIP, _Role.RESERVED, _Role.SUPPORT):
+                if self.role(el).role in (_Role.SKIP, _Role.RESERVED, _Role.SUPPORT, _Role.HIDDEN):
                     continue
                 placed.add_texts("ATTRIB", self.plain_text.get(a), p, h, el, ins.pos[i], batch, problems, _height(a))
 
         for (t, layer), n in c.others.items():
             el = eff(layer)
-            if self.role(el).role is not _Role.SKIP:
+            if self.role(el).role not in (_Role.SKIP, _Role.HIDDEN):
                 problems.ignore(t, el, n * n_inst)
 
         return self.child_tasks(c, batch, inherited, stack, n_inst)
@@ -167,7 +225,9 @@ class _Reader:
         for (key, el), rows in groups.items():
             name = ins.name[rows[0]]
             r = self.role(el)
-            if r.role not in (_Role.SUPPORT, _Role.SKIP):
+            if self.frozen(el):  # a reference on a frozen layer: nothing of it is shown
+                continue
+            if r.role not in (_Role.SUPPORT, _Role.SKIP, _Role.HIDDEN):
                 rows = self.block_supports(name, el, rows, ins, batch)
                 if not rows:
                     continue

@@ -54,6 +54,17 @@ def _layer_part(text: str) -> str:
     return s or "CASE"
 
 
+def _layout_read(doc: Any, result: Result) -> Any:
+    """The layout the check read (the marks go there, in its coordinates): model space,
+    or the paper-space layout named in ``result.source.layout``."""
+    name = getattr(result.source, "layout", "Model")
+    if name != "Model":
+        layout = doc.layouts.get(name)
+        if layout is not None:
+            return layout
+    return doc.modelspace()
+
+
 class _LayerNames:
     """Result-layer names that collide with nothing in the drawing (case-insensitive)."""
 
@@ -141,7 +152,7 @@ def write_dxf(
                 f"annotated DXF not written: the drawing holds a value DXF cannot store ({one_line(exc, 120)})"
             ) from None
     finally:
-        msp = doc.modelspace()
+        msp = _layout_read(doc, result)
         for e in added:
             doc.entitydb.delete_entity(e)
         msp.entity_space.purge()  # one pass: removing one by one is quadratic
@@ -165,7 +176,7 @@ def _annotate(
 
     r12 = doc.dxfversion <= "AC1009"
     names = _LayerNames(doc, max_len=31 if r12 else 120)
-    msp = doc.modelspace()
+    msp = _layout_read(doc, result)
     t = result.truss
     fu = t.force_unit
     lengths = t.lengths() if t.n_members else np.zeros(0)

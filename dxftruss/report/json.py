@@ -78,6 +78,7 @@ def report_dict(result: Result) -> dict[str, Any]:
             "length_unit": src.length_unit,
             "unit_source": src.unit_source,
             "recovered": src.recovered,
+            "layout": src.layout,
             # names DXF cannot store, and the legal names the annotated DXF uses for them
             "renamed_in_dxf": [
                 {"kind": kind, "name": name, "written_as": new} for kind, name, new in result.linework.renamed

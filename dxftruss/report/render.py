@@ -133,12 +133,15 @@ def record_drawing(
     doc: Any,
     *,
     max_entities: int = 200_000,
+    layout: str = "Model",
 ) -> Recording:
-    """Render the model space of ``doc`` once into a Recorder (white background,
-    true colours, linetypes resolved, text as filled glyphs).
+    """Render the model space of ``doc`` (or the paper-space layout named ``layout``,
+    without its VIEWPORT windows onto model space, in paper units: the coordinates the
+    check read) once into a Recorder (white background, true colours, linetypes
+    resolved, text as filled glyphs).
 
-    Raises ``ValueError`` when the model space holds more than ``max_entities`` entities
-    (the caller then draws the members only).
+    Raises ``ValueError`` when the layout holds more than ``max_entities`` entities
+    (the caller then draws the members only) or when ``layout`` is not in ``doc``.
     """
     from ezdxf.addons.drawing import Frontend, RenderContext
     from ezdxf.addons.drawing.config import (
@@ -149,10 +152,12 @@ def record_drawing(
     )
     from ezdxf.addons.drawing.recorder import Recorder
 
-    msp = doc.modelspace()
+    msp = doc.modelspace() if layout == "Model" else doc.layouts.get(layout)
+    if msp is None:
+        raise ValueError(f"no layout {layout!r} in the drawing")
     n = len(msp)
     if n > max_entities:
-        raise ValueError(f"{n} entities in model space (more than {max_entities} are not rendered)")
+        raise ValueError(f"{n} entities in the layout (more than {max_entities} are not rendered)")
     types = {e.dxf.handle: e.dxftype() for e in msp if e.dxf.handle}
     cfg = Configuration(
         background_policy=BackgroundPolicy.WHITE,
@@ -161,7 +166,9 @@ def record_drawing(
         hatching_timeout=5.0,
     )
     rec = Recorder()
-    Frontend(RenderContext(doc), rec, config=cfg).draw_layout(msp, finalize=True)
+    Frontend(RenderContext(doc), rec, config=cfg).draw_layout(
+        msp, finalize=True, filter_func=lambda e: e.dxftype() != "VIEWPORT"
+    )
     player = rec.player()
     box = None
     if player.records:

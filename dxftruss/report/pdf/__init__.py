@@ -85,7 +85,8 @@ def _record_original(result: Any, *, max_entities: int = 200_000) -> Recording:
     read (``render.checked_document``; only a result made by hand reads the file again),
     in the one place the PDF report needs it (``write_pdf`` and ``page_layout``).
     Raises whatever reading or recording raises; the callers then draw members only."""
-    return record_drawing(checked_document(result), max_entities=max_entities)
+    layout = getattr(result.source, "layout", "Model")
+    return record_drawing(checked_document(result), max_entities=max_entities, layout=layout)
 
 
 def page_layout(result: Any, *, page: str = "A3") -> tuple[Sheet, PageMap]:

@@ -148,6 +148,44 @@ class _Overlay:
         self.placer.block(((dx, dy + dh - top_h), (dx + top_w, dy + dh - top_h), (dx + top_w, dy + dh), (dx, dy + dh)))
         return note_lines
 
+    def missing_blocks(self) -> None:
+        """A note on the sheet at each block reference whose content is not in the file
+        (a block not defined, an external reference): a small cross at the insertion
+        point and "missing block 'NAME'" beside it. References the reader removed (no
+        position known) are named in the panel notes."""
+        c, pg = self.c, self.pg
+        dx, dy, dw, dh = self.sheet.drawing
+        unplaced: list[str] = []
+        for f in self.ctx.result.findings:
+            reason = f.data.get("reason") if f.code.value == "unsupported-geometry" else None
+            if reason not in ("missing-block", "xref"):
+                continue
+            name = f.data.get("block")
+            if name is None:  # removed on reading: handles only
+                unplaced.append(f"{f.data.get('count', 1)} reference(s) to undefined blocks were removed on reading")
+                continue
+            what = "missing block" if reason == "missing-block" else "external reference (not in this file)"
+            note = f"{what} '{name}'"
+            if f.at is None or not all(math.isfinite(v) for v in f.at):
+                unplaced.append(note)
+                continue
+            x, y = self.pm.point(*f.at)
+            if not (dx <= x <= dx + dw and dy <= y <= dy + dh):
+                unplaced.append(note + " (outside the part of the drawing shown)")
+                continue
+            c.saveState()
+            c.setStrokeGray(0.25)
+            c.setLineWidth(0.5)
+            c.setDash()
+            c.line(x - 2.5, y - 2.5, x + 2.5, y + 2.5)
+            c.line(x - 2.5, y + 2.5, x + 2.5, y - 2.5)
+            c.restoreState()
+            w = _width(shown(note), self.fonts.regular, 6.0)
+            tx = min(x + self.R + 4.0, dx + dw - w - 2.0)  # beside the finding marker drawn there
+            pg.text(tx, y + 3.0, note, size=6.0, gray=0.25)
+            self.placer.block(((tx, y + 1.5), (tx + w, y + 1.5), (tx + w, y + 10.0), (tx, y + 10.0)))
+        self.notes.extend(unplaced)
+
     def members(self, states: np.ndarray | None, widths: np.ndarray) -> None:
         _draw_members(self.c, self.a, self.b, states, widths)
 
@@ -415,6 +453,7 @@ def _draw_drawing_page(
     c.addOutlineEntry(shown(title), bookmark, level=0)
     ov = _Overlay(ctx, c, sheet, pm, title)
     note_lines = ov.frame()
+    ov.missing_blocks()
 
     states: np.ndarray | None = None
     forces = np.full(t.n_members, np.nan)
