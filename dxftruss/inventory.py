@@ -109,6 +109,7 @@ def layer_inventory(linework: Any, globs: tuple[str, ...] = ()) -> list[LayerEnt
         for t, n in c.items():
             acc[t] = acc.get(t, 0) + n
     keys = list(table) + sorted(k for k in counts if k not in table)
+    aside, used = _structure(linework) if not globs else ({}, {})
     out = []
     for key in keys:
         st = table.get(key)
@@ -116,8 +117,42 @@ def layer_inventory(linework: Any, globs: tuple[str, ...] = ()) -> list[LayerEnt
         state = st if st is not None else LayerState(name)
         role, named = _resolve_role(name, low, table)
         use, why = layer_use(name, role, state, named)
+        if use == "members" and key in aside:
+            use, why = _set_aside_use(aside[key], used.get(key, 0), why)
         out.append(LayerEntry(name, st is not None, state, dict(sorted(counts.get(key, {}).items())), use, why))
     return out
+
+
+def _structure(linework: Any) -> tuple[dict[str, dict[str, int]], dict[str, int]]:
+    """What the structure finder (drafting.py) sets aside and uses, per layer (upper case)."""
+    from .drafting import select_structure
+    from .pipeline import default_snap
+    from .result import Settings
+
+    seg = getattr(linework, "segments", None)
+    if seg is None or not len(seg):
+        return {}, {}
+    sel = select_structure(seg, linework.layers, snap=default_snap(seg, Settings().snap_fraction))
+    aside: dict[str, dict[str, int]] = {}
+    for name, reasons in sel.set_aside.items():
+        acc = aside.setdefault(name.upper(), {})
+        for r, n in reasons.items():
+            acc[r] = acc.get(r, 0) + n
+    used: dict[str, int] = {}
+    for name, n in sel.used.items():
+        used[name.upper()] = used.get(name.upper(), 0) + n
+    return aside, used
+
+
+def _set_aside_use(reasons: dict[str, int], n_used: int, why: str) -> tuple[str, str]:
+    """(use, why) of a member layer the structure finder sets aside wholly or in part."""
+    from .drafting import RULES
+
+    words = "; ".join(f"{RULES[r]} ({n})" for r, n in sorted(reasons.items()))
+    total = sum(reasons.values())
+    if n_used == 0:
+        return "set aside", f"{total} lines set aside by the structure rules: {words}; name it with --layers to use it"
+    return "members", f"{why}; {total} of its lines set aside by the structure rules: {words}"
 
 
 def brief(entries: list[LayerEntry], limit: int = 12) -> str:

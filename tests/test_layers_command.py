@@ -141,3 +141,20 @@ def test_unknown_layout_is_exit_2_listing_the_layouts(tmp_path, capsys):
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and "\x1b" not in err
     assert "'Model', 'Layout1'" in err and "Sheet\\x1b[2J" in err
+
+
+def test_inventory_says_which_layers_the_structure_rules_set_aside(tmp_path, capsys):
+    from .test_drafting import _border_and_title, _exploded_dimensions, _outlines, _sheet
+
+    path = _sheet(tmp_path / "sheet.dxf", _border_and_title, _exploded_dimensions, _outlines)
+    assert main(["layers", str(path), "--json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    use = {e["name"]: e["use"] for e in doc["layers"]}
+    assert use["TRUSS"] == "members"
+    assert {use[n] for n in ("BORDER", "TITLE", "DIM", "OUTLINE")} == {"set aside"}
+    why = {e["name"]: e["why"] for e in doc["layers"]}
+    assert "member outlines around centre lines (50)" in why["OUTLINE"]
+    # naming layers: exactly those are used, nothing is set aside by the rules
+    assert main(["layers", str(path), "--json", "--layers", "*"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert {e["name"]: e["use"] for e in doc["layers"]}["TITLE"] == "members"
