@@ -31,7 +31,11 @@ from .lineloads import drawn_line_loads, file_line_loads, joint_loads, lumped_fi
 from .loadsfile import DEFAULT_CASE, LoadEntry, LoadsSpec, SupportEntry, check_combinations
 from .model import (
     Fix,
-    LineLoad, Load, LoadCase, LoadOrigin, Part,
+    LineLoad,
+    Load,
+    LoadCase,
+    LoadOrigin,
+    Part,
     Source,
     Support,
     Truss,

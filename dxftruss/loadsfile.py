@@ -295,11 +295,11 @@ def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:
             raise ConfigError(f'{where}: \'fix\' must be "xy", "x", "y" or "roller", got {fix!r}')
         if fix.lower() != "roller":
             if "normal" in t:
-                raise ConfigError(f'{where}: \'normal\' is only for fix = "roller", not fix = {fix!r}')
+                raise ConfigError(f"{where}: 'normal' is only for fix = \"roller\", not fix = {fix!r}")
             supports.append(SupportEntry(i, at, Fix(fix.lower())))
             continue
         if "normal" not in t:
-            raise ConfigError(f'{where}: fix = "roller" needs \'normal\' = [nx, ny], the direction it restrains')
+            raise ConfigError(f"{where}: fix = \"roller\" needs 'normal' = [nx, ny], the direction it restrains")
         raw = t["normal"]
         nx, ny = _at(where, {"normal": raw}, "normal")
         size = math.hypot(nx, ny)

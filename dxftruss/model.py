@@ -282,12 +282,8 @@ class Truss:
     restraint_vectors: np.ndarray = field(init=False, repr=False, compare=False)
 
     def __post_init__(self) -> None:
-        rows = sorted(
-            (s.joint, k, v) for s in self.supports for k, v in zip(s.fix.directions, s.vectors, strict=True)
-        )
-        object.__setattr__(
-            self, "restraints", np.array([(j, k) for j, k, _ in rows], dtype=np.int64).reshape(-1, 2)
-        )
+        rows = sorted((s.joint, k, v) for s in self.supports for k, v in zip(s.fix.directions, s.vectors, strict=True))
+        object.__setattr__(self, "restraints", np.array([(j, k) for j, k, _ in rows], dtype=np.int64).reshape(-1, 2))
         object.__setattr__(self, "restraint_vectors", np.array([v for *_, v in rows], dtype=float).reshape(-1, 2))
 
     @property

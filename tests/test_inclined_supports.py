@@ -190,9 +190,7 @@ def test_roller_at_30_degrees_equals_the_same_truss_turned_level(braced: bool) -
     n = normal_at(base + 90.0)
     tilted = truss_of(xy, ends, (Support(0, Fix.XY), Support(2, Fix.N, normal=n)), loads, sections=sections)
     turned_loads = {j: tuple(rotated(np.array(f), -base)) for j, f in loads.items()}
-    level = truss_of(
-        rotated(xy, -base), ends, (Support(0, Fix.XY), Support(2, Fix.Y)), turned_loads, sections=sections
-    )
+    level = truss_of(rotated(xy, -base), ends, (Support(0, Fix.XY), Support(2, Fix.Y)), turned_loads, sections=sections)
     st_t, _, res_t, _ = analyse(tilted)
     st_l, _, res_l, _ = analyse(level)
     assert st_t.verdict is st_l.verdict is (Verdict.INDETERMINATE if braced else Verdict.DETERMINATE)
@@ -386,8 +384,9 @@ def test_loads_file_inclined_roller_solves_like_the_block(tmp_path: Path) -> Non
     path = tmp_path / "t.dxf"
     doc.saveas(path)
     loads = tmp_path / "l.toml"
-    loads.write_text('[[support]]\nat = [4, 0]\nfix = "roller"\nnormal = [-1, 1.7320508075688772]\n'
-                     '[[load]]\nat = [2, 2]\nfy = -10\n')
+    loads.write_text(
+        '[[support]]\nat = [4, 0]\nfix = "roller"\nnormal = [-1, 1.7320508075688772]\n[[load]]\nat = [2, 2]\nfy = -10\n'
+    )
     res = check(path, Settings(loads=str(loads)))
     (case,) = res.cases
     reactions = {j: (rx, ry) for j, rx, ry in case.reactions}
@@ -409,7 +408,7 @@ def test_zero_force_rule_uses_the_roller_direction() -> None:
     ends = [(0, 1), (1, 2), (0, 2), (2, 3)]
     sup = (Support(0, Fix.XY), Support(1, Fix.Y), Support(3, Fix.N, normal=(0.6, 0.8)))
     truss = truss_of(xy, ends, sup, {3: (1.2, 1.6), 2: (0.0, -3.0)})
-    cb = [e for e, (p, q) in enumerate(truss.ends.tolist()) if {p, q} == {2, 3}][0]
+    cb = next(e for e, (p, q) in enumerate(truss.ends.tolist()) if {p, q} == {2, 3})
     assert cb in zero_force_by_rule(truss, truss.cases[0])
     _, _, result, _ = analyse(truss)
     assert result.forces[cb] == 0.0

@@ -250,9 +250,7 @@ class _Reader:
                         continue
                 mark = SupportMark(xy[0], xy[1], fix, hh, el, block=name, why=why, normal=normal)
                 self.placed.supports.append((order, self.placed.next_seq(), mark))
-                self.placed.block_notes.append(
-                    (order, self.placed.next_seq(), kind, name, why, hh, el, xy, restrains)
-                )
+                self.placed.block_notes.append((order, self.placed.next_seq(), kind, name, why, hh, el, xy, restrains))
         return rest
 
 
@@ -279,7 +277,12 @@ def _roller_direction(mat: np.ndarray) -> tuple[Fix, tuple[float, float] | None,
     if not (size_a > 0 and size_b > 0 and math.isfinite(size_a * size_b)):
         return Fix.Y, None, None, "its base direction cannot be read (the block is scaled to nothing)"
     if abs(az) > _SKEW_SIN * size_a or abs(bz) > _SKEW_SIN * size_b:
-        return Fix.Y, None, None, "its base is tilted out of the drawing plane, so the direction it restrains is unclear"
+        return (
+            Fix.Y,
+            None,
+            None,
+            "its base is tilted out of the drawing plane, so the direction it restrains is unclear",
+        )
     if abs(ax * bx + ay * by) > _SKEW_SIN * size_a * size_b:
         return Fix.Y, None, None, "the block is placed skewed (its x and y axes are not square), so its base is unclear"
     angle = math.degrees(math.atan2(ay, ax)) % 180.0
