@@ -433,3 +433,30 @@ def test_pdf_draws_the_inclined_reaction_along_its_normal(tmp_path: Path) -> Non
     # R = P / sqrt3 = 5.77 kN along n (the hand solution above), one arrow, not Rx / Ry
     assert "Rn=+5.77" in text
     assert "n at 120 deg" in text
+
+
+def test_drawn_inclined_roller_and_a_loads_file_support_at_one_joint(tmp_path: Path) -> None:
+    doc = triangle_doc()
+    doc.modelspace().add_blockref("ROLLER", (4, 0), dxfattribs={"layer": "SYMBOLS", "rotation": 30})
+    path = tmp_path / "t.dxf"
+    doc.saveas(path)
+    b_at = "[[support]]\nat = [4, 0]\n"
+    load = "[[load]]\nat = [2, 2]\nfy = -10\n"
+    # the same line given again (the other sense of n): nothing to decide
+    same = tmp_path / "same.toml"
+    same.write_text(b_at + 'fix = "roller"\nnormal = [1, -1.7320508075688772]\n' + load)
+    res = check(path, Settings(loads=str(same)))
+    b = int(np.flatnonzero(np.all(np.isclose(res.truss.xy, (4.0, 0.0)), axis=1))[0])
+    (sup,) = [s for s in res.truss.supports if s.joint == b]
+    assert sup.fix is Fix.N
+    # a different restraint must be decided by [drawn] supports
+    other = tmp_path / "other.toml"
+    other.write_text(b_at + 'fix = "y"\n' + load)
+    with pytest.raises(ConfigError, match=r"roller \(normal at 120 degrees\).*roller \(y\)"):
+        check(path, Settings(loads=str(other)))
+    # "add": the inclined and the y restraint hold the joint both ways, a pin
+    added = tmp_path / "added.toml"
+    added.write_text('[drawn]\nsupports = "add"\n' + b_at + 'fix = "y"\n' + load)
+    res = check(path, Settings(loads=str(added)))
+    (sup,) = [s for s in res.truss.supports if s.joint == b]
+    assert sup.fix is Fix.XY and sup.normal is None
