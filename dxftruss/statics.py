@@ -9,7 +9,8 @@ Glossary:
     A, x, f      the equilibrium system of a part, A x = f with A = [B, -R] and
                  x = [t; rho] (equilibrium.py; docs/methods.md, Notation and Equilibrium matrix).
     t            member forces in the force unit, tension positive.
-    rho          reactions in the force unit, acting on the structure along +x / +y.
+    rho          reactions in the force unit, acting on the structure along +x / +y
+                 (an inclined roller's along its normal n: fx = rho nx, fy = rho ny).
     D            an orthonormal basis of the mechanisms, null(A^T) (docs/methods.md, SVD).
     carriable    a load with D^T f = 0: some bar forces and reactions balance it.
     determinate  k = 0 mechanisms and s = 0 self-stresses: A is square and regular and
@@ -40,7 +41,8 @@ Solution paths per part (the part's ``PartStability`` decides):
   and a load exciting an unlisted mechanism makes the bordered solve below fail its
   residual check, which is reported as ``load-excites-mechanism`` too.
   A carriable load is solved by the stiffness method on the bordered system
-  [[K, D], [D^T, 0]] (restrained rows deleted): its displacement is orthogonal to the
+  [[K, D], [D^T, 0]] (restrained rows deleted; at an inclined roller's joint only the
+  slide along its base is kept, K_ff = Z^T K Z): its displacement is orthogonal to the
   mechanisms and the bar forces t = S B^T delta are the unique ones that are both in
   equilibrium and compatible (the same as the force method of docs/methods.md, SVD item 3).
   Displacements of mechanism parts are not unique and are reported as NaN.
@@ -355,12 +357,14 @@ def _reactions(ps: PartSystem, excess: np.ndarray) -> np.ndarray:
     solution is exact when the restraints balance the joint (the residual check after the
     solve says so) and the minimum-norm split for two or more restraints along one line.
     """
-    rho = np.zeros(ps.n_restraints)
     loc = ps.local(ps.restraints[:, 0])
-    for a in np.unique(loc).tolist():
-        idx = np.flatnonzero(loc == a)
-        R = ps.vectors[idx].T
-        rho[idx] = np.linalg.lstsq(R, excess[2 * a : 2 * a + 2], rcond=None)[0]
+    g = excess.reshape(-1, 2)[loc]
+    rho = np.einsum("ij,ij->i", ps.vectors, g)  # one restraint at its joint: n . g
+    joints, first, count = np.unique(loc, return_index=True, return_counts=True)
+    for a, start, k in zip(joints.tolist(), first.tolist(), count.tolist(), strict=True):
+        if k > 1:  # the restraints of a joint are consecutive (sorted by joint)
+            idx = np.arange(start, start + k)
+            rho[idx] = np.linalg.lstsq(ps.vectors[idx].T, excess[2 * a : 2 * a + 2], rcond=None)[0]
     return rho
 
 

@@ -460,3 +460,23 @@ def test_drawn_inclined_roller_and_a_loads_file_support_at_one_joint(tmp_path: P
     res = check(path, Settings(loads=str(added)))
     (sup,) = [s for s in res.truss.supports if s.joint == b]
     assert sup.fix is Fix.XY and sup.normal is None
+
+
+def test_inclined_and_x_restraint_at_one_joint_act_as_a_pin() -> None:
+    # Two restraints across each other hold the joint both ways: the same kinematics as a
+    # pin, so the same member forces (stiffness path, one redundant) and the same total
+    # reaction at the joint (equilibrium of the joint; common practice, no source).
+    sections = (Section("*", 1e-3, 2e11),)
+    loads = {2: (3.0, -P)}
+    pair = (Support(0, Fix.XY), Support(1, Fix.N, normal=(-0.5, SQ3 / 2)), Support(1, Fix.X))
+    pin = (Support(0, Fix.XY), Support(1, Fix.XY))
+    res_pair = analyse(truss_of(TRI_XY, TRI_ENDS, pair, loads, sections=sections))[2]
+    res_pin = analyse(truss_of(TRI_XY, TRI_ENDS, pin, loads, sections=sections))[2]
+    assert res_pair.solved_parts == res_pin.solved_parts == (0,)
+    np.testing.assert_allclose(res_pair.forces, res_pin.forces, rtol=1e-9)
+    np.testing.assert_allclose(
+        [r[1:] for r in res_pair.reactions], [r[1:] for r in res_pin.reactions], rtol=1e-9, atol=1e-9
+    )
+    # not a trivial agreement: the joint takes a reaction in both directions
+    (rb,) = [r[1:] for r in res_pair.reactions if r[0] == 1]
+    assert min(abs(rb[0]), abs(rb[1])) > 1.0
