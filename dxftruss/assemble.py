@@ -29,7 +29,21 @@ from .findings import Code, Finding
 from .labels import CommaStyle, LabelReading, comma_style, read_label
 from .lineloads import drawn_line_loads, file_line_loads, joint_loads, lumped_finding
 from .loadsfile import DEFAULT_CASE, LoadEntry, LoadsSpec, SupportEntry, check_combinations
-from .model import Fix, LineLoad, Load, LoadCase, LoadOrigin, Part, Source, Support, Truss, joint_id
+from .model import (
+    Fix,
+    LineLoad,
+    Load,
+    LoadCase,
+    LoadOrigin,
+    Part,
+    Source,
+    Support,
+    Truss,
+    fix_vectors,
+    joint_id,
+    restraint_for,
+    restraint_name,
+)
 from .read import LineWork
 from .snap import Geometry
 from .units import FORCE_UNITS
@@ -174,7 +188,7 @@ def build_truss(
 
     # supports: drawn, then file; merged per joint. Different restraints drawn and given
     # in the file at one joint need the file's [drawn] supports to say which to use.
-    drawn_fix: dict[int, set[int]] = defaultdict(set)
+    drawn_fix: dict[int, list[tuple[float, float]]] = defaultdict(list)
     for smark in linework.supports:
         d, j = _nearest(tree, (smark.x, smark.y))
         if d > near_miss:
@@ -188,15 +202,16 @@ def build_truss(
                 )
             )
             continue
-        drawn_fix[j].update(smark.fix.directions)
-    file_fix: dict[int, set[int]] = defaultdict(set)
+        drawn_fix[j].extend(fix_vectors(smark.fix, smark.normal))
+    file_fix: dict[int, list[tuple[float, float]]] = defaultdict(list)
     if spec:
         support_joints = _file_joints(tree, xy, spec, "support", near_miss, length_unit)
         for sentry, j in zip(spec.supports, support_joints, strict=True):
-            file_fix[j].update(sentry.fix.directions)
+            file_fix[j].extend(fix_vectors(sentry.fix, sentry.normal))
         for j in sorted(set(drawn_fix) & set(file_fix)):
-            if drawn_fix[j] == file_fix[j]:
-                continue  # the same restraint twice: nothing to decide
+            drawn_kind = restraint_for(drawn_fix[j])[0]
+            if drawn_kind == restraint_for(file_fix[j])[0] == restraint_for(drawn_fix[j] + file_fix[j])[0]:
+                continue  # the same restraint twice (inclined ones along one line): nothing to decide
             if spec.drawn_supports is None:
                 raise ConfigError(
                     f"{spec.path}: joint {joint_id(j)} at {list(map(float, xy[j]))} has a {_fix_name(drawn_fix[j])} "
@@ -205,18 +220,21 @@ def build_truss(
                 )
             if spec.drawn_supports == "ignore":
                 del drawn_fix[j]
-    fixes: dict[int, set[int]] = defaultdict(set)
+    # the directions restrained at a joint, drawn and given together, make one support:
+    # two directions across each other hold the joint both ways (a pin), parallel ones
+    # are one roller (model.restraint_for)
+    fixes: dict[int, list[tuple[float, float]]] = defaultdict(list)
     sources: dict[int, Source] = {}
     for j, dirs in drawn_fix.items():
-        fixes[j].update(dirs)
+        fixes[j].extend(dirs)
         sources.setdefault(j, Source.DRAWING)
     for j, dirs in file_fix.items():
-        fixes[j].update(dirs)
+        fixes[j].extend(dirs)
         sources.setdefault(j, Source.LOADS_FILE)
-    supports = [
-        Support(j, Fix.XY if dirs == {0, 1} else (Fix.X if dirs == {0} else Fix.Y), sources[j])
-        for j, dirs in sorted(fixes.items())
-    ]
+    supports = []
+    for j, dirs in sorted(fixes.items()):
+        fix, normal = restraint_for(dirs)
+        supports.append(Support(j, fix, sources[j], normal))
     supported = np.zeros(len(xy), dtype=bool)
     supported[list(fixes)] = True
     for part in parts:
@@ -574,9 +592,9 @@ class _Labels:
         return None
 
 
-def _fix_name(dirs: set[int]) -> str:
-    """ "pin (xy)", "roller (x)" or "roller (y)" for a set of restrained directions."""
-    return "pin (xy)" if dirs == {0, 1} else ("roller (x)" if dirs == {0} else "roller (y)")
+def _fix_name(dirs: list[tuple[float, float]]) -> str:
+    """ "pin (xy)", "roller (x)", "roller (y)" or "roller (normal at ... degrees)" for restrained directions."""
+    return restraint_name(*restraint_for(dirs))
 
 
 def _not_solved_note(case: str, combos_using: dict[str, list[str]]) -> str:

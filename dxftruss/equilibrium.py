@@ -4,9 +4,10 @@ Glossary:
     A       the augmented equilibrium matrix [B, -R], 2j x (m + r), sparse CSC.
             Column e (a member from joint i to joint k, u = unit vector i -> k):
             -u in the rows of joint i, +u in the rows of joint k. Column q (a
-            restraint of joint i in direction d): -1 in row 2i + d.
+            restraint of joint i along the unit vector n): -nx in row 2i, -ny in row
+            2i + 1 (only the nonzero one for an x or y restraint: -1 in row 2i + d).
     x       [t; rho]: member forces t (tension positive) and reactions rho (acting
-            on the structure along +x / +y).
+            on the structure along +x / +y, or along +n for an inclined restraint).
     f       joint loads, A x = f.
 
 Rows use the part's local joint numbering: local joint a is ``joints[a]`` and owns
@@ -20,7 +21,7 @@ from dataclasses import dataclass
 import numpy as np
 import scipy.sparse as sp
 
-from .model import Part, Truss
+from .model import INCLINED, Part, Truss
 
 
 @dataclass(frozen=True)
@@ -29,8 +30,9 @@ class PartSystem:
 
     joints      global joint indices (local joint a = joints[a])
     members     global member indices (column e of A = members[e])
-    restraints  (r, 2) int: global joint index and direction (0 = x, 1 = y) per
-                restraint column, in column order after the members
+    restraints  (r, 2) int: global joint index and direction (0 = x, 1 = y,
+                2 = inclined) per restraint column, in column order after the members
+    vectors     (r, 2) float: unit vector of each restraint column
     ends        (m, 2) int local joint indices of each member
     lengths     (m,) member lengths in drawing units
     unit        (m, 2) unit vectors from ends[:, 0] to ends[:, 1]
@@ -44,6 +46,12 @@ class PartSystem:
     lengths: np.ndarray
     unit: np.ndarray
     A: sp.csc_matrix
+    vectors: np.ndarray
+
+    @property
+    def inclined(self) -> bool:
+        """Whether any restraint of the part is inclined (not along x or y)."""
+        return bool(np.any(self.restraints[:, 1] == INCLINED))
 
     @property
     def n_joints(self) -> int:
@@ -62,7 +70,9 @@ class PartSystem:
         return np.searchsorted(self.joints, global_joint)
 
     def restraint_rows(self) -> np.ndarray:
-        """Row of A for each restraint column."""
+        """Row of A for each restraint column; only for x and y restraints."""
+        if self.inclined:
+            raise ValueError("restraint_rows: an inclined restraint has no single row of A")
         return 2 * self.local(self.restraints[:, 0]) + self.restraints[:, 1]
 
 
@@ -81,16 +91,26 @@ def part_system(truss: Truss, part: Part) -> PartSystem:
     lo = np.searchsorted(table[:, 0], joints, side="left")
     count = np.searchsorted(table[:, 0], joints, side="right") - lo
     starts = np.repeat(lo - (np.cumsum(count) - count), count)
-    restraints = table[starts + np.arange(int(count.sum()))].reshape(-1, 2)
+    picked = starts + np.arange(int(count.sum()))
+    restraints = table[picked].reshape(-1, 2)
+    vectors = truss.restraint_vectors[picked].reshape(-1, 2)
     m, r, nj = members.size, restraints.shape[0], joints.size
     cols = np.arange(m)
     rows_b = np.concatenate([2 * ends[:, 0], 2 * ends[:, 0] + 1, 2 * ends[:, 1], 2 * ends[:, 1] + 1])
     cols_b = np.concatenate([cols, cols, cols, cols])
     vals_b = np.concatenate([-unit[:, 0], -unit[:, 1], unit[:, 0], unit[:, 1]])
-    rows_r = 2 * np.searchsorted(joints, restraints[:, 0]) + restraints[:, 1]
-    cols_r = m + np.arange(r)
+    # restraint columns: -n at the joint's rows, only the nonzero components stored (an
+    # x or y restraint is a single -1, as it always was)
+    row0 = 2 * np.searchsorted(joints, restraints[:, 0])
+    rows_r = np.concatenate([row0, row0 + 1])
+    cols_r = np.concatenate([m + np.arange(r)] * 2)
+    vals_r = -np.concatenate([vectors[:, 0], vectors[:, 1]])
+    keep = vals_r != 0.0
     A = sp.csc_matrix(
-        (np.concatenate([vals_b, -np.ones(r)]), (np.concatenate([rows_b, rows_r]), np.concatenate([cols_b, cols_r]))),
+        (
+            np.concatenate([vals_b, vals_r[keep]]),
+            (np.concatenate([rows_b, rows_r[keep]]), np.concatenate([cols_b, cols_r[keep]])),
+        ),
         shape=(2 * nj, m + r),
     )
-    return PartSystem(joints, members, restraints, ends, lengths, unit, A)
+    return PartSystem(joints, members, restraints, ends, lengths, unit, A, vectors)

@@ -95,7 +95,7 @@ _SEVERITY: dict[Code, Severity] = {
     Code.LOAD_LABEL_UNCLEAR: _E,  # a drawn load's label cannot be read exactly: its case is not solved
     Code.LOAD_LABEL_ASSUMPTION: _W,  # a label read with an assumption: mass via g, bare number, sign ignored
     Code.SUPPORT_FROM_BLOCK: _I,  # a block reference read as a support by its name / attribute, or not (unclear)
-    Code.INCLINED_SUPPORT: _E,  # a roller block at an angle: inclined restraints are not modelled, not used
+    Code.INCLINED_SUPPORT: _E,  # a roller block whose base direction is unclear (skewed, tilted): not used
     Code.LINE_LOAD_LUMPED: _W,  # a line load lumped to joints: the loaded members' bending is not checked
     Code.SET_ASIDE: _I,  # line work not used as members: drafting (no triangles, outlines, plates)
     Code.HIDDEN_LAYER: _I,  # a layer off, frozen or not plotted: nothing on it was read

@@ -38,9 +38,12 @@ DEFAULT_CASE = "main"
 
 @dataclass(frozen=True)
 class SupportEntry:
+    """``fix`` "roller" in the file is ``Fix.N`` with its unit ``normal`` (None otherwise)."""
+
     number: int
     at: tuple[float, float]
     fix: Fix
+    normal: tuple[float, float] | None = None
 
 
 @dataclass(frozen=True)
@@ -108,7 +111,7 @@ _TOP_KEYS = {"units", "drawn", "support", "load", "line_load", "area_load", "com
 _KEYS = {
     "units": {"force", "length"},
     "drawn": {"loads", "supports"},
-    "support": {"at", "fix"},
+    "support": {"at", "fix", "normal"},
     "load": {"at", "fx", "fy", "case"},
     "line_load": {"from", "to", "w", "case", "measured", "direction"},
     "area_load": {"from", "to", "q", "spacing", "case", "measured", "direction"},
@@ -288,9 +291,21 @@ def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:
         _unknown(where, t, "support")
         at = _at(where, t)
         fix = t.get("fix", "xy")
-        if not isinstance(fix, str) or fix.lower() not in ("xy", "x", "y"):
-            raise ConfigError(f'{where}: \'fix\' must be "xy", "x" or "y", got {fix!r}')
-        supports.append(SupportEntry(i, at, Fix(fix.lower())))
+        if not isinstance(fix, str) or fix.lower() not in ("xy", "x", "y", "roller"):
+            raise ConfigError(f'{where}: \'fix\' must be "xy", "x", "y" or "roller", got {fix!r}')
+        if fix.lower() != "roller":
+            if "normal" in t:
+                raise ConfigError(f"{where}: 'normal' is only for fix = \"roller\", not fix = {fix!r}")
+            supports.append(SupportEntry(i, at, Fix(fix.lower())))
+            continue
+        if "normal" not in t:
+            raise ConfigError(f"{where}: fix = \"roller\" needs 'normal' = [nx, ny], the direction it restrains")
+        raw = t["normal"]
+        nx, ny = _at(where, {"normal": raw}, "normal")
+        size = math.hypot(nx, ny)
+        if not (math.isfinite(size) and size > 0):
+            raise ConfigError(f"{where}: 'normal' must be a non-zero [nx, ny], got {raw!r}")
+        supports.append(SupportEntry(i, at, Fix.N, (nx / size, ny / size)))
 
     loads = []
     for i, t in enumerate(_tables(name, data, "load"), 1):

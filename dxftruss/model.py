@@ -7,8 +7,9 @@ Glossary:
               joints' numbers; it remembers the layer and the DXF handles it came from.
     part      a set of joints and members connected through members; each part is
               supported and analysed alone.
-    support   restraint of a joint in x, y or both (``Fix``); reactions act along
-              the restrained directions.
+    support   restraint of a joint in x, y, both, or along one inclined unit
+              direction ``normal`` (``Fix.N``: an inclined roller, restraining the
+              normal to its base); reactions act along the restrained directions.
     load case a named set of joint loads (fx, fy in the force unit, +x right, +y up);
               a combination is a factored sum of cases and is solved like a case.
 
@@ -17,6 +18,7 @@ Coordinates and lengths are in drawing units; forces are in the report's force u
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 from enum import Enum
 
@@ -31,11 +33,65 @@ class Fix(str, Enum):
     XY = "xy"
     X = "x"
     Y = "y"
+    N = "n"  # one inclined direction, the support's ``normal``
 
     @property
     def directions(self) -> tuple[int, ...]:
-        """Restrained degrees of freedom: 0 = x, 1 = y."""
-        return {"xy": (0, 1), "x": (0,), "y": (1,)}[self.value]
+        """Restrained direction codes: 0 = x, 1 = y, INCLINED = the support's ``normal``."""
+        return {"xy": (0, 1), "x": (0,), "y": (1,), "n": (INCLINED,)}[self.value]
+
+
+#: direction code of an inclined restraint in ``Truss.restraints``: its unit vector is
+#: the matching row of ``Truss.restraint_vectors`` (never a row offset of A)
+INCLINED = 2
+
+#: two restraint directions closer than this sine are parallel (one restraint line)
+PARALLEL_SIN = 1e-9
+
+
+def _half_turn_degrees(vx: float, vy: float) -> float:
+    """Angle of the line along (vx, vy) from +x, degrees in [0, 180)."""
+    angle = math.degrees(math.atan2(vy, vx)) % 180.0
+    return 0.0 if angle >= 180.0 else angle
+
+
+def fix_vectors(fix: Fix, normal: tuple[float, float] | None = None) -> tuple[tuple[float, float], ...]:
+    """Unit vectors restrained by ``fix`` (``normal`` for ``Fix.N``), in the order of ``fix.directions``."""
+    if fix is Fix.N:
+        if normal is None:
+            raise ValueError("an inclined restraint needs its normal")
+        return (normal,)
+    return tuple(((1.0, 0.0), (0.0, 1.0))[k] for k in fix.directions)
+
+
+def restraint_name(fix: Fix, normal: tuple[float, float] | None = None) -> str:
+    """ "pin (xy)", "roller (x)", "roller (y)" or "roller (normal at 30 degrees)"."""
+    if fix is Fix.N and normal is not None:
+        return f"roller (normal at {_half_turn_degrees(*normal):.6g} degrees)"
+    return {Fix.XY: "pin (xy)", Fix.X: "roller (x)", Fix.Y: "roller (y)"}[fix]
+
+
+def restraint_for(vectors: list[tuple[float, float]]) -> tuple[Fix, tuple[float, float] | None]:
+    """The support that restrains exactly the directions spanned by ``vectors`` (unit).
+
+    Two non-parallel directions hold the joint in both x and y: a pin (``Fix.XY``),
+    kinematically the same restraint as the pair and carrying the same total reaction.
+    Parallel directions (either sense) are one restraint: x, y or an inclined ``N``
+    with the normal of the first, pointed to +y (to +x when horizontal).
+    """
+    if not vectors:
+        raise ValueError("restraint_for: no direction")
+    nx, ny = vectors[0]
+    for vx, vy in vectors[1:]:
+        if abs(nx * vy - ny * vx) > PARALLEL_SIN:
+            return Fix.XY, None
+    if abs(nx) <= PARALLEL_SIN:
+        return Fix.Y, None
+    if abs(ny) <= PARALLEL_SIN:
+        return Fix.X, None
+    if ny < 0:
+        nx, ny = -nx, -ny
+    return Fix.N, (nx, ny)
 
 
 class Source(str, Enum):
@@ -48,13 +104,38 @@ class Source(str, Enum):
 
 @dataclass(frozen=True)
 class Support:
+    """A joint's restraint. ``normal`` is the unit direction an inclined support
+    (``Fix.N``) restrains, None for the others; a reaction acts along it."""
+
     joint: int
     fix: Fix
     source: Source = Source.DRAWING
+    normal: tuple[float, float] | None = None
+
+    def __post_init__(self) -> None:
+        if (self.fix is Fix.N) != (self.normal is not None):
+            raise ValueError(f"support at joint {self.joint}: fix {self.fix.value!r} with normal {self.normal!r}")
+        if self.normal is not None:
+            nx, ny = (float(v) for v in self.normal)
+            size = math.hypot(nx, ny)
+            if not (math.isfinite(size) and abs(size - 1.0) <= 1e-9):
+                raise ValueError(f"support at joint {self.joint}: normal {self.normal!r} is not a unit vector")
+            object.__setattr__(self, "normal", (nx, ny))
 
     @property
     def assumed(self) -> bool:
         return self.source is Source.DEFAULT
+
+    @property
+    def vectors(self) -> tuple[tuple[float, float], ...]:
+        """Unit vectors of the restrained directions, in the order of ``fix.directions``."""
+        return fix_vectors(self.fix, self.normal)
+
+    @property
+    def angle(self) -> float:
+        """Angle of the (first) restrained direction from +x, degrees in [0, 180)."""
+        vx, vy = self.vectors[0]
+        return _half_turn_degrees(vx, vy)
 
 
 @dataclass(frozen=True)
@@ -193,12 +274,22 @@ class Truss:
     force_unit: str
     sections: tuple[Section, ...] = ()
     findings: tuple[Finding, ...] = field(default=())
-    #: (r, 2) int: joint and direction (0 = x, 1 = y) of every restraint, sorted; derived
+    #: (r, 2) int: joint and direction (0 = x, 1 = y, ``INCLINED``) of every restraint,
+    #: sorted; derived
     restraints: np.ndarray = field(init=False, repr=False, compare=False)
+    #: (r, 2) float: the unit vector of each restraint (row for row with ``restraints``);
+    #: (1, 0) / (0, 1) for the axis ones; derived
+    restraint_vectors: np.ndarray = field(init=False, repr=False, compare=False)
 
     def __post_init__(self) -> None:
-        rows = sorted((s.joint, k) for s in self.supports for k in s.fix.directions)
-        object.__setattr__(self, "restraints", np.array(rows, dtype=np.int64).reshape(-1, 2))
+        rows = sorted((s.joint, k, v) for s in self.supports for k, v in zip(s.fix.directions, s.vectors, strict=True))
+        object.__setattr__(self, "restraints", np.array([(j, k) for j, k, _ in rows], dtype=np.int64).reshape(-1, 2))
+        object.__setattr__(self, "restraint_vectors", np.array([v for *_, v in rows], dtype=float).reshape(-1, 2))
+
+    @property
+    def inclined(self) -> bool:
+        """Whether any restraint is inclined (not along x or y)."""
+        return bool(np.any(self.restraints[:, 1] == INCLINED))
 
     @property
     def n_joints(self) -> int:

@@ -9,7 +9,8 @@ Glossary:
     A, x, f      the equilibrium system of a part, A x = f with A = [B, -R] and
                  x = [t; rho] (equilibrium.py; docs/methods.md, Notation and Equilibrium matrix).
     t            member forces in the force unit, tension positive.
-    rho          reactions in the force unit, acting on the structure along +x / +y.
+    rho          reactions in the force unit, acting on the structure along +x / +y
+                 (an inclined roller's along its normal n: fx = rho nx, fy = rho ny).
     D            an orthonormal basis of the mechanisms, null(A^T) (docs/methods.md, SVD).
     carriable    a load with D^T f = 0: some bar forces and reactions balance it.
     determinate  k = 0 mechanisms and s = 0 self-stresses: A is square and regular and
@@ -40,7 +41,8 @@ Solution paths per part (the part's ``PartStability`` decides):
   and a load exciting an unlisted mechanism makes the bordered solve below fail its
   residual check, which is reported as ``load-excites-mechanism`` too.
   A carriable load is solved by the stiffness method on the bordered system
-  [[K, D], [D^T, 0]] (restrained rows deleted): its displacement is orthogonal to the
+  [[K, D], [D^T, 0]] (restrained rows deleted; at an inclined roller's joint only the
+  slide along its base is kept, K_ff = Z^T K Z): its displacement is orthogonal to the
   mechanisms and the bar forces t = S B^T delta are the unique ones that are both in
   equilibrium and compatible (the same as the force method of docs/methods.md, SVD item 3).
   Displacements of mechanism parts are not unique and are reported as NaN.
@@ -87,7 +89,7 @@ from .audit.stability import PartStability, Verdict
 from .audit.zero_force import zero_force_by_rule
 from .equilibrium import PartSystem, part_system
 from .findings import Code, Finding
-from .model import LoadCase, Truss, joint_id
+from .model import INCLINED, PARALLEL_SIN, LoadCase, Truss, joint_id
 from .symmetry import loads_symmetric
 from .units import FORCE_UNITS, LENGTH_UNITS
 
@@ -244,23 +246,39 @@ def _stiffness_solve(
     k_axial = ea / (ps.lengths * metre)  # N/m
     B = ps.A[:, :m]
     K = (B @ sp.diags(k_axial) @ B.T).tocsc()
-    restrained = np.zeros(rows, dtype=bool)
-    restrained[ps.restraint_rows()] = True
-    free = np.flatnonzero(~restrained)
-    K_ff = K[free][:, free]
     f_n = f * newton
+    if ps.inclined:
+        # an inclined restraint holds n . delta = 0 at its joint: delta = Z q with Z an
+        # orthonormal basis of the free motions (the tangent of an inclined roller),
+        # K_ff = Z^T K Z; x and y restraints delete their rows as before
+        Z = _free_motions(ps)
+    else:
+        restrained = np.zeros(rows, dtype=bool)
+        restrained[ps.restraint_rows()] = True
+        free = np.flatnonzero(~restrained)
+        Z = None
+    if Z is not None:
+        K_ff = (Z.T @ K @ Z).tocsc()
+        f_free = Z.T @ f_n
+        basis_free = Z.T @ basis
+        n_free = Z.shape[1]
+    else:
+        K_ff = K[free][:, free]
+        f_free = f_n[free]
+        basis_free = basis[free]
+        n_free = free.size
     # reverse Cuthill-McKee keeps the profile of K small (docs/methods.md, stiffness method); K_ff is symmetric
     # positive definite when k = 0, so SuperLU runs in symmetric mode without pivoting
     # (much faster than the default column ordering; measured in the report)
-    perm = reverse_cuthill_mckee(K_ff, symmetric_mode=True) if free.size else np.zeros(0, np.int64)
+    perm = reverse_cuthill_mckee(K_ff, symmetric_mode=True) if n_free else np.zeros(0, np.int64)
     K_p = K_ff[perm][:, perm]
-    rhs = f_n[free][perm]
+    rhs = f_free[perm]
     nb = basis.shape[1]
     if nb:
         diag = K_ff.diagonal()
         scale = float(np.abs(diag).max()) if diag.size else 1.0
         scale = scale if scale > 0 else 1.0
-        d_p = sp.csc_matrix(basis[free][perm] * scale)
+        d_p = sp.csc_matrix(basis_free[perm] * scale)
         system = sp.bmat([[K_p, d_p], [d_p.T, None]], format="csc")
         rhs = np.concatenate([rhs, np.zeros(nb)])
         options: dict[str, object] = {"permc_spec": "NATURAL"}
@@ -268,22 +286,27 @@ def _stiffness_solve(
         system = K_p.tocsc()
         options = {"permc_spec": "NATURAL", "diag_pivot_thresh": 0.0, "options": {"SymmetricMode": True}}
     delta0, delta = np.zeros(rows), np.zeros(rows)
-    if free.size:
+    if n_free:
         try:
             system = system.tocsc()
             lu = spla.splu(system, **options)
         except RuntimeError:
             raise _SolveFailed(float("inf"), float("inf")) from None
         sol0, sol = _refine(lu, system, rhs)
-        delta0[free[perm]] = sol0[: free.size]
-        delta[free[perm]] = sol[: free.size]
+        if Z is not None:
+            q0, q = np.zeros(n_free), np.zeros(n_free)
+            q0[perm], q[perm] = sol0[:n_free], sol[:n_free]
+            delta0, delta = Z @ q0, Z @ q
+        else:
+            delta0[free[perm]] = sol0[:n_free]
+            delta[free[perm]] = sol[:n_free]
     t = k_axial * (B.T @ delta) / newton  # force unit
     # forward-error check on the forces: soft directions of K may leave delta inexact
     # while t = S B^T delta is accurate, so the forces decide
     change = _relative_change(k_axial * (B.T @ delta0) / newton, t)
     if not change <= refine_tol:
         raise _SolveFailed(float("nan"), _amplification(t, f), change)
-    rho = (B @ t - f)[ps.restraint_rows()]
+    rho = _reactions(ps, B @ t - f) if ps.inclined else (B @ t - f)[ps.restraint_rows()]
     x = np.concatenate([t, rho])
     res = _relative_residual(ps.A, x, f, a_norm)
     if not res <= residual_tol:
@@ -292,6 +315,57 @@ def _stiffness_solve(
     if not _relative_change(delta0, delta) <= refine_tol:
         displacement = np.full_like(displacement, np.nan)  # forces fine, displacements not
     return t, rho, displacement, res
+
+
+def _free_motions(ps: PartSystem) -> sp.csc_matrix:
+    """Orthonormal basis Z (2j x free) of the joint motions the restraints allow.
+
+    Per joint: no restraint, both axes; restraints all along one line n (within
+    ``PARALLEL_SIN``), the tangent (-ny, nx); restraints in two directions, none.
+    """
+    rows: list[int] = []
+    cols: list[int] = []
+    vals: list[float] = []
+    at: dict[int, list[tuple[float, float]]] = {}
+    for a, v in zip(ps.local(ps.restraints[:, 0]).tolist(), ps.vectors.tolist(), strict=True):
+        at.setdefault(int(a), []).append((float(v[0]), float(v[1])))
+    n_cols = 0
+    for a in range(ps.n_joints):
+        vecs = at.get(a)
+        if vecs is None:
+            rows += [2 * a, 2 * a + 1]
+            cols += [n_cols, n_cols + 1]
+            vals += [1.0, 1.0]
+            n_cols += 2
+            continue
+        nx, ny = vecs[0]
+        if any(abs(nx * vy - ny * vx) > PARALLEL_SIN for vx, vy in vecs[1:]):
+            continue  # held both ways
+        for r, value in ((2 * a, -ny), (2 * a + 1, nx)):
+            if value != 0.0:
+                rows.append(r)
+                cols.append(n_cols)
+                vals.append(value)
+        n_cols += 1
+    return sp.csc_matrix((vals, (rows, cols)), shape=(2 * ps.n_joints, n_cols))
+
+
+def _reactions(ps: PartSystem, excess: np.ndarray) -> np.ndarray:
+    """Reactions rho with R rho = ``excess`` (= B t - f), joint by joint.
+
+    Each joint's restraint vectors are the columns of a 2 x k matrix; its least-squares
+    solution is exact when the restraints balance the joint (the residual check after the
+    solve says so) and the minimum-norm split for two or more restraints along one line.
+    """
+    loc = ps.local(ps.restraints[:, 0])
+    g = excess.reshape(-1, 2)[loc]
+    rho = np.einsum("ij,ij->i", ps.vectors, g)  # one restraint at its joint: n . g
+    joints, first, count = np.unique(loc, return_index=True, return_counts=True)
+    for a, start, k in zip(joints.tolist(), first.tolist(), count.tolist(), strict=True):
+        if k > 1:  # the restraints of a joint are consecutive (sorted by joint)
+            idx = np.arange(start, start + k)
+            rho[idx] = np.linalg.lstsq(ps.vectors[idx].T, excess[2 * a : 2 * a + 2], rcond=None)[0]
+    return rho
 
 
 def _lu_solve(
@@ -474,8 +548,16 @@ def solve_case(
         cut = zero_tol * scale
         part_forces = np.where(np.abs(sol.forces) <= cut, 0.0, sol.forces)
         forces[ps.members] = part_forces
-        for (joint, direction), value in zip(ps.restraints.tolist(), sol.reactions.tolist(), strict=True):
-            reactions.setdefault(int(joint), [0.0, 0.0])[direction] += 0.0 if abs(value) <= cut else float(value)
+        for (joint, direction), (nx, ny), value in zip(
+            ps.restraints.tolist(), ps.vectors.tolist(), sol.reactions.tolist(), strict=True
+        ):
+            value = 0.0 if abs(value) <= cut else float(value)
+            if direction == INCLINED:  # a reaction R along n: fx = R nx, fy = R ny
+                rxy = reactions.setdefault(int(joint), [0.0, 0.0])
+                rxy[0] += value * nx
+                rxy[1] += value * ny
+            else:
+                reactions.setdefault(int(joint), [0.0, 0.0])[direction] += value
         if not has_sections:
             disp_known = False
         elif sol.displacement is not None:

@@ -8,7 +8,10 @@ Glossary:
                      restraints map onto themselves. Only the y restraint is compared, so
                      a pin and a roller on a level bed count as a mirrored pair; the
                      horizontal restraint is not compared (docs/methods.md, Mirror symmetry: pin + roller are
-                     symmetric only for vertical load components).
+                     symmetric only for vertical load components). With an inclined
+                     support every restraint must map onto a restraint of the mirrored
+                     joint, its direction reflected (a pin + inclined roller never
+                     mirror).
     symmetric load   at mirrored joints fy is equal and fx opposite (docs/methods.md, Mirror symmetry, with the
                      reflection M = diag(-1, 1)); only then do the vertical reactions of a
                      symmetric pin + roller truss split evenly.
@@ -114,6 +117,8 @@ def find_mirror_axis(truss: Truss, *, tol: float = MIRROR_TOL, distance: float |
         return None
     if mirror_members(truss, joint_map) is None:
         return None
+    if truss.inclined:
+        return axis if _restraints_mirror(truss, joint_map) else None
     restrained_y = np.zeros(truss.n_joints, dtype=bool)
     for s in truss.supports:
         if 1 in s.fix.directions:
@@ -121,6 +126,28 @@ def find_mirror_axis(truss: Truss, *, tol: float = MIRROR_TOL, distance: float |
     if not np.array_equal(restrained_y[joint_map], restrained_y):
         return None
     return axis
+
+
+def _restraints_mirror(truss: Truss, joint_map: np.ndarray, angle_tol: float = 1e-9) -> bool:
+    """Whether every restraint maps onto a restraint of the mirrored joint.
+
+    Used when a support is inclined: the pin + level roller leniency does not hold then
+    (an inclined roller takes a horizontal reaction under vertical loads, so the pin's
+    x restraint matters), so each restraint direction n at joint i must have its mirror
+    image M n = (-nx, ny) (either sense) among the restraints of joint p(i), and the
+    joints' restraint counts must agree.
+    """
+    by_joint: dict[int, list[tuple[float, float]]] = {}
+    for s in truss.supports:
+        by_joint.setdefault(s.joint, []).extend(s.vectors)
+    for i, vecs in by_joint.items():
+        other = by_joint.get(int(joint_map[i]), [])
+        if len(other) != len(vecs):
+            return False
+        for nx, ny in vecs:
+            if not any(abs(-nx * oy - ny * ox) <= angle_tol for ox, oy in other):
+                return False
+    return True
 
 
 def loads_symmetric(

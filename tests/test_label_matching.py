@@ -11,6 +11,7 @@ import ezdxf
 import pytest
 
 from dxftruss.findings import Code
+from dxftruss.model import Fix
 from dxftruss.pipeline import check
 from dxftruss.report.json import report_dict as to_json_dict
 
@@ -249,7 +250,9 @@ def test_rotated_roller_restrains_x(tmp_path: Path) -> None:
     assert sup == {a: "xy", b: "x"}
 
 
-def test_inclined_roller_is_refused(tmp_path: Path) -> None:
+def test_inclined_roller_restrains_the_normal_to_its_base(tmp_path: Path) -> None:
+    # a roller block rotated 30 degrees: its base is at 30 degrees, so it restrains the
+    # direction at 120 degrees, n = (cos 120, sin 120) = (-1/2, sqrt(3)/2) (by hand)
     doc = new_doc()
     msp = doc.modelspace()
     support_block(doc, "PIN")
@@ -257,9 +260,13 @@ def test_inclined_roller_is_refused(tmp_path: Path) -> None:
     msp.add_blockref("PIN", (0, 0), dxfattribs={"layer": "SYMBOLS"})
     ins = msp.add_blockref("ROLLER", (4, 0), dxfattribs={"layer": "SYMBOLS", "rotation": 30})
     res = run(doc, tmp_path)
-    (f,) = [f for f in res.findings if f.code is Code.INCLINED_SUPPORT]
-    assert f.data["handle"] == ins.dxf.handle and "30 degrees" in f.message
-    assert {f"J{s.joint + 1}" for s in res.truss.supports} == {joint_at(res, 0, 0)}
+    assert not [f for f in res.findings if f.code is Code.INCLINED_SUPPORT]
+    (f,) = [f for f in res.findings if f.code is Code.SUPPORT_FROM_BLOCK and f.data["handle"] == ins.dxf.handle]
+    assert f.data["direction_deg"] == pytest.approx(120.0) and "120 degrees" in f.message
+    sup = {f"J{s.joint + 1}": s for s in res.truss.supports}
+    assert set(sup) == {joint_at(res, 0, 0), joint_at(res, 4, 0)}
+    roller = sup[joint_at(res, 4, 0)]
+    assert roller.fix is Fix.N and roller.normal == (pytest.approx(-0.5), pytest.approx(3**0.5 / 2))
 
 
 @pytest.mark.parametrize("name", ["PINROLLER", "PIN-ROLLER"])
@@ -300,4 +307,6 @@ def test_reports_with_label_sources_and_block_supports_fit_the_schema(tmp_path: 
     kinds = sorted(ld["label_source"]["kind"] for ld in js["cases"][0]["loads"])
     assert kinds == ["loads-file", "text"]
     found = {f["code"] for f in js["findings"]}
-    assert {"support-from-block", "inclined-support"} <= found
+    assert "support-from-block" in found and "inclined-support" not in found
+    (inclined,) = [s for s in js["supports"] if s["fix"] == "n"]
+    assert inclined["direction_deg"] == pytest.approx(135.0)  # a 45-degree base restrains 135 degrees

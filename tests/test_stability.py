@@ -544,7 +544,7 @@ def small_trusses(
     pairs = [(a, b) for a in range(j) for b in range(a + 1, j)]
     most = min(len(pairs), max_members)
     ends = draw(st.lists(st.sampled_from(pairs), min_size=min(min_members, most), max_size=most, unique=True))
-    fix = st.tuples(st.integers(0, j - 1), st.sampled_from(list(Fix)))
+    fix = st.tuples(st.integers(0, j - 1), st.sampled_from([Fix.XY, Fix.X, Fix.Y]))
     fixes = draw(st.lists(fix, max_size=3, unique_by=lambda t: t[0]))
     supports = tuple(Support(i, f) for i, f in sorted(fixes, key=lambda t: t[0]))
     return np.array(pts, dtype=float), np.array(sorted(ends), dtype=np.int64), supports

@@ -30,7 +30,7 @@ but with bounded degree), inserted first so its edges are all independent. Then 
 independent members and restraints are a generically independent set of columns of the
 equilibrium matrix A = [B, -R], generic rank = their number, mechanisms = 2 j - rank =
 free pebbles - 3, self-stress = m + r - rank. A ground bar has a generic direction,
-while a drawn roller acts along x or y: parallel rollers on one rigid body therefore
+while a drawn roller acts along its drawn direction: parallel rollers on one rigid body therefore
 show as special geometry (k > k_gen), which they are.
 
 Cost: worst case O(n E), since a failed search may visit a whole over-braced region.

@@ -179,9 +179,7 @@ def joint_direction_sigma(system: PartSystem) -> np.ndarray:
     unit = np.nan_to_num(system.unit)
     ends = system.ends
     ridx = system.local(system.restraints[:, 0]) if system.n_restraints else np.zeros(0, dtype=np.int64)
-    rdir = np.zeros((ridx.size, 2))
-    if ridx.size:
-        rdir[np.arange(ridx.size), system.restraints[:, 1]] = 1.0
+    rdir = np.asarray(system.vectors, dtype=float).reshape(-1, 2)  # unit, inclined ones too
     at = np.concatenate([ends[:, 0], ends[:, 1], ridx])
     vec = np.concatenate([unit, unit, rdir])
     a = np.bincount(at, weights=vec[:, 0] ** 2, minlength=j)

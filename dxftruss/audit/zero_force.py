@@ -8,7 +8,8 @@ Glossary:
                        its end joints are looked at again (worklist).
     U                  at joint i, for member e: the span of the directions of the other
                        active members at i and of the restraint directions at i (a pin
-                       gives the plane, a roller one axis).
+                       gives the plane, a roller one axis, an inclined roller the
+                       line of its normal n).
     general local rule if u_e (pointing from i along e) is not in U, project the
                        equilibrium of joint i on n, the unit normal of U in the
                        direction of u_e: t_e (n . u_e) + n . f_i = 0. If n . f_i = 0 as
@@ -95,13 +96,12 @@ def zero_force_by_rule(
     unit[good] = d[good] / length[good, None]
 
     # incidence entries: one per member end and one per restraint direction
-    sup_joint = [s.joint for s in truss.supports for _ in s.fix.directions]
-    sup_dir = [k for s in truss.supports for k in s.fix.directions]
-    sup_vec = np.zeros((len(sup_dir), 2))
-    sup_vec[np.arange(len(sup_dir)), np.asarray(sup_dir, dtype=np.int64)] = 1.0
+    # (an inclined restraint is its unit normal n, an x or y one the axis)
+    sup_joint = [s.joint for s in truss.supports for _ in s.vectors]
+    sup_vec = np.array([v for s in truss.supports for v in s.vectors], dtype=float).reshape(-1, 2)
     e_joint = np.concatenate([ends[:, 0], ends[:, 1], np.asarray(sup_joint, dtype=np.int64)])
     e_vec = np.concatenate([unit, -unit, sup_vec])
-    e_member = np.concatenate([np.arange(m), np.arange(m), np.full(len(sup_dir), -1, dtype=np.int64)])
+    e_member = np.concatenate([np.arange(m), np.arange(m), np.full(len(sup_joint), -1, dtype=np.int64)])
     order = np.argsort(e_joint, kind="stable")
     e_joint, e_vec, e_member = e_joint[order], e_vec[order], e_member[order]
     ptr = np.zeros(n + 1, dtype=np.int64)

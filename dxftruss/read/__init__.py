@@ -230,24 +230,28 @@ def read_drawing(
 
 
 def _block_support_findings(
-    notes: list[tuple[int, int, str, str, str, str, str, tuple[float, float]]],
+    notes: list[tuple[int, int, str, str, str, str, str, tuple[float, float], float | None]],
 ) -> list[Finding]:
     """``support-from-block`` (read as a support, or not because its words are unclear)
-    and ``inclined-support`` findings for block references named as supports."""
+    and ``inclined-support`` (a roller whose base direction is unclear) findings for
+    block references named as supports."""
     out: list[Finding] = []
-    for *_, status, block, why, handle, layer, at in sorted(notes, key=lambda n: (n[0], n[1])):
+    for *_, status, block, why, handle, layer, at, restrains in sorted(notes, key=lambda n: (n[0], n[1])):
         where = f"block reference '{shown(block)}' (layer {shown(layer)}, handle {shown(handle)})"
-        data = {"block": block, "handle": handle, "layer": layer, "status": status, "why": why}
+        data: dict[str, Any] = {"block": block, "handle": handle, "layer": layer, "status": status, "why": why}
         if status in ("pin", "roller"):
             msg = f"{where} read as a {status} support: {why}"
+            if restrains is not None:
+                data["direction_deg"] = restrains
+                msg += f"; it restrains the direction at {restrains:.6g} degrees from +x (normal to its base)"
             out.append(Finding(Code.SUPPORT_FROM_BLOCK, msg, at=at, data=data))
         elif status == "unclear":
             msg = f"{where} is not read as a support: {why}"
             out.append(Finding(Code.SUPPORT_FROM_BLOCK, msg, at=at, data=data))
         else:
             msg = (
-                f"{where} is a roller at an angle ({why}): inclined restraints are not modelled, so it is not used; "
-                "draw it level (restrains y) or upright (restrains x), or give the support in the loads file"
+                f"{where} is a roller ({why}), so it is not used; place the block without skew, "
+                "in the drawing plane, or give the support in the loads file"
             )
             out.append(Finding(Code.INCLINED_SUPPORT, msg, at=at, data=data))
     return out

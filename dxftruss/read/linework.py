@@ -24,6 +24,8 @@ class SupportMark:
     #: the block name and the words that made it a support; "" otherwise
     block: str = ""
     why: str = ""
+    #: the unit direction an inclined roller (``Fix.N``) restrains; None otherwise
+    normal: tuple[float, float] | None = None
 
 
 @dataclass(frozen=True)

@@ -93,8 +93,9 @@ class _Placed:
         self.loads: list[tuple[int, int, LoadMark]] = []
         self.texts: list[tuple[int, int, TextMark]] = []
         #: block references read as supports or refused as such, for the findings:
-        #: (order, seq, status "pin" | "roller" | "unclear" | "inclined", block, why, handle, layer, (x, y))
-        self.block_notes: list[tuple[int, int, str, str, str, str, str, tuple[float, float]]] = []
+        #: (order, seq, status "pin" | "roller" | "unclear" | "inclined", block, why, handle, layer, (x, y),
+        #: angle of the restrained direction in degrees for a roller, else None)
+        self.block_notes: list[tuple[int, int, str, str, str, str, str, tuple[float, float], float | None]] = []
         self.seq = 0
 
     def next_seq(self) -> int:

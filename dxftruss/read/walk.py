@@ -280,7 +280,7 @@ class _Reader:
                         order = ins.pos[i] if batch is None else int(batch.order[k])
                         xy = (float(at[k, 0]), float(at[k, 1]))
                         self.placed.block_notes.append(
-                            (order, self.placed.next_seq(), "unclear", name, why, hh, el, xy)
+                            (order, self.placed.next_seq(), "unclear", name, why, hh, el, xy, None)
                         )
                 rest.append(i)
                 continue
@@ -297,29 +297,64 @@ class _Reader:
                     continue
                 xy = (float(pts[k, 0]), float(pts[k, 1]))
                 fix = Fix.XY
+                normal: tuple[float, float] | None = None
+                restrains: float | None = None
                 if kind == "roller":
                     # the block's x axis is the roller's base; it restrains the normal to it
-                    ax, ay = float(world.mats[k, 0, 0]), float(world.mats[k, 0, 1])
-                    angle = math.degrees(math.atan2(ay, ax)) % 180.0
-                    if min(angle, 180.0 - angle) <= _ANGLE_TOL:
-                        fix = Fix.Y
-                    elif abs(angle - 90.0) <= _ANGLE_TOL:
-                        fix = Fix.X
-                    else:
-                        note = f"{why}; its base is at {angle:.6g} degrees"
+                    fix, normal, restrains, unclear = _roller_direction(world.mats[k])
+                    if unclear:
+                        note = f"{why}; {unclear}"
                         self.placed.block_notes.append(
-                            (order, self.placed.next_seq(), "inclined", name, note, hh, el, xy)
+                            (order, self.placed.next_seq(), "inclined", name, note, hh, el, xy, None)
                         )
                         continue
-                self.placed.supports.append(
-                    (order, self.placed.next_seq(), SupportMark(xy[0], xy[1], fix, hh, el, block=name, why=why))
-                )
-                self.placed.block_notes.append((order, self.placed.next_seq(), kind, name, why, hh, el, xy))
+                mark = SupportMark(xy[0], xy[1], fix, hh, el, block=name, why=why, normal=normal)
+                self.placed.supports.append((order, self.placed.next_seq(), mark))
+                self.placed.block_notes.append((order, self.placed.next_seq(), kind, name, why, hh, el, xy, restrains))
         return rest
 
 
 #: a roller block within this many degrees of level (or of plumb) restrains y (or x)
 _ANGLE_TOL = 1e-6
+
+#: a roller block whose x and y axes are further from square than this sine (a sheared
+#: nested placement), or whose x axis leaves the drawing plane by more, has no clear base
+_SKEW_SIN = 1e-6
+
+
+def _roller_direction(mat: np.ndarray) -> tuple[Fix, tuple[float, float] | None, float | None, str]:
+    """Fix, normal, angle of the restrained direction (degrees, [0, 180)) and "" for a
+    roller block placed by the 4 x 4 row-vector matrix ``mat``; or the reason its base
+    direction is unclear (then the other values mean nothing).
+
+    The base is the block's x axis after placement; the roller restrains the normal to
+    it, pointed to the block's +y side. Within ``_ANGLE_TOL`` of level it restrains y,
+    of plumb x, exactly as an axis roller.
+    """
+    ax, ay, az = (float(v) for v in mat[0, :3])
+    bx, by, bz = (float(v) for v in mat[1, :3])
+    size_a, size_b = math.sqrt(ax * ax + ay * ay + az * az), math.sqrt(bx * bx + by * by + bz * bz)
+    if not (size_a > 0 and size_b > 0 and math.isfinite(size_a * size_b)):
+        return Fix.Y, None, None, "its base direction cannot be read (the block is scaled to nothing)"
+    if abs(az) > _SKEW_SIN * size_a or abs(bz) > _SKEW_SIN * size_b:
+        return (
+            Fix.Y,
+            None,
+            None,
+            "its base is tilted out of the drawing plane, so the direction it restrains is unclear",
+        )
+    if abs(ax * bx + ay * by) > _SKEW_SIN * size_a * size_b:
+        return Fix.Y, None, None, "the block is placed skewed (its x and y axes are not square), so its base is unclear"
+    angle = math.degrees(math.atan2(ay, ax)) % 180.0
+    if min(angle, 180.0 - angle) <= _ANGLE_TOL:
+        return Fix.Y, None, 90.0, ""
+    if abs(angle - 90.0) <= _ANGLE_TOL:
+        return Fix.X, None, 0.0, ""
+    h = math.hypot(ax, ay)
+    nx, ny = -ay / h, ax / h
+    if nx * bx + ny * by < 0:  # toward the block's +y side (a mirrored block flips it)
+        nx, ny = -nx, -ny
+    return Fix.N, (nx, ny), math.degrees(math.atan2(ny, nx)) % 180.0, ""
 
 
 def _height(e: Any) -> float:

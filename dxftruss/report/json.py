@@ -14,7 +14,7 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
-from ..model import LoadOrigin, joint_id, member_id
+from ..model import LoadOrigin, Support, joint_id, member_id
 from ..naming import finding_parts, part_index
 from . import CAUTION, assumptions
 
@@ -26,6 +26,18 @@ if TYPE_CHECKING:
 SCHEMA = "dxftruss-report/1"
 #: integer form of the schema version; raised when a key changes meaning or is removed
 SCHEMA_VERSION = 1
+
+
+def _support(sp: Support) -> dict[str, Any]:
+    """One support; an inclined one (fix "n") adds its unit ``normal`` and that
+    direction's angle from +x in degrees, [0, 180)."""
+    out: dict[str, Any] = {"joint": joint_id(sp.joint), "fix": sp.fix.value}
+    if sp.normal is not None:
+        out["normal"] = [float(sp.normal[0]), float(sp.normal[1])]
+        out["direction_deg"] = sp.angle
+    out["assumed"] = sp.assumed
+    out["source"] = sp.source.value
+    return out
 
 
 def _num(x: float) -> float | None:
@@ -107,10 +119,7 @@ def report_dict(result: Result) -> dict[str, Any]:
             }
             for e, (a, b) in enumerate(t.ends.tolist())
         ],
-        "supports": [
-            {"joint": joint_id(sp.joint), "fix": sp.fix.value, "assumed": sp.assumed, "source": sp.source.value}
-            for sp in t.supports
-        ],
+        "supports": [_support(sp) for sp in t.supports],
         "parts": [
             {
                 "id": p.index + 1,

@@ -115,6 +115,8 @@ class _Overlay:
         near = set(self.supported) | {ld.joint for lc in t.cases for ld in lc.loads if 0 <= ld.joint < t.n_joints}
         self.clear = _Clearance(self.jp, t.ends, near)
         self.body_dir: dict[int, tuple[int, int]] = {}
+        #: the side (a unit vector along the normal) an inclined roller's symbol lies on
+        self.inclined_body: dict[int, tuple[float, float]] = {}
         self.load_labels: list[tuple[float, float, float, float, str]] = []
         self.reaction_labels: list[tuple[float, float, float, float, str]] = []
         self.markers: list[_Marker] = []
@@ -208,6 +210,18 @@ class _Overlay:
             outer = (-1, 0) if x < self.cx_mid else (1, 0)
             inner = (-outer[0], 0)
             fixes = {sp.fix for sp in sps}
+            inclined = sps[0].normal if len(sps) == 1 else None
+            if inclined is not None:
+                # an inclined roller: its body along the normal, on the side with more room
+                nx, ny = inclined
+                side = max([(-nx, -ny), (nx, ny)], key=lambda d: self.clear.angle(j, d))
+                self.inclined_body[j] = side
+                self.clear.dirs[j].append(side)
+                for sp in sps:
+                    self.placer.block(
+                        _support_symbol(self.pg, x, y, sp.fix, size=self.S, body=side, assumed=sp.assumed)
+                    )
+                continue
             if fixes == {Fix.X}:
                 cands = [outer, inner]
             elif fixes == {Fix.Y}:
@@ -253,6 +267,9 @@ class _Overlay:
             if not (0 <= j < self.t.n_joints):
                 continue
             x, y = (float(v) for v in self.jp[j])
+            if j in self.inclined_body:
+                self._inclined_reaction(j, x, y, rx, ry)
+                continue
             body = self.body_dir.get(j, (0, -1))
             outer = (-1, 0) if x < self.cx_mid else (1, 0)
             for value, axis, name in ((ry, 1, "Ry"), (rx, 0, "Rx")):
@@ -272,6 +289,24 @@ class _Overlay:
                 self.pg.arrow(tail, head, REACTION_RGB, width=1.0, head_len=5.5, filled=False)
                 self.placer.block(_thin_quad(tail, head, 3.0))
                 self.reaction_labels.append((far[0], far[1], ex, ey, f"{name}={fmt_force(value)}"))
+
+    def _inclined_reaction(self, j: int, x: float, y: float, rx: float, ry: float) -> None:
+        """The reaction of an inclined roller as one arrow along its normal n, beyond its
+        symbol, labelled Rn (the component along n, whose direction the JSON gives)."""
+        ex, ey = self.inclined_body[j]
+        normal = next(sp.normal for sp in self.supported[j] if sp.normal is not None)
+        value = rx * normal[0] + ry * normal[1]
+        if not abs(value) > 0:
+            return
+        S, L = self.S, self.REACTION_LEN
+        start = S * 1.45 + 3
+        near = (x + ex * start, y + ey * start)
+        far = (x + ex * (start + L), y + ey * (start + L))
+        pointing_out = value * (normal[0] * ex + normal[1] * ey) > 0  # the force points away from the joint
+        tail, head = (near, far) if pointing_out else (far, near)
+        self.pg.arrow(tail, head, REACTION_RGB, width=1.0, head_len=5.5, filled=False)
+        self.placer.block(_thin_quad(tail, head, 3.0))
+        self.reaction_labels.append((far[0], far[1], ex, ey, f"Rn={fmt_force(value)}"))
 
     def mode(self, st: Any, md: Any, disp_xy: np.ndarray) -> None:
         """A mechanism mode: the displaced shape of the part dashed, moving joints ringed

@@ -43,12 +43,23 @@ MARKER_FILL = {Severity.ERROR: (0.96, 0.89, 0.26), Severity.WARNING: (1.0, 1.0, 
 
 
 def _support_symbol(
-    pg: _Page, x: float, y: float, fix: Fix, *, size: float, body: tuple[int, int] = (0, -1), assumed: bool = False
+    pg: _Page,
+    x: float,
+    y: float,
+    fix: Fix,
+    *,
+    size: float,
+    body: tuple[float, float] = (0, -1),
+    assumed: bool = False,
 ) -> tuple[tuple[float, float], ...]:
     """Our support symbols: a triangle on a hatched ground line (restrained both ways);
     a triangle on two rollers (restrained across the rollers only). The body lies on
-    the side ``body`` of the joint (down, up, left or right); dashed outline when the
-    support was assumed. Returns the corners of its box (to keep labels off)."""
+    the side ``body`` of the joint (down, up, left or right; for an inclined roller,
+    ``Fix.N``, a unit vector along its normal, so its base lies square to the direction
+    it restrains); dashed outline when the support was assumed. Returns the corners of
+    its box (to keep labels off)."""
+    if fix is Fix.N:
+        return _inclined_symbol(pg, x, y, size=size, body=body, assumed=assumed)
     c = pg.c
     S = size
     angle = {(0, -1): 0, (1, 0): 90, (0, 1): 180, (-1, 0): -90}.get((int(body[0]), int(body[1])), 0)
@@ -88,6 +99,50 @@ def _support_symbol(
         return ((x - ext, y0), (x + ext, y0), (x + ext, y1), (x - ext, y1))
     x0, x1 = (x - depth, x) if bx < 0 else (x, x + depth)
     return ((x0, y - ext), (x1, y - ext), (x1, y + ext), (x0, y + ext))
+
+
+def _inclined_symbol(
+    pg: _Page, x: float, y: float, *, size: float, body: tuple[float, float], assumed: bool
+) -> tuple[tuple[float, float], ...]:
+    """The roller symbol turned so its body lies along the unit vector ``body`` (its
+    base, rollers and ground line square to it); the corners of its turned box."""
+    bx, by = float(body[0]), float(body[1])
+    size_b = math.hypot(bx, by) or 1.0
+    bx, by = bx / size_b, by / size_b
+    angle = math.degrees(math.atan2(by, bx)) + 90.0  # the upright symbol's body is at -y
+    c = pg.c
+    S = size
+    c.saveState()
+    c.translate(x, y)
+    c.rotate(angle)
+    c.setStrokeGray(0.1)
+    c.setFillGray(1.0)
+    c.setLineWidth(0.8)
+    if assumed:
+        c.setDash(2, 1.5)
+    hw, base, r = 0.62 * S, -0.72 * S, 0.13 * S
+    p = c.beginPath()
+    p.moveTo(0, 0)
+    p.lineTo(hw, base)
+    p.lineTo(-hw, base)
+    p.close()
+    c.drawPath(p, stroke=1, fill=1)
+    for cx in (-0.33 * S, 0.33 * S):
+        c.circle(cx, base - r, r, stroke=1, fill=1)
+    c.setDash()
+    gy = base - 2 * r
+    c.line(-0.95 * S, gy, 0.95 * S, gy)
+    c.setLineWidth(0.5)
+    for k in range(5):
+        gx = -0.85 * S + k * 0.42 * S
+        c.line(gx, gy, gx - 0.25 * S, gy - 0.3 * S)
+    c.restoreState()
+    # the box (-ext..ext across, -depth..0 along the body) turned onto the page
+    ext, depth = 1.0 * S, 1.3 * S
+    ax, ay = -by, bx  # across the body
+    return tuple(
+        (x + u * ax + v * bx, y + u * ay + v * by) for u, v in ((-ext, 0.0), (ext, 0.0), (ext, depth), (-ext, depth))
+    )
 
 
 class _Clearance:

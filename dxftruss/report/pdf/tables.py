@@ -277,7 +277,8 @@ def _tables_section(ctx: _Context, flow: _Flow, *, max_rows: int) -> None:
     flow.heading(f"Joints ({t.n_joints}; coordinates in {unit})", "t-joints")
     sup: dict[int, list[str]] = defaultdict(list)
     for sp in t.supports:
-        sup[sp.joint].append(sp.fix.value + (" (assumed)" if sp.assumed else ""))
+        kind = sp.fix.value if sp.normal is None else f"n at {sp.angle:.4g} deg"  # inclined: its normal
+        sup[sp.joint].append(kind + (" (assumed)" if sp.assumed else ""))
     part_of = np.full(t.n_joints, -1)
     for p in t.parts:
         part_of[np.asarray(p.joints, dtype=int)] = p.index
