@@ -85,13 +85,7 @@ def _support_symbol(
         for cx in (-0.33 * S, 0.33 * S):
             c.circle(cx, base - r, r, stroke=1, fill=1)
     c.setDash()
-    gy = -S if fix is Fix.XY else base - 2 * 0.13 * S
-    c.line(-0.95 * S, gy, 0.95 * S, gy)
-    c.setLineWidth(0.5)
-    for k in range(5):
-        gx = -0.85 * S + k * 0.42 * S
-        c.line(gx, gy, gx - 0.25 * S, gy - 0.3 * S)
-    c.restoreState()
+    _ground(c, S, -S if fix is Fix.XY else base - 2 * 0.13 * S)
     ext, depth = 1.0 * S, 1.3 * S
     bx, by = body
     if bx == 0:
@@ -130,13 +124,7 @@ def _inclined_symbol(
     for cx in (-0.33 * S, 0.33 * S):
         c.circle(cx, base - r, r, stroke=1, fill=1)
     c.setDash()
-    gy = base - 2 * r
-    c.line(-0.95 * S, gy, 0.95 * S, gy)
-    c.setLineWidth(0.5)
-    for k in range(5):
-        gx = -0.85 * S + k * 0.42 * S
-        c.line(gx, gy, gx - 0.25 * S, gy - 0.3 * S)
-    c.restoreState()
+    _ground(c, S, base - 2 * r)
     # the box (-ext..ext across, -depth..0 along the body) turned onto the page
     ext, depth = 1.0 * S, 1.3 * S
     ax, ay = -by, bx  # across the body
@@ -238,4 +226,14 @@ def _draw_members(c: Any, a: np.ndarray, b: np.ndarray, states: np.ndarray | Non
                 c.setStrokeGray(1.0)
                 c.setLineWidth(float(w) * 0.36)
                 stroke_segments(c, seg[sel])
+    c.restoreState()
+
+
+def _ground(c: Any, S: float, gy: float) -> None:
+    """The ground line at ``gy`` with its hatch, then the state saved by the symbol restored."""
+    c.line(-0.95 * S, gy, 0.95 * S, gy)
+    c.setLineWidth(0.5)
+    for k in range(5):
+        gx = -0.85 * S + k * 0.42 * S
+        c.line(gx, gy, gx - 0.25 * S, gy - 0.3 * S)
     c.restoreState()
