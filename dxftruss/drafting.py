@@ -144,9 +144,13 @@ def select_structure(segments: np.ndarray, layers: tuple[str, ...], *, snap: flo
             if any(_inside(hulls[int(c)], pts, tol) for c in cand):
                 piece_keep[members] = True
 
-    # a drawn line is kept when any of its pieces is
+    # a drawn line is kept when any of its pieces is; a line too short to make a piece
+    # follows its layer (on a layer of the structure it is reported as zero-length)
     keep = np.zeros(n, dtype=bool)
     np.logical_or.at(keep, src, piece_keep)
+    no_piece = np.ones(n, dtype=bool)
+    no_piece[src] = False
+    keep |= no_piece & np.isin(line_layer, list(struct_layers))
     why[~keep] = "no-triangles"
 
     seg_len = np.hypot(seg[:, 2] - seg[:, 0], seg[:, 3] - seg[:, 1])
@@ -157,7 +161,6 @@ def select_structure(segments: np.ndarray, layers: tuple[str, ...], *, snap: flo
 
     if not keep.any():
         return Selection(np.ones(n, dtype=bool), "all", {}, _counts(layers, np.ones(n, bool)), True, ("",) * n)
-    # lines no piece of which survived the cut (zero length) follow their layer's fate
     set_aside: dict[str, dict[str, int]] = defaultdict(lambda: defaultdict(int))
     for i in np.flatnonzero(~keep).tolist():
         set_aside[layers[i]][str(why[i])] += 1

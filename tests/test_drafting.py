@@ -274,3 +274,14 @@ def test_named_layers_set_nothing_aside(tmp_path):
     assert r.selection.rule == "option" and not r.selection.set_aside
     assert "TITLE" in r.selection.used
     assert not [f for f in r.findings if f.code is Code.SET_ASIDE]
+
+
+def test_a_zero_length_line_on_the_truss_layer_is_still_reported(tmp_path):
+    def speck(msp):
+        msp.add_line((2 * A, H), (2 * A, H), dxfattribs={"layer": "TRUSS"})  # drawn as a point
+        msp.add_line((0, -900), (0, -900), dxfattribs={"layer": "TITLE"})
+
+    r = check(_sheet(tmp_path / "speck.dxf", speck, _border_and_title))
+    zero = [f for f in r.findings if f.code is Code.ZERO_LENGTH_MEMBER]
+    assert len(zero) == 1 and zero[0].data["layer"] == "TRUSS"
+    assert r.selection.set_aside["TITLE"] == {"no-triangles": 9}
