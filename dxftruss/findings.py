@@ -59,6 +59,7 @@ class Code(str, Enum):
     HIDDEN_LAYER_READ = "hidden-layer-read"
     PAPER_SPACE_READ = "paper-space-read"
     PAPER_SPACE_LINE_WORK = "paper-space-line-work"
+    REPEATED_PART = "repeated-part"
 
     @property
     def severity(self) -> Severity:
@@ -102,6 +103,7 @@ _SEVERITY: dict[Code, Severity] = {
     Code.HIDDEN_LAYER_READ: _W,  # a hidden layer read because --layers names it
     Code.PAPER_SPACE_READ: _W,  # model space held no member line work: a paper-space layout was read
     Code.PAPER_SPACE_LINE_WORK: _I,  # model space read; paper-space layouts hold line work too
+    Code.REPEATED_PART: _I,  # parts that are another part shifted: solved once, results copied
 }
 
 

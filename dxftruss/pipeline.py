@@ -29,6 +29,7 @@ from .loadsfile import read_loads_file
 from .naming import part_names
 from .policy import run_policy
 from .read import LineWork, read_drawing
+from .repeats import copied_stability, find_repeats, repeat_findings
 from .result import Result, Settings, SourceInfo, Tolerances
 from .snap import build_geometry
 from .statics import CaseResult, solve_case
@@ -233,8 +234,16 @@ def _check(
     findings += _with_inventory(audit_topology(truss, snap=snap, near_miss=near), linework, settings.layers)
     stage("model")
 
+    names = part_names(truss, linework.texts, linework.document)
+    noise = 64 * float(np.finfo(float).eps) * (float(np.abs(truss.xy).max()) if truss.n_joints else 0.0)
+    repeats = find_repeats(truss, abs_tol=noise)
+    findings += repeat_findings(truss, repeats, names)
     stability: list[PartStability] = []
     for part in truss.parts:
+        rep = repeats.get(part.index)
+        if rep is not None:  # the original came first: its record, moved onto the copy
+            stability.append(copied_stability(stability[rep.of], rep))
+            continue
         st, fs = analyse_part(truss, part, dense_limit=settings.dense_limit)
         stability.append(st)
         findings += fs
@@ -245,7 +254,7 @@ def _check(
     cases: list[CaseResult] = []
     seen: set[tuple[str, str]] = set()
     for case in truss.cases if truss.n_members else ():
-        res, fs = solve_case(truss, stability, case, symmetry_axis=axis, symmetry_distance=sym_dist)
+        res, fs = solve_case(truss, stability, case, symmetry_axis=axis, symmetry_distance=sym_dist, repeats=repeats)
         cases.append(res)
         for f in fs:
             key = (f.code.value, repr(sorted(f.data.items())) + repr(f.joints) + repr(f.members))
@@ -270,5 +279,6 @@ def _check(
         loads=spec,
         timings=timings,
         selection=selection,
-        part_names=part_names(truss, linework.texts, linework.document),
+        part_names=names,
+        same_as={copy: rep.of for copy, rep in repeats.items()},
     )

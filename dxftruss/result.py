@@ -107,6 +107,12 @@ class Result:
     selection: Selection | None = None
     #: one name per part, the way the sheet names it (naming.py)
     part_names: tuple[str, ...] = ()
+    #: {part: the earlier part it repeats, shifted}: solved once, results copied (repeats.py)
+    same_as: dict[int, int] = field(default_factory=dict)
+
+    def part_name(self, index: int) -> str:
+        """The part's name (``P<n>`` when the result has no names)."""
+        return self.part_names[index] if self.part_names else f"P{index + 1}"
 
     @property
     def has_errors(self) -> bool:

@@ -74,7 +74,7 @@ forces in the force unit (newtons = forces x FORCE_UNITS[force_unit]); sections 
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from fnmatch import fnmatchcase
 from typing import Any
@@ -90,6 +90,7 @@ from .audit.zero_force import zero_force_by_rule
 from .equilibrium import PartSystem, part_system
 from .findings import Code, Finding
 from .model import INCLINED, PARALLEL_SIN, LoadCase, Truss, joint_id
+from .repeats import Repeat
 from .symmetry import loads_symmetric
 from .units import FORCE_UNITS, LENGTH_UNITS
 
@@ -435,6 +436,7 @@ def solve_case(
     moving_tol: float = 1e-6,
     angle_tol: float = 1e-9,
     refine_tol: float = 1e-6,
+    repeats: Mapping[int, Repeat] | None = None,
 ) -> tuple[CaseResult, list[Finding]]:
     """Solve one load case (or combination) on every part of ``truss``.
 
@@ -457,6 +459,9 @@ def solve_case(
     refine_tol     largest relative change of a solution in one step of iterative
                    refinement; above it the factorisation is not trusted (a singular
                    matrix that SuperLU factored without complaint, docs/methods.md, Library behaviour)
+    repeats        {part: Repeat} of parts that repeat an earlier part (repeats.py): their
+                   forces, reactions and displacements are the original's, copied through
+                   the joint and member correspondence; the original's findings stand for them
 
     Forces and reactions are in the force unit, tension positive; displacements in
     drawing units. Returns the result and the findings: load-excites-mechanism,
@@ -483,11 +488,24 @@ def solve_case(
     residual = 0.0
     zero_solution: list[np.ndarray] = []
     findings: list[Finding] = []
+    repeats = repeats or {}
+    restrained: dict[int, list[int]] = {}  # original part -> its restrained joints
 
     for part in truss.parts:
         stab = by_part.get(int(part.index))
         if stab is None:
             raise ValueError(f"no stability record for part {part.index}")
+        rep = repeats.get(int(part.index))
+        if rep is not None:
+            if rep.of in restrained:  # the original was solved: the copy's answer is its own
+                forces[part.members] = forces[rep.members]
+                disp[part.joints] = disp[rep.joints]
+                copy_of = rep.copy_of()
+                for j in restrained[rep.of]:
+                    reactions[copy_of[j]] = list(reactions[j])
+                solved.append(int(part.index))
+                zero_solution.append(part.members[forces[part.members] == 0.0])
+            continue
         ps = part_system(truss, part)
         f = f_all[ps.joints].ravel()
         f_norm = float(np.linalg.norm(f))
@@ -541,6 +559,7 @@ def solve_case(
             )
 
         solved.append(int(part.index))
+        restrained[int(part.index)] = sorted({int(j) for j in ps.restraints[:, 0].tolist()})
         residual = max(residual, sol.residual)
         # round-off below the zero tolerance is reported as exactly zero (forces and
         # reactions alike), so the reports never show "-9.8e-13 kN"

@@ -123,7 +123,8 @@ def report_dict(result: Result) -> dict[str, Any]:
         "parts": [
             {
                 "id": p.index + 1,
-                "name": result.part_names[p.index] if result.part_names else f"P{p.index + 1}",
+                "name": result.part_name(p.index),
+                "same_as": result.part_name(result.same_as[p.index]) if p.index in result.same_as else None,
                 "joints": [jid[j] for j in p.joints.tolist()],
                 "members": [mid[e] for e in p.members.tolist()],
                 "j": st.j,

@@ -72,7 +72,7 @@ def summary(result: Result, *, max_findings: int = 40, width: int = 110, color: 
             str(st.rank),
             str(st.mechanisms),
             str(st.self_stress),
-            _text(st.verdict.value.upper(), style=style),
+            _text(_verdict(result, p.index, st.verdict.value.upper()), style=style),
         )
     if t.parts:
         con.print(parts)
@@ -160,3 +160,9 @@ def summary(result: Result, *, max_findings: int = 40, width: int = 110, color: 
             con.print(_text(n))
     con.print(_text("caution: " + CAUTION, style="italic"))
     return buf.getvalue()
+
+
+def _verdict(result: Result, part: int, verdict: str) -> str:
+    """The verdict, with "same as T3" for a part that repeats an earlier one."""
+    original = result.same_as.get(part)
+    return verdict if original is None else f"{verdict} (same as {result.part_name(original)})"

@@ -81,7 +81,10 @@ def _panel_items(
             if st.mechanisms
             else (f", {st.self_stress} redundant" if st.self_stress else "")
         )
-        items.append(_Item("t", f"part {p.index + 1}: {st.verdict.value.upper()} (j={st.j}, m={st.m}, r={st.r}{more})"))
+        same = f", same as {r.part_name(r.same_as[p.index])}" if p.index in r.same_as else ""
+        items.append(
+            _Item("t", f"{r.part_name(p.index)}: {st.verdict.value.upper()} (j={st.j}, m={st.m}, r={st.r}{more}{same})")
+        )
     if not t.parts:
         items.append(_Item("t", "no parts: nothing usable as a member"))
     if r.symmetry_axis is not None:

@@ -247,26 +247,28 @@ def _tables_section(ctx: _Context, flow: _Flow, *, max_rows: int) -> None:
     # parts
     flow.heading(f"Parts ({len(t.parts)})", "t-parts")
     cols = [
-        Column("part", 36, "r"),
+        Column("part", 110),
         Column("joints", 46, "r"),
         Column("members", 50, "r"),
         Column("reactions", 52, "r"),
         Column("rank", 44, "r"),
         Column("mechanisms", 60, "r"),
         Column("self-stress", 60, "r"),
-        Column("verdict", 90),
+        Column("verdict", 130),
         Column("method", 80),
     ]
     prow = [
         [
-            str(p.index + 1),
+            r.part_name(p.index),
             str(st.j),
             str(st.m),
             str(st.r),
             str(st.rank),
             str(st.mechanisms),
             str(st.self_stress),
-            st.verdict.value,
+            st.verdict.value
+            if p.index not in r.same_as
+            else f"{st.verdict.value}, same as {r.part_name(r.same_as[p.index])}",
             st.method,
         ]
         for p, st in zip(t.parts[:max_rows], r.stability, strict=False)
