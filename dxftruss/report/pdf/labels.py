@@ -336,7 +336,12 @@ def place_member_labels(
         lw = float(line_widths[e]) if line_widths is not None else 1.0
         cands = member_label_candidates(tuple(a[e]), tuple(b[e]), text, w, height, owner=e, line_width=lw)
         mx, my = (float(v) for v in (a[e] + b[e]) / 2)
-        cands += around_candidates(mx, my, text, w, height, gap=2.0, prefer=(0.0, 1.0), kind="force", owner=e)
+        # then off the member, farther and farther out of a crowded band: the label then
+        # names its member (the page draws a leader line to the member's middle)
+        off = f"{shown(fallback[e])} {text}" if fallback is not None and shown(fallback[e]) else text
+        w_off = float(stringWidth(off, font, size)) + 2.0
+        for gap in (2.0, 8.0, 16.0, 28.0, 44.0):
+            cands += around_candidates(mx, my, off, w_off, height, gap=gap, prefer=(0.0, 1.0), kind="force", owner=e)
         if placer.place(cands, ignore=(e,), force=True) is not None:
             count += 1
         else:

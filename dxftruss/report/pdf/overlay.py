@@ -409,6 +409,7 @@ class _Overlay:
             line_widths=widths.tolist(), fallback=ids, limit=limit, must=must[:MAX_MUST],
         )  # fmt: skip
         placed = self.placer.placed[start:]
+        self._leaders([lab for lab in placed if lab.owner in set(must)])
         for lab in placed:
             st = states[lab.owner]
             if lab.kind == "id":
@@ -424,6 +425,25 @@ class _Overlay:
                 f"({n_id} shown by member number instead); the largest tension and compression "
                 f"and the members named by findings are always labelled; {where} has every force"
             )
+
+    def _leaders(self, labels: Sequence[Label]) -> None:
+        """A thin line from a member's middle to its label when the label stands off the
+        member (a governing member's label moved out of a crowded area); drawn before the
+        labels, whose white backing covers the line's end."""
+        c = self.c
+        for lab in labels:
+            a, b = self.a[lab.owner], self.b[lab.owner]
+            mx, my = (float(v) for v in (a + b) / 2)
+            d = b - a
+            t = float(np.clip(np.dot([lab.x, lab.y] - a, d) / max(float(np.dot(d, d)), 1e-12), 0.0, 1.0))
+            if math.hypot(*([lab.x, lab.y] - (a + t * d))) <= lab.height:
+                continue  # on its member
+            c.setStrokeGray(0.0)
+            c.setLineWidth(0.5)
+            c.setDash()
+            c.line(mx, my, lab.x, lab.y)
+            c.setFillGray(0.0)
+            c.circle(mx, my, 1.2, stroke=0, fill=1)
 
     def label_member_numbers(self, widths: np.ndarray, limit: int) -> None:
         """No forces on this page: number the members where the numbers fit."""
