@@ -186,6 +186,12 @@ def parts_for(size: str, panels: int) -> int:
     return max(1, round(SIZES[size] / per_part))
 
 
+def long_panels(size: str) -> int:
+    """Panels of one part reaching ``size`` members alone (even, so mid-span is a joint):
+    the "one long truss" drawings, e.g. 10k -> 2500 panels, 10 001 members, 7.5 km span."""
+    return max(2, 2 * round(SIZES[size] / 8))
+
+
 def _pt(x: float, y: float) -> Point:
     # sums of multiples of 3.0, 5.0 and 10.0 are exact in binary floating point; the
     # rounding only guards the printed form against a future change of PANEL
@@ -342,12 +348,18 @@ def main(argv: list[str] | None = None) -> int:
         help="comma-separated variants: poly, lines, split (default poly,lines)",
     )
     ap.add_argument("--panels", type=int, default=PANELS, help=f"panels per part, even (default {PANELS})")
+    ap.add_argument(
+        "--long",
+        action="store_true",
+        help="one long truss per size instead of a grid of parts (panels = members / 4, even)",
+    )
     ap.add_argument("--outdir", type=Path, default=DEFAULT_OUTDIR, help="output folder (default bench/generated)")
     ap.add_argument("--force", action="store_true", help="rewrite drawings even when current")
     args = ap.parse_args(argv)
     for size in args.sizes:
         for variant in args.variants:
-            d = generate(size, variant, outdir=args.outdir, panels=args.panels, force=args.force)
+            panels = long_panels(size) if args.long else args.panels
+            d = generate(size, variant, outdir=args.outdir, panels=panels, force=args.force)
             print(f"{d.dxf}  {d.members} members, {d.joints} joints, {d.parts} parts of {d.panels} panels")
     return 0
 

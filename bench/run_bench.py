@@ -70,6 +70,8 @@ RATIO_MAX = 2.0
 SCALING_MAX = 12.0
 MEMORY_MAX_MB = 1536.0  # 1.5 GB in MiB
 PDF_MAX_S = 30.0
+LONG_PDF_RATIO_MAX = 10.0  # check --pdf of one long 100k-member truss / bare read
+LONG_PDF_GROWTH_MAX = 2.2  # check --pdf time 100k / 50k of the long trusses
 #: relative tolerance of the closed-form force check
 FORCE_RTOL = 1e-6
 
@@ -381,6 +383,51 @@ def table(rows: list[Row], markdown: bool) -> str:
     return "\n".join([fmt.format(*head), fmt.format(*("-" * w for w in widths))] + [fmt.format(*b) for b in body])
 
 
+def measure_long_pdf(repeat: int, timeout: float, env: dict[str, str] | None = None) -> dict[str, dict]:
+    """``check --pdf`` of one long truss (chords as polylines, ``make_trusses.py --long``)
+    at 50k and 100k members beside the bare read of the same file, medians of ``repeat``."""
+    out: dict[str, dict] = {}
+    for size in ("50k", "100k"):
+        d = make_trusses.generate(size, "poly", panels=make_trusses.long_panels(size))
+        reads = [run_child([PY, "-c", BARE_READ, str(d.dxf)], timeout=timeout, env=env) for _ in range(repeat)]
+        pdfs = [measure_pdf(d, timeout, env) for _ in range(repeat)]
+        ok = all(p["ok"] for p in pdfs) and not any(c.status or c.timed_out for c in reads)
+        out[size] = {
+            "drawing": d.dxf.name,
+            "members": d.members,
+            "read": _median([c.wall for c in reads]),
+            "pdf": _median([p["wall"] for p in pdfs]),
+            "ok": ok,
+            "note": "; ".join(p["note"] for p in pdfs if p["note"]),
+        }
+        print(f"long {size}: bare read {out[size]['read']:.2f} s, check --pdf {out[size]['pdf']:.2f} s", flush=True)
+    return out
+
+
+def long_pdf_targets(long: dict[str, dict] | None) -> list[str]:
+    """The two targets of ``check --pdf`` on one long truss (bench/README.md)."""
+    if not long or "100k" not in long:
+        return [
+            f"not measured  long truss check --pdf at 100k <= {LONG_PDF_RATIO_MAX:g}x bare read (--long-pdf)",
+            f"not measured  long truss check --pdf time 100k/50k <= {LONG_PDF_GROWTH_MAX:g} (--long-pdf)",
+        ]
+    a, b = long["100k"], long.get("50k")
+    ratio = a["pdf"] / a["read"] if a["read"] else None
+    ok = a["ok"] and ratio is not None and ratio <= LONG_PDF_RATIO_MAX
+    out = [
+        f"{'held  ' if ok else 'MISSED'}  long truss check --pdf at 100k <= {LONG_PDF_RATIO_MAX:g}x bare read: "
+        f"{a['pdf']:.1f} s / {a['read']:.2f} s = {_f(ratio)}x" + (f" ({a['note']})" if a["note"] else "")
+    ]
+    if b and b["pdf"]:
+        growth = a["pdf"] / b["pdf"]
+        ok = a["ok"] and b["ok"] and growth <= LONG_PDF_GROWTH_MAX
+        out.append(
+            f"{'held  ' if ok else 'MISSED'}  long truss check --pdf time 100k/50k <= {LONG_PDF_GROWTH_MAX:g}: "
+            f"{a['pdf']:.1f} s / {b['pdf']:.1f} s = {growth:.2f}"
+        )
+    return out
+
+
 def targets(rows: list[Row], pdf: dict | None, pdf_note: str) -> list[str]:
     """One line per target: 'held', 'MISSED' or 'not measured', with the numbers."""
     by = {(r.size, r.variant): r for r in rows}
@@ -447,6 +494,11 @@ def main(argv: list[str] | None = None) -> int:
     ap.add_argument("--repeat", type=int, default=None, help="runs of every child process (default 3; --quick 1)")
     ap.add_argument("--quick", action="store_true", help="one repeat, sizes 1k,10k, no PDF")
     ap.add_argument("--no-pdf", action="store_true", help="skip the timed check --pdf of the 50k drawing")
+    ap.add_argument(
+        "--long-pdf",
+        action="store_true",
+        help="also time check --pdf of one long truss at 50k and 100k members (make_trusses.py --long)",
+    )
     ap.add_argument("--markdown", action="store_true", help="print the table as Markdown")
     ap.add_argument("--timeout", type=float, default=900.0, help="seconds before a child is killed (default 900)")
     ap.add_argument(
@@ -510,6 +562,7 @@ def main(argv: list[str] | None = None) -> int:
         print("50k poly: timing check --pdf once ...", end="", flush=True)
         pdf = measure_pdf(drawing, args.timeout, env)
         print(f" {pdf['wall']:.1f} s" + (f" ({pdf['note']})" if pdf["note"] else ""), flush=True)
+    long_pdf = measure_long_pdf(repeat, args.timeout, env) if args.long_pdf and pdf is not None else None
 
     print()
     print(
@@ -525,7 +578,7 @@ def main(argv: list[str] | None = None) -> int:
         f"load average at start {load0[0]:.2f}, at end {os.getloadavg()[0]:.2f} (2 cores: above ~1 the wall times "
         "include waiting for a CPU)"
     )
-    for line in targets(rows, pdf, pdf_note):
+    for line in targets(rows, pdf, pdf_note) + long_pdf_targets(long_pdf):
         print(line)
     for r in rows:
         for n in r.notes:
@@ -543,6 +596,7 @@ def main(argv: list[str] | None = None) -> int:
             "rows": rows_out,
             "pdf": pdf,
             "pdf_note": pdf_note,
+            "long_pdf": long_pdf,
         }
         args.save.write_text(json.dumps(raw, indent=1) + "\n")
     return 0

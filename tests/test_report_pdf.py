@@ -39,7 +39,7 @@ from dxftruss.read import LineWork
 from dxftruss.report import CAUTION
 from dxftruss.report.pdf import write_pdf
 from dxftruss.report.pdf.format import fmt_force, register_fonts
-from dxftruss.report.pdf.labels import LabelPlacer, place_member_labels
+from dxftruss.report.pdf.labels import Label, LabelPlacer, place_member_labels
 from dxftruss.report.pdf.sheet import choose_sheet
 from dxftruss.report.pdf.symbols import COMPRESSION, TENSION
 from dxftruss.statics import CaseResult
@@ -586,3 +586,97 @@ def test_round_off_reactions_are_shown_as_zero(king_post: tuple[Result, Path]) -
     assert clean_reactions(result, noisy) == [(0, 0.0, 5.0), (3, 0.0, 5.0)]
     real = replace(snow, reactions=((0, -1e-6, P_SNOW / 2),))  # 1e-7 of the load: kept
     assert clean_reactions(result, real)[0][1] == -1e-6
+
+
+# ---- large trusses: bounded work, bounded pages, thinning said on the page ------------
+
+
+def _long_pratt(tmp_path: Path, panels: int) -> tuple[Path, Path]:
+    """One long Pratt truss of our own (panel 3 m, depth 5 m; chords as polylines, webs as
+    lines), pin at the left bottom joint, roller at the right, 12 kN at each interior
+    bottom panel point: 4 * panels + 1 members, statically determinate."""
+    doc = ezdxf.new("R2018", setup=False, units=6)
+    msp = doc.modelspace()
+    bottom = [(3.0 * i, 0.0) for i in range(panels + 1)]
+    top = [(3.0 * i, 5.0) for i in range(panels + 1)]
+    msp.add_lwpolyline(bottom, format="xy", dxfattribs={"layer": "CHORD-BOTTOM"})
+    msp.add_lwpolyline(top, format="xy", dxfattribs={"layer": "CHORD-TOP"})
+    half = panels // 2
+    for i in range(panels + 1):
+        msp.add_line(bottom[i], top[i], dxfattribs={"layer": "WEB"})
+    for i in range(panels):  # diagonals falling towards mid-span
+        a, b = (top[i], bottom[i + 1]) if i < half else (bottom[i], top[i + 1])
+        msp.add_line(a, b, dxfattribs={"layer": "WEB"})
+    dxf = tmp_path / "long.dxf"
+    doc.saveas(dxf)
+    lines = ['[units]\nforce = "kN"\nlength = "m"\n']
+    lines.append('[[support]]\nat = [0.0, 0.0]\nfix = "xy"\n')
+    lines.append(f'[[support]]\nat = [{3.0 * panels!r}, 0.0]\nfix = "y"\n')
+    for i in range(1, panels):
+        lines.append(f'[[load]]\nat = [{3.0 * i!r}, 0.0]\nfy = -12.0\ncase = "deck"\n')
+    toml = tmp_path / "long.toml"
+    toml.write_text("\n".join(lines), encoding="utf-8")
+    return dxf, toml
+
+
+def test_large_truss_pdf_is_a_bounded_summary(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    from dxftruss.pipeline import check
+    from dxftruss.report.pdf import overlay
+
+    dxf, toml = _long_pratt(tmp_path, 1250)  # 5001 members
+    r = check(dxf, Settings(loads=toml))
+    assert r.truss.n_members == 5001 and len(r.cases) == 1
+    drawn: list[tuple[int, str]] = []
+    real = overlay._draw_label
+
+    def record(pg, lab, *a, **k):  # type: ignore[no-untyped-def]
+        drawn.append((lab.owner, lab.kind))
+        return real(pg, lab, *a, **k)
+
+    monkeypatch.setattr(overlay, "_draw_label", record)
+    out = tmp_path / "long.pdf"
+    write_pdf(r, out)
+    pages = _pages_text(out)
+    # one drawing page, a mechanism-free model, the findings and a summary: a handful of
+    # pages, not the ~100 pages of a 5001-row member table
+    assert len(pages) <= 8
+    text = _norm(" ".join(pages))
+    assert "force values left out at this scale" in text
+    assert "the JSON report has every force" in text
+    assert "Members: summary" in text and "the JSON report has every member" in text
+    assert "load values left out" in text
+    forces = np.asarray(r.cases[0].forces, dtype=float)
+    labelled = {e for e, kind in drawn if kind == "force"}
+    governing = {int(np.nanargmax(forces)), int(np.nanargmin(forces))}
+    assert governing <= labelled
+    named = {e for f in r.findings for e in f.members}
+    assert named, "the long truss has findings naming members (zero-force members)"
+    assert named <= labelled
+    # thinned: far fewer labels than members
+    assert len(labelled) < r.truss.n_members // 10
+
+
+def test_label_placer_work_per_label_is_bounded() -> None:
+    """Labels forced onto one spot over a dense bundle of lines (a long truss at a small
+    scale): with the cell cap every fits() makes a bounded number of overlap tests; the
+    same placer without a cap tests each new label against all earlier ones."""
+    rng = np.random.default_rng(7)
+    x = rng.uniform(100, 140, 3000)
+    segs = np.column_stack([x, np.full(3000, 100.0), x + 3.0, np.full(3000, 108.0)])
+
+    def run(cap: int) -> tuple[int, int]:
+        placer = LabelPlacer((0.0, 0.0, 400.0, 300.0), segs, cell=12.0, cap=cap)
+        calls = 0
+        for k in range(600):
+            cx = 120.0 + (k % 7)
+            cands = [Label(f"L{k}", cx + dx, 104.0, 0.0, 20.0, 6.0) for dx in (-2.0, 0.0, 2.0)]
+            calls += len(cands)
+            placer.place(cands, force=True)
+        return placer.tests, calls
+
+    tests, calls = run(24)
+    # a 20 x 6 pt box grown by 0.6 touches at most 3 x 2 cells of 12 pt (4 x 3 with its
+    # ring for the lines): at most 6 x 24 area tests and 20 x 24 line tests per fits()
+    assert tests <= calls * (6 + 20) * 24
+    uncapped, _ = run(10**9)
+    assert uncapped > 20 * tests  # the bound is what keeps this linear

@@ -19,6 +19,15 @@ import numpy as np
 from ..render import Recording
 from .format import Fonts
 
+#: the PDF lists every member (and joint, load, part) when the truss has at most this
+#: many members; a larger truss gets a summary (extremes, governing members, the members
+#: named by findings) and the JSON report has the full tables
+FULL_TABLE_MEMBERS = 300
+#: most table rows of any other listing in the summary form (parts, reactions)
+SUMMARY_ROWS = 300
+#: most members labelled whatever the room (governing members and those named by findings)
+MAX_MUST = 200
+
 
 @dataclass
 class _Context:

@@ -8,6 +8,10 @@ Glossary:
     placer      ``LabelPlacer``: a spatial hash of the member lines and of the areas
                 already taken (symbols, markers, placed labels); a box fits when it lies
                 inside the drawing area and overlaps none of them but its own member.
+    full cell   a grid cell holding more than ``cap`` lines or areas. It is crowded at
+                the printed scale, so no box touching it fits and nothing more is listed
+                in it; this bounds the overlap tests of one box to (cells it touches) x
+                ``cap``, whatever the number of members or labels (no quadratic step).
 """
 
 from __future__ import annotations
@@ -87,6 +91,9 @@ class LabelPlacer:
     segments  (n, 4) page coordinates x1, y1, x2, y2 of the member lines
     cell      grid cell size of the spatial hash, points
     pad       clearance kept around each box, points
+    cap       most lines or areas listed in one cell; a cell with more is full (a box
+              touching it does not fit), so one ``fits`` makes at most (cells) x ``cap``
+              overlap tests (``tests`` counts them)
     """
 
     def __init__(
@@ -96,10 +103,16 @@ class LabelPlacer:
         *,
         cell: float = 24.0,
         pad: float = 0.6,
+        cap: int = 24,
     ) -> None:
         self.area = area
         self.cell = float(cell)
         self.pad = float(pad)
+        self.cap = int(cap)
+        #: overlap tests made so far (the work of the placer, for tests and the benchmark)
+        self.tests = 0
+        self._qfull: set[tuple[int, int]] = set()  # full of areas
+        self._sfull: set[tuple[int, int]] = set()  # full of member lines
         self.placed: list[Label] = []
         self._quads: list[tuple[tuple[float, float], ...]] = []
         self._qgrid: dict[tuple[int, int], list[int]] = defaultdict(list)
@@ -121,8 +134,12 @@ class LabelPlacer:
         pts = a[idx] + (b - a)[idx] * t[:, None]
         keys = np.floor(pts / self.cell).astype(np.int64)
         trip = np.unique(np.column_stack([keys, idx]), axis=0)
+        cells, counts = np.unique(trip[:, :2], axis=0, return_counts=True)
+        self._sfull.update(map(tuple, cells[counts > self.cap].tolist()))
         for kx, ky, i in trip.tolist():
-            self._sgrid[(kx, ky)].append(i)
+            key = (kx, ky)
+            if key not in self._sfull:
+                self._sgrid[key].append(i)
 
     def _cells(self, quad: Sequence[tuple[float, float]], grow: int = 0) -> Iterable[tuple[int, int]]:
         xs = [p[0] for p in quad]
@@ -140,7 +157,14 @@ class LabelPlacer:
         i = len(self._quads)
         self._quads.append(q)
         for key in self._cells(q):
-            self._qgrid[key].append(i)
+            if key in self._qfull:
+                continue
+            items = self._qgrid[key]
+            if len(items) >= self.cap:
+                self._qfull.add(key)
+                del self._qgrid[key]
+            else:
+                items.append(i)
 
     def fits(self, label: Label, *, ignore: Iterable[int] = ()) -> bool:
         q = label.quad(self.pad)
@@ -148,21 +172,28 @@ class LabelPlacer:
         for x, y in q:
             if not (ax <= x <= ax + aw and ay <= y <= ay + ah):
                 return False
+        cells = list(self._cells(q))
+        if self._qfull and any(key in self._qfull for key in cells):
+            return False
         seen: set[int] = set()
-        for key in self._cells(q):
+        for key in cells:
             for i in self._qgrid.get(key, ()):
                 if i not in seen:
                     seen.add(i)
+                    self.tests += 1
                     if convex_overlap(q, self._quads[i]):
                         return False
         if len(self._seg):
             skip = set(ignore)
             checked: set[int] = set()
             for key in self._cells(q, grow=1):
+                if key in self._sfull:  # crowded with lines: conservatively no room
+                    return False
                 for i in self._sgrid.get(key, ()):
                     if i in skip or i in checked:
                         continue
                     checked.add(i)
+                    self.tests += 1
                     s = self._seg[i]
                     if convex_overlap(q, ((s[0], s[1]), (s[2], s[3]))):
                         return False
@@ -280,10 +311,15 @@ def place_member_labels(
     line_widths: Sequence[float] | None = None,
     fallback: Sequence[str] | None = None,
     limit: int | None = None,
+    must: Iterable[int] = (),
 ) -> list[int]:
     """Label members in ``order`` (most important first); a member whose text does not fit
-    gets its ``fallback`` text (e.g. its id) when that fits. Returns the members left
-    without any label. ``a``, ``b`` are (m, 2) page coordinates."""
+    gets its ``fallback`` text (e.g. its id) when that fits. The members in ``must`` (the
+    governing members, those named by findings) are labelled first and always: when no
+    free position is left, at the first position inside the drawing area (beside the
+    member's middle when the member is too short on the page for its text), even
+    over other things. Returns the members left without any label. ``a``, ``b`` are
+    (m, 2) page coordinates."""
     from reportlab.pdfbase.pdfmetrics import stringWidth
 
     m = len(texts)
@@ -293,7 +329,27 @@ def place_member_labels(
     min_char = 0.45 * size  # no glyph of a number is narrower than this
     left: list[int] = []
     count = 0
+    forced = [e for e in dict.fromkeys(must) if 0 <= e < m and shown(texts[e])]
+    for e in forced:
+        text = shown(texts[e])
+        w = float(stringWidth(text, font, size)) + 2.0
+        lw = float(line_widths[e]) if line_widths is not None else 1.0
+        cands = member_label_candidates(tuple(a[e]), tuple(b[e]), text, w, height, owner=e, line_width=lw)
+        mx, my = (float(v) for v in (a[e] + b[e]) / 2)
+        # then off the member, farther and farther out of a crowded band: the label then
+        # names its member (the page draws a leader line to the member's middle)
+        off = f"{shown(fallback[e])} {text}" if fallback is not None and shown(fallback[e]) else text
+        w_off = float(stringWidth(off, font, size)) + 2.0
+        for gap in (2.0, 8.0, 16.0, 28.0, 44.0):
+            cands += around_candidates(mx, my, off, w_off, height, gap=gap, prefer=(0.0, 1.0), kind="force", owner=e)
+        if placer.place(cands, ignore=(e,), force=True) is not None:
+            count += 1
+        else:
+            left.append(e)
+    done_must = set(forced)
     for e in order:
+        if e in done_must:
+            continue
         if limit is not None and count >= limit:
             left.append(e)
             continue

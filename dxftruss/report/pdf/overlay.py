@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import math
 from collections import defaultdict
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from typing import Any
 
@@ -23,7 +23,7 @@ import numpy as np
 
 from ...model import Fix, joint_id, member_id
 from ..render import PageMap, draw_recording, stroke_segments
-from .context import _case_loads, _Context, _findings_for, _member_states
+from .context import FULL_TABLE_MEMBERS, MAX_MUST, _case_loads, _Context, _findings_for, _member_states
 from .format import _Page, _width, _wrap, clean_reactions, fmt_force, shown
 from .labels import Label, LabelPlacer, _draw_label, _thin_quad, around_candidates, place_member_labels
 from .panel import _flow_panel, _Item, _legend_items, _legend_line, _panel_items
@@ -371,27 +371,45 @@ class _Overlay:
             (self.load_labels, f.bold, LOAD_RGB, "load"),
             (self.reaction_labels, f.regular, REACTION_RGB, "reaction"),
         ):
+            left = 0
             for x, y, px, py, text in labels:
                 w = _width(text, font, size) + 2
                 cands = around_candidates(x, y, text, w, size * 1.2, prefer=(px, py), kind=kind)
-                lab = self.placer.place(cands, force=True)
+                # reactions are few and always labelled; load values are thinned when
+                # they do not fit (the arrows stay, the loads table and JSON have them)
+                lab = self.placer.place(cands, force=kind == "reaction")
                 if lab is not None:
                     _draw_label(self.pg, lab, font, size, rgb)
+                else:
+                    left += 1
+            if left:
+                self.notes.append(
+                    f"{left} of {len(labels)} load values left out (no room at this scale); "
+                    "the JSON report has every load"
+                )
 
-    def label_forces(self, forces: np.ndarray, states: np.ndarray, widths: np.ndarray, limit: int) -> None:
-        """Force values along their members, largest |force| first; a member whose value
-        does not fit gets its number (the member table has the value)."""
+    def label_forces(
+        self, forces: np.ndarray, states: np.ndarray, widths: np.ndarray, limit: int, named: Sequence[int] = ()
+    ) -> None:
+        """Force values along their members: the governing members (largest tension and
+        compression) and the members ``named`` by findings always, then the rest largest
+        |force| first while they fit; a member whose value does not fit gets its number.
+        The rest are thinned, and the page says how many were left out."""
         t, f, size = self.t, self.fonts, self.lab_size
         texts = ["" if states[e] == 2 else ("0" if states[e] == 0 else fmt_force(v)) for e, v in enumerate(forces)]
         solved = np.nonzero(states != 2)[0].tolist()
         order = sorted(solved, key=lambda e: (-abs(float(forces[e])), e))
         ids = [member_id(e) for e in range(t.n_members)]
+        fs = np.where(states != 2, np.nan_to_num(forces), 0.0)
+        must = [int(np.argmax(fs)), int(np.argmin(fs))] if len(fs) else []
+        must = [e for e in must if fs[e] != 0] + [e for e in named if 0 <= e < t.n_members and states[e] != 2]
         start = len(self.placer.placed)
         left = place_member_labels(
             self.placer, self.a, self.b, texts, font=f.regular, size=size, order=order,
-            line_widths=widths.tolist(), fallback=ids, limit=limit,
+            line_widths=widths.tolist(), fallback=ids, limit=limit, must=must[:MAX_MUST],
         )  # fmt: skip
         placed = self.placer.placed[start:]
+        self._leaders([lab for lab in placed if lab.owner in set(must)])
         for lab in placed:
             st = states[lab.owner]
             if lab.kind == "id":
@@ -401,10 +419,31 @@ class _Overlay:
                 _draw_label(self.pg, lab, f.bold if st != 0 else f.regular, size, rgb)
         n_id = sum(1 for lab in placed if lab.kind == "id")
         if n_id or left:
+            where = "the member table" if t.n_members <= FULL_TABLE_MEMBERS else "the JSON report"
             self.notes.append(
-                f"{n_id + len(left)} of {len(solved)} force values did not fit on the drawing: "
-                f"{n_id} shown by member number, all in the member table"
+                f"{n_id + len(left)} of {len(solved)} force values left out at this scale "
+                f"({n_id} shown by member number instead); the largest tension and compression "
+                f"and the members named by findings are always labelled; {where} has every force"
             )
+
+    def _leaders(self, labels: Sequence[Label]) -> None:
+        """A thin line from a member's middle to its label when the label stands off the
+        member (a governing member's label moved out of a crowded area); drawn before the
+        labels, whose white backing covers the line's end."""
+        c = self.c
+        for lab in labels:
+            a, b = self.a[lab.owner], self.b[lab.owner]
+            mx, my = (float(v) for v in (a + b) / 2)
+            d = b - a
+            t = float(np.clip(np.dot([lab.x, lab.y] - a, d) / max(float(np.dot(d, d)), 1e-12), 0.0, 1.0))
+            if math.hypot(*([lab.x, lab.y] - (a + t * d))) <= lab.height:
+                continue  # on its member
+            c.setStrokeGray(0.0)
+            c.setLineWidth(0.5)
+            c.setDash()
+            c.line(mx, my, lab.x, lab.y)
+            c.setFillGray(0.0)
+            c.circle(mx, my, 1.2, stroke=0, fill=1)
 
     def label_member_numbers(self, widths: np.ndarray, limit: int) -> None:
         """No forces on this page: number the members where the numbers fit."""
@@ -528,7 +567,8 @@ def _draw_drawing_page(
     ov.place_markers(findings_here, max_markers)
     ov.label_loads_and_reactions()
     if states is not None:
-        ov.label_forces(forces, states, widths, max_labels)
+        named = [e for _, f in findings_here for e in f.members]
+        ov.label_forces(forces, states, widths, max_labels, named)
     else:
         ov.label_member_numbers(widths, max_labels)
     ov.label_joints()

@@ -20,7 +20,7 @@ import numpy as np
 from ...findings import Severity
 from ...model import joint_id, member_id
 from .. import assumptions
-from .context import _case_loads, _Context, _member_states
+from .context import FULL_TABLE_MEMBERS, MAX_MUST, SUMMARY_ROWS, _case_loads, _Context, _member_states
 from .format import _clip, _Page, _wrap, clean_reactions, fmt_num, shown
 from .sheet import FOOTER_H, MARGIN, _footer
 
@@ -237,12 +237,40 @@ def _findings_section(ctx: _Context, flow: _Flow, *, max_findings: int) -> None:
         flow.para("\u2022 " + a, indent=6)
 
 
+def _summary_members(r: Any, *, per_case: int = 10) -> list[int]:
+    """The members a summary lists: per case the ``per_case`` largest tensions and
+    compressions, then the members named by findings (at most ``MAX_MUST``), by number."""
+    t = r.truss
+    keep: set[int] = set()
+    for cs in r.cases:
+        f = np.asarray(cs.forces, dtype=float)
+        ok = np.nonzero(np.isfinite(f))[0]
+        if not ok.size:
+            continue
+        srt = ok[np.argsort(f[ok], kind="stable")]
+        keep.update(int(e) for e in srt[:per_case] if f[e] < 0)
+        keep.update(int(e) for e in srt[::-1][:per_case] if f[e] > 0)
+    named = list(dict.fromkeys(e for fd in r.findings for e in fd.members if 0 <= e < t.n_members))
+    keep.update(named[:MAX_MUST])
+    return sorted(keep)
+
+
 def _tables_section(ctx: _Context, flow: _Flow, *, max_rows: int) -> None:
     r = ctx.result
     t = r.truss
     unit = r.source.length_unit
     fu = t.force_unit
     flow.start_section("Tables", "tables")
+    full = t.n_members <= FULL_TABLE_MEMBERS
+    if not full:
+        max_rows = min(max_rows, SUMMARY_ROWS)
+        flow.para(
+            f"The truss has {t.n_members} members, more than the {FULL_TABLE_MEMBERS} this report lists in "
+            "full: the tables below are a summary (the largest tensions and compressions of each case, the "
+            "members named by findings, the first parts, loads and reactions). The JSON report has the full "
+            "member, joint, load and reaction tables.",
+            bold=True,
+        )
 
     # parts
     flow.heading(f"Parts ({len(t.parts)})", "t-parts")
@@ -274,6 +302,8 @@ def _tables_section(ctx: _Context, flow: _Flow, *, max_rows: int) -> None:
         for p, st in zip(t.parts[:max_rows], r.stability, strict=False)
     ]
     flow.table(cols, prow)
+    if len(t.parts) > max_rows:
+        flow.para(f"The first {max_rows} of {len(t.parts)} parts are listed; the JSON report has them all.", bold=True)
 
     # joints
     flow.heading(f"Joints ({t.n_joints}; coordinates in {unit})", "t-joints")
@@ -302,8 +332,11 @@ def _tables_section(ctx: _Context, flow: _Flow, *, max_rows: int) -> None:
         ]
         for j in range(n)
     )
-    flow.table(cols, jrows)
-    if t.n_joints > max_rows:
+    if full:
+        flow.table(cols, jrows)
+    else:
+        flow.para(f"{t.n_joints} joints: the JSON report lists them all.", bold=True)
+    if full and t.n_joints > max_rows:
         flow.para(f"The first {max_rows} of {t.n_joints} joints are listed; the JSON report has them all.", bold=True)
 
     # members, case columns in groups that fit the page width
@@ -319,10 +352,11 @@ def _tables_section(ctx: _Context, flow: _Flow, *, max_rows: int) -> None:
     fit = max(1, int((flow.w - sum(col.width for col in fixed)) // per_case))
     cases = list(r.cases)
     groups = [cases[i : i + fit] for i in range(0, len(cases), fit)] or [[]]
-    n = min(t.n_members, max_rows)
+    listed = list(range(min(t.n_members, max_rows))) if full else _summary_members(r)
     for gi, group in enumerate(groups):
         names = ", ".join(f"'{cs.name}'" for cs in group)
-        title = f"Members ({t.n_members})" + (f" - forces in {fu}, case(s) {names}" if group else "")
+        what = f"Members ({t.n_members})" if full else f"Members: summary, {len(listed)} of {t.n_members}"
+        title = what + (f" - forces in {fu}, case(s) {names}" if group else "")
         flow.heading(title, f"t-members-{gi}")
         if gi == 0:
             flow.para(
@@ -338,7 +372,7 @@ def _tables_section(ctx: _Context, flow: _Flow, *, max_rows: int) -> None:
         states = [(_member_states(r, cs), np.asarray(cs.forces, dtype=float), set(cs.zero_by_rule)) for cs in group]
 
         def mrows(states: Any = states) -> Iterable[list[str]]:
-            for e in range(n):
+            for e in listed:
                 a, b = t.ends[e]
                 row = [member_id(e), joint_id(int(a)), joint_id(int(b)), t.layers[e], fmt_num(lengths[e], sig=7)]
                 for st, f, rule in states:
@@ -353,8 +387,14 @@ def _tables_section(ctx: _Context, flow: _Flow, *, max_rows: int) -> None:
                 yield row
 
         flow.table(cols, mrows())
-    if t.n_members > max_rows:
+    if full and t.n_members > max_rows:
         flow.para(f"The first {max_rows} of {t.n_members} members are listed; the JSON report has them all.", bold=True)
+    elif not full:
+        flow.para(
+            f"{len(listed)} of {t.n_members} members listed (per case the 10 largest tensions and compressions, "
+            "and the members named by findings); the JSON report has every member.",
+            bold=True,
+        )
 
     # loads
     flow.heading(f"Loads ({fu}; +x right, +y up)", "t-loads")
@@ -366,12 +406,15 @@ def _tables_section(ctx: _Context, flow: _Flow, *, max_rows: int) -> None:
         Column("from", 80),
     ]
     lrows: list[list[str]] = []
+    n_loads = sum(len(lc.loads) for lc in t.cases)
     for lc in t.cases:
         for ld in lc.loads:
             if len(lrows) >= max_rows:
                 break
             lrows.append([lc.name, joint_id(ld.joint), fmt_num(ld.fx, sig=6), fmt_num(ld.fy, sig=6), ld.source.value])
     flow.table(cols, lrows)
+    if n_loads > len(lrows):
+        flow.para(f"The first {len(lrows)} of {n_loads} loads are listed; the JSON report has them all.", bold=True)
 
     # reactions
     flow.heading(f"Reactions ({fu}; acting on the structure, +x right, +y up)", "t-reactions")
