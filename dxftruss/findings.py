@@ -59,6 +59,8 @@ class Code(str, Enum):
     HIDDEN_LAYER_READ = "hidden-layer-read"
     PAPER_SPACE_READ = "paper-space-read"
     PAPER_SPACE_LINE_WORK = "paper-space-line-work"
+    CENTRE_LINES_FROM_OUTLINES = "centre-lines-from-outlines"
+    AMBIGUOUS_OUTLINE = "ambiguous-outline"
 
     @property
     def severity(self) -> Severity:
@@ -102,6 +104,8 @@ _SEVERITY: dict[Code, Severity] = {
     Code.HIDDEN_LAYER_READ: _W,  # a hidden layer read because --layers names it
     Code.PAPER_SPACE_READ: _W,  # model space held no member line work: a paper-space layout was read
     Code.PAPER_SPACE_LINE_WORK: _I,  # model space read; paper-space layouts hold line work too
+    Code.CENTRE_LINES_FROM_OUTLINES: _W,  # members drawn as outline pairs only: centre lines derived
+    Code.AMBIGUOUS_OUTLINE: _E,  # parallel lines that are not one member's two outlines: not derived
 }
 
 

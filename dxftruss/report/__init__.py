@@ -21,7 +21,13 @@ CAUTION = (
 )
 
 #: finding codes that state an assumption the tool made
-ASSUMPTION_CODES = (Code.ASSUMED_UNITS, Code.ASSUMED_SUPPORTS, Code.ASSUMED_LOADS, Code.ASSUMED_STIFFNESS)
+ASSUMPTION_CODES = (
+    Code.ASSUMED_UNITS,
+    Code.ASSUMED_SUPPORTS,
+    Code.ASSUMED_LOADS,
+    Code.ASSUMED_STIFFNESS,
+    Code.CENTRE_LINES_FROM_OUTLINES,
+)
 
 
 def assumptions(result: Result) -> list[str]:
