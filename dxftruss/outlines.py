@@ -240,12 +240,13 @@ def derive(
 
 
 def reselect(
-    seg: np.ndarray, handles: tuple[str, ...], layers: tuple[str, ...], snap: float
+    seg: np.ndarray, handles: tuple[str, ...], layers: tuple[str, ...], snap: float, n_derived: int
 ) -> tuple[np.ndarray, tuple[str, ...], tuple[str, ...], Selection]:
     """The structure selection again, on the derived centre lines: outline line work
     has no triangles, so the first selection took everything (a border's double frame
     or a title block's cells pair up too); the centre lines of a truss do triangulate."""
     sel = select_structure(seg, layers, snap=snap)
+    sel = replace(sel, derived=int(sel.keep[:n_derived].sum()))
     if sel.fallback or not sel.n_set_aside:
         return seg, handles, layers, sel
     keep = sel.keep.tolist()

@@ -14,6 +14,7 @@ from __future__ import annotations
 import hashlib
 import os
 from collections.abc import Callable
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -75,8 +76,6 @@ def default_snap(segments: np.ndarray, fraction: float) -> float:
 def _with_inventory(findings: list[Finding], linework: LineWork, globs: tuple[str, ...]) -> list[Finding]:
     """``no-members`` with the layer inventory in brief (each layer's line count and use)
     and what to do: name the truss layers with --layers, list them with ``dxftruss layers``."""
-    from dataclasses import replace
-
     from .inventory import brief, layer_inventory
 
     out = []
@@ -195,7 +194,10 @@ def _check(
             seg_handles,
             seg_layers,
             opt_snap if opt_snap is not None else default_snap(seg, settings.snap_fraction),
+            len(derived.pairs),
         )
+    elif derived.used:
+        selection = replace(selection, derived=len(derived.pairs))
     findings += drafting.findings(selection)
     findings += outlines.findings(derived, unit)
     if len(seg):

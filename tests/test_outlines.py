@@ -18,6 +18,7 @@ import shapely
 from dxftruss import check
 from dxftruss.audit.stability import Verdict
 from dxftruss.findings import Code
+from dxftruss.report import layers_sentence
 from tests import sheets
 from tests.sheets import Known
 
@@ -84,13 +85,17 @@ def _outline_lines(known: Known) -> list[tuple[tuple[float, float], tuple[float,
 
 def _drawing(known: Known, path: Path, extra: list | None = None) -> Path:
     """The outline drawing: outlines on TIMBER, supports and loads as tests/sheets.py draws them."""
+    return _drawing_lines(known, path, _outline_lines(known) + (extra or []))
+
+
+def _drawing_lines(known: Known, path: Path, lines: list) -> Path:
     doc = sheets.new_doc()
     msp = doc.modelspace()
     sheets.draw_truss(msp, known, layer="CENTRE")
     for e in list(msp.query('LINE[layer=="CENTRE"]')):
         msp.delete_entity(e)
     doc.layers.add("TIMBER")
-    for a, b in _outline_lines(known) + (extra or []):
+    for a, b in lines:
         msp.add_line(a, b, dxfattribs={"layer": "TIMBER"})
     doc.saveas(path)
     return path
@@ -206,3 +211,24 @@ def test_outline_truss_on_a_sheet_with_a_double_border(tmp_path: Path) -> None:
     got = np.array([case.forces[m] for m in members])
     assert np.abs(got - ref).max() <= FORCE_TOL * np.abs(ref).max()
     assert r.selection is not None and r.selection.n_set_aside == 4  # the border's four derived sides
+
+
+def test_chord_side_drawn_in_pieces(tmp_path: Path) -> None:
+    """The bottom chord's upper line drawn as pieces between the web ends (one side of
+    collinear pieces) still pairs with its lower line: same joints and forces."""
+    known = studio_truss()
+    lines = _outline_lines(known)
+    top = BOTTOM / 2
+    k = next(i for i, (a, b) in enumerate(lines) if abs(a[1] - top) < 1e-6 and abs(b[1] - top) < 1e-6)
+    (x0, _), (x1, _) = lines.pop(k)
+    cuts = [x0, 1500.0, 1900.0, 3300.0, 3900.0, 5300.0, 5700.0, x1]
+    pieces = [((cuts[i], top), (cuts[i + 1], top)) for i in range(0, len(cuts) - 1, 2)]
+    doc_path = tmp_path / "pieces.dxf"
+    r = check(_drawing_lines(known, doc_path, lines + pieces))
+    members = _match(r, known)
+    (case,) = r.cases
+    ref = known.forces  # tests/sheets.py method-of-joints solve of the centre-line truss
+    got = np.array([case.forces[m] for m in members])
+    assert np.abs(got - ref).max() <= FORCE_TOL * np.abs(ref).max()
+    assert Code.AMBIGUOUS_OUTLINE not in {f.code for f in r.findings}
+    assert r.selection is not None and "derived" in layers_sentence(r.selection)

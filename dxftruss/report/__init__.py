@@ -51,6 +51,8 @@ def layers_sentence(sel: Selection) -> str:
     from ..escape import shown
 
     used = ", ".join(f"{shown(name)} ({n} lines)" for name, n in sorted(sel.used.items())) or "none"
+    if sel.derived:
+        used += f" (centre lines: {sel.derived} derived from pairs of outline lines)"
     if sel.rule == "option":
         return f"members from the layers named with --layers: {used}"
     if sel.fallback:
