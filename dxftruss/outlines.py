@@ -42,6 +42,8 @@ SIDE_TOL = 0.1
 MIN_SHARE = 0.5
 #: and at least this many pairs are found
 MIN_PAIRS = 3
+#: lines within reach of a line's midpoint, on average, beyond which nothing is derived
+MAX_PAIRS_PER_LINE = 64
 #: a work point lies within this many member widths (over the sine of the angle) of an end
 REACH_WIDTHS = 2.0
 #: centre lines closer to parallel than this sine do not make a work point
@@ -78,8 +80,9 @@ def _unit(seg: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     return a, u, ln
 
 
-def _candidates(seg: np.ndarray, reach: float) -> dict[int, set[int]]:
-    """Parallel, overlapping lines within ``reach`` of each other (a symmetric graph)."""
+def _candidates(seg: np.ndarray, reach: float) -> dict[int, set[int]] | None:
+    """Parallel, overlapping lines within ``reach`` of each other (a symmetric graph);
+    None when there are too many close lines to look at."""
     import shapely
 
     a, u, ln = _unit(seg)
@@ -88,7 +91,21 @@ def _candidates(seg: np.ndarray, reach: float) -> dict[int, set[int]]:
     if len(ok) < 2:
         return nb
     tree = shapely.STRtree(shapely.linestrings(seg[ok].reshape(-1, 2, 2)))
-    qi, qj = tree.query(shapely.linestrings(seg[ok].reshape(-1, 2, 2)), predicate="dwithin", distance=reach)
+    # each line's midpoint against the lines (as drafting's outline rule queries): the
+    # midpoint of the shorter of two overlapping sides is within 2 x reach of the other
+    mid = (seg[ok, :2] + seg[ok, 2:]) / 2
+    # in chunks with a budget: a pile of lines drawn over each other (thousands within
+    # reach of each other) has quadratically many close pairs and is no outline drawing
+    budget = MAX_PAIRS_PER_LINE * len(ok) + 10_000
+    found_i, found_j, total = [], [], 0
+    for start in range(0, len(ok), 1024):
+        ci, cj = tree.query(shapely.points(mid[start : start + 1024]), predicate="dwithin", distance=2 * reach)
+        total += len(ci)
+        if total > budget:
+            return None
+        found_i.append(ci + start)
+        found_j.append(cj)
+    qi, qj = np.concatenate(found_i), np.concatenate(found_j)
     for i, j in zip(ok[qi].tolist(), ok[qj].tolist(), strict=True):
         if i >= j or abs(u[i, 0] * u[j, 1] - u[i, 1] * u[j, 0]) > PARALLEL_SIN:
             continue
@@ -202,7 +219,10 @@ def derive(
     if len(seg) < 2 * MIN_PAIRS or not (ln > 0).any():
         return seg, handles, layers, NOTHING
     reach = MAX_WIDTH * float(np.median(ln[ln > 0]))
-    groups = _components(_candidates(seg, reach))
+    nb = _candidates(seg, reach)
+    if nb is None:
+        return seg, handles, layers, NOTHING
+    groups = _components(nb)
     pairs: list[tuple[list[int], list[int], float]] = []
     ambiguous: list[tuple[int, ...]] = []
     for comp in groups:
