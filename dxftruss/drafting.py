@@ -74,6 +74,9 @@ class Selection:
     fallback: bool = False
     #: per line: the reason it was set aside ("" when kept)
     why: tuple[str, ...] = ()
+    #: members whose centre lines were derived from outline pairs (outlines.py); the
+    #: counts in ``used`` and ``set_aside`` are then of the derived centre lines
+    derived: int = 0
 
     @property
     def n_set_aside(self) -> int:

@@ -60,6 +60,8 @@ class Code(str, Enum):
     PAPER_SPACE_READ = "paper-space-read"
     PAPER_SPACE_LINE_WORK = "paper-space-line-work"
     REPEATED_PART = "repeated-part"
+    CENTRE_LINES_FROM_OUTLINES = "centre-lines-from-outlines"
+    AMBIGUOUS_OUTLINE = "ambiguous-outline"
 
     @property
     def severity(self) -> Severity:
@@ -104,6 +106,8 @@ _SEVERITY: dict[Code, Severity] = {
     Code.PAPER_SPACE_READ: _W,  # model space held no member line work: a paper-space layout was read
     Code.PAPER_SPACE_LINE_WORK: _I,  # model space read; paper-space layouts hold line work too
     Code.REPEATED_PART: _I,  # parts that are another part shifted: solved once, results copied
+    Code.CENTRE_LINES_FROM_OUTLINES: _W,  # members drawn as outline pairs only: centre lines derived
+    Code.AMBIGUOUS_OUTLINE: _E,  # parallel lines that are not one member's two outlines: not derived
 }
 
 

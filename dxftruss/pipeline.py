@@ -14,11 +14,12 @@ from __future__ import annotations
 import hashlib
 import os
 from collections.abc import Callable
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
 
-from . import drafting
+from . import drafting, outlines
 from .assemble import build_truss
 from .audit.stability import PartStability, analyse_part
 from .audit.topology import audit_topology
@@ -76,8 +77,6 @@ def default_snap(segments: np.ndarray, fraction: float) -> float:
 def _with_inventory(findings: list[Finding], linework: LineWork, globs: tuple[str, ...]) -> list[Finding]:
     """``no-members`` with the layer inventory in brief (each layer's line count and use)
     and what to do: name the truss layers with --layers, list them with ``dxftruss layers``."""
-    from dataclasses import replace
-
     from .inventory import brief, layer_inventory
 
     out = []
@@ -182,7 +181,6 @@ def _check(
     else:
         first = opt_snap if opt_snap is not None else default_snap(all_seg, settings.snap_fraction)
         selection = drafting.select_structure(all_seg, linework.layers, snap=first)
-    findings += drafting.findings(selection)
     if selection.n_set_aside:
         keep = selection.keep
         seg = all_seg[keep]
@@ -190,6 +188,19 @@ def _check(
         seg_layers = tuple(n for n, k in zip(linework.layers, keep.tolist(), strict=True) if k)
     else:
         seg, seg_handles, seg_layers = all_seg, linework.handles, linework.layers
+    seg, seg_handles, seg_layers, derived = outlines.derive(seg, seg_handles, seg_layers)
+    if derived.used and selection.fallback:  # outlines do not triangulate; their centre lines do
+        seg, seg_handles, seg_layers, selection = outlines.reselect(
+            seg,
+            seg_handles,
+            seg_layers,
+            opt_snap if opt_snap is not None else default_snap(seg, settings.snap_fraction),
+            len(derived.pairs),
+        )
+    elif derived.used:
+        selection = replace(selection, derived=len(derived.pairs))
+    findings += drafting.findings(selection)
+    findings += outlines.findings(derived, unit)
     if len(seg):
         pts = seg.reshape(-1, 2)
         diag = float(np.hypot(*(pts.max(axis=0) - pts.min(axis=0))))
@@ -201,7 +212,7 @@ def _check(
         snap = default_snap(seg, settings.snap_fraction)
         snap_source = f"{settings.snap_fraction:g} x median drawn line length"
     limit_hint = "raise it with --max-members if the drawing is genuine"
-    geometry = build_geometry(seg, seg_handles, seg_layers, snap=snap)
+    geometry = outlines.expand_handles(build_geometry(seg, seg_handles, seg_layers, snap=snap), derived)
     if len(geometry.ends) > settings.max_members:
         raise LimitError(
             f"{path}: {len(geometry.ends):,} members after splitting at joints, more than the limit of "

@@ -21,7 +21,13 @@ CAUTION = (
 )
 
 #: finding codes that state an assumption the tool made
-ASSUMPTION_CODES = (Code.ASSUMED_UNITS, Code.ASSUMED_SUPPORTS, Code.ASSUMED_LOADS, Code.ASSUMED_STIFFNESS)
+ASSUMPTION_CODES = (
+    Code.ASSUMED_UNITS,
+    Code.ASSUMED_SUPPORTS,
+    Code.ASSUMED_LOADS,
+    Code.ASSUMED_STIFFNESS,
+    Code.CENTRE_LINES_FROM_OUTLINES,
+)
 
 
 def assumptions(result: Result) -> list[str]:
@@ -45,6 +51,8 @@ def layers_sentence(sel: Selection) -> str:
     from ..escape import shown
 
     used = ", ".join(f"{shown(name)} ({n} lines)" for name, n in sorted(sel.used.items())) or "none"
+    if sel.derived:
+        used += f" (centre lines: {sel.derived} derived from pairs of outline lines)"
     if sel.rule == "option":
         return f"members from the layers named with --layers: {used}"
     if sel.fallback:
