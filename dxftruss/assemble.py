@@ -26,6 +26,7 @@ from scipy.spatial import cKDTree
 from .errors import ConfigError, LimitError
 from .escape import shown
 from .findings import Code, Finding
+from .habits import Overhang, moved_load_finding, overhang_at
 from .labels import CommaStyle, LabelReading, comma_style, read_label
 from .lineloads import drawn_line_loads, file_line_loads, joint_loads, lumped_finding
 from .loadsfile import DEFAULT_CASE, LoadEntry, LoadsSpec, SupportEntry, check_combinations
@@ -46,7 +47,7 @@ from .model import (
 )
 from .read import LineWork
 from .snap import Geometry
-from .units import FORCE_UNITS
+from .units import FORCE_UNITS, LENGTH_UNITS
 
 UNIT_PANEL_CASE = "unit-panel"
 
@@ -131,12 +132,30 @@ def _nearest_note(d: float, j: int) -> str:
     return f": nearest joint {joint_id(j)} is {d:.6g} away" if j >= 0 else ""
 
 
+def _hung(
+    overhangs: tuple[Overhang, ...], start: tuple[float, float], end: tuple[float, float], near_miss: float
+) -> tuple[Overhang, tuple[float, float], tuple[float, float]] | None:
+    """(overhang, head, tail) of a load line with an end on an overhang (the head), else None."""
+    for head, tail in ((start, end), (end, start)):
+        rec = overhang_at(overhangs, head, reach=near_miss)
+        if rec is not None:
+            return rec, head, tail
+    return None
+
+
 def _file_joints(
-    tree: cKDTree | None, xy: np.ndarray, spec: LoadsSpec, kind: str, near_miss: float, length_unit: str
+    tree: cKDTree | None,
+    xy: np.ndarray,
+    spec: LoadsSpec,
+    kind: str,
+    near_miss: float,
+    length_unit: str,
+    overhangs: tuple[Overhang, ...] = (),
 ) -> list[int]:
     """The joint of every ``[[support]]`` or ``[[load]]`` point of the loads file, in one
     query (loads files can be long); a point with no joint within the near-miss radius
-    is a ConfigError naming the entry and the nearest joint."""
+    is a ConfigError naming the entry and the nearest joint, unless it lies on one of
+    ``overhangs``: then its root."""
     entries: tuple[SupportEntry | LoadEntry, ...] = spec.supports if kind == "support" else spec.loads
     if not entries:
         return []
@@ -146,8 +165,11 @@ def _file_joints(
         d, i = tree.query(np.asarray([e.at for e in entries], dtype=float))
         bad = ~np.isfinite(d) | (i >= tree.n)
         d, i = np.where(bad, np.inf, d), np.where(bad, -1, i)
-    for entry, dist, j in zip(entries, d, i, strict=True):
-        if dist > near_miss:
+    for k, (entry, dist, j) in enumerate(zip(entries, d, i, strict=True)):
+        rec = overhang_at(overhangs, entry.at, reach=near_miss) if dist > near_miss else None
+        if rec is not None:
+            i[k] = rec.root
+        elif dist > near_miss:
             where = f"{spec.path}: [[{kind}]] #{entry.number} at {list(entry.at)}"
             raise ConfigError(
                 f"{where}: no joint within {near_miss:.6g} {length_unit}"
@@ -167,11 +189,14 @@ def build_truss(
     max_parts: int | None = None,
     source: str = "drawing",
     snap: float | None = None,
+    overhangs: tuple[Overhang, ...] = (),
 ) -> Truss:
     """Attach supports and loads to joints, add the defaults of docs/user-guide.md, Defaults.
 
     ``snap`` is the tolerance a line load's members must lie on their segment within
-    (default ``outline_tol / 10``).
+    (default ``outline_tol / 10``). A drawn or loads-file load with no joint within
+    ``near_miss`` but on one of ``overhangs`` (habits.py) acts at the overhang's root
+    (``overhang-load`` says so, with the moment it causes there).
 
     Raises LimitError as soon as the parts are known when there are more than
     ``max_parts`` (``source`` names the drawing in the message)."""
@@ -306,13 +331,19 @@ def build_truss(
         line_loads[case].append(ll)
     # every load line on a joint, with its head, tail and the text chosen for it
     arrows: list[tuple] = []
+    moved: dict[int, Overhang] = {}  # arrows on an overhang: acting at its root
+    metres = LENGTH_UNITS.get(length_unit)
     for i, mark in enumerate(linework.loads):
         if mark.case in ignored_cases or i in rows.claimed:
             continue
         d0, j0 = _nearest(tree, mark.start)
         d1, j1 = _nearest(tree, mark.end)
         head, tail, d, j = (mark.start, mark.end, d0, j0) if d0 <= d1 else (mark.end, mark.start, d1, j1)
-        if d > near_miss:
+        hang = _hung(overhangs, mark.start, mark.end, near_miss) if d > near_miss else None
+        if hang is not None:
+            head, tail, j = hang[1], hang[2], hang[0].root
+            moved[len(arrows)] = hang[0]
+        elif d > near_miss:
             findings.append(
                 Finding(
                     Code.LOAD_OFF_JOINT,
@@ -405,13 +436,43 @@ def build_truss(
             )
         u = vec / length
         case_loads[mark.case].append(Load(j, float(value * u[0]), float(value * u[1]), Source.DRAWING, text, origin))
+        if k in moved:
+            findings.append(
+                moved_load_finding(
+                    moved[k],
+                    head,
+                    float(value * u[0]),
+                    float(value * u[1]),
+                    where=where,
+                    case=mark.case,
+                    length_unit=length_unit,
+                    force_unit=force_unit,
+                    metres=metres,
+                )
+            )
     for case in unread:
         case_loads.setdefault(case, [])
     if spec:
-        load_joints = _file_joints(tree, xy, spec, "load", near_miss, length_unit)
+        load_joints = _file_joints(tree, xy, spec, "load", near_miss, length_unit, overhangs)
         for entry, j in zip(spec.loads, load_joints, strict=True):
             origin = LoadOrigin("loads-file", entry=entry.number)
             case_loads[entry.case].append(Load(j, entry.fx, entry.fy, Source.LOADS_FILE, None, origin))
+            if float(np.hypot(*(np.subtract(entry.at, xy[j])))) > near_miss:  # on an overhang
+                rec = overhang_at(overhangs, entry.at, reach=near_miss)
+                assert rec is not None
+                findings.append(
+                    moved_load_finding(
+                        rec,
+                        entry.at,
+                        entry.fx,
+                        entry.fy,
+                        where=f"{spec.path}: [[load]] #{entry.number}",
+                        case=entry.case,
+                        length_unit=length_unit,
+                        force_unit=force_unit,
+                        metres=metres,
+                    )
+                )
         for case, ll in file_line_loads(
             spec, tree, xy, ends, near_miss=near_miss, snap=line_tol, length_unit=length_unit, force_unit=force_unit
         ):

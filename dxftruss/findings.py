@@ -62,6 +62,10 @@ class Code(str, Enum):
     REPEATED_PART = "repeated-part"
     CENTRE_LINES_FROM_OUTLINES = "centre-lines-from-outlines"
     AMBIGUOUS_OUTLINE = "ambiguous-outline"
+    COLLINEAR_OVERLAP = "collinear-overlap"
+    COLLINEAR_PIECES = "collinear-pieces"
+    OVERHANG = "overhang"
+    OVERHANG_LOAD = "overhang-load"
 
     @property
     def severity(self) -> Severity:
@@ -108,6 +112,10 @@ _SEVERITY: dict[Code, Severity] = {
     Code.REPEATED_PART: _I,  # parts that are another part shifted: solved once, results copied
     Code.CENTRE_LINES_FROM_OUTLINES: _W,  # members drawn as outline pairs only: centre lines derived
     Code.AMBIGUOUS_OUTLINE: _E,  # parallel lines that are not one member's two outlines: not derived
+    Code.COLLINEAR_OVERLAP: _W,  # collinear lines overlapping (splice or slip): one member line
+    Code.COLLINEAR_PIECES: _I,  # collinear pieces meeting where nothing else does: one member
+    Code.OVERHANG: _W,  # a member continuing another straight past a joint, ending free: left out
+    Code.OVERHANG_LOAD: _W,  # a load on an overhang moved to its root; the moment is not carried
 }
 
 

@@ -19,14 +19,14 @@ from pathlib import Path
 
 import numpy as np
 
-from . import drafting, outlines
+from . import drafting, habits, outlines
 from .assemble import build_truss
 from .audit.stability import PartStability, analyse_part
 from .audit.topology import audit_topology
 from .errors import ConfigError, InputError, LimitError
 from .escape import shown
 from .findings import Code, Finding, sort_findings
-from .loadsfile import read_loads_file
+from .loadsfile import LoadsSpec, read_loads_file
 from .naming import part_names
 from .policy import run_policy
 from .read import LineWork, read_drawing
@@ -93,6 +93,18 @@ def _with_inventory(findings: list[Finding], linework: LineWork, globs: tuple[st
             f = replace(f, message=msg, data=data)
         out.append(f)
     return out
+
+
+def _marks(linework: LineWork, spec: LoadsSpec | None) -> tuple[list[tuple[float, float]], list[tuple[float, float]]]:
+    """Where supports are drawn or given, and where loads act (both ends of a drawn load
+    line, loads-file points, line loads' ends): such joints are not joined away."""
+    held = [(s.x, s.y) for s in linework.supports]
+    loaded = [p for mark in linework.loads for p in (mark.start, mark.end)]
+    if spec:
+        held += [e.at for e in spec.supports]
+        loaded += [e.at for e in spec.loads]
+        loaded += [p for e in spec.line_loads for p in (e.start, e.end)]
+    return held, loaded
 
 
 def _tolerance(text: str, unit: str, what: str) -> float:
@@ -212,14 +224,14 @@ def _check(
         snap = default_snap(seg, settings.snap_fraction)
         snap_source = f"{settings.snap_fraction:g} x median drawn line length"
     limit_hint = "raise it with --max-members if the drawing is genuine"
-    geometry = outlines.expand_handles(build_geometry(seg, seg_handles, seg_layers, snap=snap), derived)
+    seg, seg_handles, seg_layers, overlaps = habits.merge_overlaps(seg, seg_handles, seg_layers, tol=snap, unit=unit)
+    geometry = build_geometry(seg, seg_handles, seg_layers, snap=snap)
+    geometry = outlines.expand_handles(habits.expand_handles(geometry, overlaps, tol=snap), derived)
     if len(geometry.ends) > settings.max_members:
         raise LimitError(
             f"{path}: {len(geometry.ends):,} members after splitting at joints, more than the limit of "
             f"{settings.max_members:,}; {limit_hint}"
         )
-    findings += geometry.findings
-    stage("snap")
 
     if settings.near_miss is not None:
         near, near_source = _tolerance(settings.near_miss, unit, "--near-miss"), "option"
@@ -229,6 +241,12 @@ def _check(
         near_source = f"{settings.near_miss_fraction:g} x median member length"
     near = max(near, snap)
     tol = Tolerances(snap, near, snap_source, near_source)
+    held, loaded = _marks(linework, spec)
+    read = habits.read_habits(geometry, snap=snap, near_miss=near, supports=held, loads=loaded, unit=unit)
+    geometry = read.geometry
+    findings += overlaps.findings
+    findings += geometry.findings
+    stage("snap")
 
     truss = build_truss(
         geometry,
@@ -240,6 +258,7 @@ def _check(
         max_parts=settings.max_parts,
         source=str(path),
         snap=snap,
+        overhangs=read.overhangs,
     )
     findings += truss.findings
     findings += _with_inventory(audit_topology(truss, snap=snap, near_miss=near), linework, settings.layers)
@@ -292,4 +311,5 @@ def _check(
         selection=selection,
         part_names=names,
         same_as={copy: rep.of for copy, rep in repeats.items()},
+        overhangs=read.overhangs,
     )

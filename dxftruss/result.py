@@ -20,6 +20,7 @@ from dataclasses import dataclass, field
 from .audit.stability import PartStability
 from .drafting import Selection
 from .findings import Finding, Severity
+from .habits import Overhang
 from .loadsfile import LoadsSpec
 from .model import Truss
 from .read import LineWork
@@ -109,6 +110,8 @@ class Result:
     part_names: tuple[str, ...] = ()
     #: {part: the earlier part it repeats, shifted}: solved once, results copied (repeats.py)
     same_as: dict[int, int] = field(default_factory=dict)
+    #: members drawn as overhangs, left out of the model (habits.py); drawn on the PDF
+    overhangs: tuple[Overhang, ...] = ()
 
     def part_name(self, index: int) -> str:
         """The part's name (``P<n>`` when the result has no names)."""

@@ -347,7 +347,7 @@ def drafting_slips() -> Sample:
     - panel 2: no diagonal at all                               -> mechanism
     - panel 3: diagonal T4-B3 stops 0.5 % of its length short of T4 -> near-miss (+ dangling)
     - panel 4: an abandoned brace stub from B5 towards T4       -> dangling-member
-    - bottom chord: LINE B0-B4 and LINE B2-B6 overlap on B2-B4  -> duplicate-member (x2)
+    - bottom chord: LINE B0-B4 and LINE B2-B6 overlap on B2-B4  -> collinear-overlap (one chord)
 
     No supports, no loads and no units: all three defaults are assumed. Annotation
     (TEXT, a CIRCLE callout and a DIMENSION) sits on NOTES and is ignored.

@@ -473,19 +473,22 @@ def _mode_message(p: int, mode: Mode, loc: np.ndarray, straight: np.ndarray, sys
         text = f"{who} can move without straining any member: supports too few or badly placed"
     else:
         text = f"{who} can move without straining any member: add a member or brace"
+    bent = loc[straight[loc]]
     if mode.special_geometry:
-        bent = loc[straight[loc]]
         if bent.size:
-            text += (
-                f"; this mechanism exists only because of special geometry: {_names(system.joints[bent])} "
-                f"{'is a straight joint' if bent.size == 1 else 'are straight joints'} where collinear members "
-                "meet with nothing across"
-            )
+            text += "; this mechanism exists only because of special geometry"
         else:
             text += (
                 "; this mechanism exists only because of special geometry "
                 "(members or supports in line, parallel or meeting at one point)"
             )
+    if bent.size:
+        text += (
+            f"{':' if mode.special_geometry else ';'} {_names(system.joints[bent])} "
+            f"{'is a straight joint' if bent.size == 1 else 'are straight joints'} where collinear members meet "
+            "with nothing across: a straight joint cannot take a sideways force (a load or support there keeps "
+            "it a joint); add a member across it, or move the load to a joint that has one"
+        )
     return f"part {p + 1}: {text}"
 
 

@@ -1,0 +1,663 @@
+"""Drafting habits read as what the drafter meant: overlaps, pieces and overhangs.
+
+Every drawing office draws some things in ways that, read literally, are faults of a
+pin-jointed model. This stage reads them as meant, and says so in a finding each time.
+
+Glossary:
+    straight    three points p, q, r with q within ``tol`` (the snap tolerance) of the
+                segment p-r and strictly between p and r: one straight line through q.
+    overlap     collinear drawn lines whose extents overlap by more than ``tol`` (a
+                splice drawn as two lines, or a slip): one member line over their union.
+                The overlap's ends are joints only where something else meets there.
+                Lines with the same two ends stay duplicates (snap.py).
+    pieces      two collinear members on one layer meeting at a joint that nothing else
+                meets and no support or load acts at: one member. Where a load or
+                support acts, the joint stays (a straight joint: the stability audit
+                says it cannot take a sideways force).
+    overhang    a chain of collinear members that continues another member straight
+                past a joint (its root, held by at least two other members or a
+                support) and ends free: no support at the end, no joint or member
+                within the near-miss radius of it. Left out of the pin-jointed
+                analysis; a load on it moves to the root as the same force
+                (assemble.py), and the moment it causes there is said.
+
+Order: :func:`merge_overlaps` runs on the drawn lines before snapping;
+:func:`read_habits` on the snapped :class:`~dxftruss.snap.Geometry`, pieces first, then
+overhangs. Joint and member ids are renumbered the way snap.py numbers them, so a
+drawing with these habits gets the ids of the same truss drawn clean.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass, replace
+
+import numpy as np
+from scipy.sparse import coo_matrix
+from scipy.sparse.csgraph import connected_components
+from scipy.spatial import cKDTree
+
+from .findings import Code, Finding
+from .snap import Geometry
+
+#: overlap candidates examined per drawn line, on average, before the search gives up
+#: (a pile of lines drawn over each other is left to snap.py's duplicates)
+MAX_PAIRS_PER_LINE = 64
+#: lines queried at a time (bounds the memory of one query when many lines lie together)
+QUERY_CHUNK = 128
+
+
+def _id(kind: str, i: int) -> str:
+    return f"{kind}{i + 1}"
+
+
+def _pt(p: Sequence[float] | np.ndarray) -> list[float]:
+    return [float(p[0]), float(p[1])]
+
+
+def _fmt(p: Sequence[float] | np.ndarray) -> str:
+    return f"({float(p[0]):.6g}, {float(p[1]):.6g})"
+
+
+def straight(p: np.ndarray, q: np.ndarray, r: np.ndarray, *, tol: float) -> bool:
+    """Whether q lies within ``tol`` of the segment p-r and strictly between its ends."""
+    d = r - p
+    dd = float(d @ d)
+    if dd <= 0:
+        return False
+    t = float((q - p) @ d) / dd
+    foot = p + t * d
+    return 0.0 < t < 1.0 and float(np.hypot(*(q - foot))) <= tol
+
+
+# ---------------------------------------------------------------------------------------
+# Overlaps (drawn lines, before snapping)
+
+
+@dataclass(frozen=True)
+class Overlaps:
+    """Collinear overlapping lines merged into one line each.
+
+    groups   per merged line: the indices of the drawn lines it replaces
+    lines    per merged line: x1, y1, x2, y2 (the union of the group's extents)
+    rep      per merged line: the handle it carries through snapping (its longest line's)
+    handles  per merged line: every handle of the group, sorted
+    findings one ``collinear-overlap`` warning per merged line
+    """
+
+    groups: tuple[tuple[int, ...], ...] = ()
+    lines: tuple[tuple[float, float, float, float], ...] = ()
+    rep: tuple[str, ...] = ()
+    handles: tuple[tuple[str, ...], ...] = ()
+    findings: tuple[Finding, ...] = ()
+
+
+def _distinct_lines(seg: np.ndarray, tol: float) -> tuple[np.ndarray, np.ndarray]:
+    """(index of one line per set of copies, per line the position of its copy in that
+    index): lines with the same ends on a grid of a thousandth of ``tol`` (either
+    direction) are copies, searched once, so a stack of copies costs one line."""
+    a, b = seg[:, :2], seg[:, 2:]
+    swap = (a[:, 0] > b[:, 0]) | ((a[:, 0] == b[:, 0]) & (a[:, 1] > b[:, 1]))
+    ordered = np.where(swap[:, None], np.column_stack([b, a]), seg)
+    scale = float(np.abs(seg).max()) or 1.0
+    grid = max(1e-3 * tol, 1e-15 * scale, 1e-150)
+    _, first, inverse = np.unique(np.round(ordered / grid), axis=0, return_index=True, return_inverse=True)
+    return first, inverse.reshape(-1)
+
+
+def _overlap_pairs(seg: np.ndarray, tol: float) -> tuple[np.ndarray, np.ndarray] | None:
+    """Pairs (i < j) of collinear lines overlapping by more than ``tol`` that do not
+    share both ends; None when the search would exceed its budget."""
+    import shapely
+
+    a, b = seg[:, :2], seg[:, 2:]
+    d = b - a
+    ln = np.hypot(d[:, 0], d[:, 1])
+    ok = np.flatnonzero(ln > 2 * tol)
+    if len(ok) < 2:
+        return np.zeros(0, np.int64), np.zeros(0, np.int64)
+    lines = shapely.linestrings(seg[ok].reshape(-1, 2, 2))
+    tree = shapely.STRtree(lines)
+    budget = MAX_PAIRS_PER_LINE * len(ok) + 10_000
+    found_i, found_j, total = [], [], 0
+    for start in range(0, len(ok), QUERY_CHUNK):
+        ci, cj = tree.query(lines[start : start + QUERY_CHUNK], predicate="dwithin", distance=tol)
+        total += len(ci)
+        if total > budget:
+            return None
+        found_i.append(ci + start)
+        found_j.append(cj)
+    i, j = ok[np.concatenate(found_i)], ok[np.concatenate(found_j)]
+    keep = i < j
+    i, j = i[keep], j[keep]
+    u = d / np.where(ln > 0, ln, 1.0)[:, None]
+
+    def off(p: np.ndarray, k: np.ndarray) -> np.ndarray:  # distance of p from line k
+        rel = p - a[k]
+        return np.abs(u[k, 0] * rel[:, 1] - u[k, 1] * rel[:, 0])
+
+    col = (off(a[j], i) <= tol) & (off(b[j], i) <= tol) & (off(a[i], j) <= tol) & (off(b[i], j) <= tol)
+    i, j = i[col], j[col]
+    tj = np.column_stack([np.einsum("ij,ij->i", a[j] - a[i], u[i]), np.einsum("ij,ij->i", b[j] - a[i], u[i])])
+    overlap = np.minimum(ln[i], tj.max(axis=1)) - np.maximum(0.0, tj.min(axis=1))
+
+    def near(p: np.ndarray, q: np.ndarray) -> np.ndarray:
+        return np.hypot(*(p - q).T) <= tol
+
+    same = (near(a[i], a[j]) & near(b[i], b[j])) | (near(a[i], b[j]) & near(b[i], a[j]))
+    keep = (overlap > tol) & ~same
+    return i[keep], j[keep]
+
+
+def _covered_twice(intervals: list[tuple[float, float]], tol: float) -> list[tuple[float, float]]:
+    """The stretches covered by two or more of ``intervals`` (lo, hi), longer than ``tol``."""
+    events = sorted([(lo, 1) for lo, _ in intervals] + [(hi, -1) for _, hi in intervals], key=lambda e: (e[0], e[1]))
+    out: list[tuple[float, float]] = []
+    depth, start = 0, 0.0
+    for t, step in events:
+        if depth < 2 <= depth + step:
+            start = t
+        elif depth >= 2 > depth + step and t - start > tol:
+            out.append((start, t))
+        depth += step
+    return out
+
+
+def merge_overlaps(
+    segments: np.ndarray,
+    handles: tuple[str, ...],
+    layers: tuple[str, ...],
+    *,
+    tol: float,
+    unit: str,
+) -> tuple[np.ndarray, tuple[str, ...], tuple[str, ...], Overlaps]:
+    """Replace each group of collinear overlapping lines by one line over their union.
+
+    ``tol`` is the snap tolerance (drawing units). Returns the new line work (each merged
+    line in the place of its group's first line, carrying the longest line's handle and
+    the first layer by name) and what was merged. Cost: one spatial query of the lines
+    within ``tol`` of each other."""
+    seg = np.asarray(segments, dtype=float).reshape(-1, 4)
+    if len(seg) < 2 or tol <= 0:
+        return seg, handles, layers, Overlaps()
+    uniq, rep_of = _distinct_lines(seg, tol)
+    pairs = _overlap_pairs(seg[uniq], tol)
+    if pairs is None or not len(pairs[0]):
+        return seg, handles, layers, Overlaps()
+    i, j = pairs
+    n = len(seg)
+    graph = coo_matrix((np.ones(len(i)), (i, j)), shape=(len(uniq), len(uniq)))
+    _, label_u = connected_components(graph, directed=False)
+    label = label_u[rep_of]
+    sizes = np.bincount(label_u)  # distinct lines per component: copies alone make no group
+    members = np.flatnonzero(sizes[label] > 1)
+    by_label: dict[int, list[int]] = {}
+    for k in members.tolist():
+        by_label.setdefault(int(label[k]), []).append(k)
+    ln = np.hypot(seg[:, 2] - seg[:, 0], seg[:, 3] - seg[:, 1])
+    groups: list[tuple[int, ...]] = []
+    lines: list[tuple[float, float, float, float]] = []
+    reps: list[str] = []
+    hs: list[tuple[str, ...]] = []
+    findings: list[Finding] = []
+    replace_at: dict[int, int] = {}
+    for grp in sorted(by_label.values()):
+        ref = max(grp, key=lambda k: (ln[k], -k))
+        origin = seg[ref, :2]
+        u = (seg[ref, 2:] - origin) / ln[ref]
+        pts = seg[grp].reshape(-1, 2)
+        t = (pts - origin) @ u
+        line = np.concatenate([pts[int(np.argmin(t))], pts[int(np.argmax(t))]])
+        spans = [tuple(sorted(((seg[k, :2] - origin) @ u, (seg[k, 2:] - origin) @ u))) for k in grp]
+        twice = _covered_twice([(float(lo), float(hi)) for lo, hi in spans], tol)
+        group_handles = tuple(sorted({handles[k] for k in grp}))
+        replace_at[grp[0]] = len(groups)
+        groups.append(tuple(grp))
+        lines.append((float(line[0]), float(line[1]), float(line[2]), float(line[3])))
+        reps.append(handles[ref])
+        hs.append(group_handles)
+        findings.append(_overlap_finding(grp, line, twice, origin, u, group_handles, layers, unit))
+    dropped = set(members.tolist())
+    out_seg, out_h, out_l = [], [], []
+    for k in range(n):
+        if k in replace_at:
+            g = replace_at[k]
+            out_seg.append(lines[g])
+            out_h.append(reps[g])
+            out_l.append(min(layers[m] for m in groups[g]))
+        elif k not in dropped:
+            out_seg.append(tuple(seg[k]))
+            out_h.append(handles[k])
+            out_l.append(layers[k])
+    info = Overlaps(tuple(groups), tuple(lines), tuple(reps), tuple(hs), tuple(findings))
+    return np.array(out_seg, dtype=float).reshape(-1, 4), tuple(out_h), tuple(out_l), info
+
+
+def _overlap_finding(
+    grp: list[int],
+    line: np.ndarray,
+    twice: list[tuple[float, float]],
+    origin: np.ndarray,
+    u: np.ndarray,
+    group_handles: tuple[str, ...],
+    layers: tuple[str, ...],
+    unit: str,
+) -> Finding:
+    stretches = [(origin + lo * u, origin + hi * u, hi - lo) for lo, hi in twice]
+    total = float(sum(s[2] for s in stretches))
+    longest = max(stretches, key=lambda s: s[2]) if stretches else (line[:2], line[2:], 0.0)
+    where = "; ".join(f"{s[2]:.6g} {unit} from {_fmt(s[0])} to {_fmt(s[1])}" for s in stretches[:4])
+    more = f" and {len(stretches) - 4} more" if len(stretches) > 4 else ""
+    names = ", ".join(group_handles[:8]) + (" ..." if len(group_handles) > 8 else "")
+    return Finding(
+        Code.COLLINEAR_OVERLAP,
+        f"{len(grp)} collinear lines (handles {names}) overlap by {where}{more}: read as one member line from "
+        f"{_fmt(line[:2])} to {_fmt(line[2:])}, whose overlap ends are not joints unless something else meets "
+        "there; a splice drawn as two lines is fine, a slip is not: check which it is",
+        at=(float((longest[0][0] + longest[1][0]) / 2), float((longest[0][1] + longest[1][1]) / 2)),
+        data={
+            "length": total,
+            "overlaps": [{"start": _pt(s[0]), "end": _pt(s[1]), "length": float(s[2])} for s in stretches],
+            "line": [_pt(line[:2]), _pt(line[2:])],
+            "handles": list(group_handles),
+            "layers": sorted({layers[k] for k in grp}),
+        },
+    )
+
+
+def expand_handles(geometry: Geometry, info: Overlaps, *, tol: float) -> Geometry:
+    """Each member made from a merged line carries the handles of all the group's lines
+    (a member is from the merged line when it carries its handle and both its joints lie
+    on it; a polyline's other segments share the handle but not the line)."""
+    if not info.groups:
+        return geometry
+    by_rep: dict[str, list[int]] = {}
+    for g, h in enumerate(info.rep):
+        by_rep.setdefault(h, []).append(g)
+    out = list(geometry.handles)
+    for e, hs in enumerate(geometry.handles):
+        for h in hs:
+            for g in by_rep.get(h, ()):
+                line = np.asarray(info.lines[g], dtype=float)
+                ends = geometry.xy[geometry.ends[e]]
+                if all(_on_segment(p, line[:2], line[2:], 2 * tol) for p in ends):
+                    out[e] = tuple(sorted(set(out[e]) | set(info.handles[g])))
+    return replace(geometry, handles=tuple(out))
+
+
+def _on_segment(p: np.ndarray, a: np.ndarray, b: np.ndarray, tol: float) -> bool:
+    d = b - a
+    dd = float(d @ d)
+    t = min(1.0, max(0.0, float((p - a) @ d) / dd)) if dd > 0 else 0.0
+    return float(np.hypot(*(p - (a + t * d)))) <= tol
+
+
+# ---------------------------------------------------------------------------------------
+# Pieces and overhangs (snapped geometry)
+
+
+@dataclass(frozen=True)
+class Overhang:
+    """A member chain left out of the analysis as an overhang (see the glossary).
+
+    root       the joint it hangs from (id in the returned geometry)
+    continues  the member it continues straight past the root (id in the geometry)
+    free       its free end, drawing coordinates
+    root_xy    the root's coordinates
+    length     root to free end, drawing units
+    handles    the DXF handles it was drawn with
+    layer      its layer (the first by name)
+    """
+
+    root: int
+    continues: int
+    free: tuple[float, float]
+    root_xy: tuple[float, float]
+    length: float
+    handles: tuple[str, ...]
+    layer: str
+
+
+@dataclass(frozen=True)
+class Habits:
+    """What :func:`read_habits` read: the geometry to analyse (its findings: snapping's,
+    renumbered, then ``collinear-pieces`` and ``overhang``) and the overhangs left out,
+    for the loads and the reports."""
+
+    geometry: Geometry
+    overhangs: tuple[Overhang, ...]
+
+
+def _marked(xy: np.ndarray, points: Iterable[tuple[float, float]], reach: float) -> np.ndarray:
+    """Per joint: a point of ``points`` lies within ``reach`` of it."""
+    out = np.zeros(len(xy), dtype=bool)
+    pts = np.array([p for p in points if np.isfinite(p).all()], dtype=float).reshape(-1, 2)
+    if not len(pts) or not len(xy):
+        return out
+    tree = cKDTree(pts)
+    d, _ = tree.query(xy, distance_upper_bound=reach * (1 + 1e-12) + 1e-300)
+    return np.isfinite(d)
+
+
+class _Graph:
+    """Members as a mutable list of (joint, joint) with incidence, on the original joint ids."""
+
+    def __init__(self, ends: np.ndarray) -> None:
+        self.ends: list[tuple[int, int]] = [(int(row[0]), int(row[1])) for row in ends]
+        self.at: dict[int, list[int]] = {}
+        for e, (a, b) in enumerate(self.ends):
+            self.at.setdefault(a, []).append(e)
+            self.at.setdefault(b, []).append(e)
+
+    def other(self, e: int, j: int) -> int:
+        a, b = self.ends[e]
+        return b if a == j else a
+
+    def degree(self, j: int) -> int:
+        return len(self.at.get(j, ()))
+
+
+def _pieces(
+    geometry: Geometry, marked: np.ndarray, tol: float
+) -> tuple[list[tuple[int, int]], list[list[int]], list[list[int]]]:
+    """Members after joining pieces: their ends (original joint ids), per new member the
+    original members it is made of, and per new member the piece joints it absorbed."""
+    g = _Graph(geometry.ends)
+    xy = geometry.xy
+    m = len(g.ends)
+    parent = list(range(m))
+
+    def find(k: int) -> int:
+        while parent[k] != k:
+            parent[k] = parent[parent[k]]
+            k = parent[k]
+        return k
+
+    for j in sorted(g.at):
+        if g.degree(j) != 2 or marked[j]:
+            continue
+        e1, e2 = g.at[j]
+        if geometry.layers[e1] != geometry.layers[e2]:
+            continue
+        if straight(xy[g.other(e1, j)], xy[j], xy[g.other(e2, j)], tol=tol):
+            r1, r2 = find(e1), find(e2)
+            if r1 != r2:
+                parent[max(r1, r2)] = min(r1, r2)
+    groups: dict[int, list[int]] = {}
+    for e in range(m):
+        groups.setdefault(find(e), []).append(e)
+    new_ends: list[tuple[int, int]] = []
+    made_of: list[list[int]] = []
+    joints_in: list[list[int]] = []
+    for root in sorted(groups):
+        grp = groups[root]
+        if len(grp) == 1:
+            new_ends.append(g.ends[grp[0]])
+            made_of.append(grp)
+            joints_in.append([])
+            continue
+        count: dict[int, int] = {}
+        for e in grp:
+            for j in g.ends[e]:
+                count[j] = count.get(j, 0) + 1
+        tips = sorted(j for j, c in count.items() if c == 1)
+        inner = sorted(j for j, c in count.items() if c == 2)
+        if len(tips) != 2:  # not a simple path (cannot happen for straight pieces): leave as drawn
+            for e in grp:
+                new_ends.append(g.ends[e])
+                made_of.append([e])
+                joints_in.append([])
+            continue
+        new_ends.append((tips[0], tips[1]))
+        made_of.append(sorted(grp))
+        joints_in.append(inner)
+    return new_ends, made_of, joints_in
+
+
+class _NearMiss:
+    """Whether a free end has a near miss as audit/topology.py defines one: another joint
+    (not of its own chain) within ``near_miss``, or the inside of a member (not of its
+    chain, not at the end) within ``near_miss`` and more than ``snap``, farther than
+    ``near_miss`` from that member's ends. Spatial indexes built once."""
+
+    def __init__(self, xy: np.ndarray, ends: list[tuple[int, int]], *, near_miss: float, snap: float) -> None:
+        import shapely
+
+        self.xy, self.near_miss, self.snap = xy, near_miss, snap
+        self.ends = np.array(ends, dtype=np.int64).reshape(-1, 2)
+        self.joints = cKDTree(xy)
+        self.lines = shapely.STRtree(shapely.linestrings(np.stack([xy[self.ends[:, 0]], xy[self.ends[:, 1]]], axis=1)))
+
+    def at(self, f: int, skip_joints: set[int], skip_members: set[int]) -> bool:
+        import shapely
+
+        p, reach = self.xy[f], self.near_miss
+        if any(int(k) != f and int(k) not in skip_joints for k in self.joints.query_ball_point(p, reach)):
+            return True
+        for e in self.lines.query(shapely.points(p), predicate="dwithin", distance=reach).tolist():
+            a, b = (int(v) for v in self.ends[e])
+            if e in skip_members or f in (a, b):
+                continue
+            d = self.xy[b] - self.xy[a]
+            dd = float(d @ d)
+            t = float((p - self.xy[a]) @ d) / dd if dd > 0 else -1.0
+            if not 0.0 < t < 1.0:
+                continue
+            gap = float(np.hypot(*(p - self.xy[a] - t * d)))
+            if self.snap < gap <= reach and min(t, 1 - t) * float(np.sqrt(dd)) > reach:
+                return True
+        return False
+
+
+def read_habits(
+    geometry: Geometry,
+    *,
+    snap: float,
+    near_miss: float,
+    supports: Iterable[tuple[float, float]] = (),
+    loads: Iterable[tuple[float, float]] = (),
+    unit: str = "",
+) -> Habits:
+    """Join collinear pieces and set overhangs aside (see the glossary).
+
+    ``supports``: points where a support is drawn or given; ``loads``: points where a
+    load acts (drawn load lines' two ends, loads-file points, line loads' ends). A
+    joint with such a point within ``near_miss`` is kept even when it is straight; a
+    free end with a support within ``near_miss`` is held, not free. ``snap`` is the
+    straightness tolerance. Lengths in drawing units (``unit`` names them in messages).
+    """
+    xy = geometry.xy
+    if not len(geometry.ends):
+        return Habits(geometry, ())
+    held = _marked(xy, supports, near_miss)
+    marked = held | _marked(xy, loads, near_miss)
+    new_ends, made_of, joints_in = _pieces(geometry, marked, snap)
+    g = _Graph(np.array(new_ends, dtype=np.int64).reshape(-1, 2))
+    layer_of = [min(geometry.layers[e] for e in grp) for grp in made_of]
+    handles_of = [tuple(sorted({h for e in grp for h in geometry.handles[e]})) for grp in made_of]
+
+    # overhang candidates: from each free end, back along straight members to a root
+    chains: list[tuple[list[int], int, int, int]] = []  # (members, free end, root, joint before root)
+    for f in sorted(j for j in g.at if g.degree(j) == 1 and not held[j]):
+        chain, cur, e = [], f, g.at[f][0]
+        while True:
+            chain.append(e)
+            nxt = g.other(e, cur)
+            if g.degree(nxt) == 2 and not held[nxt]:
+                e2 = next(x for x in g.at[nxt] if x != e)
+                if e2 in chain or not straight(xy[cur], xy[nxt], xy[g.other(e2, nxt)], tol=snap):
+                    break
+                cur, e = nxt, e2
+                continue
+            if g.degree(nxt) >= 3 or (held[nxt] and g.degree(nxt) == 2):
+                chains.append((chain, f, nxt, cur))
+            break
+    in_chain = {e for chain, *_ in chains for e in chain}
+    near = _NearMiss(xy, g.ends, near_miss=near_miss, snap=snap) if chains else None
+    overhangs: list[tuple[list[int], int, int, int]] = []  # (members, free end, root, continued member)
+    for chain, f, root, before in chains:
+        cont = [
+            e
+            for e in g.at[root]
+            if e not in in_chain and straight(xy[before], xy[root], xy[g.other(e, root)], tol=snap)
+        ]
+        if not cont:
+            continue
+        chain_joints = {j for e in chain for j in g.ends[e]}
+        if near is not None and near.at(f, chain_joints, set(chain)):
+            continue
+        overhangs.append((chain, f, root, cont[0]))
+
+    # renumber: joints still used, in their order; members by their joints
+    removed = {e for chain, *_ in overhangs for e in chain}
+    kept = [e for e in range(len(g.ends)) if e not in removed]
+    used = sorted({j for e in kept for j in g.ends[e]})
+    new_id = np.full(len(xy), -1, dtype=np.int64)
+    new_id[used] = np.arange(len(used))
+    pairs = np.array([sorted((int(new_id[g.ends[e][0]]), int(new_id[g.ends[e][1]]))) for e in kept], dtype=np.int64)
+    pairs = pairs.reshape(-1, 2)
+    order = np.lexsort((pairs[:, 1], pairs[:, 0])) if len(pairs) else np.zeros(0, np.int64)
+    final_of = np.full(len(g.ends), -1, dtype=np.int64)  # intermediate member -> final member
+    final_of[np.array(kept, dtype=np.int64)[order]] = np.arange(len(kept))
+    member_map = np.full(len(geometry.ends), -1, dtype=np.int64)  # drawn member -> final member
+    for k, grp in enumerate(made_of):
+        member_map[grp] = final_of[k]
+    out = Geometry(
+        xy[used],
+        pairs[order],
+        tuple(layer_of[kept[k]] for k in order.tolist()),
+        tuple(handles_of[kept[k]] for k in order.tolist()),
+        (),
+    )
+    findings = [_renumbered(f, new_id, member_map) for f in geometry.findings]
+    for k, inner in enumerate(joints_in):
+        if inner and final_of[k] >= 0:
+            findings.append(_pieces_finding(out, int(final_of[k]), made_of[k], xy[inner], handles_of[k]))
+    records = []
+    for chain, f, root, cont_e in overhangs:
+        length = float(np.hypot(*(xy[f] - xy[root])))
+        rec = Overhang(
+            int(new_id[root]),
+            int(final_of[cont_e]),
+            (float(xy[f, 0]), float(xy[f, 1])),
+            (float(xy[root, 0]), float(xy[root, 1])),
+            length,
+            tuple(sorted({h for e in chain for h in handles_of[e]})),
+            min(layer_of[e] for e in chain),
+        )
+        records.append(rec)
+        findings.append(_overhang_finding(rec, unit))
+    return Habits(replace(out, findings=tuple(findings)), tuple(records))
+
+
+def _renumbered(f: Finding, joint_map: np.ndarray, member_map: np.ndarray) -> Finding:
+    """A snapping finding with its joint and member ids in the new numbering (ids of
+    joints and members no longer in the model are dropped)."""
+    if not f.joints and not f.members:
+        return f
+    joints = tuple(int(joint_map[j]) for j in f.joints if joint_map[j] >= 0)
+    members = tuple(sorted({int(member_map[e]) for e in f.members if member_map[e] >= 0}))
+    return replace(f, joints=joints, members=members)
+
+
+def _pieces_finding(out: Geometry, e: int, drawn: list[int], where: np.ndarray, handles: tuple[str, ...]) -> Finding:
+    a, b = (int(v) for v in out.ends[e])
+    places = ", ".join(_fmt(p) for p in where[:6]) + (" ..." if len(where) > 6 else "")
+    return Finding(
+        Code.COLLINEAR_PIECES,
+        f"member {_id('M', e)} ({_id('J', a)}-{_id('J', b)}) is drawn in {len(drawn)} collinear pieces meeting at "
+        f"{places}, where nothing else connects and no support or load acts: analysed as one member",
+        joints=(a, b),
+        members=(e,),
+        at=(float(where[0, 0]), float(where[0, 1])),
+        data={"pieces": len(drawn), "at": [_pt(p) for p in where], "handles": list(handles)},
+    )
+
+
+def _overhang_finding(rec: Overhang, unit: str) -> Finding:
+    return Finding(
+        Code.OVERHANG,
+        f"a member (handles {', '.join(rec.handles[:8])}) continues {_id('M', rec.continues)} straight past "
+        f"{_id('J', rec.root)} for {rec.length:.6g} {unit} and ends free at {_fmt(rec.free)}: an overhang, left out "
+        "of the pin-jointed analysis (a load on it moves to the joint it hangs from); its bending, and the "
+        "continued member's, are not checked",
+        joints=(rec.root,),
+        members=(rec.continues,),
+        at=rec.free,
+        data={
+            "length": rec.length,
+            "root": rec.root,
+            "free_end": list(rec.free),
+            "handles": list(rec.handles),
+            "layer": rec.layer,
+        },
+    )
+
+
+# ---------------------------------------------------------------------------------------
+# Loads on overhangs (used by assemble.py)
+
+
+def overhang_at(overhangs: Sequence[Overhang], p: Sequence[float], *, reach: float) -> Overhang | None:
+    """The overhang whose line passes within ``reach`` of point p (between its root and
+    a little past its free end); the nearest when several do, None when none does."""
+    best: tuple[float, Overhang] | None = None
+    q = np.asarray(p, dtype=float)
+    for rec in overhangs:
+        a, b = np.asarray(rec.root_xy), np.asarray(rec.free)
+        d = b - a
+        dd = float(d @ d)
+        if dd <= 0:
+            continue
+        t = float((q - a) @ d) / dd
+        along = t * np.sqrt(dd)
+        if along < -reach or along > np.sqrt(dd) + reach:
+            continue
+        gap = float(np.hypot(*(q - a - min(1.0, max(0.0, t)) * d)))
+        if gap <= reach and (best is None or gap < best[0]):
+            best = (gap, rec)
+    return best[1] if best else None
+
+
+def moved_load_finding(
+    rec: Overhang,
+    point: Sequence[float],
+    fx: float,
+    fy: float,
+    *,
+    where: str,
+    case: str,
+    length_unit: str,
+    force_unit: str,
+    metres: float | None,
+) -> Finding:
+    """``overhang-load``: a load on an overhang moved to its root as the same force, with
+    the moment it causes about the root (counter-clockwise positive, force unit x metre
+    when the drawing unit converts, else force unit x drawing unit)."""
+    lx, ly = float(point[0]) - rec.root_xy[0], float(point[1]) - rec.root_xy[1]
+    moment = lx * fy - ly * fx
+    if metres is not None:
+        m_value, m_unit = moment * metres, f"{force_unit} m"
+    else:
+        m_value, m_unit = moment, f"{force_unit} {length_unit}"
+    return Finding(
+        Code.OVERHANG_LOAD,
+        f"{where} acts on the overhang at {_id('J', rec.root)}, {float(np.hypot(lx, ly)):.6g} {length_unit} from it: "
+        f"moved to {_id('J', rec.root)} as the same force ({fx:.6g}, {fy:.6g}) {force_unit}; the moment it causes "
+        f"there, {m_value:.6g} {m_unit}, is not carried by a pin-jointed model: check the overhang and the member "
+        "it continues for bending",
+        joints=(rec.root,),
+        members=(rec.continues,),
+        at=(float(point[0]), float(point[1])),
+        data={
+            "case": case,
+            "root": rec.root,
+            "lever": [lx, ly],
+            "moment": m_value,
+            "moment_unit": m_unit,
+            "force": [fx, fy],
+        },
+    )
+
+
+__all__ = ["Habits", "Overhang", "Overlaps", "merge_overlaps", "overhang_at", "read_habits", "straight"]
