@@ -107,29 +107,51 @@ def _distinct_lines(seg: np.ndarray, tol: float) -> tuple[np.ndarray, np.ndarray
 
 def _overlap_pairs(seg: np.ndarray, tol: float) -> tuple[np.ndarray, np.ndarray] | None:
     """Pairs (i < j) of collinear lines overlapping by more than ``tol`` that do not
-    share both ends; None when the search would exceed its budget."""
+    share both ends; None when the search would exceed its budget.
+
+    An overlap always puts an end of one line on the inside of the other, so the search
+    is of line ends against lines (as snapping's split search), each distinct end once."""
     import shapely
 
     a, b = seg[:, :2], seg[:, 2:]
     d = b - a
     ln = np.hypot(d[:, 0], d[:, 1])
     ok = np.flatnonzero(ln > 2 * tol)
+    none = np.zeros(0, np.int64)
     if len(ok) < 2:
-        return np.zeros(0, np.int64), np.zeros(0, np.int64)
-    lines = shapely.linestrings(seg[ok].reshape(-1, 2, 2))
-    tree = shapely.STRtree(lines)
+        return none, none
+    ends = np.concatenate([a[ok], b[ok]])
+    owner = np.concatenate([ok, ok])
+    scale = float(np.abs(ends).max()) or 1.0
+    grid = max(1e-3 * tol, 1e-15 * scale, 1e-150)
+    _, first, inverse = np.unique(np.round(ends / grid), axis=0, return_index=True, return_inverse=True)
+    inverse = inverse.reshape(-1)
+    pts = ends[first]
+    tree = shapely.STRtree(shapely.linestrings(seg[ok].reshape(-1, 2, 2)))
     budget = MAX_PAIRS_PER_LINE * len(ok) + 10_000
-    found_i, found_j, total = [], [], 0
-    for start in range(0, len(ok), QUERY_CHUNK):
-        ci, cj = tree.query(lines[start : start + QUERY_CHUNK], predicate="dwithin", distance=tol)
-        total += len(ci)
+    found_p, found_l, total = [], [], 0
+    for start in range(0, len(pts), QUERY_CHUNK):
+        cp, cl = tree.query(shapely.points(pts[start : start + QUERY_CHUNK]), predicate="dwithin", distance=tol)
+        total += len(cp)
         if total > budget:
             return None
-        found_i.append(ci + start)
-        found_j.append(cj)
-    i, j = ok[np.concatenate(found_i)], ok[np.concatenate(found_j)]
-    keep = i < j
-    i, j = i[keep], j[keep]
+        found_p.append(cp + start)
+        found_l.append(cl)
+    pi, li = np.concatenate(found_p), ok[np.concatenate(found_l)]
+    inside = (np.hypot(*(pts[pi] - a[li]).T) > tol) & (np.hypot(*(pts[pi] - b[li]).T) > tol)
+    pi, li = pi[inside], li[inside]
+    if not len(pi):
+        return none, none
+    # the lines with an end at each point found: the point's run in the sorted ends
+    order = np.argsort(inverse, kind="stable")
+    run = np.searchsorted(inverse[order], np.arange(len(pts) + 1))
+    counts = run[pi + 1] - run[pi]
+    hit = np.repeat(np.arange(len(pi)), counts)
+    offset = np.arange(len(hit)) - np.repeat(np.cumsum(counts) - counts, counts)
+    i, j = li[hit], owner[order[run[pi][hit] + offset]]
+    keep = i != j
+    pairs = np.unique(np.sort(np.column_stack([i[keep], j[keep]]), axis=1), axis=0)
+    i, j = pairs[:, 0], pairs[:, 1]
     u = d / np.where(ln > 0, ln, 1.0)[:, None]
 
     def off(p: np.ndarray, k: np.ndarray) -> np.ndarray:  # distance of p from line k
@@ -339,79 +361,71 @@ def _marked(xy: np.ndarray, points: Iterable[tuple[float, float]], reach: float)
     return np.isfinite(d)
 
 
-class _Graph:
-    """Members as a mutable list of (joint, joint) with incidence, on the original joint ids."""
-
-    def __init__(self, ends: np.ndarray) -> None:
-        self.ends: list[tuple[int, int]] = [(int(row[0]), int(row[1])) for row in ends]
-        self.at: dict[int, list[int]] = {}
-        for e, (a, b) in enumerate(self.ends):
-            self.at.setdefault(a, []).append(e)
-            self.at.setdefault(b, []).append(e)
-
-    def other(self, e: int, j: int) -> int:
-        a, b = self.ends[e]
-        return b if a == j else a
-
-    def degree(self, j: int) -> int:
-        return len(self.at.get(j, ()))
+def _incidence(ends: np.ndarray, n_joints: int) -> tuple[np.ndarray, np.ndarray]:
+    """(members, start): the members at joint j are ``members[start[j]:start[j + 1]]``."""
+    flat = ends.reshape(-1)
+    order = np.argsort(flat, kind="stable")
+    return order // 2, np.searchsorted(flat[order], np.arange(n_joints + 1))
 
 
-def _pieces(
-    geometry: Geometry, marked: np.ndarray, tol: float
-) -> tuple[list[tuple[int, int]], list[list[int]], list[list[int]]]:
-    """Members after joining pieces: their ends (original joint ids), per new member the
-    original members it is made of, and per new member the piece joints it absorbed."""
-    g = _Graph(geometry.ends)
-    xy = geometry.xy
-    m = len(g.ends)
-    parent = list(range(m))
+def _straight_many(p: np.ndarray, q: np.ndarray, r: np.ndarray, tol: float) -> np.ndarray:
+    """:func:`straight` for rows of points."""
+    d = r - p
+    dd = np.einsum("ij,ij->i", d, d)
+    t = np.einsum("ij,ij->i", q - p, d) / np.where(dd > 0, dd, 1.0)
+    gap = np.hypot(*(q - p - t[:, None] * d).T)
+    return (dd > 0) & (t > 0) & (t < 1) & (gap <= tol)
 
-    def find(k: int) -> int:
-        while parent[k] != k:
-            parent[k] = parent[parent[k]]
-            k = parent[k]
-        return k
 
-    for j in sorted(g.at):
-        if g.degree(j) != 2 or marked[j]:
+@dataclass(frozen=True)
+class _Joined:
+    """Members after joining pieces (ids of the drawn geometry's joints).
+
+    ends     (k, 2) per member its two joints
+    label    per drawn member: the member it is part of
+    first    per member: its first drawn member (layer and handles come from it)
+    groups   member -> (its drawn members, the piece joints it absorbed), for joined ones
+    """
+
+    ends: np.ndarray
+    label: np.ndarray
+    first: np.ndarray
+    groups: dict[int, tuple[list[int], list[int]]]
+
+
+def _join_pieces(geometry: Geometry, marked: np.ndarray, tol: float) -> _Joined | None:
+    """Join collinear pieces on one layer at unmarked joints of two members; None when
+    there are none."""
+    xy, ends = geometry.xy, geometry.ends
+    deg = np.bincount(ends.reshape(-1), minlength=len(xy))
+    at, start = _incidence(ends, len(xy))
+    cand = np.flatnonzero((deg == 2) & ~marked)
+    e1, e2 = at[start[cand]], at[start[cand] + 1]
+    o1, o2 = ends[e1].sum(axis=1) - cand, ends[e2].sum(axis=1) - cand
+    ok = _straight_many(xy[o1], xy[cand], xy[o2], tol)
+    ok &= np.array([geometry.layers[a] == geometry.layers[b] for a, b in zip(e1, e2, strict=True)], dtype=bool)
+    if not ok.any():
+        return None
+    m = len(ends)
+    graph = coo_matrix((np.ones(int(ok.sum())), (e1[ok], e2[ok])), shape=(m, m))
+    _, label = connected_components(graph, directed=False)
+    _, first, sizes = np.unique(label, return_index=True, return_counts=True)
+    new_ends = ends[first].copy()
+    groups: dict[int, tuple[list[int], list[int]]] = {}
+    by_label = np.argsort(label, kind="stable")
+    bounds = np.r_[0, np.cumsum(sizes)]
+    for k in np.flatnonzero(sizes > 1).tolist():
+        drawn = sorted(by_label[bounds[k] : bounds[k + 1]].tolist())
+        joints, counts = np.unique(ends[drawn].reshape(-1), return_counts=True)
+        tips = joints[counts == 1]
+        if len(tips) != 2:  # not a simple path (straight pieces always are): leave as drawn
             continue
-        e1, e2 = g.at[j]
-        if geometry.layers[e1] != geometry.layers[e2]:
-            continue
-        if straight(xy[g.other(e1, j)], xy[j], xy[g.other(e2, j)], tol=tol):
-            r1, r2 = find(e1), find(e2)
-            if r1 != r2:
-                parent[max(r1, r2)] = min(r1, r2)
-    groups: dict[int, list[int]] = {}
-    for e in range(m):
-        groups.setdefault(find(e), []).append(e)
-    new_ends: list[tuple[int, int]] = []
-    made_of: list[list[int]] = []
-    joints_in: list[list[int]] = []
-    for root in sorted(groups):
-        grp = groups[root]
-        if len(grp) == 1:
-            new_ends.append(g.ends[grp[0]])
-            made_of.append(grp)
-            joints_in.append([])
-            continue
-        count: dict[int, int] = {}
-        for e in grp:
-            for j in g.ends[e]:
-                count[j] = count.get(j, 0) + 1
-        tips = sorted(j for j, c in count.items() if c == 1)
-        inner = sorted(j for j, c in count.items() if c == 2)
-        if len(tips) != 2:  # not a simple path (cannot happen for straight pieces): leave as drawn
-            for e in grp:
-                new_ends.append(g.ends[e])
-                made_of.append([e])
-                joints_in.append([])
-            continue
-        new_ends.append((tips[0], tips[1]))
-        made_of.append(sorted(grp))
-        joints_in.append(inner)
-    return new_ends, made_of, joints_in
+        new_ends[k] = np.sort(tips)
+        groups[k] = (drawn, joints[counts == 2].tolist())
+    for k in np.flatnonzero(sizes > 1).tolist():
+        if k not in groups:  # undo: each drawn member its own (appended)
+            return None
+    return _Joined(new_ends, label, first, groups)
 
 
 class _NearMiss:
@@ -420,13 +434,12 @@ class _NearMiss:
     chain, not at the end) within ``near_miss`` and more than ``snap``, farther than
     ``near_miss`` from that member's ends. Spatial indexes built once."""
 
-    def __init__(self, xy: np.ndarray, ends: list[tuple[int, int]], *, near_miss: float, snap: float) -> None:
+    def __init__(self, xy: np.ndarray, ends: np.ndarray, *, near_miss: float, snap: float) -> None:
         import shapely
 
-        self.xy, self.near_miss, self.snap = xy, near_miss, snap
-        self.ends = np.array(ends, dtype=np.int64).reshape(-1, 2)
+        self.xy, self.ends, self.near_miss, self.snap = xy, ends, near_miss, snap
         self.joints = cKDTree(xy)
-        self.lines = shapely.STRtree(shapely.linestrings(np.stack([xy[self.ends[:, 0]], xy[self.ends[:, 1]]], axis=1)))
+        self.lines = shapely.STRtree(shapely.linestrings(np.stack([xy[ends[:, 0]], xy[ends[:, 1]]], axis=1)))
 
     def at(self, f: int, skip_joints: set[int], skip_members: set[int]) -> bool:
         import shapely
@@ -449,6 +462,52 @@ class _NearMiss:
         return False
 
 
+def _overhang_chains(
+    xy: np.ndarray, ends: np.ndarray, held: np.ndarray, *, snap: float, near_miss: float
+) -> list[tuple[list[int], int, int, int]]:
+    """(members from the free end, free end, root, member continued) per overhang."""
+    deg = np.bincount(ends.reshape(-1), minlength=len(xy))
+    free = np.flatnonzero((deg == 1) & ~held)
+    if not len(free):
+        return []
+    at, start = _incidence(ends, len(xy))
+
+    def members_at(j: int) -> list[int]:
+        return at[start[j] : start[j + 1]].tolist()
+
+    def other(e: int, j: int) -> int:
+        return int(ends[e, 0] + ends[e, 1] - j)
+
+    chains: list[tuple[list[int], int, int, int]] = []  # (members, free end, root, joint before the root)
+    for f in free.tolist():
+        chain, cur, e = [], f, members_at(f)[0]
+        while True:
+            chain.append(e)
+            nxt = other(e, cur)
+            if deg[nxt] == 2 and not held[nxt]:
+                e2 = next(x for x in members_at(nxt) if x != e)
+                if e2 in chain or not straight(xy[cur], xy[nxt], xy[other(e2, nxt)], tol=snap):
+                    break
+                cur, e = nxt, e2
+                continue
+            if deg[nxt] >= 3 or (held[nxt] and deg[nxt] == 2):
+                chains.append((chain, f, nxt, cur))
+            break
+    in_chain = {e for chain, *_ in chains for e in chain}
+    near = _NearMiss(xy, ends, near_miss=near_miss, snap=snap) if chains else None
+    out = []
+    for chain, f, root, before in chains:
+        cont = [
+            e
+            for e in members_at(root)
+            if e not in in_chain and straight(xy[before], xy[root], xy[other(e, root)], tol=snap)
+        ]
+        chain_joints = {int(j) for e in chain for j in ends[e]}
+        if cont and near is not None and not near.at(f, chain_joints, set(chain)):
+            out.append((chain, f, root, cont[0]))
+    return out
+
+
 def read_habits(
     geometry: Geometry,
     *,
@@ -465,85 +524,61 @@ def read_habits(
     joint with such a point within ``near_miss`` is kept even when it is straight; a
     free end with a support within ``near_miss`` is held, not free. ``snap`` is the
     straightness tolerance. Lengths in drawing units (``unit`` names them in messages).
+    The geometry comes back unchanged when there is nothing to read. Vectorised but for
+    the free ends and the joined pieces.
     """
     xy = geometry.xy
     if not len(geometry.ends):
         return Habits(geometry, ())
     held = _marked(xy, supports, near_miss)
-    marked = held | _marked(xy, loads, near_miss)
-    new_ends, made_of, joints_in = _pieces(geometry, marked, snap)
-    g = _Graph(np.array(new_ends, dtype=np.int64).reshape(-1, 2))
-    layer_of = [min(geometry.layers[e] for e in grp) for grp in made_of]
-    handles_of = [tuple(sorted({h for e in grp for h in geometry.handles[e]})) for grp in made_of]
+    joined = _join_pieces(geometry, held | _marked(xy, loads, near_miss), snap)
+    ends = joined.ends if joined is not None else geometry.ends
+    overhangs = _overhang_chains(xy, ends, held, snap=snap, near_miss=near_miss)
+    if joined is None and not overhangs:
+        return Habits(geometry, ())
+    label = joined.label if joined is not None else np.arange(len(ends))
+    first = joined.first if joined is not None else np.arange(len(ends))
+    groups = joined.groups if joined is not None else {}
 
-    # overhang candidates: from each free end, back along straight members to a root
-    chains: list[tuple[list[int], int, int, int]] = []  # (members, free end, root, joint before root)
-    for f in sorted(j for j in g.at if g.degree(j) == 1 and not held[j]):
-        chain, cur, e = [], f, g.at[f][0]
-        while True:
-            chain.append(e)
-            nxt = g.other(e, cur)
-            if g.degree(nxt) == 2 and not held[nxt]:
-                e2 = next(x for x in g.at[nxt] if x != e)
-                if e2 in chain or not straight(xy[cur], xy[nxt], xy[g.other(e2, nxt)], tol=snap):
-                    break
-                cur, e = nxt, e2
-                continue
-            if g.degree(nxt) >= 3 or (held[nxt] and g.degree(nxt) == 2):
-                chains.append((chain, f, nxt, cur))
-            break
-    in_chain = {e for chain, *_ in chains for e in chain}
-    near = _NearMiss(xy, g.ends, near_miss=near_miss, snap=snap) if chains else None
-    overhangs: list[tuple[list[int], int, int, int]] = []  # (members, free end, root, continued member)
-    for chain, f, root, before in chains:
-        cont = [
-            e
-            for e in g.at[root]
-            if e not in in_chain and straight(xy[before], xy[root], xy[g.other(e, root)], tol=snap)
-        ]
-        if not cont:
-            continue
-        chain_joints = {j for e in chain for j in g.ends[e]}
-        if near is not None and near.at(f, chain_joints, set(chain)):
-            continue
-        overhangs.append((chain, f, root, cont[0]))
+    def handles_of(k: int) -> tuple[str, ...]:
+        if k not in groups:
+            return geometry.handles[int(first[k])]
+        return tuple(sorted({h for e in groups[k][0] for h in geometry.handles[e]}))
 
     # renumber: joints still used, in their order; members by their joints
-    removed = {e for chain, *_ in overhangs for e in chain}
-    kept = [e for e in range(len(g.ends)) if e not in removed]
-    used = sorted({j for e in kept for j in g.ends[e]})
+    kept = np.ones(len(ends), dtype=bool)
+    for chain, *_ in overhangs:
+        kept[chain] = False
+    kept_ix = np.flatnonzero(kept)
+    used = np.unique(ends[kept_ix].reshape(-1))
     new_id = np.full(len(xy), -1, dtype=np.int64)
     new_id[used] = np.arange(len(used))
-    pairs = np.array([sorted((int(new_id[g.ends[e][0]]), int(new_id[g.ends[e][1]]))) for e in kept], dtype=np.int64)
-    pairs = pairs.reshape(-1, 2)
-    order = np.lexsort((pairs[:, 1], pairs[:, 0])) if len(pairs) else np.zeros(0, np.int64)
-    final_of = np.full(len(g.ends), -1, dtype=np.int64)  # intermediate member -> final member
-    final_of[np.array(kept, dtype=np.int64)[order]] = np.arange(len(kept))
-    member_map = np.full(len(geometry.ends), -1, dtype=np.int64)  # drawn member -> final member
-    for k, grp in enumerate(made_of):
-        member_map[grp] = final_of[k]
+    pairs = np.sort(new_id[ends[kept_ix]], axis=1).reshape(-1, 2)
+    order = np.lexsort((pairs[:, 1], pairs[:, 0]))
+    final_of = np.full(len(ends), -1, dtype=np.int64)  # joined member -> final member
+    final_of[kept_ix[order]] = np.arange(len(kept_ix))
+    source = kept_ix[order].tolist()
     out = Geometry(
         xy[used],
         pairs[order],
-        tuple(layer_of[kept[k]] for k in order.tolist()),
-        tuple(handles_of[kept[k]] for k in order.tolist()),
+        tuple(geometry.layers[int(first[k])] for k in source),
+        tuple(handles_of(k) for k in source),
         (),
     )
-    findings = [_renumbered(f, new_id, member_map) for f in geometry.findings]
-    for k, inner in enumerate(joints_in):
-        if inner and final_of[k] >= 0:
-            findings.append(_pieces_finding(out, int(final_of[k]), made_of[k], xy[inner], handles_of[k]))
+    findings = [_renumbered(f, new_id, final_of[label]) for f in geometry.findings]
+    for k, (drawn, inner) in sorted(groups.items()):
+        if final_of[k] >= 0:
+            findings.append(_pieces_finding(out, int(final_of[k]), drawn, xy[inner], handles_of(k)))
     records = []
     for chain, f, root, cont_e in overhangs:
-        length = float(np.hypot(*(xy[f] - xy[root])))
         rec = Overhang(
             int(new_id[root]),
             int(final_of[cont_e]),
             (float(xy[f, 0]), float(xy[f, 1])),
             (float(xy[root, 0]), float(xy[root, 1])),
-            length,
-            tuple(sorted({h for e in chain for h in handles_of[e]})),
-            min(layer_of[e] for e in chain),
+            float(np.hypot(*(xy[f] - xy[root]))),
+            tuple(sorted({h for e in chain for h in handles_of(e)})),
+            min(geometry.layers[int(first[e])] for e in chain),
         )
         records.append(rec)
         findings.append(_overhang_finding(rec, unit))

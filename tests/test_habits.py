@@ -323,3 +323,29 @@ def test_every_habit_at_once_gives_the_clean_trusss_verdict_and_forces(tmp_path)
     assert np.allclose(f_messy, f_clean, rtol=0, atol=FORCE_TOL * np.abs(f_clean).max())
     ref = known.forces
     assert np.allclose(_forces_by_known_member(clean, known), ref, rtol=0, atol=FORCE_TOL * np.abs(ref).max())
+
+
+def test_overhangs_are_drawn_and_labelled_on_the_pdf(tmp_path):
+    from pypdf import PdfReader
+
+    from dxftruss.report.pdf import write_pdf
+
+    known = _known()
+    r = check(_draw(tmp_path / "eaves.dxf", known, _overhang_lines(known)))
+    out = tmp_path / "eaves.pdf"
+    write_pdf(r, out)
+    first = PdfReader(str(out)).pages[0].extract_text() or ""
+    assert first.count("overhang 600 mm") == 2  # one label at each eave's end
+    assert "overhang: left out of the analysis" in first  # its legend line
+    plain = tmp_path / "clean.pdf"
+    write_pdf(check(_draw(tmp_path / "clean.dxf", known, _clean_lines(known))), plain)
+    assert "overhang" not in (PdfReader(str(plain)).pages[0].extract_text() or "")
+
+
+def test_the_habits_read_are_among_the_assumptions_of_every_report(tmp_path):
+    from dxftruss.report import assumptions
+
+    known = _known()
+    messy = check(_draw(tmp_path / "eaves.dxf", known, _overhang_lines(known)))
+    clean = check(_draw(tmp_path / "clean.dxf", known, _clean_lines(known)))
+    assert len(assumptions(messy)) == len(assumptions(clean)) + 1

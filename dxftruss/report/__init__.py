@@ -38,12 +38,31 @@ def assumptions(result: Result) -> list[str]:
     sel = result.selection
     if sel is not None:
         out.append(layers_sentence(sel))
+    habits = habits_sentence(result)
+    if habits:
+        out.append(habits)
     out.append(f"snap tolerance {tol.snap:.6g} {unit} ({tol.snap_source})")
     out.append(f"near-miss radius {tol.near_miss:.6g} {unit} ({tol.near_miss_source})")
     if result.loads is None or not result.loads.force_unit_given:
         out.append(f"forces in {result.truss.force_unit} (the default force unit)")
     out.append("members are pin-ended bars carrying axial force only; loads act at joints; small displacements")
     return out
+
+
+#: drafting habits read as meant (habits.py): code -> what each finding of it did
+HABIT_WORDS = {
+    Code.COLLINEAR_OVERLAP: "collinear overlap(s) read as one member line",
+    Code.COLLINEAR_PIECES: "member(s) joined from collinear pieces",
+    Code.OVERHANG: "overhang(s) left out of the analysis",
+    Code.OVERHANG_LOAD: "load(s) on an overhang moved to the joint it hangs from",
+}
+
+
+def habits_sentence(result: Result) -> str:
+    """ "drafting habits read as meant: 2 overhang(s) left out ..." ("" when none)."""
+    counts = {code: sum(f.code is code for f in result.findings) for code in HABIT_WORDS}
+    said = [f"{n} {HABIT_WORDS[code]}" for code, n in counts.items() if n]
+    return f"drafting habits read as meant: {', '.join(said)} (see the findings)" if said else ""
 
 
 def layers_sentence(sel: Selection) -> str:

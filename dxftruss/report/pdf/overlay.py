@@ -40,6 +40,10 @@ from .symbols import (
     _support_symbol,
 )
 
+#: an overhang left out of the model (habits.py): dashed, in a colour no force state uses
+OVERHANG_RGB = (0.42, 0.3, 0.62)
+OVERHANG_DASH = (4.0, 2.0)
+
 
 def _original_form(ctx: _Context, c: Any, sheet: Sheet, pm: PageMap) -> str | None:
     """Draw the recorded original into a Form XObject once per sheet geometry."""
@@ -190,6 +194,28 @@ class _Overlay:
 
     def members(self, states: np.ndarray | None, widths: np.ndarray) -> None:
         _draw_members(self.c, self.a, self.b, states, widths)
+
+    def overhangs(self) -> None:
+        """Each overhang left out of the model: a dashed line from the joint it hangs from
+        to its free end, labelled "overhang" with its length beyond the free end."""
+        c, unit = self.c, self.ctx.result.source.length_unit
+        for rec in self.ctx.result.overhangs:
+            (ax, ay), (bx, by) = self.pm.point(*rec.root_xy), self.pm.point(*rec.free)
+            c.saveState()
+            c.setStrokeColorRGB(*OVERHANG_RGB)
+            c.setLineWidth(1.2)
+            c.setLineCap(1)
+            c.setDash(*OVERHANG_DASH)
+            c.line(ax, ay, bx, by)
+            c.restoreState()
+            size = math.hypot(bx - ax, by - ay) or 1.0
+            ux, uy = (bx - ax) / size, (by - ay) / size
+            text = f"overhang {rec.length:.4g} {unit}"
+            w = _width(shown(text), self.fonts.regular, 6.0)
+            tx, ty = bx + 4.0 * ux, by + 4.0 * uy - 2.0
+            x0 = tx - w if ux < 0 else tx
+            self.pg.text(tx, ty, text, size=6.0, gray=0.3, align="r" if ux < 0 else "l")
+            self.placer.block(((x0, ty - 1.5), (x0 + w, ty - 1.5), (x0 + w, ty + 7.0), (x0, ty + 7.0)))
 
     def joints(self) -> None:
         c, jp = self.c, self.jp
@@ -538,6 +564,7 @@ def _draw_drawing_page(
     if states is None:
         widths = np.full(t.n_members, 0.9 if mode is not None else 1.0)
     ov.members(states, widths)
+    ov.overhangs()
     ov.joints()
     ov.supports()
     extra_items: list[_Item] = []
@@ -585,6 +612,10 @@ def _draw_drawing_page(
     scale_text, bar_u, bar_pt = _scale_note(ctx, pm)
     unit = r.source.length_unit
     legend = _legend_items(ctx, solved=states is not None, w_of=w_of)
+    if r.overhangs:
+        legend.append(
+            _Item("legend", "overhang: left out of the analysis", _legend_line(OVERHANG_RGB, 1.2, OVERHANG_DASH), 9)
+        )
     legend.insert(
         0, _Item("scale", scale_text, lambda pg_, x_, y_: _draw_scale_bar(pg_, x_ + 2, y_, bar_u, bar_pt, unit), 12)
     )
