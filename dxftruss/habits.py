@@ -290,13 +290,16 @@ def _overlap_finding(
 def expand_handles(geometry: Geometry, info: Overlaps, *, tol: float) -> Geometry:
     """Each member made from a merged line carries the handles of all the group's lines
     (a member is from the merged line when it carries its handle and both its joints lie
-    on it; a polyline's other segments share the handle but not the line)."""
+    on it; a polyline's other segments share the handle but not the line). The
+    ``collinear-overlap`` findings join the geometry's, naming those members, and a
+    ``split-member`` finding of a merged line says it is the merged line."""
     if not info.groups:
         return geometry
     by_rep: dict[str, list[int]] = {}
     for g, h in enumerate(info.rep):
         by_rep.setdefault(h, []).append(g)
     out = list(geometry.handles)
+    made: dict[int, list[int]] = {}
     for e, hs in enumerate(geometry.handles):
         for h in hs:
             for g in by_rep.get(h, ()):
@@ -304,7 +307,37 @@ def expand_handles(geometry: Geometry, info: Overlaps, *, tol: float) -> Geometr
                 ends = geometry.xy[geometry.ends[e]]
                 if all(_on_segment(p, line[:2], line[2:], 2 * tol) for p in ends):
                     out[e] = tuple(sorted(set(out[e]) | set(info.handles[g])))
-    return replace(geometry, handles=tuple(out))
+                    made.setdefault(g, []).append(e)
+    findings = []
+    for f in geometry.findings:
+        if f.code is Code.SPLIT_MEMBER and f.data.get("handle") in by_rep:
+            hit = next((k for k in by_rep[f.data["handle"]] if set(f.members) <= set(made.get(k, ()))), None)
+            if hit is not None:
+                g = hit
+                names = ", ".join(info.handles[g][:8])
+                f = replace(
+                    f,
+                    message=f"the member line read from {len(info.groups[g])} overlapping collinear lines "
+                    f"(handles {names}) passes through {len(f.joints) - 2} joint(s) and was split into "
+                    f"{len(f.members)} members",
+                    data={**f.data, "handles": list(info.handles[g])},
+                )
+        findings.append(f)
+    for g, f in enumerate(info.findings):
+        on = [e for e in sorted(set(made.get(g, ()))) if _under_overlap(geometry.xy[geometry.ends[e]], f, tol)]
+        findings.append(replace(f, members=tuple(on)))
+    return replace(geometry, handles=tuple(out), findings=tuple(findings))
+
+
+def _under_overlap(ends: np.ndarray, f: Finding, tol: float) -> bool:
+    """Whether a member (its two end points) runs along one of the overlaps of ``f``."""
+    for lap in f.data["overlaps"]:
+        a, b = np.asarray(lap["start"], dtype=float), np.asarray(lap["end"], dtype=float)
+        u = (b - a) / max(float(np.hypot(*(b - a))), 1e-300)
+        t = np.sort((ends - a) @ u)
+        if min(float(t[1]), lap["length"]) - max(float(t[0]), 0.0) > tol:
+            return True
+    return False
 
 
 def _on_segment(p: np.ndarray, a: np.ndarray, b: np.ndarray, tol: float) -> bool:
@@ -592,6 +625,9 @@ def _renumbered(f: Finding, joint_map: np.ndarray, member_map: np.ndarray) -> Fi
         return f
     joints = tuple(int(joint_map[j]) for j in f.joints if joint_map[j] >= 0)
     members = tuple(sorted({int(member_map[e]) for e in f.members if member_map[e] >= 0}))
+    left_out = sum(member_map[e] < 0 for e in f.members)
+    if left_out and f.code is Code.SPLIT_MEMBER:
+        f = replace(f, message=f"{f.message} ({left_out} of them an overhang, left out of the analysis)")
     return replace(f, joints=joints, members=members)
 
 

@@ -244,7 +244,6 @@ def _check(
     held, loaded = _marks(linework, spec)
     read = habits.read_habits(geometry, snap=snap, near_miss=near, supports=held, loads=loaded, unit=unit)
     geometry = read.geometry
-    findings += overlaps.findings
     findings += geometry.findings
     stage("snap")
 

@@ -23,7 +23,7 @@ from typing import Any
 import numpy as np
 import pytest
 
-from dxftruss import Result, check
+from dxftruss import Result, Settings, check
 from dxftruss.audit.stability import Verdict
 from dxftruss.findings import Code, Severity
 from dxftruss.habits import merge_overlaps, read_habits
@@ -296,19 +296,26 @@ def test_pieces_on_different_layers_are_not_joined():
 # all habits at once
 
 
-def test_every_habit_at_once_gives_the_clean_trusss_verdict_and_forces(tmp_path):
-    """Eaves past both heels, a bottom-chord splice overlap and a two-piece top chord:
-    determinate with warnings, forces equal to the clean drawing's (whose reference is
-    the method-of-joints solve checked against sympy in test_office_sheets.py)."""
-    known = _known()
+def _messy_lines(known: Known) -> list[tuple[Any, Any]]:
+    """Eaves past both heels (one drawn through the heel, one from it), U1-U2 in two
+    pieces, the bottom chord as two lines lapped 600 mm over L3."""
     bottom = [(f"L{i}", f"L{i + 1}") for i in range(6)]
     lines = _without(known, ("L0", "U1"), ("U1", "U2"), *bottom)
     j = {nm: known.joints[_index(known, nm)] for nm in known.joint_names}
     mid = (j["U1"] + j["U2"]) / 2
     lines += [(j["U1"], _eave(known, "L0", "U1")), (j["L6"], _eave(known, "L6", "U5"))]
     lines += [(j["U1"], mid), (mid, j["U2"])]
-    lines += [((0.0, 0.0), (6400.0, 0.0)), ((5800.0, 0.0), (12000.0, 0.0))]
-    messy = check(_draw(tmp_path / "messy.dxf", known, lines))
+    along = j["L6"] - j["L0"]
+    lines += [(j["L0"], j["L0"] + along * 6400.0 / 12000.0), (j["L0"] + along * 5800.0 / 12000.0, j["L6"])]
+    return lines
+
+
+def test_every_habit_at_once_gives_the_clean_trusss_verdict_and_forces(tmp_path):
+    """Eaves past both heels, a bottom-chord splice overlap and a two-piece top chord:
+    determinate with warnings, forces equal to the clean drawing's (whose reference is
+    the method-of-joints solve checked against sympy in test_office_sheets.py)."""
+    known = _known()
+    messy = check(_draw(tmp_path / "messy.dxf", known, _messy_lines(known)))
     clean = check(_draw(tmp_path / "clean.dxf", known, _clean_lines(known)))
     by = _codes(messy)
     assert not _errors(messy), [(f.code.value, f.message) for f in _errors(messy)]
@@ -349,3 +356,72 @@ def test_the_habits_read_are_among_the_assumptions_of_every_report(tmp_path):
     messy = check(_draw(tmp_path / "eaves.dxf", known, _overhang_lines(known)))
     clean = check(_draw(tmp_path / "clean.dxf", known, _clean_lines(known)))
     assert len(assumptions(messy)) == len(assumptions(clean)) + 1
+
+
+@pytest.mark.parametrize(
+    "name, transform",
+    [
+        ("mirrored", lambda p: p * np.array([-1.0, 1.0])),
+        ("site coordinates", lambda p: p + np.array([412_345_678.0, 5_432_100.0])),
+        ("mirrored and shifted", lambda p: p * np.array([-1.0, 1.0]) + np.array([-75_000.0, 2_500.0])),
+    ],
+)
+def test_habits_read_the_same_mirrored_or_moved(tmp_path, name, transform):
+    # property: mirroring the drawing or moving it far from the origin changes no finding
+    # count, no verdict and no member force (the roller stays vertical under both)
+    known = _known()
+    moved = Known(known.name, transform(known.joints), known.members, known.supports, known.loads, known.joint_names)
+    r = check(_draw(tmp_path / "moved.dxf", moved, _messy_lines(moved)))
+    by = _codes(r)
+    assert not _errors(r), (name, [(f.code.value, f.message) for f in _errors(r)])
+    counts = {c: len(by.get(c, ())) for c in (Code.OVERHANG, Code.COLLINEAR_OVERLAP, Code.COLLINEAR_PIECES)}
+    assert counts == {Code.OVERHANG: 2, Code.COLLINEAR_OVERLAP: 1, Code.COLLINEAR_PIECES: 1}, name
+    assert [st.verdict for st in r.stability] == [Verdict.DETERMINATE]
+    ref = known.forces  # method of joints; checked against sympy in test_office_sheets.py
+    got = _forces_by_known_member(r, moved)
+    assert np.allclose(got, ref, rtol=0, atol=1e-7 * np.abs(ref).max()), name
+
+
+def test_a_load_given_in_the_loads_file_on_an_overhang_moves_to_its_root(tmp_path):
+    # [[load]] 2 kN down at the right eave's end: acts at L6 (the roller), so member
+    # forces stay the clean truss's (closed form: a vertical load on a vertical roller
+    # goes straight into it) and the overhang-load warning names L6
+    known = _known()
+    e = _eave(known, "L6", "U5")
+    drawing = _draw(tmp_path / "eaves.dxf", known, _overhang_lines(known))
+    loads = tmp_path / "eaves.toml"
+    loads.write_text(f'[drawn]\nloads = "add"\n\n[[load]]\nat = [{float(e[0])!r}, {float(e[1])!r}]\nfy = -2.0\n')
+    r = check(drawing, Settings(loads=str(loads)))
+    by = _codes(r)
+    assert not _errors(r), [(f.code.value, f.message) for f in _errors(r)]
+    (moved,) = by[Code.OVERHANG_LOAD]
+    l6 = int(np.argmin(np.hypot(*(r.truss.xy - known.joints[_index(known, "L6")]).T)))
+    assert moved.joints == (l6,) and moved.data["force"] == [0.0, -2.0]
+    # M = lx * Fy - ly * Fx about L6, in kN m (drawing unit mm)
+    lx = float(e[0] - known.joints[_index(known, "L6"), 0])
+    assert moved.data["moment"] == pytest.approx(lx * -2.0 * 1e-3, rel=1e-9)
+    ref = known.forces
+    assert np.allclose(_forces_by_known_member(r, known), ref, rtol=0, atol=FORCE_TOL * np.abs(ref).max())
+
+
+def test_a_support_at_the_end_holds_it_and_makes_no_overhang():
+    #   (0,3)           a triangle with its base drawn on past (4,0) to (6,0), a support
+    #   |  \            drawn at (6,0): the end is held, so it is a member, not an overhang
+    #   (0,0)--(4,0)--(6,0)
+    seg = np.array([[0, 0, 6, 0], [0, 0, 0, 3], [0, 3, 4, 0]], float)
+    g = build_geometry(seg, ("a", "b", "c"), ("T",) * 3, snap=1e-6)
+    free = read_habits(g, snap=1e-6, near_miss=0.05)
+    held = read_habits(g, snap=1e-6, near_miss=0.05, supports=[(6.0, 0.0)])
+    assert len(free.overhangs) == 1 and free.overhangs[0].length == pytest.approx(2.0)
+    assert not held.overhangs and len(held.geometry.ends) == 4
+
+
+def test_overlaps_chain_and_contain():
+    # A 0..50, B 40..90, C 80..120 chain; D 10..20 lies inside A: all one line 0..120
+    seg = np.array([[0, 0, 50, 0], [40, 0, 90, 0], [120, 0, 80, 0], [10, 0, 20, 0], [0, 5, 50, 5]], float)
+    out, handles, _, info = merge_overlaps(seg, tuple("abcde"), ("T",) * 5, tol=1e-6, unit="mm")
+    assert info.groups == ((0, 1, 2, 3),) and info.handles == (("a", "b", "c", "d"),)
+    assert sorted(map(tuple, out.tolist())) == [(0, 0, 120, 0), (0, 5, 50, 5)]
+    lap = info.findings[0].data
+    assert [round(o["length"], 9) for o in lap["overlaps"]] == [10.0, 10.0, 10.0]  # 10..20, 40..50, 80..90
+    assert handles[out.tolist().index([0, 0, 120, 0])] == "a"  # the longest line's
