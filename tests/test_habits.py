@@ -110,6 +110,12 @@ def _errors(r: Result) -> list:
     return [f for f in r.findings if f.severity is Severity.ERROR]
 
 
+def _no_errors(r: Result) -> dict[Code, list]:
+    """The findings by code of a result that must have no error."""
+    assert not _errors(r), [(f.code.value, f.message) for f in _errors(r)]
+    return _codes(r)
+
+
 # ---------------------------------------------------------------------------------------
 # 1. overhangs
 
@@ -126,8 +132,7 @@ def _overhang_lines(known: Known) -> list[tuple[Any, Any]]:
 def test_eaves_overhangs_are_warnings_left_out_of_the_analysis(tmp_path):
     known = _known()
     r = check(_draw(tmp_path / "eaves.dxf", known, _overhang_lines(known)))
-    by = _codes(r)
-    assert not _errors(r), [(f.code.value, f.message) for f in _errors(r)]
+    by = _no_errors(r)
     over = by[Code.OVERHANG]
     assert len(over) == 2
     assert all(f.severity is Severity.WARNING for f in over)
@@ -179,8 +184,7 @@ def test_a_load_on_an_overhang_moves_to_its_heel_with_the_moment_said(tmp_path):
     known = _known()
     e = _eave(known, "L0", "U1")
     r = check(_draw(tmp_path / "eave_load.dxf", known, _overhang_lines(known), [(e, "2 kN")]))
-    by = _codes(r)
-    assert not _errors(r), [(f.code.value, f.message) for f in _errors(r)]
+    by = _no_errors(r)
     moved = by[Code.OVERHANG_LOAD]
     assert len(moved) == 1 and moved[0].severity is Severity.WARNING
     l0 = int(np.argmin(np.hypot(*(r.truss.xy - known.joints[_index(known, "L0")]).T)))
@@ -215,8 +219,7 @@ def _splice_lines(known: Known, lap: float = 500.0) -> list[tuple[Any, Any]]:
 def test_a_splice_overlap_is_one_member_line_with_a_warning(tmp_path):
     known = _known()
     r = check(_draw(tmp_path / "splice.dxf", known, _splice_lines(known)))
-    by = _codes(r)
-    assert not _errors(r), [(f.code.value, f.message) for f in _errors(r)]
+    by = _no_errors(r)
     (lap,) = by[Code.COLLINEAR_OVERLAP]
     assert lap.severity is Severity.WARNING
     assert lap.data["length"] == pytest.approx(1000.0)
@@ -256,8 +259,7 @@ def _pieces_lines(known: Known) -> list[tuple[Any, Any]]:
 def test_a_chord_in_two_pieces_is_one_member(tmp_path):
     known = _known()
     r = check(_draw(tmp_path / "pieces.dxf", known, _pieces_lines(known)))
-    by = _codes(r)
-    assert not _errors(r), [(f.code.value, f.message) for f in _errors(r)]
+    by = _no_errors(r)
     (pieces,) = by[Code.COLLINEAR_PIECES]
     assert pieces.severity is Severity.INFO and pieces.data["pieces"] == 2
     u1 = int(np.argmin(np.hypot(*(r.truss.xy - known.joints[_index(known, "U1")]).T)))
@@ -317,8 +319,7 @@ def test_every_habit_at_once_gives_the_clean_trusss_verdict_and_forces(tmp_path)
     known = _known()
     messy = check(_draw(tmp_path / "messy.dxf", known, _messy_lines(known)))
     clean = check(_draw(tmp_path / "clean.dxf", known, _clean_lines(known)))
-    by = _codes(messy)
-    assert not _errors(messy), [(f.code.value, f.message) for f in _errors(messy)]
+    by = _no_errors(messy)
     assert len(by[Code.OVERHANG]) == 2 and len(by[Code.COLLINEAR_OVERLAP]) == 1
     assert len(by[Code.COLLINEAR_PIECES]) == 1
     assert [st.verdict for st in messy.stability] == [Verdict.DETERMINATE]
@@ -372,8 +373,7 @@ def test_habits_read_the_same_mirrored_or_moved(tmp_path, name, transform):
     known = _known()
     moved = Known(known.name, transform(known.joints), known.members, known.supports, known.loads, known.joint_names)
     r = check(_draw(tmp_path / "moved.dxf", moved, _messy_lines(moved)))
-    by = _codes(r)
-    assert not _errors(r), (name, [(f.code.value, f.message) for f in _errors(r)])
+    by = _no_errors(r)
     counts = {c: len(by.get(c, ())) for c in (Code.OVERHANG, Code.COLLINEAR_OVERLAP, Code.COLLINEAR_PIECES)}
     assert counts == {Code.OVERHANG: 2, Code.COLLINEAR_OVERLAP: 1, Code.COLLINEAR_PIECES: 1}, name
     assert [st.verdict for st in r.stability] == [Verdict.DETERMINATE]
@@ -392,8 +392,7 @@ def test_a_load_given_in_the_loads_file_on_an_overhang_moves_to_its_root(tmp_pat
     loads = tmp_path / "eaves.toml"
     loads.write_text(f'[drawn]\nloads = "add"\n\n[[load]]\nat = [{float(e[0])!r}, {float(e[1])!r}]\nfy = -2.0\n')
     r = check(drawing, Settings(loads=str(loads)))
-    by = _codes(r)
-    assert not _errors(r), [(f.code.value, f.message) for f in _errors(r)]
+    by = _no_errors(r)
     (moved,) = by[Code.OVERHANG_LOAD]
     l6 = int(np.argmin(np.hypot(*(r.truss.xy - known.joints[_index(known, "L6")]).T)))
     assert moved.joints == (l6,) and moved.data["force"] == [0.0, -2.0]
