@@ -197,8 +197,9 @@ def merge_overlaps(
 
     ``tol`` is the snap tolerance (drawing units). Returns the new line work (each merged
     line in the place of its group's first line, carrying the longest line's handle and
-    the first layer by name) and what was merged. Cost: one spatial query of the lines
-    within ``tol`` of each other."""
+    the first layer by name) and what was merged. Cost: one spatial query of the distinct
+    line ends against the lines, bounded by :data:`MAX_PAIRS_PER_LINE` (past it nothing
+    is merged and overlaps stay duplicates)."""
     seg = np.asarray(segments, dtype=float).reshape(-1, 4)
     if len(seg) < 2 or tol <= 0:
         return seg, handles, layers, Overlaps()

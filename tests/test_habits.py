@@ -424,3 +424,20 @@ def test_overlaps_chain_and_contain():
     lap = info.findings[0].data
     assert [round(o["length"], 9) for o in lap["overlaps"]] == [10.0, 10.0, 10.0]  # 10..20, 40..50, 80..90
     assert handles[out.tolist().index([0, 0, 120, 0])] == "a"  # the longest line's
+
+
+def test_the_json_report_of_every_habit_is_valid_and_repeatable(tmp_path):
+    import json
+
+    jsonschema = pytest.importorskip("jsonschema")
+    from dxftruss.report.json import report_dict
+
+    schema = json.loads((Path(__file__).parents[1] / "docs" / "report.schema.json").read_text(encoding="utf-8"))
+    known = _known()
+    path = _draw(tmp_path / "messy.dxf", known, _messy_lines(known), [(_eave(known, "L0", "U1"), "2 kN")])
+    doc = report_dict(check(path))
+    errors = [e.message for e in jsonschema.Draft202012Validator(schema).iter_errors(doc)]
+    assert not errors, errors[:5]
+    codes = {f["code"] for f in doc["findings"]}
+    assert {"overhang", "overhang-load", "collinear-overlap", "collinear-pieces"} <= codes
+    assert json.dumps(doc, sort_keys=True) == json.dumps(report_dict(check(path)), sort_keys=True)
