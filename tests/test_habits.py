@@ -441,3 +441,14 @@ def test_the_json_report_of_every_habit_is_valid_and_repeatable(tmp_path):
     codes = {f["code"] for f in doc["findings"]}
     assert {"overhang", "overhang-load", "collinear-overlap", "collinear-pieces"} <= codes
     assert json.dumps(doc, sort_keys=True) == json.dumps(report_dict(check(path)), sort_keys=True)
+
+
+def test_a_straight_joint_with_a_support_or_load_stays_a_joint():
+    #   (0,0)----(50,0)----(100,0)   two pieces; a mark drawn at (50, 0.01), within reach
+    seg = np.array([[0, 0, 50, 0], [50, 0, 100, 0]], float)
+    g = build_geometry(seg, ("a", "b"), ("T", "T"), snap=1e-6)
+    joined = read_habits(g, snap=1e-6, near_miss=1.0)
+    assert len(joined.geometry.ends) == 1 and [f.code for f in joined.geometry.findings] == [Code.COLLINEAR_PIECES]
+    for kind in ("supports", "loads"):
+        kept = read_habits(g, snap=1e-6, near_miss=1.0, **{kind: [(50.0, 0.01)]})
+        assert len(kept.geometry.ends) == 2 and not kept.geometry.findings, kind
