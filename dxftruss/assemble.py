@@ -43,6 +43,7 @@ from .model import (
     joint_id,
     restraint_for,
     restraint_name,
+    top_handles,
 )
 from .read import LineWork
 from .snap import Geometry
@@ -463,7 +464,9 @@ def build_truss(
         xy=xy,
         ends=ends,
         layers=geometry.layers,
-        handles=geometry.handles,
+        handles=top_handles(geometry.handles),
+        entities=geometry.handles,
+        block_names=linework.block_names,
         supports=tuple(supports),
         cases=tuple(cases),
         parts=parts,

@@ -181,13 +181,16 @@ def _check(
     else:
         first = opt_snap if opt_snap is not None else default_snap(all_seg, settings.snap_fraction)
         selection = drafting.select_structure(all_seg, linework.layers, snap=first)
+    # from here on a segment's "handle" is its entity key (model-space handle, or the
+    # block path down to the entity inside blocks); the truss splits the two again
+    all_keys = linework.entity_keys()
     if selection.n_set_aside:
         keep = selection.keep
         seg = all_seg[keep]
-        seg_handles = tuple(h for h, k in zip(linework.handles, keep.tolist(), strict=True) if k)
+        seg_handles = tuple(h for h, k in zip(all_keys, keep.tolist(), strict=True) if k)
         seg_layers = tuple(n for n, k in zip(linework.layers, keep.tolist(), strict=True) if k)
     else:
-        seg, seg_handles, seg_layers = all_seg, linework.handles, linework.layers
+        seg, seg_handles, seg_layers = all_seg, all_keys, linework.layers
     seg, seg_handles, seg_layers, derived = outlines.derive(seg, seg_handles, seg_layers)
     if derived.used and selection.fallback:  # outlines do not triangulate; their centre lines do
         seg, seg_handles, seg_layers, selection = outlines.reselect(

@@ -19,6 +19,7 @@ import numpy as np
 
 from ...findings import Severity
 from ...model import joint_id, member_id
+from ...naming import finding_parts, part_index, where_drawn
 from .. import assumptions
 from .context import FULL_TABLE_MEMBERS, MAX_MUST, SUMMARY_ROWS, _case_loads, _Context, _member_states
 from .format import _clip, _Page, _wrap, clean_reactions, fmt_num, shown
@@ -208,6 +209,7 @@ def _findings_section(ctx: _Context, flow: _Flow, *, max_findings: int) -> None:
     fonts = ctx.fonts
     unit = r.source.length_unit
     width = flow.w - 18
+    index = part_index(r.truss)
     for i, f in enumerate(r.findings[:max_findings], 1):
         lines: list[tuple[str, float, float, bool, float]] = []
         lines.append((f"{i}.  {f.severity.value.upper()}  {f.code.value}", 7.6, 0.0, True, 0.0))
@@ -222,6 +224,12 @@ def _findings_section(ctx: _Context, flow: _Flow, *, max_findings: int) -> None:
             det.append("members " + ", ".join(ids[:30]) + (f" ... ({len(ids)} in all)" if len(ids) > 30 else ""))
         if f.at is not None:
             det.append(f"at ({f.at[0]:.6g}, {f.at[1]:.6g}) {unit}")
+        named = finding_parts(f, index, r.part_names) if len(r.truss.parts) > 1 else []
+        if named:
+            det.append("part " + ", ".join(named[:5]) + (" ..." if len(named) > 5 else ""))
+        drawn = where_drawn(r.truss, f)
+        if drawn:
+            det.append("drawn: " + drawn)
         if det:
             for s in _wrap("; ".join(det), fonts.regular, 6.6, width):
                 lines.append((s, 6.6, 0.35, False, 18.0))
