@@ -202,6 +202,7 @@ def _check(
         )
     elif derived.used:
         selection = replace(selection, derived=len(derived.pairs))
+    findings, selection = drafting.curved_drafting(findings, selection)
     findings += drafting.findings(selection)
     findings += outlines.findings(derived, unit)
     if len(seg):
