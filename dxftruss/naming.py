@@ -17,6 +17,7 @@ is unique. Every finding that concerns joints or members names its part(s).
 from __future__ import annotations
 
 import re
+from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
@@ -28,11 +29,24 @@ from .read.boundary import _ENTITY_FAILURES
 _MARK = re.compile(r"^[A-Za-z]{1,4}[-_ ]?\d{1,4}[A-Za-z]?$")
 
 
+@dataclass(frozen=True)
+class PartNames:
+    """The parts' names, and which of them the sheet itself gave (a block or a mark)."""
+
+    names: tuple[str, ...]
+    from_sheet: frozenset[int]
+
+
 def part_names(truss: Truss, texts: tuple[Any, ...] = (), document: Any = None) -> tuple[str, ...]:
     """One name per part of ``truss`` (see the module docstring)."""
+    return name_parts(truss, texts, document).names
+
+
+def name_parts(truss: Truss, texts: tuple[Any, ...] = (), document: Any = None) -> PartNames:
+    """The names of :func:`part_names` and the parts named by a block or a mark."""
     parts = truss.parts
     if not parts:
-        return ()
+        return PartNames((), frozenset())
     boxes = []
     for p in parts:
         pts = truss.xy[p.joints] if len(p.joints) else np.zeros((1, 2))
@@ -69,7 +83,7 @@ def part_names(truss: Truss, texts: tuple[Any, ...] = (), document: Any = None) 
     final, count = [], {n: out.count(n) for n in out}
     for i, name in enumerate(out):
         final.append(f"{name} ({fallback[i]})" if count[name] > 1 else name)
-    return tuple(final)
+    return PartNames(tuple(final), frozenset(names))
 
 
 def _fmt_point(p: Any) -> str:

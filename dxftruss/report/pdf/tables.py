@@ -283,15 +283,16 @@ def _tables_section(ctx: _Context, flow: _Flow, *, max_rows: int) -> None:
     # parts
     flow.heading(f"Parts ({len(t.parts)})", "t-parts")
     cols = [
-        Column("part", 110),
+        Column("part", 120, clip=True),
         Column("joints", 46, "r"),
         Column("members", 50, "r"),
         Column("reactions", 52, "r"),
         Column("rank", 44, "r"),
         Column("mechanisms", 60, "r"),
         Column("self-stress", 60, "r"),
-        Column("verdict", 130),
-        Column("method", 80),
+        Column("verdict", 90),
+        Column("same as", 130, clip=True),
+        Column("method", 70),
     ]
     prow = [
         [
@@ -302,9 +303,8 @@ def _tables_section(ctx: _Context, flow: _Flow, *, max_rows: int) -> None:
             str(st.rank),
             str(st.mechanisms),
             str(st.self_stress),
-            st.verdict.value
-            if p.index not in r.same_as
-            else f"{st.verdict.value}, same as {r.part_name(r.same_as[p.index])}",
+            st.verdict.value,
+            r.part_name(r.same_as[p.index]) if p.index in r.same_as else "",
             st.method,
         ]
         for p, st in zip(t.parts[:max_rows], r.stability, strict=False)
