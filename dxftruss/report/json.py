@@ -152,6 +152,7 @@ def report_dict(result: Result) -> dict[str, Any]:
                 "members": [member_id(e) for e in f.members],
                 "at": [_num(f.at[0]), _num(f.at[1])] if f.at is not None else None,
                 "parts": finding_parts(f, index, result.part_names),
+                "next_step": f.next_step or None,
                 **({"data": _jsonable(f.data)} if f.data else {}),
             }
             for f in result.findings
