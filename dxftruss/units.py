@@ -299,8 +299,10 @@ class LengthFormat:
         return f"{self.number(x)} {self.unit}"
 
     def point(self, x: float, y: float) -> str:
-        """A point: ``"(1200.00, 350.00) mm"``."""
-        return f"({self.number(x)}, {self.number(y)}) {self.unit}"
+        """A point: ``"(1200.00, 350.00) mm"`` (each coordinate rounded to the step, so
+        a coordinate within noise of zero is 0.00)."""
+        d = self.decimals
+        return f"({self.value(x) + 0.0:.{d}f}, {self.value(y) + 0.0:.{d}f}) {self.unit}"
 
 
 def length_format(unit: str, *, snap: float, magnitude: float) -> LengthFormat:

@@ -35,7 +35,8 @@ from scipy.spatial import cKDTree
 
 from ..findings import Code, Finding
 from ..model import Truss, joint_id, member_id
-from ..units import LengthFormat, length_format
+from ..units import LengthFormat
+from . import lengths_for
 from .stability import Mode, PartStability
 
 #: a candidate bar must stretch at least this much per unit of the mode's largest
@@ -46,12 +47,6 @@ MIN_ELONGATION = 1e-3
 SNAP_MARGIN = 2e-3
 #: nearest joints tried as the far end of a new bar, per moving joint
 NEIGHBOURS = 12
-
-
-def lengths_for(truss: Truss, snap: float) -> LengthFormat:
-    """The message resolution of ``truss`` checked with ``snap`` (units.length_format)."""
-    magnitude = float(np.abs(truss.xy).max()) if truss.n_joints else 0.0
-    return length_format(truss.length_unit, snap=snap, magnitude=magnitude)
 
 
 def add_next_steps(
@@ -92,7 +87,91 @@ def add_next_steps(
             if isinstance(part, int) and part not in mech_steps and f.next_step:
                 mech_steps[part] = f.next_step
         out.append(f)
-    return [_after_mechanism(f, mech_steps) if f.code is Code.LOAD_EXCITES_MECHANISM else f for f in out]
+    out = [_after_mechanism(f, mech_steps) if f.code is Code.LOAD_EXCITES_MECHANISM else f for f in out]
+    plain = _Plain(truss, fmt)
+    return [f if f.next_step else replace(f, next_step=plain.step(f)) for f in out]
+
+
+# ----------------------------------------------------------------------------------------
+# steps read from the finding itself
+
+
+class _Plain:
+    """The next steps that follow from a finding's own record (its handle, layer, place)."""
+
+    def __init__(self, truss: Truss, fmt: LengthFormat) -> None:
+        self.truss, self.fmt = truss, fmt
+        self._tree: cKDTree | None = None
+
+    def nearest(self, at: tuple[float, float] | None) -> str:
+        """ " (the nearest joint is J3 at (x, y) mm, 12.00 mm away)" for a point, "" when none."""
+        if at is None or not self.truss.n_joints or not all(map(math.isfinite, at)):
+            return ""
+        if self._tree is None:
+            self._tree = cKDTree(self.truss.xy)
+        d, j = self._tree.query(at)
+        xy = self.truss.xy[int(j)]
+        return f" (the nearest joint is {joint_id(int(j))} at {self.fmt.point(*xy)}, {self.fmt(float(d))} away)"
+
+    def step(self, f: Finding) -> str:
+        d = f.data
+        handle = d.get("handle")
+        layer = d.get("layer")
+        entity = f"handle {handle}" + (f", layer '{layer}'" if isinstance(layer, str) else "")
+        c = f.code
+        if c is Code.NO_MEMBERS:
+            return (
+                "name the truss's layers with --layers, or list every layer and its use with 'dxftruss layers DRAWING'"
+            )
+        if c is Code.INVALID_COORDINATE:
+            return (
+                f"redraw the {d.get('type', 'entity')} ({entity}) with finite coordinates near the truss, or erase it"
+            )
+        if c is Code.ZERO_LENGTH_MEMBER:
+            return f"erase the short line ({entity}) or draw it to the joint it was meant to reach"
+        if c is Code.DUPLICATE_MEMBER and len(f.joints) == 2:
+            hs = ", ".join(str(h) for h in d.get("handles", [])[:8])
+            a, b = (joint_id(j) for j in f.joints)
+            return f"erase all but one of the lines between {a} and {b} (handles {hs})"
+        if c is Code.SUPPORT_OFF_JOINT:
+            return f"move the support ({entity}) onto its joint{self.nearest(f.at)}, or draw a joint where it is"
+        if c is Code.LOAD_OFF_JOINT:
+            return f"move the load line's head ({entity}) onto its joint{self.nearest(f.at)}"
+        if c is Code.LOAD_WITHOUT_VALUE:
+            return (
+                f"write the force with its unit beside the load line ({entity}), e.g. '12.5 kN', on the load's "
+                "layer, or give the load in the loads file ([[load]])"
+            )
+        if c is Code.LOAD_LABEL_UNCLEAR:
+            return (
+                "rewrite the label as one number with its force unit, e.g. '12.5 kN' (or a load per length "
+                "such as '0.75 kN/m' on a row of arrows), or give the load in the loads file"
+            )
+        if c is Code.INCLINED_SUPPORT:
+            return (
+                f"insert the roller block ({entity}) without skew and in the drawing plane, or give the support "
+                "in the loads file with its normal"
+            )
+        if c is Code.AMBIGUOUS_OUTLINE:
+            hs = ", ".join(str(h) for h in d.get("handles", [])[:8])
+            return f"draw the member's centre line between its two outline lines (handles {hs}) on the member layer"
+        if c is Code.LOAD_EXCITES_MECHANISM:
+            return "remove the part's mechanism first (see its mechanism finding)"
+        if c is Code.UNJOINED_CROSSING and f.at is not None:
+            a, b = (member_id(e) for e in f.members[:2])
+            return (
+                f"if {a} and {b} are meant to connect, break both lines at {self.fmt.point(*f.at)}; if one "
+                "passes the other, nothing to do"
+            )
+        if c is Code.ASSUMED_UNITS:
+            return "give the drawing unit with --units (e.g. --units mm) or [units] length in the loads file"
+        if c is Code.ASSUMED_SUPPORTS:
+            return "draw the supports (a POINT on layer SUPPORT-XY, SUPPORT-X or SUPPORT-Y) or give them with --loads"
+        if c is Code.ASSUMED_LOADS:
+            return "draw the loads (a LINE on layer LOAD or LOAD-<case>, its force beside it) or give them with --loads"
+        if c is Code.NEAR_MECHANISM and d.get("kind") == "local" and f.joints:
+            return f"brace {joint_id(f.joints[0])} across the line of its members, or draw them as one straight member"
+        return ""
 
 
 # ----------------------------------------------------------------------------------------
