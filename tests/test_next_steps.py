@@ -85,19 +85,61 @@ def test_near_miss_snap_not_offered_when_it_would_join_a_closer_pair(tmp_path):
 
 
 def test_joint_to_member_near_miss_snap_splits_only_that_member(tmp_path):
-    # the vertical at L3 (x = 12) stops 25 mm above the bottom chord, whose line passes
-    # through L3: its end is 25 mm from the joint L3 (a joint-joint near miss)
-    segs = pratt_segments()
-    k = segs.index((12.0, 0.0, 12.0, 3.0))
-    segs[k] = (12.0, 0.025, 12.0, 3.0)
-    r = _check(tmp_path, "tee", segs)
-    near = _codes(r, Code.NEAR_MISS)
-    assert near, "expected a near miss"
-    f = near[0]
-    assert f.data["snap_joins_only_this"] is True
-    again = dxftruss.check(tmp_path / "tee.dxf", Settings(snap=f"{f.data['closing_snap']}m"))
+    # an extra hanger at x = 14, mid-panel between L3 and L4: its top end is on the top
+    # chord's inside (a joint there), its lower end 25 mm above the bottom chord's inside
+    #
+    #   U3----+----U4
+    #    |    |    |
+    #   L3---(.)---L4    hanger end 25 mm above the chord, not on it
+    segs = [*pratt_segments(), (14.0, 0.025, 14.0, 3.0)]
+    r = _check(tmp_path, "hanger", segs)
+    [f] = _codes(r, Code.NEAR_MISS)
+    assert len(f.joints) == 1 and len(f.members) == 1  # a joint and the inside of a member
+    assert f.data["snap_joins_only_this"] is True and f.next_step
+    again = dxftruss.check(tmp_path / "hanger.dxf", Settings(snap=f"{f.data['closing_snap']}m"))
     assert not _codes(again, Code.NEAR_MISS)
-    assert all(st.mechanisms == 0 for st in again.stability)
+    assert again.truss.n_joints == r.truss.n_joints  # the end became a joint on the chord
+    assert again.truss.n_members == r.truss.n_members + 1  # the chord member split there, nothing else
+    assert _same_joints(r.truss.xy, again.truss.xy)
+    assert not _codes(again, Code.DANGLING_MEMBER)
+
+
+def test_mechanism_steps_together_with_the_near_miss_join_make_the_part_rigid(tmp_path):
+    # the hanger drawing above: one motion is the loose end (joined by closing the near
+    # miss); the other, the hanger and both its straight joints moving up and down, needs
+    # a member; doing both steps leaves no mechanism
+    segs = [*pratt_segments(), (14.0, 0.025, 14.0, 3.0)]
+    r = _check(tmp_path, "hanger", segs)
+    steps = {f.data["mode"]: f.data for f in _codes(r, Code.MECHANISM)}
+    assert len(steps) == 2 == r.stability[0].mechanisms
+    joins = [d["join"] for d in steps.values() if "join" in d]
+    bars = [d["add_member"] for d in steps.values() if "add_member" in d]
+    assert len(joins) == 1 and len(bars) == 1
+    [near] = _codes(r, Code.NEAR_MISS)
+    assert joins[0] == [f"J{near.joints[0] + 1}", f"M{near.members[0] + 1}"]
+    snap = near.data["closing_snap"]
+    path = write_drawing(tmp_path / "fixed.dxf", _with_bar(segs, r, bars[0]), supports=SUPPORTS)
+    fixed = dxftruss.check(path, Settings(snap=f"{snap}m"))
+    assert fixed.stability[0].mechanisms == 0
+    # the member alone leaves the loose end's motion
+    assert _check(tmp_path, "bar only", _with_bar(segs, r, bars[0])).stability[0].mechanisms == 1
+
+
+def test_straight_joint_mechanism_is_braced_by_the_suggested_member(tmp_path):
+    # a triangle whose bottom chord is drawn in two pieces meeting at mid-span with
+    # nothing else there: the straight joint J moves across the chord
+    #
+    #        C
+    #      /   \
+    #    A---J---B
+    segs = [(0.0, 0.0, 4.0, 0.0), (4.0, 0.0, 8.0, 0.0), (8.0, 0.0, 4.0, 3.0), (4.0, 3.0, 0.0, 0.0)]
+    sup = [(0.0, 0.0, "XY"), (8.0, 0.0, "Y")]
+    r = _check(tmp_path, "straight", segs, supports=sup)
+    [mech] = _codes(r, Code.MECHANISM)
+    bar = mech.data["add_member"]
+    again = _check(tmp_path, "braced", _with_bar(segs, r, bar), supports=sup)
+    assert again.stability[0].mechanisms == 0
+    assert {tuple(r.truss.xy[int(j[1:]) - 1]) for j in bar} == {(4.0, 0.0), (4.0, 3.0)}  # the only bar there is
 
 
 def _with_bar(segments, result, ids):
@@ -157,3 +199,33 @@ def test_dangling_member_names_its_free_end(tmp_path):
     assert tuple(r.truss.xy[j]) == pytest.approx((26.0, 4.0))
     assert d.data["free_end"] == pytest.approx([26.0, 4.0])
     assert f"J{j + 1}" in d.next_step
+
+
+def test_next_steps_in_the_json_terminal_and_pdf(tmp_path):
+    import json
+
+    jsonschema = pytest.importorskip("jsonschema")
+    pypdf = pytest.importorskip("pypdf")
+    from dxftruss.report.json import to_json
+    from dxftruss.report.pdf import write_pdf
+    from dxftruss.report.text import summary
+
+    r = _check(tmp_path, "gap", _gapped())
+    doc = json.loads(to_json(r))
+    schema = json.loads((Path(__file__).parent.parent / "docs" / "report.schema.json").read_text())
+    jsonschema.Draft202012Validator(schema).validate(doc)
+    by_code = {}
+    for f in doc["findings"]:
+        by_code.setdefault(f["code"], []).append(f["next_step"])
+    assert all(isinstance(s, str) and s for s in by_code["dangling-member"] + by_code["mechanism"])
+    assert all(s for s in by_code["near-miss"])
+    [nm] = [f for f in r.findings if f.code is Code.NEAR_MISS]
+    near = [f for f in doc["findings"] if f["code"] == "near-miss"]
+    assert [f["data"]["closing_snap"] for f in near] == [nm.data["closing_snap"]]
+    text = summary(r, width=200)
+    assert text.count("next step:") == sum(1 for f in r.findings if f.next_step)
+    out = tmp_path / "gap.pdf"
+    write_pdf(r, out)
+    pages = " ".join(" ".join((p.extract_text() or "").split()) for p in pypdf.PdfReader(str(out)).pages)
+    assert pages.count("next step:") == sum(1 for f in r.findings if f.next_step)
+    assert f"--snap {nm.data['closing_snap']}m" in pages

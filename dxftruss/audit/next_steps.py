@@ -66,8 +66,11 @@ def add_next_steps(
     gaps = [float(f.data.get("distance", 0.0)) for f in findings if f.code is Code.NEAR_MISS and f.joints]
     near = _NearMisses(truss, snap, fmt, 2 * max(gaps, default=0.0) + 4 * snap + fmt.step) if gaps else None
     pairs = [(f.joints[0], f.joints[1]) for f in findings if f.code is Code.NEAR_MISS and len(f.joints) == 2]
+    tees = [
+        (f.joints[0], f.members[0]) for f in findings if f.code is Code.NEAR_MISS and len(f.joints) == 1 and f.members
+    ]
     plans = {
-        st.part: _PartPlan(truss, st.part, st.modes, pairs, near_miss=near_miss, fmt=fmt)
+        st.part: _PartPlan(truss, st.part, st.modes, pairs, tees, near_miss=near_miss, fmt=fmt)
         for st in stability
         if st.modes
     }
@@ -358,6 +361,7 @@ class _PartPlan:
         part: int,
         modes: tuple[Mode, ...],
         near: list[tuple[int, int]],
+        tees: list[tuple[int, int]],
         *,
         near_miss: float,
         fmt: LengthFormat,
@@ -392,6 +396,21 @@ class _PartPlan:
                             "moves them apart, so joining them removes it"
                         )
                         step = (text, {"join": [joint_id(a), joint_id(b)]})
+                        break
+            for j, e in [] if step else tees:
+                a, b = (int(v) for v in truss.ends[e])
+                if j in local and a in local and b in local:
+                    # j on the member's inside: the member becomes a-j and j-b, whose elongations
+                    # along the member's line are the new constraints
+                    t = (xy[b] - xy[a]) / float(np.hypot(*(xy[b] - xy[a])))
+                    new = np.array([(U[:, local[j]] - U[:, local[a]]) @ t, (U[:, local[b]] - U[:, local[j]]) @ t])
+                    if fits(new):
+                        rows += list(new)
+                        text = (
+                            f"join {joint_id(j)} to member {member_id(e)} (the near miss): this motion moves "
+                            f"{joint_id(j)} along {member_id(e)}, so joining it there removes it"
+                        )
+                        step = (text, {"join": [joint_id(j), member_id(e)]})
                         break
             bar = None if step else suggest_bar(truss, joints, mode, U, fits, near_miss=near_miss)
             if bar is not None:
@@ -437,8 +456,9 @@ def suggest_bar(
 ) -> tuple[int, int, np.ndarray] | None:
     """A new member (i, j, its elongation under every mode of ``U``) that removes
     ``mode``: the shortest bar longer than ``near_miss`` between a moving joint and one
-    of its nearest joints of the part, not already a member and not passing within
-    ``near_miss`` of another joint (it would be split there, or be a near miss), whose
+    of its nearest joints of the part, not already a member, not passing within
+    ``near_miss`` of another joint (it would be split there, or be a near miss) and not
+    running along a member (both ends within ``near_miss`` of it), whose
     elongations pass ``fits`` (under this mode at least MIN_ELONGATION, independent of
     the fixes already chosen); bars that cross no member come first. None when there is
     none."""
@@ -462,7 +482,7 @@ def suggest_bar(
     for d, gi, gj, i, jj in sorted(set(cands)):
         e = (xy[jj] - xy[i]) / d
         elong = np.einsum("kj,j->k", U[:, jj] - U[:, i], e)
-        if not fits(elong) or _passes_joint(tree, xy, i, jj, near_miss):
+        if not fits(elong) or _passes_joint(tree, xy, i, jj, near_miss) or _along_member(truss, gi, gj, near_miss):
             continue
         key = (_crosses(truss, gi, gj), d, gi, gj)
         if best is None or key < best[0]:
@@ -485,6 +505,21 @@ def _passes_joint(tree: cKDTree, xy: np.ndarray, i: int, j: int, reach: float) -
         if 0 < t < 1 and float(np.hypot(*(xy[k] - (a + t * d)))) <= reach:
             return True
     return False
+
+
+def _along_member(truss: Truss, i: int, j: int, reach: float) -> bool:
+    """Whether joints i and j both lie within ``reach`` of one member (the bar would run
+    along it, or along where it is once a near miss there is joined)."""
+    p, q = truss.xy[truss.ends[:, 0]], truss.xy[truss.ends[:, 1]]
+    d = q - p
+    dd = np.einsum("ij,ij->i", d, d)
+    dd[dd == 0] = 1.0
+
+    def dist(x: np.ndarray) -> np.ndarray:
+        t = np.clip(np.einsum("ij,ij->i", x - p, d) / dd, 0.0, 1.0)
+        return np.hypot(*(x - (p + t[:, None] * d)).T)
+
+    return bool(np.any((dist(truss.xy[i]) <= reach) & (dist(truss.xy[j]) <= reach)))
 
 
 def _crosses(truss: Truss, i: int, j: int) -> bool:
