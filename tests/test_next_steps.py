@@ -190,6 +190,22 @@ def test_rigid_mode_suggests_a_restraint_that_stops_it(tmp_path):
     assert again.stability[0].mechanisms == 0
 
 
+def test_a_swinging_stub_is_to_be_erased_not_propped(tmp_path):
+    # the vertical at L2 drawn 30 mm past the chord: the stub below L2 swings about L2;
+    # the step is to erase it (or join its end), and erasing it leaves no mechanism
+    segs = pratt_segments()
+    k = segs.index((8.0, 0.0, 8.0, 3.0))
+    segs[k] = (8.0, -0.03, 8.0, 3.0)
+    r = _check(tmp_path, "stub", segs)
+    [mech] = _codes(r, Code.MECHANISM)
+    [stub] = mech.data["erase_or_join"]
+    e = int(stub[1:]) - 1
+    ends = {tuple(r.truss.xy[j]) for j in r.truss.ends[e]}
+    assert ends == {(8.0, -0.03), (8.0, 0.0)}
+    segs[k] = (8.0, 0.0, 8.0, 3.0)  # the stub erased
+    assert _check(tmp_path, "no stub", segs).stability[0].mechanisms == 0
+
+
 def test_dangling_member_names_its_free_end(tmp_path):
     segs = [*pratt_segments(), (24.0, 3.0, 26.0, 4.0)]  # a stray line off the top right corner
     r = _check(tmp_path, "stray", segs)

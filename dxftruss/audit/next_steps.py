@@ -47,6 +47,8 @@ MIN_ELONGATION = 1e-3
 SNAP_MARGIN = 2e-3
 #: nearest joints tried as the far end of a new bar, per moving joint
 NEIGHBOURS = 12
+#: candidate bars (those that stretch under the mode, shortest first) examined per mode
+MAX_TRIES = 200
 
 
 def add_next_steps(
@@ -255,12 +257,15 @@ def _closest_pairs(xy: np.ndarray) -> list[tuple[int, int, float]]:
     nearest (enough to find the closest pair other than any given one)."""
     if len(xy) < 2:
         return []
-    dist, idx = cKDTree(xy).query(xy, k=min(3, len(xy)))
-    rows = {}
-    for i in range(len(xy)):
-        for d, k in zip(dist[i, 1:].tolist(), idx[i, 1:].tolist(), strict=True):
-            rows[(min(i, k), max(i, k))] = d
-    return sorted(((a, b, d) for (a, b), d in rows.items()), key=lambda r: (r[2], r[0], r[1]))[:8]
+    k = min(3, len(xy))
+    dist, idx = cKDTree(xy).query(xy, k=k)
+    i = np.repeat(np.arange(len(xy)), k - 1)
+    j, d = idx[:, 1:].reshape(-1), dist[:, 1:].reshape(-1)
+    lo, hi = np.minimum(i, j), np.maximum(i, j)
+    _, first = np.unique(lo * len(xy) + hi, return_index=True)
+    lo, hi, d = lo[first], hi[first], d[first]
+    order = np.lexsort((hi, lo, d))[:8]
+    return [(int(lo[r]), int(hi[r]), float(d[r])) for r in order.tolist()]
 
 
 def _joint_member_gaps(truss: Truss, reach: float) -> list[tuple[int, int, float]]:
@@ -374,6 +379,12 @@ class _PartPlan:
             for g, d in zip(mode.joints, np.asarray(mode.displacement), strict=True):
                 U[k, local[g]] = d
         rows: list[np.ndarray] = []  # the chosen constraints, one number per mode
+        pm = truss.parts[part].members
+        degree = np.bincount(truss.ends[pm].reshape(-1), minlength=truss.n_joints)
+        held = {s.joint for s in truss.supports}
+        owner = np.full(truss.n_joints, -1, dtype=np.int64)  # of a joint of degree 1: its member
+        owner[truss.ends[pm, 1]] = pm
+        owner[truss.ends[pm, 0]] = pm
         last: tuple[str, dict[str, Any]] | None = None
         xy = truss.xy
         for k, mode in enumerate(modes):
@@ -412,7 +423,19 @@ class _PartPlan:
                         )
                         step = (text, {"join": [joint_id(j), member_id(e)]})
                         break
-            bar = None if step else suggest_bar(truss, joints, mode, U, fits, near_miss=near_miss)
+            free = [g for g in mode.joints if degree[g] == 1 and g not in held]
+            if not step and free and len(free) == len(mode.joints):
+                # only free ends move: the stray members swing; a new member would only prop them
+                new = np.concatenate([U[:, local[g]].T for g in free])
+                if fits(new):
+                    rows += list(new)
+                    stray = ", ".join(f"{member_id(int(owner[g]))} (free end {joint_id(g)})" for g in free[:4])
+                    text = (
+                        f"erase {stray} if not part of the truss, or join the free end to a joint "
+                        "(see dangling-member): the motion is the loose member swinging"
+                    )
+                    step = (text, {"erase_or_join": [member_id(int(owner[g])) for g in free]})
+            bar = None if step else suggest_bar(truss, joints, mode, U, fits, column=k, near_miss=near_miss)
             if bar is not None:
                 i, j, row = bar
                 rows.append(row)
@@ -452,43 +475,62 @@ def suggest_bar(
     U: np.ndarray,
     fits: Callable[[np.ndarray], bool],
     *,
+    column: int,
     near_miss: float,
 ) -> tuple[int, int, np.ndarray] | None:
     """A new member (i, j, its elongation under every mode of ``U``) that removes
-    ``mode``: the shortest bar longer than ``near_miss`` between a moving joint and one
-    of its nearest joints of the part, not already a member, not passing within
-    ``near_miss`` of another joint (it would be split there, or be a near miss) and not
-    running along a member (both ends within ``near_miss`` of it), whose
+    ``mode`` (``U[column]``): the shortest bar longer than ``near_miss`` between a moving
+    joint and one of its nearest joints of the part, not already a member, not passing
+    within ``near_miss`` of another joint (it would be split there, or be a near miss)
+    and not running along a member (both ends within ``near_miss`` of it), whose
     elongations pass ``fits`` (under this mode at least MIN_ELONGATION, independent of
-    the fixes already chosen); bars that cross no member come first. None when there is
-    none."""
+    the fixes already chosen); bars that cross no member come first. At most MAX_TRIES
+    candidates that stretch under the mode are examined. None when there is none."""
     joints = np.asarray(part_joints, dtype=np.int64)
-    if joints.size < 2:
+    n = joints.size
+    if n < 2:
         return None
     xy = truss.xy[joints]
     local = {int(g): k for k, g in enumerate(joints.tolist())}
     tree = cKDTree(xy)
-    members = {(int(min(a, b)), int(max(a, b))) for a, b in truss.ends.tolist() if a in local and b in local}
-    moving = [local[g] for g in mode.joints]
-    dist, idx = tree.query(xy[moving], k=min(NEIGHBOURS + 1, joints.size))
-    cands = []
-    for row, i in enumerate(moving):
-        for d, jj in zip(np.atleast_1d(dist[row]).tolist(), np.atleast_1d(idx[row]).tolist(), strict=True):
-            gi, gj = int(joints[i]), int(joints[jj])
-            if jj == i or d <= near_miss or (min(gi, gj), max(gi, gj)) in members:
-                continue
-            cands.append((d, min(gi, gj), max(gi, gj), i, jj))
-    best: tuple[tuple[bool, float, int, int], int, int, np.ndarray] | None = None
-    for d, gi, gj, i, jj in sorted(set(cands)):
-        e = (xy[jj] - xy[i]) / d
-        elong = np.einsum("kj,j->k", U[:, jj] - U[:, i], e)
-        if not fits(elong) or _passes_joint(tree, xy, i, jj, near_miss) or _along_member(truss, gi, gj, near_miss):
+    moving = np.array([local[g] for g in mode.joints], dtype=np.int64)
+    kk = min(NEIGHBOURS + 1, n)
+    dist, idx = tree.query(xy[moving], k=kk)
+    src = np.repeat(moving, kk)
+    dst, span = np.asarray(idx).reshape(-1), np.asarray(dist, dtype=float).reshape(-1)
+    ok = (n > dst) & (dst != src) & np.isfinite(span) & (near_miss < span)
+    src, dst, span = src[ok], dst[ok], span[ok]
+    lo, hi = np.minimum(src, dst), np.maximum(src, dst)
+    _, first = np.unique(lo * n + hi, return_index=True)
+    src, dst, span, lo, hi = src[first], dst[first], span[first], lo[first], hi[first]
+    members = truss.ends[np.isin(truss.ends[:, 0], joints) & np.isin(truss.ends[:, 1], joints)]  # the part's
+    if len(members):
+        pos = np.searchsorted(np.sort(joints), members)  # local order of sorted joints
+        order = np.argsort(joints)
+        a, b = order[pos[:, 0]], order[pos[:, 1]]
+        drawn = np.minimum(a, b) * n + np.maximum(a, b)
+        fresh = ~np.isin(lo * n + hi, drawn)
+        src, dst, span = src[fresh], dst[fresh], span[fresh]
+    e = (xy[dst] - xy[src]) / span[:, None]
+    E = np.einsum("kcj,cj->ck", U[:, dst] - U[:, src], e)  # elongation of each candidate under each mode
+    keep = np.flatnonzero(np.abs(E[:, column]) >= MIN_ELONGATION)
+    gi, gj = joints[src], joints[dst]
+    keep = keep[np.lexsort((np.maximum(gi, gj)[keep], np.minimum(gi, gj)[keep], span[keep]))][:MAX_TRIES]
+    best: tuple[bool, int, int, np.ndarray] | None = None
+    for c in keep.tolist():
+        i, j = int(src[c]), int(dst[c])
+        a_, b_ = int(min(gi[c], gj[c])), int(max(gi[c], gj[c]))
+        if (
+            not fits(E[c])
+            or _passes_joint(tree, xy, i, j, near_miss)
+            or _along_member(truss.xy, members, a_, b_, near_miss)
+        ):
             continue
-        key = (_crosses(truss, gi, gj), d, gi, gj)
-        if best is None or key < best[0]:
-            best = (key, gi, gj, elong)
-            if not key[0]:
-                break  # sorted by length: the first that crosses nothing is the shortest such
+        crosses = _crosses(truss.xy, members, a_, b_)
+        if best is None or (best[0] and not crosses):
+            best = (crosses, a_, b_, E[c])
+        if not crosses:
+            break  # sorted by length: the first that crosses nothing is the shortest such
     return None if best is None else (best[1], best[2], best[3])
 
 
@@ -507,10 +549,10 @@ def _passes_joint(tree: cKDTree, xy: np.ndarray, i: int, j: int, reach: float) -
     return False
 
 
-def _along_member(truss: Truss, i: int, j: int, reach: float) -> bool:
+def _along_member(xy: np.ndarray, ends: np.ndarray, i: int, j: int, reach: float) -> bool:
     """Whether joints i and j both lie within ``reach`` of one member (the bar would run
     along it, or along where it is once a near miss there is joined)."""
-    p, q = truss.xy[truss.ends[:, 0]], truss.xy[truss.ends[:, 1]]
+    p, q = xy[ends[:, 0]], xy[ends[:, 1]]
     d = q - p
     dd = np.einsum("ij,ij->i", d, d)
     dd[dd == 0] = 1.0
@@ -519,15 +561,14 @@ def _along_member(truss: Truss, i: int, j: int, reach: float) -> bool:
         t = np.clip(np.einsum("ij,ij->i", x - p, d) / dd, 0.0, 1.0)
         return np.hypot(*(x - (p + t[:, None] * d)).T)
 
-    return bool(np.any((dist(truss.xy[i]) <= reach) & (dist(truss.xy[j]) <= reach)))
+    return bool(np.any((dist(xy[i]) <= reach) & (dist(xy[j]) <= reach)))
 
 
-def _crosses(truss: Truss, i: int, j: int) -> bool:
+def _crosses(xy: np.ndarray, ends: np.ndarray, i: int, j: int) -> bool:
     """Whether the segment i-j crosses the inside of a member not at i or j."""
-    a, b = truss.xy[i], truss.xy[j]
-    ends = truss.ends
+    a, b = xy[i], xy[j]
     far = (ends[:, 0] != i) & (ends[:, 0] != j) & (ends[:, 1] != i) & (ends[:, 1] != j)
-    p, q = truss.xy[ends[far, 0]], truss.xy[ends[far, 1]]
+    p, q = xy[ends[far, 0]], xy[ends[far, 1]]
 
     def side(o: np.ndarray, s: np.ndarray, t: np.ndarray) -> np.ndarray:
         return np.sign(
