@@ -21,6 +21,7 @@ import numpy as np
 
 from . import drafting, outlines
 from .assemble import build_truss
+from .audit.next_steps import add_next_steps
 from .audit.stability import PartStability, analyse_part
 from .audit.topology import audit_topology
 from .errors import ConfigError, InputError, LimitError
@@ -296,6 +297,7 @@ def _check(
             if key not in seen:  # e.g. assumed-stiffness once per part, not once per case
                 seen.add(key)
                 findings.append(f)
+    findings = add_next_steps(truss, stability, findings, snap=snap, near_miss=near)
     stage("statics")
 
     source = SourceInfo(

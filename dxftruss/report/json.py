@@ -154,6 +154,7 @@ def report_dict(result: Result) -> dict[str, Any]:
                 "at": [_num(f.at[0]), _num(f.at[1])] if f.at is not None else None,
                 "parts": finding_parts(f, index, result.part_names),
                 "entities": _finding_entities(t, f),
+                "next_step": f.next_step or None,
                 **({"data": _jsonable(f.data)} if f.data else {}),
             }
             for f in result.findings

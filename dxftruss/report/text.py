@@ -34,6 +34,15 @@ def _text(s: object, style: str = "") -> Text:
     return Text(shown(s), style=style)
 
 
+def _message(message: str, next_step: str) -> Text:
+    """A finding's message, and its next step on a line of its own (both escaped)."""
+    cell = _text(message)
+    if next_step:
+        cell.append("\n")
+        cell.append_text(_text("next step: " + next_step, style="italic"))
+    return cell
+
+
 def _fmt(x: float) -> str:
     return f"{x:.4g}" if abs(x) >= 1e-3 or x == 0 else f"{x:.3e}"
 
@@ -107,7 +116,7 @@ def summary(result: Result, *, max_findings: int = 40, width: int = 110, color: 
                 str(i),
                 _text(f.severity.value, style=sev_style[f.severity]),
                 _text(f.code.value),
-                _text(where + f.message + (f" (drawn: {drawn})" if drawn else "")),
+                _message(where + f.message + (f" (drawn: {drawn})" if drawn else ""), f.next_step),
             )
         con.print(ft)
         if len(result.findings) > max_findings:

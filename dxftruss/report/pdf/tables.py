@@ -215,6 +215,9 @@ def _findings_section(ctx: _Context, flow: _Flow, *, max_findings: int) -> None:
         lines.append((f"{i}.  {f.severity.value.upper()}  {f.code.value}", 7.6, 0.0, True, 0.0))
         for s in _wrap(f.message, fonts.regular, 7.2, width):
             lines.append((s, 7.2, 0.0, False, 18.0))
+        if f.next_step:
+            for s in _wrap("next step: " + f.next_step, fonts.regular, 7.2, width):
+                lines.append((s, 7.2, 0.0, False, 18.0))
         det = []
         if f.joints:
             ids = [joint_id(j) for j in f.joints if j >= 0]
