@@ -44,10 +44,11 @@ from .model import (
     joint_id,
     restraint_for,
     restraint_name,
+    top_handles,
 )
 from .read import LineWork
 from .snap import Geometry
-from .units import FORCE_UNITS, LENGTH_UNITS
+from .units import FORCE_UNITS, LENGTH_UNITS, LengthFormat, force_text, length_format
 
 UNIT_PANEL_CASE = "unit-panel"
 
@@ -127,9 +128,9 @@ def _nearest(tree: cKDTree | None, p: tuple[float, float]) -> tuple[float, int]:
     return float(d), int(i)
 
 
-def _nearest_note(d: float, j: int) -> str:
-    """ ": nearest joint J3 is 12.5 away" for a drawn mark off its joint ("" when none)."""
-    return f": nearest joint {joint_id(j)} is {d:.6g} away" if j >= 0 else ""
+def _nearest_note(d: float, j: int, fmt: LengthFormat) -> str:
+    """ ": nearest joint J3 is 12.50 mm away" for a drawn mark off its joint ("" when none)."""
+    return f": nearest joint {joint_id(j)} is {fmt(d)} away" if j >= 0 else ""
 
 
 def _hung(
@@ -210,6 +211,10 @@ def build_truss(
         )
     tree = cKDTree(xy) if len(xy) else None
     force_unit = spec.force_unit if spec else "kN"
+    # lengths in messages: the drawing unit at the snap's resolution
+    fmt = length_format(
+        length_unit, snap=snap if snap is not None else outline_tol / 10, magnitude=float(np.abs(xy).max(initial=0.0))
+    )
 
     # supports: drawn, then file; merged per joint. Different restraints drawn and given
     # in the file at one joint need the file's [drawn] supports to say which to use.
@@ -220,7 +225,7 @@ def build_truss(
             findings.append(
                 Finding(
                     Code.SUPPORT_OFF_JOINT,
-                    f"support ({smark.layer}, handle {smark.handle}) is not on a joint" + _nearest_note(d, j),
+                    f"support ({smark.layer}, handle {smark.handle}) is not on a joint" + _nearest_note(d, j, fmt),
                     joints=(j,) if j >= 0 else (),
                     at=(smark.x, smark.y),
                     data={"handle": smark.handle, "distance": d if j >= 0 else None},
@@ -347,7 +352,8 @@ def build_truss(
             findings.append(
                 Finding(
                     Code.LOAD_OFF_JOINT,
-                    f"load line ({mark.layer}, handle {mark.handle}) has neither end on a joint" + _nearest_note(d, j),
+                    f"load line ({mark.layer}, handle {mark.handle}) has neither end on a joint"
+                    + _nearest_note(d, j, fmt),
                     at=head,
                     data={"handle": mark.handle, "case": mark.case},
                 )
@@ -372,8 +378,8 @@ def build_truss(
             unread[mark.case] += 1
             if pick is None:
                 why = (
-                    f"no text on its layer within {labels.reach_note(length)} of its tail, nor a force with its unit "
-                    "on another layer"
+                    f"no text on its layer within {labels.reach_note(length, fmt)} of its tail, nor a force with "
+                    "its unit on another layer"
                 )
             elif taken:
                 assert pick is not None
@@ -427,7 +433,7 @@ def build_truss(
             findings.append(
                 Finding(
                     Code.LOAD_LABEL_ASSUMPTION,
-                    f"{where}: label '{shown(text)}' read as {value:.6g} {force_unit} along the arrow: "
+                    f"{where}: label '{shown(text)}' read as {force_text(value, force_unit)} along the arrow: "
                     + "; ".join(notes),
                     joints=(j,),
                     at=tail,
@@ -480,7 +486,7 @@ def build_truss(
     for case, lls in line_loads.items():
         for ll in lls:
             case_loads[case].extend(joint_loads(ll))
-            findings.append(lumped_finding(ll, case, xy, length_unit, force_unit))
+            findings.append(lumped_finding(ll, case, xy, fmt, force_unit))
 
     cases = [
         LoadCase(name, tuple(case_loads[name]), unread=unread[name], line_loads=tuple(line_loads.get(name, ())))
@@ -524,7 +530,9 @@ def build_truss(
         xy=xy,
         ends=ends,
         layers=geometry.layers,
-        handles=geometry.handles,
+        handles=top_handles(geometry.handles),
+        entities=geometry.handles,
+        block_names=linework.block_names,
         supports=tuple(supports),
         cases=tuple(cases),
         parts=parts,
@@ -622,8 +630,8 @@ class _Labels:
         order = np.lexsort((idx[cand], dist))  # ties: the earlier text in the drawing
         return int(idx[cand[order[0]]])
 
-    def reach_note(self, length: float) -> str:
-        return f"{length:.6g} (its length) or {self.HEIGHTS:g} text heights"
+    def reach_note(self, length: float, fmt: LengthFormat) -> str:
+        return f"{fmt(length)} (its length) or {self.HEIGHTS:g} text heights"
 
     def choose(
         self, layer: str, head: tuple[float, float], tail: tuple[float, float]

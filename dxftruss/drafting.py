@@ -26,7 +26,7 @@ qualifies, all line work is used and that is said.
 from __future__ import annotations
 
 from collections import defaultdict
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
@@ -52,6 +52,7 @@ RULES = {
     "no-triangles": "no triangulated structure",
     "outline": "member outlines around centre lines",
     "plate": "plates: closed outlines around joints",
+    "curved": "curved line work on a layer with no members (revision clouds, symbols)",
 }
 
 
@@ -402,6 +403,28 @@ def _outlines(seg: np.ndarray, keep: np.ndarray, why: np.ndarray, median: float)
         lines = idx[sorted(out)]
         keep[lines] = False
         why[lines] = "outline"
+
+
+def curved_drafting(found: list[Finding], selection: Selection) -> tuple[list[Finding], Selection]:
+    """Curved pieces (``arc-segment``) on a layer none of whose lines is a member are
+    drafting - a revision cloud, a symbol - not a curved member: they are counted as set
+    aside on their layer (reason ``curved``) instead of warned about. With ``--layers``
+    the user named the member layers, so every curve on them stays a warning."""
+    if selection.rule == "option":
+        return found, selection
+    keep: list[Finding] = []
+    aside = {name: dict(r) for name, r in selection.set_aside.items()}
+    for f in found:
+        layer = f.data.get("layer") if f.code is Code.ARC_SEGMENT else None
+        if isinstance(layer, str) and not selection.used.get(layer, 0):
+            reasons = aside.setdefault(layer, {})
+            reasons["curved"] = reasons.get("curved", 0) + 1
+            continue
+        keep.append(f)
+    if len(keep) == len(found):
+        return found, selection
+    rule = selection.rule if selection.fallback or selection.rule == "auto" else "auto"
+    return keep, replace(selection, set_aside=aside, rule=rule)
 
 
 def findings(selection: Selection) -> list[Finding]:

@@ -126,7 +126,8 @@ class Finding:
     ``joints`` and ``members`` are 0-based indices into the model (reported as ids
     ``J1``, ``M1`` ...); ``at`` is a point in drawing coordinates where the marker
     goes; ``data`` holds structured extras (distance, amplification, case name ...)
-    that must be JSON-serialisable.
+    that must be JSON-serialisable. ``next_step`` is one concrete thing to do about it,
+    in drawing terms ("" when there is nothing to do; every error has one).
     """
 
     code: Code
@@ -135,6 +136,7 @@ class Finding:
     members: tuple[int, ...] = ()
     at: tuple[float, float] | None = None
     data: dict[str, Any] = field(default_factory=dict)
+    next_step: str = ""
 
     @property
     def severity(self) -> Severity:

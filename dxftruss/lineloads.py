@@ -35,7 +35,7 @@ from .findings import Code, Finding
 from .labels import LabelReading
 from .loadsfile import LineLoadEntry, LoadsSpec
 from .model import LineLoad, Load, LoadOrigin, Source, joint_id, member_id
-from .units import FORCE_UNITS, LENGTH_UNITS
+from .units import FORCE_UNITS, LENGTH_UNITS, LengthFormat, plain_number
 
 #: arrows of one drawn row must be parallel: |sin(angle)| between any two at most this
 PARALLEL_SIN = 1e-3
@@ -45,11 +45,13 @@ class ChainError(ValueError):
     """The segment does not follow members exactly (the message says what was found)."""
 
 
-def _pt(xy: np.ndarray, j: int) -> str:
-    return f"{joint_id(j)} [{float(xy[j, 0]):.6g}, {float(xy[j, 1]):.6g}]"
+def _pt(xy: np.ndarray, j: int, unit: str = "drawing units") -> str:
+    return f"{joint_id(j)} ({float(xy[j, 0]):.6g}, {float(xy[j, 1]):.6g}) {unit}"
 
 
-def find_chain(xy: np.ndarray, ends: np.ndarray, j0: int, j1: int, tol: float) -> tuple[int, ...]:
+def find_chain(
+    xy: np.ndarray, ends: np.ndarray, j0: int, j1: int, tol: float, unit: str = "drawing units"
+) -> tuple[int, ...]:
     """The members from joint ``j0`` to joint ``j1`` along the straight segment between them.
 
     Raises ChainError when the segment is not covered exactly once by members whose
@@ -57,7 +59,7 @@ def find_chain(xy: np.ndarray, ends: np.ndarray, j0: int, j1: int, tol: float) -
     p, q = xy[j0], xy[j1]
     span = float(np.hypot(*(q - p)))
     if j0 == j1 or span <= tol:
-        raise ChainError(f"it starts and ends at the same joint {_pt(xy, j0)}")
+        raise ChainError(f"it starts and ends at the same joint {_pt(xy, j0, unit)}")
     u = (q - p) / span
     if len(ends) == 0:
         raise ChainError("the drawing has no members")
@@ -68,7 +70,7 @@ def find_chain(xy: np.ndarray, ends: np.ndarray, j0: int, j1: int, tol: float) -
     on &= np.abs(tb - ta) > tol
     cand = np.flatnonzero(on)
     if len(cand) == 0:
-        raise ChainError(f"no member lies on the segment from {_pt(xy, j0)} to {_pt(xy, j1)}")
+        raise ChainError(f"no member lies on the segment from {_pt(xy, j0, unit)} to {_pt(xy, j1, unit)}")
     starts: dict[int, list[int]] = {}
     for e in cand.tolist():
         lo = int(ends[e, 0]) if ta[e] < tb[e] else int(ends[e, 1])
@@ -80,12 +82,13 @@ def find_chain(xy: np.ndarray, ends: np.ndarray, j0: int, j1: int, tol: float) -
         if not nxt:
             reached = float((xy[cur] - p) @ u)
             raise ChainError(
-                f"the members on the segment from {_pt(xy, j0)} to {_pt(xy, j1)} stop at {_pt(xy, cur)}, "
-                f"{reached:.6g} of {span:.6g} along it: no member on the segment continues from there"
+                f"the members on the segment from {_pt(xy, j0, unit)} to {_pt(xy, j1, unit)} stop at "
+                f"{_pt(xy, cur, unit)}, {reached:.6g} {unit} of {span:.6g} {unit} along it: no member on the "
+                "segment continues from there"
             )
         if len(nxt) > 1:
             raise ChainError(
-                f"{len(nxt)} members on the segment start at {_pt(xy, cur)} ({', '.join(map(member_id, nxt))}): "
+                f"{len(nxt)} members on the segment start at {_pt(xy, cur, unit)} ({', '.join(map(member_id, nxt))}): "
                 "the chain is not one line of members"
             )
         e = nxt[0]
@@ -168,11 +171,11 @@ def file_line_loads(
         for key, point in (("from", entry.start), ("to", entry.end)):
             d, j = _near_joint(tree, xy, point)
             if d > near_miss:
-                near = f"; nearest is {_pt(xy, j)}, {d:.6g} away" if j >= 0 else ""
+                near = f"; nearest is {_pt(xy, j, length_unit)}, {d:.6g} {length_unit} away" if j >= 0 else ""
                 raise ConfigError(f"{where}: '{key}' has no joint within {near_miss:.6g} {length_unit}{near}")
             js.append(j)
         try:
-            chain = find_chain(xy, ends, js[0], js[1], snap)
+            chain = find_chain(xy, ends, js[0], js[1], snap, length_unit)
         except ChainError as exc:
             raise ConfigError(f"{where}: does not follow members: {exc}; give from/to at joints of one chord") from None
         out.append((entry.case, _make(entry, xy, ends, js[0], js[1], chain, length_unit, force_unit)))
@@ -221,7 +224,7 @@ def joint_loads(ll: LineLoad) -> list[Load]:
     return [Load(j, fx, fy, ll.source, ll.name, origin) for j, _, fx, fy in ll.shares]
 
 
-def lumped_finding(ll: LineLoad, case: str, xy: np.ndarray, length_unit: str, force_unit: str) -> Finding:
+def lumped_finding(ll: LineLoad, case: str, xy: np.ndarray, fmt: LengthFormat, force_unit: str) -> Finding:
     """The ``line-load-lumped`` warning: what was lumped, how, and what is not checked."""
     measured = "along the members" if ll.measured == "along" else "per horizontal length"
     acting = {"down": "downward", "normal": "normal to the members", "given": "along the given direction"}[ll.direction]
@@ -230,13 +233,13 @@ def lumped_finding(ll: LineLoad, case: str, xy: np.ndarray, length_unit: str, fo
     said = list(ll.defaults)
     default_note = f" ({' and '.join(said)} by default)" if said else ""
     fx, fy = ll.total
-    joints = ", ".join(f"{joint_id(j)} {t:.6g}" for j, t, _, _ in ll.shares)
+    joints = ", ".join(f"{joint_id(j)} {fmt(t)}" for j, t, _, _ in ll.shares)
     message = (
         f"{ll.name}: {shown(ll.written)} on load case '{shown(case)}', measured {measured}, acting {acting}"
-        f"{default_note}, over {', '.join(map(member_id, ll.members))} (loaded length {ll.length:.6g} "
-        f"{length_unit}): lumped to the joints by tributary length ({joints} {length_unit}), half of each "
-        f"member's share to each end - the usual assumption for a pin-jointed truss; total ({fx:.6g}, {fy:.6g}) "
-        f"{force_unit}. The loaded members also bend between their joints, which this check does not cover"
+        f"{default_note}, over {', '.join(map(member_id, ll.members))} (loaded length {fmt(ll.length)}): "
+        f"lumped to the joints by tributary length ({joints}), half of each member's share to each end - the "
+        f"usual assumption for a pin-jointed truss; total ({plain_number(fx)}, {plain_number(fy)}) {force_unit}. "
+        "The loaded members also bend between their joints, which this check does not cover"
     )
     return Finding(
         Code.LINE_LOAD_LUMPED,
@@ -317,10 +320,11 @@ def drawn_line_loads(
             ll = _row(rows, reading, where, xy, ends, a_all, b_all, tree, near_miss, snap, length_unit, force_unit)
         except ChainError as exc:
             out.unread[case] += 1
+            w = plain_number(reading.value) if reading.value is not None else "?"
             out.findings.append(
                 Finding(
                     Code.LOAD_LABEL_UNCLEAR,
-                    f"{where}: a load per length ({reading.value:.6g} N/m) on {len(rows)} load line(s), but {exc}; "
+                    f"{where}: a load per length ({w} N/m) on {len(rows)} load line(s), but {exc}; "
                     "draw a row of parallel arrows with their heads on the joints and members of one chord "
                     f"(first and last on joints), or give it in the loads file as [[line_load]]; {not_solved(case)}",
                     at=rows[0].start,
@@ -335,7 +339,7 @@ def drawn_line_loads(
             out.findings.append(
                 Finding(
                     Code.LOAD_LABEL_ASSUMPTION,
-                    f"{where}: label '{shown(reading.text)}' read as {ll.w:.6g} N/m along the arrows: "
+                    f"{where}: label '{shown(reading.text)}' read as {plain_number(ll.w)} N/m along the arrows: "
                     + "; ".join(notes),
                     at=rows[0].start,
                     data={"case": case, "label": reading.text, "assumptions": notes},
@@ -427,10 +431,11 @@ def _row(
         d, j = _near_joint(tree, xy, pt)
         if d > near_miss:
             raise ChainError(
-                f"the {'first' if pt is p else 'last'} arrow head [{pt[0]:.6g}, {pt[1]:.6g}] is not on a joint"
+                f"the {'first' if pt is p else 'last'} arrow head ({pt[0]:.6g}, {pt[1]:.6g}) {length_unit} is not "
+                "on a joint"
             )
         js.append(j)
-    chain = find_chain(xy, ends, js[0], js[1], snap)
+    chain = find_chain(xy, ends, js[0], js[1], snap, length_unit)
     mean = unit_vecs.mean(axis=0)
     mean /= float(np.hypot(*mean))
     shares, length = lump(

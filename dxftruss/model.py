@@ -260,7 +260,11 @@ class Truss:
     xy       (j, 2) float joint coordinates, drawing units
     ends     (m, 2) int joint indices of each member, ends[e, 0] < ends[e, 1]
     layers   member layer names
-    handles  for each member the DXF entity handles it was drawn with
+    handles  for each member the DXF entity handles it was drawn with (for block content:
+             the model-space INSERT's handle, the one to select in CAD)
+    entities for each member the keys of the entities it was drawn with: as ``handles``
+             in model space; inside blocks ``TOP/NESTED.../OWN`` (docs/report-format.md,
+             entities)
     """
 
     xy: np.ndarray
@@ -274,6 +278,9 @@ class Truss:
     force_unit: str
     sections: tuple[Section, ...] = ()
     findings: tuple[Finding, ...] = field(default=())
+    entities: tuple[tuple[str, ...], ...] = ()
+    #: handle -> block name of the block references the entities' keys pass through
+    block_names: dict[str, str] = field(default_factory=dict, compare=False, repr=False)
     #: (r, 2) int: joint and direction (0 = x, 1 = y, ``INCLINED``) of every restraint,
     #: sorted; derived
     restraints: np.ndarray = field(init=False, repr=False, compare=False)
@@ -302,6 +309,27 @@ class Truss:
     def lengths(self) -> np.ndarray:
         d = self.xy[self.ends[:, 1]] - self.xy[self.ends[:, 0]]
         return np.hypot(d[:, 0], d[:, 1])
+
+
+def top_handles(keys: tuple[tuple[str, ...], ...]) -> tuple[tuple[str, ...], ...]:
+    """Per member the model-space handles of its entity keys (``1A/2F/3C`` -> ``1A``)."""
+    if not any("/" in k for ks in keys for k in ks):
+        return keys
+    return tuple(tuple(sorted({k.split("/", 1)[0] for k in ks})) for ks in keys)
+
+
+def entity_ref(key: str, layer: str, block_names: dict[str, str]) -> dict[str, object]:
+    """One entity as the user selects it in CAD: its layer, the model-space handle, and
+    for block content the path of block references down to the entity's own handle in
+    its block definition (``blocks``: the block names along that path)."""
+    parts = key.split("/")
+    inserts = parts[:-1]
+    return {
+        "layer": layer,
+        "handle": parts[0],
+        "path": parts[1:] if inserts else [],
+        "blocks": [block_names.get(h, "") for h in inserts],
+    }
 
 
 def joint_id(i: int) -> str:

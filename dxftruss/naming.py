@@ -17,6 +17,7 @@ is unique. Every finding that concerns joints or members names its part(s).
 from __future__ import annotations
 
 import re
+from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
@@ -28,11 +29,24 @@ from .read.boundary import _ENTITY_FAILURES
 _MARK = re.compile(r"^[A-Za-z]{1,4}[-_ ]?\d{1,4}[A-Za-z]?$")
 
 
+@dataclass(frozen=True)
+class PartNames:
+    """The parts' names, and which of them the sheet itself gave (a block or a mark)."""
+
+    names: tuple[str, ...]
+    from_sheet: frozenset[int]
+
+
 def part_names(truss: Truss, texts: tuple[Any, ...] = (), document: Any = None) -> tuple[str, ...]:
     """One name per part of ``truss`` (see the module docstring)."""
+    return name_parts(truss, texts, document).names
+
+
+def name_parts(truss: Truss, texts: tuple[Any, ...] = (), document: Any = None) -> PartNames:
+    """The names of :func:`part_names` and the parts named by a block or a mark."""
     parts = truss.parts
     if not parts:
-        return ()
+        return PartNames((), frozenset())
     boxes = []
     for p in parts:
         pts = truss.xy[p.joints] if len(p.joints) else np.zeros((1, 2))
@@ -69,7 +83,7 @@ def part_names(truss: Truss, texts: tuple[Any, ...] = (), document: Any = None) 
     final, count = [], {n: out.count(n) for n in out}
     for i, name in enumerate(out):
         final.append(f"{name} ({fallback[i]})" if count[name] > 1 else name)
-    return tuple(final)
+    return PartNames(tuple(final), frozenset(names))
 
 
 def _fmt_point(p: Any) -> str:
@@ -128,3 +142,55 @@ def finding_parts(f: Finding, index: tuple[np.ndarray, np.ndarray], names: tuple
     idx = {int(joint_part[j]) for j in f.joints if 0 <= j < len(joint_part) and joint_part[j] >= 0}
     idx |= {int(member_part[e]) for e in f.members if 0 <= e < len(member_part) and member_part[e] >= 0}
     return [names[i] for i in sorted(idx)]
+
+
+def finding_entities(truss: Truss, f: Finding, limit: int) -> list[tuple[str, str]]:
+    """(entity key, layer) of the drawn entities a finding concerns, at most ``limit``:
+    those of its members, then those its data names by handle."""
+    out: list[tuple[str, str]] = []
+    seen: set[str] = set()
+
+    def add(key: str, layer: str) -> None:
+        if key and key not in seen and len(out) < limit:
+            seen.add(key)
+            out.append((key, layer))
+
+    keys = truss.entities if len(truss.entities) == truss.n_members else truss.handles
+    for e in f.members:
+        if 0 <= e < len(keys):
+            for k in keys[e]:
+                add(k, truss.layers[e])
+    layer = f.data.get("layer")
+    layer = layer if isinstance(layer, str) else ""
+    one = f.data.get("handle")
+    if isinstance(one, str):
+        add(one, layer)
+    many = f.data.get("handles")
+    if isinstance(many, list | tuple):
+        for k in many:
+            if isinstance(k, str):
+                add(k, layer)
+    return out
+
+
+def describe_entity(key: str, layer: str, block_names: dict[str, str]) -> str:
+    """One entity in CAD words: ``handle 5B`` in model space; inside blocks the entity's
+    own handle, then each block and the reference placing it, out to model space."""
+    parts = key.split("/")
+    on = f" on layer {layer}" if layer else ""
+    if len(parts) == 1:
+        return f"handle {key}{on}"
+    words = [f"entity {parts[-1]}"]
+    for h in reversed(parts[:-1]):
+        name = block_names.get(h)
+        words.append(f"in block {name!r} (reference {h})" if name else f"in reference {h}")
+    return " ".join(words) + on
+
+
+def where_drawn(truss: Truss, f: Finding, limit: int = 3) -> str:
+    """The first few entities of a finding in CAD words, "" when it names none."""
+    ents = finding_entities(truss, f, limit + 1)
+    if not ents:
+        return ""
+    text = "; ".join(describe_entity(k, layer, truss.block_names) for k, layer in ents[:limit])
+    return text + ("; ..." if len(ents) > limit else "")

@@ -181,31 +181,48 @@ def _centre(seg: np.ndarray, left: list[int], right: list[int]) -> np.ndarray:
 
 def _work_points(lines: np.ndarray, widths: np.ndarray) -> np.ndarray:
     """Move each centre line's ends to the nearest intersection with a neighbour's centre
-    line within reach; a neighbour the point lies well inside of (a chord) comes first."""
+    line within reach; a neighbour the point lies well inside of (a chord) comes first.
+
+    A neighbour within reach of an end passes within twice the largest reach of it, so
+    the candidates come from a spatial index and are then tested all at once."""
+    import shapely
+
     out = lines.copy()
+    n = len(lines)
+    if n < 2:
+        return out
     a, u, ln = _unit(lines)
-    for i in range(len(lines)):
-        for end, t_end in ((0, 0.0), (1, float(ln[i]))):
-            best: tuple[int, float, np.ndarray] | None = None
-            for j in range(len(lines)):
-                if j == i:
-                    continue
-                s = u[i, 0] * u[j, 1] - u[i, 1] * u[j, 0]
-                if abs(s) < MIN_SIN:
-                    continue
-                w = widths[i] + widths[j]
-                reach = REACH_WIDTHS * w / abs(s)
-                rel = a[j] - a[i]
-                t = (rel[0] * u[j, 1] - rel[1] * u[j, 0]) / s  # along i
-                r = (rel[0] * u[i, 1] - rel[1] * u[i, 0]) / s  # along j
-                if abs(t - t_end) > reach or r < -reach or r > ln[j] + reach:
-                    continue
-                inside = reach < r < ln[j] - reach
-                key = (0 if inside else 1, abs(t - t_end))
-                if best is None or key < (best[0], best[1]):
-                    best = (key[0], key[1], a[i] + t * u[i])
-            if best is not None:
-                out[i, 2 * end : 2 * end + 2] = best[2]
+    wmax = float(widths.max())
+    # end points: row 2i is the start of line i, 2i + 1 its end
+    ends = lines.reshape(-1, 2)
+    owner = np.repeat(np.arange(n), 2)
+    t_end = np.zeros(2 * n)
+    t_end[1::2] = ln
+    radius = 2.0 * REACH_WIDTHS * (widths[owner] + wmax) / MIN_SIN * (1 + 1e-9)
+    tree = shapely.STRtree(shapely.linestrings(lines.reshape(-1, 2, 2)))
+    k, j = tree.query(shapely.points(ends), predicate="dwithin", distance=radius)
+    i = owner[k]
+    keep = j != i
+    k, j, i = k[keep], j[keep], i[keep]
+    s = u[i, 0] * u[j, 1] - u[i, 1] * u[j, 0]
+    ok = np.abs(s) >= MIN_SIN
+    k, j, i, s = k[ok], j[ok], i[ok], s[ok]
+    reach = REACH_WIDTHS * (widths[i] + widths[j]) / np.abs(s)
+    rel = a[j] - a[i]
+    t = (rel[:, 0] * u[j, 1] - rel[:, 1] * u[j, 0]) / s  # along i
+    r = (rel[:, 0] * u[i, 1] - rel[:, 1] * u[i, 0]) / s  # along j
+    dist = np.abs(t - t_end[k])
+    ok = (dist <= reach) & (r >= -reach) & (r <= ln[j] + reach)
+    k, j, i, t, r, reach, dist = k[ok], j[ok], i[ok], t[ok], r[ok], reach[ok], dist[ok]
+    outside = ~((reach < r) & (r < ln[j] - reach))
+    # per end the best: inside first, then the nearest, then the first line in order
+    order = np.lexsort((j, dist, outside, k))
+    k, i, t = k[order], i[order], t[order]
+    first = np.ones(len(k), dtype=bool)
+    first[1:] = k[1:] != k[:-1]
+    for kk, ii, tt in zip(k[first].tolist(), i[first].tolist(), t[first].tolist(), strict=True):
+        end = kk % 2
+        out[ii, 2 * end : 2 * end + 2] = a[ii] + tt * u[ii]
     return out
 
 

@@ -21,13 +21,15 @@ import numpy as np
 
 from . import drafting, habits, outlines
 from .assemble import build_truss
+from .audit.next_steps import add_next_steps
 from .audit.stability import PartStability, analyse_part
 from .audit.topology import audit_topology
 from .errors import ConfigError, InputError, LimitError
 from .escape import shown
 from .findings import Code, Finding, sort_findings
 from .loadsfile import LoadsSpec, read_loads_file
-from .naming import part_names
+from .model import Truss
+from .naming import PartNames, name_parts
 from .policy import run_policy
 from .read import LineWork, read_drawing
 from .repeats import copied_stability, find_repeats, repeat_findings
@@ -105,6 +107,23 @@ def _marks(linework: LineWork, spec: LoadsSpec | None) -> tuple[list[tuple[float
         loaded += [e.at for e in spec.loads]
         loaded += [p for e in spec.line_loads for p in (e.start, e.end)]
     return held, loaded
+
+
+def _without_expected_parts(findings: list[Finding], truss: Truss, named: PartNames) -> list[Finding]:
+    """A part the sheet names itself - drawn wholly by one block reference, or carrying a
+    mark text - is meant to stand alone: no ``disconnected-part`` warning for it. A
+    block reference whose content falls into several parts keeps the warnings, as does
+    every part the sheet does not name (docs/findings.md, disconnected-part)."""
+    if not named.from_sheet:
+        return findings
+    refs: dict[tuple[str, ...], int] = {}
+    ref_of: dict[int, tuple[str, ...]] = {}
+    for p in truss.parts:
+        key = tuple(sorted({h for e in p.members.tolist() for h in truss.handles[e]}))
+        ref_of[p.index] = key
+        refs[key] = refs.get(key, 0) + 1
+    expected = {i for i in named.from_sheet if len(ref_of[i]) != 1 or refs[ref_of[i]] == 1}
+    return [f for f in findings if not (f.code is Code.DISCONNECTED_PART and f.data.get("part") in expected)]
 
 
 def _tolerance(text: str, unit: str, what: str) -> float:
@@ -193,13 +212,16 @@ def _check(
     else:
         first = opt_snap if opt_snap is not None else default_snap(all_seg, settings.snap_fraction)
         selection = drafting.select_structure(all_seg, linework.layers, snap=first)
+    # from here on a segment's "handle" is its entity key (model-space handle, or the
+    # block path down to the entity inside blocks); the truss splits the two again
+    all_keys = linework.entity_keys()
     if selection.n_set_aside:
         keep = selection.keep
         seg = all_seg[keep]
-        seg_handles = tuple(h for h, k in zip(linework.handles, keep.tolist(), strict=True) if k)
+        seg_handles = tuple(h for h, k in zip(all_keys, keep.tolist(), strict=True) if k)
         seg_layers = tuple(n for n, k in zip(linework.layers, keep.tolist(), strict=True) if k)
     else:
-        seg, seg_handles, seg_layers = all_seg, linework.handles, linework.layers
+        seg, seg_handles, seg_layers = all_seg, all_keys, linework.layers
     seg, seg_handles, seg_layers, derived = outlines.derive(seg, seg_handles, seg_layers)
     if derived.used and selection.fallback:  # outlines do not triangulate; their centre lines do
         seg, seg_handles, seg_layers, selection = outlines.reselect(
@@ -211,6 +233,7 @@ def _check(
         )
     elif derived.used:
         selection = replace(selection, derived=len(derived.pairs))
+    findings, selection = drafting.curved_drafting(findings, selection)
     findings += drafting.findings(selection)
     findings += outlines.findings(derived, unit)
     if len(seg):
@@ -263,7 +286,9 @@ def _check(
     findings += _with_inventory(audit_topology(truss, snap=snap, near_miss=near), linework, settings.layers)
     stage("model")
 
-    names = part_names(truss, linework.texts, linework.document)
+    named = name_parts(truss, linework.texts, linework.document)
+    names = named.names
+    findings = _without_expected_parts(findings, truss, named)
     noise = 64 * float(np.finfo(float).eps) * (float(np.abs(truss.xy).max()) if truss.n_joints else 0.0)
     repeats = find_repeats(truss, abs_tol=noise)
     findings += repeat_findings(truss, repeats, names)
@@ -290,6 +315,7 @@ def _check(
             if key not in seen:  # e.g. assumed-stiffness once per part, not once per case
                 seen.add(key)
                 findings.append(f)
+    findings = add_next_steps(truss, stability, findings, snap=snap, near_miss=near)
     stage("statics")
 
     source = SourceInfo(

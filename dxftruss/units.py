@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import math
 import re
+import sys
 from dataclasses import dataclass
 
 from .errors import ConfigError
@@ -254,3 +255,95 @@ def check_unit_name(name: object, table: dict[str, float], what: str) -> str:
     if not isinstance(name, str) or name not in table:
         raise ConfigError(f"{what}: unknown unit {name!r} (known units: {', '.join(table)})")
     return name
+
+
+# ----------------------------------------------------------------------------------------
+# numbers in messages
+
+
+@dataclass(frozen=True)
+class LengthFormat:
+    """How a length is written in a message: ``"2.00 mm"``.
+
+    unit  the drawing unit's name (lengths are in drawing units)
+    step  the resolution, drawing units: the power of ten at or below the snap tolerance
+          (two points closer than the snap are one point to the tool, so digits below
+          it say nothing), never finer than the floating-point noise of the largest
+          coordinate (64 units in the last place) - see :func:`length_format`
+    """
+
+    unit: str
+    step: float
+
+    @property
+    def decimals(self) -> int:
+        return max(0, -math.floor(math.log10(self.step) + 1e-9))
+
+    def value(self, x: float) -> float:
+        """``x`` rounded to the step."""
+        return round(round(x / self.step) * self.step, self.decimals)
+
+    def up(self, x: float) -> float:
+        """The smallest multiple of the step strictly above ``x`` (a tolerance that reaches ``x``)."""
+        n = math.floor(x / self.step + 1e-9) + 1
+        return round(n * self.step, self.decimals)
+
+    def number(self, x: float) -> str:
+        """``x`` at the step, without the unit: ``"2.00"``."""
+        if x != 0 and abs(x) < self.step / 2:
+            return f"{'-' if x < 0 else ''}less than {self.step:.{self.decimals}f}"
+        return f"{self.value(x):.{self.decimals}f}"
+
+    def __call__(self, x: float) -> str:
+        """``x`` at the step with the unit: ``"2.00 mm"`` (``"less than 0.01 mm"`` below half a step)."""
+        return f"{self.number(x)} {self.unit}"
+
+    def point(self, x: float, y: float) -> str:
+        """A point: ``"(1200.00, 350.00) mm"`` (each coordinate rounded to the step, so
+        a coordinate within noise of zero is 0.00)."""
+        d = self.decimals
+        return f"({self.value(x) + 0.0:.{d}f}, {self.value(y) + 0.0:.{d}f}) {self.unit}"
+
+
+def length_format(unit: str, *, snap: float, magnitude: float) -> LengthFormat:
+    """The :class:`LengthFormat` of a drawing in ``unit`` checked with snap tolerance
+    ``snap`` whose largest coordinate is ``magnitude`` (both in drawing units).
+
+    step = 10 ** floor(log10(max(snap, noise))), noise = 64 eps magnitude; 1e-6 of the
+    unit when both are zero (an empty drawing, ``--snap 0`` on the origin).
+    """
+    noise = 64 * sys.float_info.epsilon * abs(float(magnitude))
+    base = max(float(snap), noise)
+    if not math.isfinite(base) or base <= 0:
+        base = 1e-6
+    return LengthFormat(unit, 10.0 ** math.floor(math.log10(base) + 1e-9))
+
+
+#: significant figures of a force in a message (labels and loads files give fewer)
+FORCE_DIGITS = 6
+
+
+def force_text(value: float, unit: str, *, digits: int = FORCE_DIGITS) -> str:
+    """A force with its unit: ``"12.0 kN"``, ``"0.333333 kN"``, ``"125000.0 N"``.
+
+    ``digits`` significant figures, trailing zeros dropped but one decimal kept; no
+    exponent from 1e-6 to 1e15 of the unit.
+    """
+    return f"{plain_number(value, digits=digits)} {unit}"
+
+
+def plain_number(value: float, *, digits: int = FORCE_DIGITS) -> str:
+    """``value`` to ``digits`` significant figures in plain decimal notation (see force_text)."""
+    v = float(value)
+    if not math.isfinite(v):
+        return str(v)
+    if v == 0:
+        return "0.0"
+    mag = math.floor(math.log10(abs(v)))
+    if mag < -6 or mag > 15:
+        return f"{v:.{digits - 1}e}"
+    decimals = max(1, digits - 1 - mag)
+    text = f"{round(v, digits - 1 - mag):.{decimals}f}"
+    whole, _, frac = text.partition(".")
+    frac = frac.rstrip("0") or "0"
+    return f"{whole}.{frac}"

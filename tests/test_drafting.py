@@ -285,3 +285,31 @@ def test_a_zero_length_line_on_the_truss_layer_is_still_reported(tmp_path):
     zero = [f for f in r.findings if f.code is Code.ZERO_LENGTH_MEMBER]
     assert len(zero) == 1 and zero[0].data["layer"] == "TRUSS"
     assert r.selection.set_aside["TITLE"] == {"no-triangles": 9}
+
+
+def _revision_cloud(msp):
+    # a revision cloud: a closed polyline of bulged segments round the third top joint
+    pts = []
+    for k in range(12):
+        a = 2 * np.pi * k / 12
+        pts.append((3 * A + 900 * np.cos(a), H + 700 * np.sin(a), 0, 0, -0.5))
+    msp.add_lwpolyline(pts, format="xyseb", close=True, dxfattribs={"layer": "REV"})
+
+
+def test_a_revision_cloud_is_set_aside_not_warned_about(tmp_path, clean):
+    r = check(_sheet(tmp_path / "cloud.dxf", _revision_cloud))
+    assert not [f for f in r.findings if f.code is Code.ARC_SEGMENT]
+    (aside,) = [f for f in r.findings if f.code is Code.SET_ASIDE]
+    assert aside.data["layer"] == "REV" and aside.data["reasons"] == {"curved": 1}
+    assert _forces(r) == pytest.approx(_forces(clean), abs=1e-9)
+
+
+def test_a_curve_on_the_member_layer_is_still_warned_about(tmp_path):
+    def arc_on_truss(msp):
+        msp.add_lwpolyline([(0, 0, 0, 0, 0.3), (A, H, 0, 0, 0)], format="xyseb", dxfattribs={"layer": "TRUSS"})
+
+    r = check(_sheet(tmp_path / "arc.dxf", arc_on_truss))
+    assert [f.data["layer"] for f in r.findings if f.code is Code.ARC_SEGMENT] == ["TRUSS"]
+    # and with --layers naming the cloud's layer, the cloud is warned about too
+    r = check(_sheet(tmp_path / "cloud.dxf", _revision_cloud), Settings(layers=("TRUSS", "REV")))
+    assert [f.data["layer"] for f in r.findings if f.code is Code.ARC_SEGMENT] == ["REV"]

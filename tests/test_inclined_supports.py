@@ -365,7 +365,7 @@ def test_skewed_roller_block_is_refused(tmp_path: Path) -> None:
     # roller's x and y axes are no longer square, so its base is unclear
     doc = triangle_doc()
     outer = doc.blocks.new("HOLDER")
-    outer.add_blockref("ROLLER", (0, 0), dxfattribs={"rotation": 30})
+    roller = outer.add_blockref("ROLLER", (0, 0), dxfattribs={"rotation": 30})
     ins = doc.modelspace().add_blockref(
         "HOLDER", (4, 0), dxfattribs={"layer": "SYMBOLS", "xscale": 1, "yscale": 3, "rotation": 45}
     )
@@ -374,7 +374,8 @@ def test_skewed_roller_block_is_refused(tmp_path: Path) -> None:
     res = check(path)
     (f,) = [f for f in res.findings if f.code is Code.INCLINED_SUPPORT]
     assert "skewed" in f.message and f.data["block"] == "ROLLER"
-    assert f.data["handle"] == ins.dxf.handle
+    # the entity key: model-space reference / the roller reference in HOLDER's definition
+    assert f.data["handle"] == f"{ins.dxf.handle}/{roller.dxf.handle}"
     b = int(np.flatnonzero(np.all(np.isclose(res.truss.xy, (4.0, 0.0)), axis=1))[0])
     assert b not in {s.joint for s in res.truss.supports}
 

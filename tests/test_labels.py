@@ -253,7 +253,7 @@ def test_unclear_drawn_label_leaves_the_case_unsolved(tmp_path, label):
 def test_per_length_label_says_to_use_the_loads_file(tmp_path):
     r = run(tmp_path, ["0.75 kN/m"])
     (f,) = [f for f in r.findings if f.code is Code.LOAD_LABEL_UNCLEAR]
-    assert "750 N/m" in f.message and "loads file" in f.message
+    assert "750.0 N/m" in f.message and "loads file" in f.message
 
 
 def test_comma_decided_by_another_label_in_the_drawing(tmp_path):

@@ -203,7 +203,7 @@ def test_a_gap_in_the_chord_is_refused(tmp_path):
     segs = [s for s in pratt_segments(N, A, H) if s != (3 * A, H, 4 * A, H)]
     dxf = write_drawing(tmp_path / "gap.dxf", segs)
     text = SUPPORTS + f'[[line_load]]\nfrom = [0, {H}]\nto = [{N * A}, {H}]\nw = "1 kN/m"\n'
-    with pytest.raises(ConfigError, match=r"stop at J\d+ \[7\.5, 2\], 7\.5 of 20 along it"):
+    with pytest.raises(ConfigError, match=r"stop at J\d+ \(7\.5, 2\) m, 7\.5 m of 20 m along it"):
         check(dxf, Settings(loads=loads_file(tmp_path, text)))
 
 
@@ -334,7 +334,7 @@ def test_drawn_row_whose_end_arrow_is_between_joints_is_unclear(tmp_path):
     # the load would start mid-member: where it starts is not guessed
     r = drawn(tmp_path, row(xs=[DA / 2 + i * DA / 2 for i in range(2 * DN - 1)]))
     (unclear,) = [f for f in r.findings if f.code is Code.LOAD_LABEL_UNCLEAR]
-    assert "first arrow head [1.5, 2] is not on a joint" in unclear.message
+    assert "first arrow head (1.5, 2) m is not on a joint" in unclear.message
 
 
 def test_file_line_load_and_drawn_row_in_one_case_need_the_drawn_key(tmp_path):

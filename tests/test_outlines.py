@@ -232,3 +232,47 @@ def test_chord_side_drawn_in_pieces(tmp_path: Path) -> None:
     assert np.abs(got - ref).max() <= FORCE_TOL * np.abs(ref).max()
     assert Code.AMBIGUOUS_OUTLINE not in {f.code for f in r.findings}
     assert r.selection is not None and "derived" in layers_sentence(r.selection)
+
+
+def _work_points_by_definition(lines: np.ndarray, widths: np.ndarray) -> np.ndarray:
+    """The work-point rule written out line by line (every pair tried): the reference
+    the indexed version in dxftruss/outlines.py must match."""
+    from dxftruss.outlines import MIN_SIN, REACH_WIDTHS
+
+    out = lines.copy()
+    for i in range(len(lines)):
+        a_i, d_i = lines[i, :2], lines[i, 2:] - lines[i, :2]
+        l_i = float(np.hypot(*d_i))
+        u_i = d_i / l_i
+        for end, t_end in ((0, 0.0), (1, l_i)):
+            best = None
+            for j in range(len(lines)):
+                a_j, d_j = lines[j, :2], lines[j, 2:] - lines[j, :2]
+                l_j = float(np.hypot(*d_j))
+                u_j = d_j / l_j
+                s = u_i[0] * u_j[1] - u_i[1] * u_j[0]
+                if j == i or abs(s) < MIN_SIN:
+                    continue
+                reach = REACH_WIDTHS * (widths[i] + widths[j]) / abs(s)
+                rel = a_j - a_i
+                t = (rel[0] * u_j[1] - rel[1] * u_j[0]) / s
+                r = (rel[0] * u_i[1] - rel[1] * u_i[0]) / s
+                if abs(t - t_end) > reach or r < -reach or r > l_j + reach:
+                    continue
+                key = (0 if reach < r < l_j - reach else 1, abs(t - t_end))
+                if best is None or key < best[0]:
+                    best = (key, a_i + t * u_i)
+            if best is not None:
+                out[i, 2 * end : 2 * end + 2] = best[1]
+    return out
+
+
+def test_indexed_work_points_match_the_rule_tried_on_every_pair() -> None:
+    from dxftruss.outlines import _work_points
+
+    rng = np.random.default_rng(7)
+    for _ in range(60):
+        n = int(rng.integers(2, 25))
+        lines = rng.uniform(0, 1000, (n, 4))
+        widths = rng.uniform(5, 80, n)
+        assert np.allclose(_work_points(lines, widths), _work_points_by_definition(lines, widths), rtol=0, atol=1e-9)

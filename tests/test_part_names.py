@@ -86,3 +86,34 @@ def test_two_inserts_of_one_block_are_named_by_insertion_point(tmp_path):
     r = check(tmp_path / "esc.dxf")
     assert r.part_names == ("T1X at (0, 0)", "T1X at (30000, 0)")
     assert "T1X at (30000, 0)" in summary(r)
+
+
+def _disconnected(r):
+    return sorted(f.data["part"] for f in r.findings if f.code is Code.DISCONNECTED_PART)
+
+
+def test_parts_the_sheet_names_get_no_disconnected_part_warning(tmp_path):
+    # forty truss blocks on a job sheet are meant to stand alone
+    r = check(sheets.sheet_job_schedule(tmp_path).path)
+    assert len(r.truss.parts) == 40 and _disconnected(r) == []
+
+
+def test_unnamed_parts_and_a_block_falling_apart_keep_the_warning(tmp_path):
+    # two trusses side by side with no block and no mark: either may be a missing member
+    doc = ezdxf.new("R2013")
+    msp = doc.modelspace()
+    for dx in (0.0, 40.0):
+        for x1, y1, x2, y2 in pratt_segments(4, 4.0, 3.0):
+            msp.add_line((x1 + dx, y1), (x2 + dx, y2))
+    doc.saveas(tmp_path / "two.dxf")
+    assert _disconnected(check(tmp_path / "two.dxf")) == [0, 1]
+    # one block whose content is two separate pieces: the reference is named, but its
+    # parts are not what the block means - the warnings stay
+    doc = ezdxf.new("R2013")
+    blk = doc.blocks.new("T7")
+    for dx in (0.0, 40.0):
+        for x1, y1, x2, y2 in pratt_segments(4, 4.0, 3.0):
+            blk.add_line((x1 + dx, y1), (x2 + dx, y2))
+    doc.modelspace().add_blockref("T7", (0, 0))
+    doc.saveas(tmp_path / "split.dxf")
+    assert _disconnected(check(tmp_path / "split.dxf")) == [0, 1]

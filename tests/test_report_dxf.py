@@ -159,3 +159,33 @@ def test_damaged_drawing_is_copied_through_the_recovery_reader(tmp_path: Path) -
     doc = ezdxf.readfile(out)
     assert set(handles.values()) <= {e.dxf.handle for e in doc.modelspace()}
     assert len(doc.modelspace().query('TEXT[layer=="DXFTRUSS-FORCES-SNOW"]')) == 5
+
+
+def _attribs(e) -> dict:  # type: ignore[no-untyped-def]
+    """An entity's DXF attributes in comparable form (vectors as tuples)."""
+    return {
+        k: (tuple(v) if hasattr(v, "__iter__") and not isinstance(v, str) else v) for k, v in e.dxfattribs().items()
+    }
+
+
+@pytest.mark.parametrize("build", ["everything", "job_schedule"])
+def test_office_sheet_copy_passes_the_audit_with_every_original_entity_unchanged(tmp_path: Path, build: str) -> None:
+    from dxftruss import check
+    from tests import sheets
+
+    sheet = sheets.SHEETS[build](tmp_path)
+    result = check(sheet.path)
+    out = tmp_path / "annotated.dxf"
+    write_dxf(result, out)
+    orig = ezdxf.readfile(sheet.path)
+    copy = ezdxf.readfile(out)
+    auditor = copy.audit()
+    assert not auditor.has_errors, [str(e) for e in auditor.errors]
+    # every original entity, in model space and in every block, is in the copy unchanged
+    for layout in [orig.modelspace(), *orig.blocks]:
+        for e in layout:
+            twin = copy.entitydb.get(e.dxf.handle)
+            assert twin is not None and twin.dxftype() == e.dxftype(), e.dxf.handle
+            assert _attribs(twin) == _attribs(e), e.dxf.handle
+    assert len(copy.modelspace()) > len(orig.modelspace())  # the marks and forces were added
+    assert {name for name in (la.dxf.name for la in copy.layers) if name.startswith("DXFTRUSS-")}

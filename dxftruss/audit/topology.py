@@ -17,6 +17,7 @@ from scipy.spatial import cKDTree
 
 from ..findings import Code, Finding
 from ..model import Truss, joint_id, member_id
+from . import lengths_for
 
 #: at most this many candidate pairs are examined per check before it stops listing
 MAX_PAIRS = 2_000_000
@@ -80,6 +81,7 @@ def near_misses(truss: Truss, *, near_miss: float, snap: float) -> list[Finding]
     out: list[Finding] = []
     if len(xy) < 2 or near_miss <= 0:
         return out
+    fmt = lengths_for(truss, snap)
     tree_j = cKDTree(xy)
     # count first (dual-tree counting does not enumerate): a dense knot of joints must
     # not make the listing quadratic
@@ -97,7 +99,7 @@ def near_misses(truss: Truss, *, near_miss: float, snap: float) -> list[Finding]
         out.append(
             Finding(
                 Code.NEAR_MISS,
-                f"{joint_id(a)} and {joint_id(b)} are {gap:.6g} apart but not joined",
+                f"{joint_id(a)} and {joint_id(b)} are {fmt(gap)} apart but not joined",
                 joints=(a, b),
                 at=_pt((xy[a] + xy[b]) / 2),
                 data={"distance": gap},
@@ -133,7 +135,7 @@ def near_misses(truss: Truss, *, near_miss: float, snap: float) -> list[Finding]
         out.append(
             Finding(
                 Code.NEAR_MISS,
-                f"{joint_id(int(j))} is {g:.6g} from member {member_id(int(m))} but not joined to it",
+                f"{joint_id(int(j))} is {fmt(float(g))} from member {member_id(int(m))} but not joined to it",
                 joints=(int(j),),
                 members=(int(m),),
                 at=_pt(xy[j]),

@@ -173,7 +173,7 @@ def read_drawing(
         audit_failure = None
         if auditor is None:  # read as written first, then audit (see loading._load)
             auditor, audit_failure = _audit_after_reading(doc)
-    seg, handles, seg_layers, z = reader.placed.line_work_arrays()
+    seg, handles, seg_layers, z, keys = reader.placed.line_work_arrays()
     if recovered and not len(seg) and not reader.placed.supports and not reader.placed.loads:
         # an intact drawing with no members is a finding (no-members); a damaged one from
         # which the recovery reader salvaged no line work at all is not a drawing we can use
@@ -213,6 +213,8 @@ def read_drawing(
         segments=seg,
         handles=handles,
         layers=seg_layers,
+        keys=keys,
+        block_names=reader.insert_names,
         supports=tuple(m for *_, m in sorted(reader.placed.supports, key=order)),
         loads=tuple(m for *_, m in sorted(reader.placed.loads, key=order)),
         texts=tuple(m for *_, m in sorted(reader.placed.texts, key=order)),

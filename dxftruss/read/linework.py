@@ -88,3 +88,14 @@ class LineWork:
     #: (block content once per placement; content of a reference on a frozen layer is
     #: not walked, the reference itself is counted)
     layer_counts: dict[str, dict[str, int]] = field(default_factory=dict, compare=False, repr=False)
+    #: per segment the key naming the entity it came from: its handle in model space;
+    #: inside blocks the top-level INSERT's handle, the nested INSERT handles and the
+    #: entity's own handle in its block definition joined by "/" (``1A/2F/3C``); empty
+    #: when not known (line work built in memory)
+    keys: tuple[str, ...] = ()
+    #: handle -> block name of every block reference whose content was read
+    block_names: dict[str, str] = field(default_factory=dict, compare=False, repr=False)
+
+    def entity_keys(self) -> tuple[str, ...]:
+        """``keys``, or the handles where keys were not given."""
+        return self.keys if len(self.keys) == len(self.handles) else self.handles

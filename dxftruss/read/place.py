@@ -34,6 +34,17 @@ class _Batch:
     mats: np.ndarray  # (N, 4, 4) block -> WCS
     handles: np.ndarray  # (N,) object: handle of the top-level model-space INSERT
     order: np.ndarray  # (N,) int: model-space position of that INSERT
+    #: (N,) object: the nested INSERT handles below the top-level one, joined by "/"
+    #: ("" for a block placed directly by a model-space INSERT)
+    paths: np.ndarray
+
+
+def entity_keys(tops: np.ndarray, paths: np.ndarray, entities: np.ndarray) -> np.ndarray:
+    """Per placed entity the key naming it in the drawing: the top-level INSERT's handle,
+    the nested INSERT handles and the entity's own handle in its block definition, joined
+    by "/" (``1A/2F/3C``: entity 3C inside reference 2F inside model-space reference 1A)."""
+    sep = np.where(paths == "", "", "/").astype(object)
+    return tops.astype(object) + "/" + paths.astype(object) + sep + entities.astype(object)
 
 
 def _points_to_wcs(p: tuple[float, float, float], batch: _Batch | None) -> np.ndarray:
@@ -59,11 +70,15 @@ def _child_batch(ins: _Inserts, plain: list[int], arrays: list[int], batch: _Bat
     if not len(mats):  # MINSERT arrays with no cells
         return None
     if batch is None:
-        return _Batch(mats=mats, handles=ins.handles[which], order=ins.order[which])
+        empty = np.full(len(which), "", dtype=object)
+        return _Batch(mats=mats, handles=ins.handles[which], order=ins.order[which], paths=empty)
+    parent = np.repeat(batch.paths, len(mats))
+    sep = np.where(parent == "", "", "/").astype(object)
     return _Batch(
         mats=np.einsum("cij,njk->ncik", mats, batch.mats).reshape(-1, 4, 4),
         handles=np.repeat(batch.handles, len(mats)),
         order=np.repeat(batch.order, len(mats)),
+        paths=parent + sep + np.tile(ins.handles[which].astype(object), len(batch.handles)),
     )
 
 
@@ -87,6 +102,7 @@ class _Placed:
         self.seg_chunks: list[np.ndarray] = []
         self.z_chunks: list[np.ndarray] = []
         self.handle_chunks: list[np.ndarray] = []
+        self.key_chunks: list[np.ndarray] = []
         self.layer_chunks: list[np.ndarray] = []
         self.order_chunks: list[np.ndarray] = []
         self.supports: list[tuple[int, int, SupportMark]] = []
@@ -132,18 +148,27 @@ class _Placed:
             # a placement scales the text height by the square root of its area scale
             self.texts.append((order, self.next_seq(), TextMark(x, y, text, layer, hh, height * scale)))
 
-    def line_work_arrays(self) -> tuple[np.ndarray, tuple[str, ...], tuple[str, ...], np.ndarray]:
-        """(segments (n, 4), handles, layers, z (n, 2)) in reading order."""
+    def line_work_arrays(
+        self,
+    ) -> tuple[np.ndarray, tuple[str, ...], tuple[str, ...], np.ndarray, tuple[str, ...]]:
+        """(segments (n, 4), handles, layers, z (n, 2), entity keys) in reading order."""
         if not self.seg_chunks:
-            return np.zeros((0, 4)), (), (), np.zeros((0, 2))
+            return np.zeros((0, 4)), (), (), np.zeros((0, 2)), ()
         seg = np.concatenate(self.seg_chunks)
         z = np.concatenate(self.z_chunks)
         handles = np.concatenate(self.handle_chunks)
         layers = np.concatenate(self.layer_chunks)
+        keys = np.concatenate(self.key_chunks)
         order = np.concatenate(self.order_chunks)
         perm = np.argsort(order, kind="stable")
         seg = np.ascontiguousarray(seg[perm])
-        return seg, tuple(handles[perm].tolist()), tuple(layers[perm].tolist()), z[perm]
+        return (
+            seg,
+            tuple(handles[perm].tolist()),
+            tuple(layers[perm].tolist()),
+            z[perm],
+            tuple(keys[perm].tolist()),
+        )
 
 
 @dataclass
@@ -307,12 +332,15 @@ def _add_members(
     out.seg_chunks.append(r[:, [0, 1, 3, 4]])
     out.z_chunks.append(r[:, [2, 5]])
     out.layer_chunks.append(np.asarray(layers, dtype=object)[me])
+    own = np.asarray(c.ent_handle, dtype=object)[me]
     if batch is None:
-        out.handle_chunks.append(np.asarray(c.ent_handle, dtype=object)[me])
+        out.handle_chunks.append(own)
+        out.key_chunks.append(own)
         out.order_chunks.append(np.asarray(c.ent_pos, dtype=np.int64)[me])
     else:
         ri = rows.inst[m]
         out.handle_chunks.append(batch.handles[ri])
+        out.key_chunks.append(entity_keys(batch.handles[ri], batch.paths[ri], own))
         out.order_chunks.append(batch.order[ri])
 
 

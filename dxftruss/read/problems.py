@@ -88,11 +88,11 @@ def _invalid_coordinates(p: _Problems) -> list[Finding]:
     out = []
     for (h, _, _, _), (t, layer, n, why) in p.invalid.items():
         if why == _NOT_FINITE:
-            why = f"a coordinate is not finite or beyond {p.max_coordinate:g}"
+            why = f"a coordinate is not finite or beyond {p.max_coordinate:g} drawing units"
         out.append(
             Finding(
                 Code.INVALID_COORDINATE,
-                f"{t} {h} on layer {layer!r}: {why}; it was skipped" + (f" ({n} placements)" if n > 1 else ""),
+                f"{t} (handle {h}) on layer {layer!r}: {why}; it was skipped" + (f" ({n} placements)" if n > 1 else ""),
                 data={"handle": h, "layer": layer, "type": t, "count": n},
             )
         )
@@ -106,7 +106,7 @@ def _arc_segments(p: _Problems) -> list[Finding]:
         out.append(
             Finding(
                 Code.ARC_SEGMENT,
-                f"{typ} {h} on layer {layer!r} has {what}; curved pieces are not used as members",
+                f"{typ} (handle {h}) on layer {layer!r} has {what}; curved pieces are not used as members",
                 at=at,
                 data={"handle": h, "layer": layer, "arcs": narcs},
             )
@@ -159,7 +159,7 @@ def _planarity(p: _Problems, seg: np.ndarray, z: np.ndarray, handles: tuple[str,
         return None
     parts = []
     if spread:
-        parts.append(f"z of the line work ranges from {z_min:g} to {z_max:g}")
+        parts.append(f"z of the line work ranges from {z_min:g} to {z_max:g} drawing units")
     if p.tilted:
         parts.append("some line work lies in a plane tilted out of the XY plane")
     return Finding(

@@ -37,7 +37,7 @@ from .extract import _Content, _Extractor
 from .layers import LayerState, _LayerRole, _names_exactly, _resolve_role, _Role, _support_kind
 from .limits import _Limits
 from .linework import SupportMark
-from .place import _Batch, _child_batch, _place_line_work, _Placed, _points_to_wcs
+from .place import _Batch, _child_batch, _place_line_work, _Placed, _points_to_wcs, entity_keys
 from .problems import _Problems
 from .text import _PlainTexts
 
@@ -85,6 +85,8 @@ class _Reader:
         self.plain_text = _PlainTexts(self.extractor.failures)
         self.roles: dict[str, _LayerRole] = {}
         self.blocks: dict[str, _Content] = {}
+        #: handle -> block name of every block reference whose content was placed
+        self.insert_names: dict[str, str] = {}
         self.origin_lines = 0
         self.msp_entities = 0
 
@@ -260,6 +262,8 @@ class _Reader:
             # count what these placements produce before any matrix is built
             self.limits.count_entities(n_inst * (len(plain) + n_cells) * content.n_entities)
             new = _child_batch(ins, plain, arrays, batch)
+            for i in rows:
+                self.insert_names[ins.handle[i]] = name
             if new is not None:
                 tasks.append(_Task(key, new, el, (*stack, key), content))
         return tasks
@@ -276,11 +280,11 @@ class _Reader:
                 if why:
                     at = _points_to_wcs(_xyz(ins.point[i]), batch)
                     for k in range(len(at)):
-                        hh = ins.handle[i] if batch is None else str(batch.handles[k])
+                        key = _note_key(ins.handle[i], batch, k)
                         order = ins.pos[i] if batch is None else int(batch.order[k])
                         xy = (float(at[k, 0]), float(at[k, 1]))
                         self.placed.block_notes.append(
-                            (order, self.placed.next_seq(), "unclear", name, why, hh, el, xy, None)
+                            (order, self.placed.next_seq(), "unclear", name, why, key, el, xy, None)
                         )
                 rest.append(i)
                 continue
@@ -296,6 +300,7 @@ class _Reader:
                     self.problems.bad_point("INSERT", hh, el)
                     continue
                 xy = (float(pts[k, 0]), float(pts[k, 1]))
+                key = hh if batch is None else f"{world.handles[k]}/{world.paths[k]}"
                 fix = Fix.XY
                 normal: tuple[float, float] | None = None
                 restrains: float | None = None
@@ -305,13 +310,21 @@ class _Reader:
                     if unclear:
                         note = f"{why}; {unclear}"
                         self.placed.block_notes.append(
-                            (order, self.placed.next_seq(), "inclined", name, note, hh, el, xy, None)
+                            (order, self.placed.next_seq(), "inclined", name, note, key, el, xy, None)
                         )
                         continue
                 mark = SupportMark(xy[0], xy[1], fix, hh, el, block=name, why=why, normal=normal)
                 self.placed.supports.append((order, self.placed.next_seq(), mark))
-                self.placed.block_notes.append((order, self.placed.next_seq(), kind, name, why, hh, el, xy, restrains))
+                self.placed.block_notes.append((order, self.placed.next_seq(), kind, name, why, key, el, xy, restrains))
         return rest
+
+
+def _note_key(own: str, batch: _Batch | None, k: int) -> str:
+    """The entity key of block reference ``own`` in placement ``k`` of ``batch``
+    (``TOP/NESTED.../OWN``; just ``own`` in model space), for the findings."""
+    if batch is None:
+        return own
+    return str(entity_keys(batch.handles[k : k + 1], batch.paths[k : k + 1], np.array([own], dtype=object))[0])
 
 
 #: a roller block within this many degrees of level (or of plumb) restrains y (or x)

@@ -14,8 +14,8 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
-from ..model import LoadOrigin, Support, joint_id, member_id
-from ..naming import finding_parts, part_index
+from ..model import LoadOrigin, Support, Truss, entity_ref, joint_id, member_id
+from ..naming import finding_entities, finding_parts, part_index
 from . import CAUTION, assumptions
 
 if TYPE_CHECKING:
@@ -116,6 +116,7 @@ def report_dict(result: Result) -> dict[str, Any]:
                 "length": lengths[e],
                 "layer": t.layers[e],
                 "handles": list(t.handles[e]),
+                **({"entities": _member_entities(t, e)} if _in_block(t, e) else {}),
             }
             for e, (a, b) in enumerate(t.ends.tolist())
         ],
@@ -152,6 +153,8 @@ def report_dict(result: Result) -> dict[str, Any]:
                 "members": [member_id(e) for e in f.members],
                 "at": [_num(f.at[0]), _num(f.at[1])] if f.at is not None else None,
                 "parts": finding_parts(f, index, result.part_names),
+                "entities": _finding_entities(t, f),
+                "next_step": f.next_step or None,
                 **({"data": _jsonable(f.data)} if f.data else {}),
             }
             for f in result.findings
@@ -238,6 +241,23 @@ def _line_work(result: Result) -> dict[str, Any]:
             for name, r in sorted(sel.set_aside.items())
         ],
     }
+
+
+#: at most this many entities are listed per finding (the members list is complete)
+MAX_FINDING_ENTITIES = 100
+
+
+def _in_block(t: Truss, e: int) -> bool:
+    return e < len(t.entities) and any("/" in k for k in t.entities[e])
+
+
+def _member_entities(t: Truss, e: int) -> list[dict[str, Any]]:
+    return [entity_ref(k, t.layers[e], t.block_names) for k in t.entities[e]]
+
+
+def _finding_entities(t: Truss, f: Any) -> list[dict[str, Any]]:
+    """The entities a finding concerns (docs/report-format.md, entities)."""
+    return [entity_ref(k, layer, t.block_names) for k, layer in finding_entities(t, f, MAX_FINDING_ENTITIES)]
 
 
 def to_json(result: Result) -> str:

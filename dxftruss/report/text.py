@@ -17,7 +17,7 @@ import numpy as np
 from ..escape import shown
 from ..findings import Severity
 from ..model import joint_id, member_id
-from ..naming import finding_parts, part_index
+from ..naming import finding_parts, part_index, where_drawn
 from . import CAUTION, assumptions
 
 if TYPE_CHECKING:
@@ -32,6 +32,15 @@ def _text(s: object, style: str = "") -> Text:
     from rich.text import Text
 
     return Text(shown(s), style=style)
+
+
+def _message(message: str, next_step: str) -> Text:
+    """A finding's message, and its next step on a line of its own (both escaped)."""
+    cell = _text(message)
+    if next_step:
+        cell.append("\n")
+        cell.append_text(_text("next step: " + next_step, style="italic"))
+    return cell
 
 
 def _fmt(x: float) -> str:
@@ -102,11 +111,12 @@ def summary(result: Result, *, max_findings: int = 40, width: int = 110, color: 
         for i, f in enumerate(result.findings[:max_findings], 1):
             named = finding_parts(f, index, result.part_names) if len(t.parts) > 1 else []
             where = f"[{', '.join(named[:3])}{', ...' if len(named) > 3 else ''}] " if named else ""
+            drawn = where_drawn(t, f, limit=2) if f.severity is not Severity.INFO else ""
             ft.add_row(
                 str(i),
                 _text(f.severity.value, style=sev_style[f.severity]),
                 _text(f.code.value),
-                _text(where + f.message),
+                _message(where + f.message + (f" (drawn: {drawn})" if drawn else ""), f.next_step),
             )
         con.print(ft)
         if len(result.findings) > max_findings:

@@ -274,6 +274,11 @@ def member_label_candidates(
     return out
 
 
+#: distances (points) at which a label that must be shown is tried around its point
+#: when it does not fit beside it: farther out it names its member and has a leader line
+OFF_GAPS = (2.0, 8.0, 16.0, 28.0, 44.0, 64.0, 90.0, 120.0)
+
+
 def around_candidates(
     x: float,
     y: float,
@@ -315,11 +320,11 @@ def place_member_labels(
 ) -> list[int]:
     """Label members in ``order`` (most important first); a member whose text does not fit
     gets its ``fallback`` text (e.g. its id) when that fits. The members in ``must`` (the
-    governing members, those named by findings) are labelled first and always: when no
-    free position is left, at the first position inside the drawing area (beside the
-    member's middle when the member is too short on the page for its text), even
-    over other things. Returns the members left without any label. ``a``, ``b`` are
-    (m, 2) page coordinates."""
+    governing members, those named by findings) are labelled first: on the member, or
+    off it farther and farther out (the text then names its member, and the page draws a
+    leader line); never over another label - when even that finds no room, the member is
+    left without a label like the rest. Returns the members left without any label.
+    ``a``, ``b`` are (m, 2) page coordinates."""
     from reportlab.pdfbase.pdfmetrics import stringWidth
 
     m = len(texts)
@@ -340,9 +345,9 @@ def place_member_labels(
         # names its member (the page draws a leader line to the member's middle)
         off = f"{shown(fallback[e])} {text}" if fallback is not None and shown(fallback[e]) else text
         w_off = float(stringWidth(off, font, size)) + 2.0
-        for gap in (2.0, 8.0, 16.0, 28.0, 44.0):
+        for gap in OFF_GAPS:
             cands += around_candidates(mx, my, off, w_off, height, gap=gap, prefer=(0.0, 1.0), kind="force", owner=e)
-        if placer.place(cands, ignore=(e,), force=True) is not None:
+        if placer.place(cands, ignore=(e,)) is not None:
             count += 1
         else:
             left.append(e)

@@ -25,7 +25,7 @@ from ...model import Fix, joint_id, member_id
 from ..render import PageMap, draw_recording, stroke_segments
 from .context import FULL_TABLE_MEMBERS, MAX_MUST, _case_loads, _Context, _findings_for, _member_states
 from .format import _Page, _width, _wrap, clean_reactions, fmt_force, shown
-from .labels import Label, LabelPlacer, _draw_label, _thin_quad, around_candidates, place_member_labels
+from .labels import OFF_GAPS, Label, LabelPlacer, _draw_label, _thin_quad, around_candidates, place_member_labels
 from .panel import _flow_panel, _Item, _legend_items, _legend_line, _panel_items
 from .sheet import Sheet, _draw_scale_bar, _footer, _scale_note, frame_pads, sheet_and_map
 from .symbols import (
@@ -401,18 +401,22 @@ class _Overlay:
             for x, y, px, py, text in labels:
                 w = _width(text, font, size) + 2
                 cands = around_candidates(x, y, text, w, size * 1.2, prefer=(px, py), kind=kind)
-                # reactions are few and always labelled; load values are thinned when
-                # they do not fit (the arrows stay, the loads table and JSON have them)
-                lab = self.placer.place(cands, force=kind == "reaction")
-                if lab is not None:
-                    _draw_label(self.pg, lab, font, size, rgb)
-                else:
+                if kind == "reaction":
+                    # reactions are few: tried farther out too, with a leader line; load
+                    # values are thinned when they do not fit (the arrows stay)
+                    for gap in OFF_GAPS[1:]:
+                        cands += around_candidates(x, y, text, w, size * 1.2, gap=gap, prefer=(px, py), kind=kind)
+                lab = self.placer.place(cands)
+                if lab is None:
                     left += 1
+                    continue
+                if math.hypot(lab.x - x, lab.y - y) > lab.width / 2 + lab.height + OFF_GAPS[1]:
+                    self._leader((x, y), lab)
+                _draw_label(self.pg, lab, font, size, rgb)
             if left:
-                self.notes.append(
-                    f"{left} of {len(labels)} load values left out (no room at this scale); "
-                    "the JSON report has every load"
-                )
+                what = "load values" if kind == "load" else "reaction values"
+                where = "the JSON report has every load" if kind == "load" else "the reaction table has them all"
+                self.notes.append(f"{left} of {len(labels)} {what} left out (no room at this scale); {where}")
 
     def label_forces(
         self, forces: np.ndarray, states: np.ndarray, widths: np.ndarray, limit: int, named: Sequence[int] = ()
@@ -449,14 +453,24 @@ class _Overlay:
             self.notes.append(
                 f"{n_id + len(left)} of {len(solved)} force values left out at this scale "
                 f"({n_id} shown by member number instead); the largest tension and compression "
-                f"and the members named by findings are always labelled; {where} has every force"
+                f"and the members named by findings are labelled first; {where} has every force"
             )
+
+    def _leader(self, p: tuple[float, float], lab: Label) -> None:
+        """A thin line from point ``p`` to a label standing off it (drawn before the
+        label, whose white backing covers the line's end)."""
+        c = self.c
+        c.setStrokeGray(0.0)
+        c.setLineWidth(0.5)
+        c.setDash()
+        c.line(p[0], p[1], lab.x, lab.y)
+        c.setFillGray(0.0)
+        c.circle(p[0], p[1], 1.2, stroke=0, fill=1)
 
     def _leaders(self, labels: Sequence[Label]) -> None:
         """A thin line from a member's middle to its label when the label stands off the
         member (a governing member's label moved out of a crowded area); drawn before the
         labels, whose white backing covers the line's end."""
-        c = self.c
         for lab in labels:
             a, b = self.a[lab.owner], self.b[lab.owner]
             mx, my = (float(v) for v in (a + b) / 2)
@@ -464,12 +478,7 @@ class _Overlay:
             t = float(np.clip(np.dot([lab.x, lab.y] - a, d) / max(float(np.dot(d, d)), 1e-12), 0.0, 1.0))
             if math.hypot(*([lab.x, lab.y] - (a + t * d))) <= lab.height:
                 continue  # on its member
-            c.setStrokeGray(0.0)
-            c.setLineWidth(0.5)
-            c.setDash()
-            c.line(mx, my, lab.x, lab.y)
-            c.setFillGray(0.0)
-            c.circle(mx, my, 1.2, stroke=0, fill=1)
+            self._leader((mx, my), lab)
 
     def label_member_numbers(self, widths: np.ndarray, limit: int) -> None:
         """No forces on this page: number the members where the numbers fit."""

@@ -19,6 +19,7 @@ import numpy as np
 
 from ...findings import Severity
 from ...model import joint_id, member_id
+from ...naming import finding_parts, part_index, where_drawn
 from .. import assumptions
 from .context import FULL_TABLE_MEMBERS, MAX_MUST, SUMMARY_ROWS, _case_loads, _Context, _member_states
 from .format import _clip, _Page, _wrap, clean_reactions, fmt_num, shown
@@ -208,11 +209,15 @@ def _findings_section(ctx: _Context, flow: _Flow, *, max_findings: int) -> None:
     fonts = ctx.fonts
     unit = r.source.length_unit
     width = flow.w - 18
+    index = part_index(r.truss)
     for i, f in enumerate(r.findings[:max_findings], 1):
         lines: list[tuple[str, float, float, bool, float]] = []
         lines.append((f"{i}.  {f.severity.value.upper()}  {f.code.value}", 7.6, 0.0, True, 0.0))
         for s in _wrap(f.message, fonts.regular, 7.2, width):
             lines.append((s, 7.2, 0.0, False, 18.0))
+        if f.next_step:
+            for s in _wrap("next step: " + f.next_step, fonts.regular, 7.2, width):
+                lines.append((s, 7.2, 0.0, False, 18.0))
         det = []
         if f.joints:
             ids = [joint_id(j) for j in f.joints if j >= 0]
@@ -222,6 +227,12 @@ def _findings_section(ctx: _Context, flow: _Flow, *, max_findings: int) -> None:
             det.append("members " + ", ".join(ids[:30]) + (f" ... ({len(ids)} in all)" if len(ids) > 30 else ""))
         if f.at is not None:
             det.append(f"at ({f.at[0]:.6g}, {f.at[1]:.6g}) {unit}")
+        named = finding_parts(f, index, r.part_names) if len(r.truss.parts) > 1 else []
+        if named:
+            det.append("part " + ", ".join(named[:5]) + (" ..." if len(named) > 5 else ""))
+        drawn = where_drawn(r.truss, f)
+        if drawn:
+            det.append("drawn: " + drawn)
         if det:
             for s in _wrap("; ".join(det), fonts.regular, 6.6, width):
                 lines.append((s, 6.6, 0.35, False, 18.0))
@@ -275,15 +286,16 @@ def _tables_section(ctx: _Context, flow: _Flow, *, max_rows: int) -> None:
     # parts
     flow.heading(f"Parts ({len(t.parts)})", "t-parts")
     cols = [
-        Column("part", 110),
+        Column("part", 120, clip=True),
         Column("joints", 46, "r"),
         Column("members", 50, "r"),
         Column("reactions", 52, "r"),
         Column("rank", 44, "r"),
         Column("mechanisms", 60, "r"),
         Column("self-stress", 60, "r"),
-        Column("verdict", 130),
-        Column("method", 80),
+        Column("verdict", 90),
+        Column("same as", 130, clip=True),
+        Column("method", 70),
     ]
     prow = [
         [
@@ -294,9 +306,8 @@ def _tables_section(ctx: _Context, flow: _Flow, *, max_rows: int) -> None:
             str(st.rank),
             str(st.mechanisms),
             str(st.self_stress),
-            st.verdict.value
-            if p.index not in r.same_as
-            else f"{st.verdict.value}, same as {r.part_name(r.same_as[p.index])}",
+            st.verdict.value,
+            r.part_name(r.same_as[p.index]) if p.index in r.same_as else "",
             st.method,
         ]
         for p, st in zip(t.parts[:max_rows], r.stability, strict=False)
