@@ -451,7 +451,7 @@ def build_truss(
                     float(value * u[1]),
                     where=where,
                     case=mark.case,
-                    length_unit=length_unit,
+                    fmt=fmt,
                     force_unit=force_unit,
                     metres=metres,
                 )
@@ -474,7 +474,7 @@ def build_truss(
                         entry.fy,
                         where=f"{spec.path}: [[load]] #{entry.number}",
                         case=entry.case,
-                        length_unit=length_unit,
+                        fmt=fmt,
                         force_unit=force_unit,
                         metres=metres,
                     )

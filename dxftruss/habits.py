@@ -39,6 +39,7 @@ from scipy.spatial import cKDTree
 
 from .findings import Code, Finding
 from .snap import Geometry
+from .units import LengthFormat, force_text, length_format, plain_number
 
 #: overlap candidates examined per drawn line, on average, before the search gives up
 #: (a pile of lines drawn over each other is left to snap.py's duplicates)
@@ -53,10 +54,6 @@ def _id(kind: str, i: int) -> str:
 
 def _pt(p: Sequence[float] | np.ndarray) -> list[float]:
     return [float(p[0]), float(p[1])]
-
-
-def _fmt(p: Sequence[float] | np.ndarray) -> str:
-    return f"({float(p[0]):.6g}, {float(p[1]):.6g})"
 
 
 def straight(p: np.ndarray, q: np.ndarray, r: np.ndarray, *, tol: float) -> bool:
@@ -218,6 +215,7 @@ def merge_overlaps(
     for k in members.tolist():
         by_label.setdefault(int(label[k]), []).append(k)
     ln = np.hypot(seg[:, 2] - seg[:, 0], seg[:, 3] - seg[:, 1])
+    fmt = length_format(unit, snap=tol, magnitude=float(np.abs(seg).max()))
     groups: list[tuple[int, ...]] = []
     lines: list[tuple[float, float, float, float]] = []
     reps: list[str] = []
@@ -239,7 +237,7 @@ def merge_overlaps(
         lines.append((float(line[0]), float(line[1]), float(line[2]), float(line[3])))
         reps.append(handles[ref])
         hs.append(group_handles)
-        findings.append(_overlap_finding(grp, line, twice, origin, u, group_handles, layers, unit))
+        findings.append(_overlap_finding(grp, line, twice, origin, u, group_handles, layers, fmt))
     dropped = set(members.tolist())
     out_seg, out_h, out_l = [], [], []
     for k in range(n):
@@ -264,19 +262,19 @@ def _overlap_finding(
     u: np.ndarray,
     group_handles: tuple[str, ...],
     layers: tuple[str, ...],
-    unit: str,
+    fmt: LengthFormat,
 ) -> Finding:
     stretches = [(origin + lo * u, origin + hi * u, hi - lo) for lo, hi in twice]
     total = float(sum(s[2] for s in stretches))
     longest = max(stretches, key=lambda s: s[2]) if stretches else (line[:2], line[2:], 0.0)
-    where = "; ".join(f"{s[2]:.6g} {unit} from {_fmt(s[0])} to {_fmt(s[1])}" for s in stretches[:4])
+    where = "; ".join(f"{fmt(s[2])} from {fmt.point(*s[0])} to {fmt.point(*s[1])}" for s in stretches[:4])
     more = f" and {len(stretches) - 4} more" if len(stretches) > 4 else ""
     names = ", ".join(group_handles[:8]) + (" ..." if len(group_handles) > 8 else "")
     return Finding(
         Code.COLLINEAR_OVERLAP,
-        f"{len(grp)} collinear lines (handles {names}) overlap by {where}{more}: read as one member line from "
-        f"{_fmt(line[:2])} to {_fmt(line[2:])}, whose overlap ends are not joints unless something else meets "
-        "there; a splice drawn as two lines is fine, a slip is not: check which it is",
+        f"{len(grp)} drawn lines on one straight line (handles {names}) overlap by {where}{more}: read as one "
+        f"member line from {fmt.point(*line[:2])} to {fmt.point(*line[2:])}, whose overlap ends are not joints "
+        "unless something else meets there; a splice drawn as two lines is fine, a slip is not: check which it is",
         at=(float((longest[0][0] + longest[1][0]) / 2), float((longest[0][1] + longest[1][1]) / 2)),
         data={
             "length": total,
@@ -318,7 +316,7 @@ def expand_handles(geometry: Geometry, info: Overlaps, *, tol: float) -> Geometr
                 names = ", ".join(info.handles[g][:8])
                 f = replace(
                     f,
-                    message=f"the member line read from {len(info.groups[g])} overlapping collinear lines "
+                    message=f"the member line read from {len(info.groups[g])} drawn lines that overlap on one line "
                     f"(handles {names}) passes through {len(f.joints) - 2} joint(s) and was split into "
                     f"{len(f.members)} members",
                     data={**f.data, "handles": list(info.handles[g])},
@@ -600,9 +598,10 @@ def read_habits(
         (),
     )
     findings = [_renumbered(f, new_id, final_of[label]) for f in geometry.findings]
+    fmt = length_format(unit, snap=snap, magnitude=float(np.abs(xy).max()))
     for k, (drawn, inner) in sorted(groups.items()):
         if final_of[k] >= 0:
-            findings.append(_pieces_finding(out, int(final_of[k]), drawn, xy[inner], handles_of(k)))
+            findings.append(_pieces_finding(out, int(final_of[k]), drawn, xy[inner], handles_of(k), fmt))
     records = []
     for chain, f, root, cont_e in overhangs:
         rec = Overhang(
@@ -615,7 +614,7 @@ def read_habits(
             min(geometry.layers[int(first[e])] for e in chain),
         )
         records.append(rec)
-        findings.append(_overhang_finding(rec, unit))
+        findings.append(_overhang_finding(rec, fmt))
     return Habits(replace(out, findings=tuple(findings)), tuple(records))
 
 
@@ -632,13 +631,15 @@ def _renumbered(f: Finding, joint_map: np.ndarray, member_map: np.ndarray) -> Fi
     return replace(f, joints=joints, members=members)
 
 
-def _pieces_finding(out: Geometry, e: int, drawn: list[int], where: np.ndarray, handles: tuple[str, ...]) -> Finding:
+def _pieces_finding(
+    out: Geometry, e: int, drawn: list[int], where: np.ndarray, handles: tuple[str, ...], fmt: LengthFormat
+) -> Finding:
     a, b = (int(v) for v in out.ends[e])
-    places = ", ".join(_fmt(p) for p in where[:6]) + (" ..." if len(where) > 6 else "")
+    places = ", ".join(fmt.point(*p) for p in where[:6]) + (" ..." if len(where) > 6 else "")
     return Finding(
         Code.COLLINEAR_PIECES,
-        f"member {_id('M', e)} ({_id('J', a)}-{_id('J', b)}) is drawn in {len(drawn)} collinear pieces meeting at "
-        f"{places}, where nothing else connects and no support or load acts: analysed as one member",
+        f"member {_id('M', e)} ({_id('J', a)}-{_id('J', b)}) is drawn in {len(drawn)} pieces on one straight line, "
+        f"meeting at {places}, where nothing else connects and no support or load acts: analysed as one member",
         joints=(a, b),
         members=(e,),
         at=(float(where[0, 0]), float(where[0, 1])),
@@ -646,11 +647,11 @@ def _pieces_finding(out: Geometry, e: int, drawn: list[int], where: np.ndarray, 
     )
 
 
-def _overhang_finding(rec: Overhang, unit: str) -> Finding:
+def _overhang_finding(rec: Overhang, fmt: LengthFormat) -> Finding:
     return Finding(
         Code.OVERHANG,
         f"a member (handles {', '.join(rec.handles[:8])}) continues {_id('M', rec.continues)} straight past "
-        f"{_id('J', rec.root)} for {rec.length:.6g} {unit} and ends free at {_fmt(rec.free)}: an overhang, left out "
+        f"{_id('J', rec.root)} for {fmt(rec.length)} and ends free at {fmt.point(*rec.free)}: an overhang, left out "
         "of the pin-jointed analysis (a load on it moves to the joint it hangs from); its bending, and the "
         "continued member's, are not checked",
         joints=(rec.root,),
@@ -699,7 +700,7 @@ def moved_load_finding(
     *,
     where: str,
     case: str,
-    length_unit: str,
+    fmt: LengthFormat,
     force_unit: str,
     metres: float | None,
 ) -> Finding:
@@ -711,13 +712,13 @@ def moved_load_finding(
     if metres is not None:
         m_value, m_unit = moment * metres, f"{force_unit} m"
     else:
-        m_value, m_unit = moment, f"{force_unit} {length_unit}"
+        m_value, m_unit = moment, f"{force_unit} {fmt.unit}"
     return Finding(
         Code.OVERHANG_LOAD,
-        f"{where} acts on the overhang at {_id('J', rec.root)}, {float(np.hypot(lx, ly)):.6g} {length_unit} from it: "
-        f"moved to {_id('J', rec.root)} as the same force ({fx:.6g}, {fy:.6g}) {force_unit}; the moment it causes "
-        f"there, {m_value:.6g} {m_unit}, is not carried by a pin-jointed model: check the overhang and the member "
-        "it continues for bending",
+        f"{where} acts on the overhang at {_id('J', rec.root)}, {fmt(float(np.hypot(lx, ly)))} from it: moved to "
+        f"{_id('J', rec.root)} as the same force (fx {force_text(fx, force_unit)}, fy {force_text(fy, force_unit)}); "
+        f"the moment it causes there, {plain_number(m_value)} {m_unit}, is not carried by a pin-jointed model: check "
+        "the overhang and the member it continues for bending",
         joints=(rec.root,),
         members=(rec.continues,),
         at=(float(point[0]), float(point[1])),

@@ -452,3 +452,16 @@ def test_a_straight_joint_with_a_support_or_load_stays_a_joint():
     for kind in ("supports", "loads"):
         kept = read_habits(g, snap=1e-6, near_miss=1.0, **{kind: [(50.0, 0.01)]})
         assert len(kept.geometry.ends) == 2 and not kept.geometry.findings, kind
+
+
+def test_habit_messages_give_every_length_and_force_its_unit(tmp_path):
+    from tests.test_messages import unitless_numbers
+
+    known = _known()
+    e = _eave(known, "L0", "U1")
+    r = check(_draw(tmp_path / "messy.dxf", known, _messy_lines(known), [(e, "2 kN")]))
+    habit = {Code.OVERHANG, Code.OVERHANG_LOAD, Code.COLLINEAR_OVERLAP, Code.COLLINEAR_PIECES, Code.SPLIT_MEMBER}
+    found = [f for f in r.findings if f.code in habit]
+    assert {f.code for f in found} == habit
+    bad = [f"{f.code.value}: {x}" for f in found for x in unitless_numbers(f.message)]
+    assert not bad, bad
