@@ -174,6 +174,21 @@ class _Plain:
             return "draw the supports (a POINT on layer SUPPORT-XY, SUPPORT-X or SUPPORT-Y) or give them with --loads"
         if c is Code.ASSUMED_LOADS:
             return "draw the loads (a LINE on layer LOAD or LOAD-<case>, its force beside it) or give them with --loads"
+        if c is Code.COLLINEAR_OVERLAP:
+            return (
+                "nothing if the lap is a splice; if the lines slipped, trim them to meet end to end at the "
+                "joint they share"
+            )
+        if c is Code.OVERHANG:
+            return (
+                "nothing if it is an eaves or cantilever overhang; if the member should stop at its joint, trim "
+                "the line there; if it should reach a support or another member, draw it to that joint"
+            )
+        if c is Code.OVERHANG_LOAD:
+            return (
+                "check the rafter or chord for the bending this moment causes at the joint (not part of a "
+                "pin-jointed check), or move the load onto a joint"
+            )
         if c is Code.NEAR_MECHANISM and d.get("kind") == "local" and f.joints:
             return f"brace {joint_id(f.joints[0])} across the line of its members, or draw them as one straight member"
         return ""
