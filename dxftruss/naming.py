@@ -17,6 +17,7 @@ is unique. Every finding that concerns joints or members names its part(s).
 from __future__ import annotations
 
 import re
+from collections import Counter
 from dataclasses import dataclass
 from typing import Any
 
@@ -31,10 +32,12 @@ _MARK = re.compile(r"^[A-Za-z]{1,4}[-_ ]?\d{1,4}[A-Za-z]?$")
 
 @dataclass(frozen=True)
 class PartNames:
-    """The parts' names, and which of them the sheet itself gave (a block or a mark)."""
+    """The parts' names, and the parts the sheet itself names (a block or a mark) that
+    are meant to stand alone: all of them but the parts of one block reference whose
+    content falls into several parts."""
 
     names: tuple[str, ...]
-    from_sheet: frozenset[int]
+    stand_alone: frozenset[int]
 
 
 def part_names(truss: Truss, texts: tuple[Any, ...] = (), document: Any = None) -> tuple[str, ...]:
@@ -43,7 +46,7 @@ def part_names(truss: Truss, texts: tuple[Any, ...] = (), document: Any = None) 
 
 
 def name_parts(truss: Truss, texts: tuple[Any, ...] = (), document: Any = None) -> PartNames:
-    """The names of :func:`part_names` and the parts named by a block or a mark."""
+    """The names of :func:`part_names` and the parts that stand alone (:class:`PartNames`)."""
     parts = truss.parts
     if not parts:
         return PartNames((), frozenset())
@@ -57,10 +60,12 @@ def name_parts(truss: Truss, texts: tuple[Any, ...] = (), document: Any = None) 
     corner: dict[int, str] = {}
     inserts = _block_names(document)
     uses: dict[str, int] = {}
+    single: dict[int, str] = {}  # part -> its one handle, for parts drawn by one entity
     for i, p in enumerate(parts):
         handles = {h for e in p.members.tolist() for h in truss.handles[e]}
         if len(handles) == 1:
             (h,) = handles
+            single[i] = h
             info = inserts.get(h)
             if info is not None:
                 names[i] = info[0]
@@ -83,7 +88,8 @@ def name_parts(truss: Truss, texts: tuple[Any, ...] = (), document: Any = None) 
     final, count = [], {n: out.count(n) for n in out}
     for i, name in enumerate(out):
         final.append(f"{name} ({fallback[i]})" if count[name] > 1 else name)
-    return PartNames(tuple(final), frozenset(names))
+    uses_of = Counter(single.values())
+    return PartNames(tuple(final), frozenset(i for i in names if uses_of.get(single.get(i, ""), 0) <= 1))
 
 
 def _fmt_point(p: Any) -> str:

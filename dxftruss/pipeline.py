@@ -28,7 +28,6 @@ from .errors import ConfigError, InputError, LimitError
 from .escape import shown
 from .findings import Code, Finding, sort_findings
 from .loadsfile import LoadsSpec, read_loads_file
-from .model import Truss
 from .naming import PartNames, name_parts
 from .policy import run_policy
 from .read import LineWork, read_drawing
@@ -109,21 +108,14 @@ def _marks(linework: LineWork, spec: LoadsSpec | None) -> tuple[list[tuple[float
     return held, loaded
 
 
-def _without_expected_parts(findings: list[Finding], truss: Truss, named: PartNames) -> list[Finding]:
+def _without_expected_parts(findings: list[Finding], named: PartNames) -> list[Finding]:
     """A part the sheet names itself - drawn wholly by one block reference, or carrying a
     mark text - is meant to stand alone: no ``disconnected-part`` warning for it. A
     block reference whose content falls into several parts keeps the warnings, as does
     every part the sheet does not name (docs/findings.md, disconnected-part)."""
-    if not named.from_sheet:
+    if not named.stand_alone:
         return findings
-    refs: dict[tuple[str, ...], int] = {}
-    ref_of: dict[int, tuple[str, ...]] = {}
-    for p in truss.parts:
-        key = tuple(sorted({h for e in p.members.tolist() for h in truss.handles[e]}))
-        ref_of[p.index] = key
-        refs[key] = refs.get(key, 0) + 1
-    expected = {i for i in named.from_sheet if len(ref_of[i]) != 1 or refs[ref_of[i]] == 1}
-    return [f for f in findings if not (f.code is Code.DISCONNECTED_PART and f.data.get("part") in expected)]
+    return [f for f in findings if not (f.code is Code.DISCONNECTED_PART and f.data.get("part") in named.stand_alone)]
 
 
 def _tolerance(text: str, unit: str, what: str) -> float:
@@ -288,7 +280,7 @@ def _check(
 
     named = name_parts(truss, linework.texts, linework.document)
     names = named.names
-    findings = _without_expected_parts(findings, truss, named)
+    findings = _without_expected_parts(findings, named)
     noise = 64 * float(np.finfo(float).eps) * (float(np.abs(truss.xy).max()) if truss.n_joints else 0.0)
     repeats = find_repeats(truss, abs_tol=noise)
     findings += repeat_findings(truss, repeats, names)

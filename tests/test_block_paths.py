@@ -8,6 +8,7 @@ the tool: a wrong path points at an entity that is not the faulty line.
 
 from __future__ import annotations
 
+import json
 from pathlib import Path
 
 import ezdxf
@@ -79,7 +80,7 @@ def test_a_fault_inside_nested_blocks_names_the_whole_path(tmp_path: Path) -> No
     path, h = _nested_sheet(tmp_path)
     r = check(path, Settings())
     doc = report_dict(r)
-    jsonschema.validate(doc, __import__("json").loads(SCHEMA.read_text()))
+    jsonschema.validate(doc, json.loads(SCHEMA.read_text()))
     ents = [e for f in _dangling(doc) for e in f["entities"]]
     nested = [e for e in ents if e["path"]]
     # the stray web, once per placement of T9: reference -> nested WEBS reference -> the line

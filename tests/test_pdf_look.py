@@ -107,10 +107,9 @@ def test_every_demo_page_renders_to_a_picture_with_a_drawing_on_it(tmp_path: Pat
     pngs = sorted(tmp_path.glob("page*.pgm"))
     assert len(pngs) == len(read_pages(pdf))
     for png in pngs:
-        data = png.read_bytes()
-        # a binary PGM: header "P5\nW H\n255\n", then one byte per pixel
-        header, _, pixels = data.split(b"\n", 3)[0:3], None, data.split(b"\n", 3)[3]
-        w, h = (int(v) for v in header[1].split())
+        # a binary PGM: "P5\nW H\n255\n", then one byte per pixel
+        _, size, _, pixels = png.read_bytes().split(b"\n", 3)
+        w, h = (int(v) for v in size.split())
         img = np.frombuffer(pixels[: w * h], dtype=np.uint8).reshape(h, w)
         inked = float((img < 200).mean())
         assert 0.002 < inked < 0.5, f"{png.name}: {inked:.4f} of the page inked"

@@ -43,8 +43,13 @@ def entity_keys(tops: np.ndarray, paths: np.ndarray, entities: np.ndarray) -> np
     """Per placed entity the key naming it in the drawing: the top-level INSERT's handle,
     the nested INSERT handles and the entity's own handle in its block definition, joined
     by "/" (``1A/2F/3C``: entity 3C inside reference 2F inside model-space reference 1A)."""
+    return tops.astype(object) + "/" + _joined(paths, entities)
+
+
+def _joined(paths: np.ndarray, tails: np.ndarray) -> np.ndarray:
+    """``path/tail`` per row, just ``tail`` where the path is empty."""
     sep = np.where(paths == "", "", "/").astype(object)
-    return tops.astype(object) + "/" + paths.astype(object) + sep + entities.astype(object)
+    return paths.astype(object) + sep + tails.astype(object)
 
 
 def _points_to_wcs(p: tuple[float, float, float], batch: _Batch | None) -> np.ndarray:
@@ -72,13 +77,11 @@ def _child_batch(ins: _Inserts, plain: list[int], arrays: list[int], batch: _Bat
     if batch is None:
         empty = np.full(len(which), "", dtype=object)
         return _Batch(mats=mats, handles=ins.handles[which], order=ins.order[which], paths=empty)
-    parent = np.repeat(batch.paths, len(mats))
-    sep = np.where(parent == "", "", "/").astype(object)
     return _Batch(
         mats=np.einsum("cij,njk->ncik", mats, batch.mats).reshape(-1, 4, 4),
         handles=np.repeat(batch.handles, len(mats)),
         order=np.repeat(batch.order, len(mats)),
-        paths=parent + sep + np.tile(ins.handles[which].astype(object), len(batch.handles)),
+        paths=_joined(np.repeat(batch.paths, len(mats)), np.tile(ins.handles[which], len(batch.handles))),
     )
 
 
