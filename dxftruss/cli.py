@@ -67,6 +67,11 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--dxf", metavar="OUT.dxf", help="annotated copy of the drawing with results on new layers")
     c.add_argument("--json", metavar="OUT.json", help="JSON report; '-' for standard output")
     c.add_argument(
+        "--csv",
+        metavar="OUT.csv",
+        help="cut list as CSV: per part the members cut alike, with count, length and end angles",
+    )
+    c.add_argument(
         "--snap", metavar="LENGTH", help="join endpoints closer than this, e.g. 0.5mm (default 1e-6 of the extent)"
     )
     c.add_argument(
@@ -183,18 +188,18 @@ def _expand(drawings: list[str]) -> tuple[list[str], bool]:
     return unique, many
 
 
-Outs = tuple[str | None, str | None, str | None]
+Outs = tuple[str | None, str | None, str | None, str | None]
 
 
 def _outputs(args: argparse.Namespace, drawing: str, many: bool, common: str = "") -> Outs:
-    """(pdf, dxf, json) paths for one drawing. With several drawings (or a folder) an
+    """(pdf, dxf, json, csv) paths for one drawing. With several drawings (or a folder) an
     output option names a folder that receives <name>.check.<ext>, below it in the
     drawing's folder relative to the drawings' common folder (out/a/roof.check.json,
     out/b/roof.check.json); with no output option the PDFs go here, laid out the same."""
     stem = Path(drawing).with_suffix("").name
     if not many:
-        pdf = args.pdf or (None if (args.dxf or args.json) else stem + ".check.pdf")
-        return pdf, args.dxf, args.json
+        pdf = args.pdf or (None if (args.dxf or args.json or args.csv) else stem + ".check.pdf")
+        return pdf, args.dxf, args.json, args.csv
     rel = os.path.relpath(os.path.dirname(os.path.abspath(drawing)), common) if common else "."
 
     def inside(folder: str | None, ext: str) -> str | None:
@@ -202,8 +207,13 @@ def _outputs(args: argparse.Namespace, drawing: str, many: bool, common: str = "
             return None
         return os.path.normpath(os.path.join(folder, rel, f"{stem}.check.{ext}"))
 
-    pdf = inside(args.pdf or (None if (args.dxf or args.json) else "."), "pdf")
-    return pdf, inside(args.dxf, "dxf"), inside(args.json, "json")
+    pdf = inside(args.pdf or (None if (args.dxf or args.json or args.csv) else "."), "pdf")
+    return pdf, inside(args.dxf, "dxf"), inside(args.json, "json"), _cutlist_name(inside(args.csv, "csv"))
+
+
+def _cutlist_name(path: str | None) -> str | None:
+    """<name>.check.csv in a folder of outputs is named <name>.cutlist.csv."""
+    return path[: -len(".check.csv")] + ".cutlist.csv" if path and path.endswith(".check.csv") else path
 
 
 def _plan(args: argparse.Namespace, drawings: list[str], many: bool) -> dict[str, Outs]:
@@ -219,7 +229,7 @@ def _plan(args: argparse.Namespace, drawings: list[str], many: bool) -> dict[str
     for d in drawings:
         outs = _outputs(args, d, many, common)
         plan[d] = outs
-        for out, what in zip(outs, ("PDF", "annotated DXF", "JSON"), strict=True):
+        for out, what in zip(outs, ("PDF", "annotated DXF", "JSON", "CSV cut list"), strict=True):
             if not out or out == "-":
                 continue
             if many:
@@ -252,9 +262,14 @@ def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = F
         from .outputs import OutputSet, check_output_path
         from .pipeline import Settings
 
-        pdf, dxf, json_out = outs
+        pdf, dxf, json_out, csv_out = outs
         inputs = [drawing] + ([args.loads] if args.loads else [])
-        for out, what in ((pdf, "PDF"), (dxf, "annotated DXF"), (json_out if json_out != "-" else None, "JSON")):
+        for out, what in (
+            (pdf, "PDF"),
+            (dxf, "annotated DXF"),
+            (json_out if json_out != "-" else None, "JSON"),
+            (csv_out, "CSV cut list"),
+        ):
             if out:
                 check_output_path(out, inputs, what)
         settings = Settings(
@@ -295,6 +310,15 @@ def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = F
             from .report.dxf import write_dxf
 
             staged.stage(dxf, lambda tmp: write_dxf(result, tmp), "annotated DXF")
+        if csv_out:
+            from .report.cutlist import cut_list_csv
+
+            table = cut_list_csv(result)
+            staged.stage(
+                csv_out,
+                lambda tmp: Path(tmp).write_text(table, encoding="utf-8", errors="backslashreplace", newline=""),
+                "CSV cut list",
+            )
         written = staged.commit()
         if json_out == "-" and js is not None:
             sys.stdout.write(js)
@@ -380,7 +404,7 @@ def run_check(args: argparse.Namespace) -> int:
             _err("--json - takes one drawing; give a folder for several")
             return EXIT_INPUT
         if many:
-            for folder, opt in ((args.pdf, "--pdf"), (args.dxf, "--dxf"), (args.json, "--json")):
+            for folder, opt in ((args.pdf, "--pdf"), (args.dxf, "--dxf"), (args.json, "--json"), (args.csv, "--csv")):
                 if folder:
                     try:
                         Path(folder).mkdir(parents=True, exist_ok=True)

@@ -14,9 +14,11 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from ..cutlist import cut_list
 from ..model import LoadOrigin, Support, Truss, entity_ref, joint_id, member_id
 from ..naming import finding_entities, finding_parts, part_index
 from . import CAUTION, assumptions
+from .cutlist import cut_list_dict
 
 if TYPE_CHECKING:
     from ..model import LineLoad
@@ -161,6 +163,7 @@ def report_dict(result: Result) -> dict[str, Any]:
         ],
         "cases": [_case(result, c) for c in result.cases],
         "symmetry": {"axis_x": _num(result.symmetry_axis) if result.symmetry_axis is not None else None},
+        "cut_list": cut_list_dict(cut_list(result)),
         "caution": CAUTION,
     }
     return doc
