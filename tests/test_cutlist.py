@@ -245,3 +245,23 @@ def test_repeated_part_counts(tmp_path):
     # 2 x (4 chords + 3 verticals + 2 diagonals), both parts counted in the totals
     total = sum(t.count for t in cl.totals)
     assert total == r.truss.n_members == 18
+
+
+def test_pdf_cut_list_page(pratt, tmp_path):
+    from dxftruss.report.pdf import write_pdf
+
+    from .pdf_look import outside, overlaps, read_pages
+
+    out = tmp_path / "p.pdf"
+    write_pdf(pratt, out, page="A4")
+    pages = read_pages(out)
+    cut = [(size, texts) for size, texts in pages if any(t.text == "Cut list" for t in texts)]
+    assert len(cut) == 1
+    size, texts = cut[0]
+    words = [t.text for t in texts]
+    # the definition is on the page, and the hand-derived angles atan(3/4) = 36.9 and 53.1 degrees
+    assert any("Length: centre-line length between work points" in w for w in words)
+    assert "36.9 / 36.9 / 53.1" in words and "36.9 / 36.9 / 53.1 / 73.7" in words  # 73.7 = 2 atan(3/4)
+    assert any(w == "5.0000" for w in words)  # sqrt(4^2 + 3^2) m at the 0.5 mm tolerance's resolution
+    assert not outside(texts, size)
+    assert not overlaps(texts)

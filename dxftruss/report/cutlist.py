@@ -36,7 +36,8 @@ def end_text(end: EndCut) -> str:
 
 
 def angles_text(angles: tuple[float, ...]) -> str:
-    return " / ".join(angle_text(a) for a in angles) or "free end"
+    """ "36.9 / 53.1": one end's angles in degrees (the column heading says degrees)."""
+    return " / ".join(f"{a:.1f}" for a in angles) or "free end"
 
 
 def _end(end: EndCut) -> dict[str, Any]:
@@ -142,5 +143,10 @@ def _decimals(cl: CutList) -> int:
     return max(0, min(6, -math.floor(math.log10(tol)) if tol > 0 else 3))
 
 
+def length_number(cl: CutList, x: float) -> str:
+    """A length as printed, without the unit (the column heading names it)."""
+    return f"{x:.{_decimals(cl)}f}"
+
+
 def length_text(cl: CutList, x: float) -> str:
-    return f"{x:.{_decimals(cl)}f} {cl.unit}"
+    return f"{length_number(cl, x)} {cl.unit}"
