@@ -183,6 +183,43 @@ def _delta(pg: _Page, x: float, y: float, text: str) -> None:
     pg.text(x + h * 0.7, y + 1.5, text, size=6.8, bold=True, gray=0.0)
 
 
+def _delta_width(pg: _Page, text: str) -> float:
+    return 9.0 * 0.7 + _width(text, pg.f.bold, 6.8) + 2.0
+
+
+def _delta_place(
+    corners: list[tuple[float, float]],
+    others: list[tuple[float, float, float, float]],
+    placed: list[tuple[float, float, float, float]],
+    width: float,
+    area: tuple[float, float, float, float],
+) -> tuple[float, float]:
+    """Where a cloud's delta goes: above its highest corner, else below its lowest, else
+    beside it, the first place that keeps clear of the other clouds, the deltas placed
+    so far and the drawing area's edge (the first candidate when none is clear)."""
+    x0, y0, x1, y1 = _bounds(corners)
+    top = max(corners, key=lambda p: (p[1], -p[0]))
+    low = min(corners, key=lambda p: (p[1], p[0]))
+    gap = CLOUD_ARC + 2.0
+    cands = [
+        (top[0], top[1] + gap),
+        (low[0], low[1] - gap - 10.0),
+        (x1 + gap + 6.0, (y0 + y1) / 2 - 4.0),
+        (x0 - gap - width, (y0 + y1) / 2 - 4.0),
+        (x0 + 6.0, y1 + gap),
+        (x1 - width, y1 + gap),
+    ]
+    ax, ay, aw, ah = area
+
+    def clear(x: float, y: float) -> bool:
+        box = (x - 6.0, y - 1.0, x + width, y + 10.0)
+        if box[0] < ax or box[2] > ax + aw or box[1] < ay or box[3] > ay + ah:
+            return False
+        return not any(_iou(box, o) > 0 for o in others + placed)
+
+    return next((p for p in cands if clear(*p)), cands[0])
+
+
 class _CompareFlow(_Flow):
     """The flow pages of the compare report: its own header and footer."""
 
@@ -370,13 +407,19 @@ def _drawing_page(cmp: Comparison, ctx: _Context, c: Any, sheet: Any, pm: PageMa
         shape = change_shape(ch, pm)
         if shape is not None:
             clouds.append((cloud_corners(shape), [ch.number]))
-    for corners, ns in merge_clouds(clouds):
+    merged = merge_clouds(clouds)
+    bounds = [_bounds(corners) for corners, _ in merged]
+    placed: list[tuple[float, float, float, float]] = []
+    for corners, _ in merged:
         c.setStrokeColorRGB(*CLOUD_RGB)
         c.setLineWidth(0.9)
         c.setDash()
         cloud_path(c, corners)
-        tip = max(corners, key=lambda p: (p[1], -p[0]))
-        _delta(pg, tip[0], tip[1] + CLOUD_ARC + 2.0, _numbers(ns))
+    for k, (corners, ns) in enumerate(merged):
+        text = _numbers(ns)
+        x, y = _delta_place(corners, bounds[:k] + bounds[k + 1 :], placed, _delta_width(pg, text), sheet.drawing)
+        placed.append((x - 6.0, y - 1.0, x + _delta_width(pg, text), y + 10.0))
+        _delta(pg, x, y, text)
     _panel(cmp, ctx, pg, sheet, len(clouds))
     _compare_footer(ctx, c, sheet.size, cmp.new)
     c.showPage()
