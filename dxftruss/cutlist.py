@@ -109,12 +109,23 @@ class PartCutList:
 
 
 @dataclass(frozen=True)
+class OverhangPiece:
+    """An overhang the model leaves out (habits.py): not in the member list, so the
+    cutter adds it to the member it continues. ``at`` is the joint it hangs from."""
+
+    layer: str
+    length: float
+    at: tuple[float, float]
+
+
+@dataclass(frozen=True)
 class CutList:
     unit: str
     length_tol: float  # drawing units
     angle_tol: float  # degrees
     parts: tuple[PartCutList, ...]
     totals: tuple[Total, ...]  # the whole drawing, every part counted
+    overhangs: tuple[OverhangPiece, ...] = ()
 
 
 def cut_angle(u: tuple[float, float], v: tuple[float, float]) -> float:
@@ -229,7 +240,11 @@ def cut_list(result: Result, *, angle_tol: float = ANGLE_TOL_DEG, length_tol: fl
                 totals=_totals(totals),
             )
         )
-    return CutList(unit, ltol, float(angle_tol), tuple(parts), _totals(grand))
+    overhangs = tuple(
+        OverhangPiece(str(o.layer), float(o.length), (float(o.root_xy[0]), float(o.root_xy[1])))
+        for o in result.overhangs
+    )
+    return CutList(unit, ltol, float(angle_tol), tuple(parts), _totals(grand), overhangs)
 
 
 def _totals(table: dict[tuple[str, str | None], list[float]]) -> tuple[Total, ...]:

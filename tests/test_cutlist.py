@@ -265,3 +265,18 @@ def test_pdf_cut_list_page(pratt, tmp_path):
     assert any(w == "5.0000" for w in words)  # sqrt(4^2 + 3^2) m at the 0.5 mm tolerance's resolution
     assert not outside(texts, size)
     assert not overlaps(texts)
+
+
+def test_overhang_listed_apart(tmp_path):
+    """A tie drawn 0.6 m past the support joint L0 is an overhang (habits.py): not a
+    member of the model, listed apart with its length and the joint it hangs from."""
+    segs = [*pratt_segments(N, A, H), (-0.6, 0.0, 0.0, 0.0)]
+    path = write_drawing(tmp_path / "o.dxf", segs, supports=[(0.0, 0.0, "XY"), (N * A, 0.0, "Y")], units=6)
+    r = check(path, Settings())
+    cl = cut_list(r)
+    assert sum(g.count for g in cl.parts[0].groups) == 25  # the Pratt's members only
+    (o,) = cl.overhangs
+    assert o.length == pytest.approx(0.6) and o.at == pytest.approx((0.0, 0.0))
+    from dxftruss.report.json import report_dict
+
+    assert report_dict(r)["cut_list"]["overhangs"] == [{"layer": "TRUSS", "length": 0.6, "at": [0.0, 0.0]}]

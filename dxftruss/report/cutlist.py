@@ -92,6 +92,9 @@ def cut_list_dict(cl: CutList, names: Any = None) -> dict[str, Any]:
             for p in cl.parts
         ],
         "totals": [_total(t) for t in cl.totals],
+        "overhangs": [
+            {"layer": o.layer, "length": _n(o.length), "at": [_n(o.at[0]), _n(o.at[1])]} for o in cl.overhangs
+        ],
     }
 
 

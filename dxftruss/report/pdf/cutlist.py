@@ -103,5 +103,18 @@ def _cut_list_section(ctx: _Context, flow: _Flow, *, max_rows: int = 5000) -> No
             )
         if len(cl.parts) > 1:
             flow.table([*TOTAL_COLUMNS, Column(f"length ({unit})", 80, "r")], _totals_rows(cl, p.totals))
+    if cl.overhangs:
+        flow.heading(f"Overhangs ({len(cl.overhangs)}): not in the model, add to the member they continue", "cut-over")
+        flow.table(
+            [
+                Column("layer", 150, clip=True),
+                Column(f"length ({unit})", 80, "r"),
+                Column(f"from the joint at ({unit})", 160),
+            ],
+            (
+                [o.layer, length_number(cl, o.length), f"({length_number(cl, o.at[0])}, {length_number(cl, o.at[1])})"]
+                for o in cl.overhangs
+            ),
+        )
     flow.heading("Totals per layer and section (every part counted)", "cut-totals")
     flow.table([*TOTAL_COLUMNS, Column(f"total length ({unit})", 90, "r")], _totals_rows(cl, cl.totals))
