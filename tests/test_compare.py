@@ -245,3 +245,17 @@ def test_pdf_clouds_and_numbers(tmp_path):
     corners = cloud_corners(("seg", (0.0, 0.0), (30.0, 40.0)), pad=5.0)
     assert math.dist(corners[0], corners[1]) == pytest.approx(50.0 + 10.0)
     assert math.dist(corners[1], corners[2]) == pytest.approx(10.0)
+
+
+def test_no_changes_pdf_and_json_on_standard_output(tmp_path, capsys):
+    from .pdf_look import read_pages
+
+    a = _pratt(tmp_path / "a.dxf")
+    b = _pratt(tmp_path / "b.dxf", shift=(0.2, 0.2))  # 0.28 mm < 0.5 mm
+    pdf = tmp_path / "same.pdf"
+    assert main(["compare", str(a), str(b), "--snap", SNAP, "--pdf", str(pdf), "--json", "-"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["changes"] == [] and set(doc["summary"].values()) == {0}
+    assert doc["unchanged"] == {"members": 4 * N + 1, "findings": len(check(a, Settings(snap=SNAP)).findings)}
+    words = " ".join(t.text for _, texts in read_pages(pdf) for t in texts)
+    assert "No changes" in words and "0 change(s)" in words
