@@ -224,7 +224,7 @@ def test_cli_exit_status_json_schema_and_pdf(tmp_path):
 def test_pdf_clouds_and_numbers(tmp_path):
     from dxftruss.report.pdf.compare import cloud_corners, write_compare_pdf
 
-    from .pdf_look import outside, read_pages
+    from .pdf_look import outside, overlaps, read_pages
 
     (a, ta), (b, tb) = _sample_pair(tmp_path)
     cmp = compare(check(a, Settings(loads=str(ta))), check(b, Settings(loads=str(tb))))
@@ -239,6 +239,7 @@ def test_pdf_clouds_and_numbers(tmp_path):
     for label in ("1", "2-5", "6", "7", "8", "9"):
         assert label in words, label
     assert not outside(texts, size)
+    assert not overlaps(texts)  # the triangles' numbers keep clear of each other
     table = " ".join(t.text for t in pages[1][1])
     assert "member-moved" in table and "force-changed" in table
     # a cloud along a member is a rectangle of the member's length plus twice the pad
