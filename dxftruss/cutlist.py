@@ -174,20 +174,11 @@ def cut_list(result: Result, *, angle_tol: float = ANGLE_TOL_DEG, length_tol: fl
     ltol = length_tolerance(unit, result.tolerances.snap) if length_tol is None else float(length_tol)
     lengths = t.lengths() if t.n_members else np.zeros(0)
     d = (t.xy[t.ends[:, 1]] - t.xy[t.ends[:, 0]]) if t.n_members else np.zeros((0, 2))
-    at_joint: dict[int, list[int]] = defaultdict(list)
-    for e, (a, b) in enumerate(t.ends.tolist()):
-        at_joint[a].append(e)
-        at_joint[b].append(e)
     section_for: dict[str, str | None] = {}
+    cuts = _end_cuts(t.ends, d)
 
     def end_cut(e: int, j: int) -> EndCut:
-        u = (float(d[e, 0]), float(d[e, 1]))
-        rows = []
-        for o in at_joint[j]:
-            if o != e:
-                rows.append((o, round(cut_angle(u, (float(d[o, 0]), float(d[o, 1]))), 6)))
-        rows.sort(key=lambda r: (r[1], r[0]))
-        return EndCut(j, tuple(rows))
+        return EndCut(j, cuts.get((e, j), ()))
 
     copies: dict[int, int] = defaultdict(int)
     for orig in result.same_as.values():
@@ -245,6 +236,45 @@ def cut_list(result: Result, *, angle_tol: float = ANGLE_TOL_DEG, length_tol: fl
         for o in result.overhangs
     )
     return CutList(unit, ltol, float(angle_tol), tuple(parts), _totals(grand), overhangs)
+
+
+def _end_cuts(ends: np.ndarray, d: np.ndarray) -> dict[tuple[int, int], tuple[tuple[int, float], ...]]:
+    """Per (member, joint) end: (other member, angle) for every other member at that
+    joint, sorted by angle, then member. Vectorised: every pair of member ends at one
+    joint (sum of degree squared pairs), angles as in :func:`cut_angle`."""
+    m = len(ends)
+    if m == 0:
+        return {}
+    inc_m = np.concatenate([np.arange(m), np.arange(m)])
+    inc_j = np.concatenate([ends[:, 0], ends[:, 1]]).astype(np.int64)
+    order = np.argsort(inc_j, kind="stable")
+    sm, sj = inc_m[order], inc_j[order]
+    _, start, count = np.unique(sj, return_index=True, return_counts=True)
+    group = np.repeat(np.arange(len(start)), count)
+    rep = count[group]
+    total = int(rep.sum())
+    p_idx = np.repeat(np.arange(len(sm)), rep)
+    offset = np.arange(total) - np.repeat(np.cumsum(rep) - rep, rep)
+    q_idx = start[group][p_idx] + offset
+    keep = p_idx != q_idx
+    p_idx, q_idx = p_idx[keep], q_idx[keep]
+    u, v = d[sm[p_idx]], d[sm[q_idx]]
+    cross = np.abs(u[:, 0] * v[:, 1] - u[:, 1] * v[:, 0])
+    dot = np.abs(u[:, 0] * v[:, 0] + u[:, 1] * v[:, 1])
+    ang = np.round(np.degrees(np.arctan2(cross, dot)), 6)
+    other = sm[q_idx]
+    srt = np.lexsort((other, ang, p_idx))
+    p_idx, other, ang = p_idx[srt], other[srt], ang[srt]
+    out: dict[tuple[int, int], tuple[tuple[int, float], ...]] = {}
+    bounds = np.flatnonzero(np.diff(p_idx)) + 1
+    firsts = np.concatenate([[0], bounds]) if len(p_idx) else np.zeros(0, dtype=np.int64)
+    lasts = np.concatenate([bounds, [len(p_idx)]]) if len(p_idx) else np.zeros(0, dtype=np.int64)
+    other_l, ang_l, p_l = other.tolist(), ang.tolist(), p_idx.tolist()
+    sm_l, sj_l = sm.tolist(), sj.tolist()
+    for f, g in zip(firsts.tolist(), lasts.tolist(), strict=True):
+        p = p_l[f]
+        out[(sm_l[p], sj_l[p])] = tuple(zip(other_l[f:g], ang_l[f:g], strict=True))
+    return out
 
 
 def _totals(table: dict[tuple[str, str | None], list[float]]) -> tuple[Total, ...]:
