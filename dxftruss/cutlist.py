@@ -177,34 +177,47 @@ def cut_list(result: Result, *, angle_tol: float = ANGLE_TOL_DEG, length_tol: fl
     section_for: dict[str, str | None] = {}
     cuts = _end_cuts(t.ends, d)
 
-    def end_cut(e: int, j: int) -> EndCut:
-        return EndCut(j, cuts.get((e, j), ()))
-
     copies: dict[int, int] = defaultdict(int)
     for orig in result.same_as.values():
         copies[orig] += 1
     parts = []
     grand: dict[tuple[str, str | None], list[float]] = defaultdict(lambda: [0, 0.0])
+    ends_l, lengths_l = t.ends.tolist(), lengths.tolist()
     for p in t.parts:
-        members = sorted(int(e) for e in p.members)
         infos = []
-        for e in members:
+        sigs = {}
+        for e in sorted(p.members.tolist()):
             layer = t.layers[e]
             if layer not in section_for:
                 section_for[layer] = section_of(t, layer)
-            a, b = (int(v) for v in t.ends[e])
-            infos.append((e, layer, section_for[layer], float(lengths[e]), (end_cut(e, a), end_cut(e, b))))
+            a, b = ends_l[e]
+            ca, cb = cuts.get((e, a), ()), cuts.get((e, b), ())
+            sigs[e] = (tuple(x for _, x in ca), tuple(x for _, x in cb))
+            infos.append((e, layer, section_for[layer], lengths_l[e], (EndCut(a, ca), EndCut(b, cb))))
         order = sorted(infos, key=lambda r: (r[1], r[2] or "", -r[3], r[0]))
         groups: list[list] = []  # type: ignore[type-arg]
-        for info in order:
-            e, layer, sec, length, ends = info
-            sig = (ends[0].angles, ends[1].angles)
-            for g in groups:
-                if g[0] == layer and g[1] == sec and abs(g[2] - length) <= ltol and _same_ends(g[3], sig, angle_tol):
-                    g[4].append(e)
-                    break
-            else:
-                groups.append([layer, sec, length, sig, [e]])
+        # members drawn alike to 1e-6 of the tolerance share a key: the first of them
+        # finds its group, the others join it without comparing again
+        seen: dict[tuple, int] = {}  # type: ignore[type-arg]
+        quantum = ltol * 1e-6 if ltol > 0 else 1e-12
+        for e, layer, sec, length, _ in order:
+            sig = sigs[e]
+            key = (layer, sec, round(length / quantum), sig)
+            k = seen.get(key)
+            if k is None:
+                for k, g in enumerate(groups):  # noqa: B007 - k is the group found
+                    if (
+                        g[0] == layer
+                        and g[1] == sec
+                        and abs(g[2] - length) <= ltol
+                        and _same_ends(g[3], sig, angle_tol)
+                    ):
+                        break
+                else:
+                    groups.append([layer, sec, length, sig, []])
+                    k = len(groups) - 1
+                seen[key] = k
+            groups[k][4].append(e)
         mark_of = {}
         out_groups = []
         for k, g in enumerate(groups):

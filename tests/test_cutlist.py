@@ -229,7 +229,8 @@ def test_json_cut_list_matches_the_cut_list(pratt, tmp_path):
     groups = cl["parts"][0]["groups"]
     assert sum(g["count"] for g in groups) == 25
     u0l1 = next(m for m in cl["parts"][0]["members"] if m["length"] == pytest.approx(5.0) and m["ends"][0]["joint"])
-    assert all(0.0 <= a["angle_deg"] <= 90.0 for end in u0l1["ends"] for a in end["against"])
+    assert all(0.0 <= a <= 90.0 for end in u0l1["ends"] for a in end["angles_deg"])
+    assert all(len(end["against"]) == len(end["angles_deg"]) for end in u0l1["ends"])
     assert cut_list_csv(pratt).count("\r\n") == len(groups) + 1
 
 
@@ -280,3 +281,13 @@ def test_overhang_listed_apart(tmp_path):
     from dxftruss.report.json import report_dict
 
     assert report_dict(r)["cut_list"]["overhangs"] == [{"layer": "TRUSS", "length": 0.6, "at": [0.0, 0.0]}]
+
+
+def test_json_lists_members_up_to_the_limit(pratt, monkeypatch):
+    import dxftruss.report.json as js
+
+    assert js.report_dict(pratt)["cut_list"]["members_listed"] is True
+    monkeypatch.setattr(js, "JSON_CUT_MEMBERS", 10)  # the Pratt has 25 members
+    cl = js.report_dict(pratt)["cut_list"]
+    assert cl["members_listed"] is False and cl["parts"][0]["members"] == []
+    assert sum(len(g["members"]) for g in cl["parts"][0]["groups"]) == 25  # every member still in a group

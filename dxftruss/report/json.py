@@ -18,7 +18,7 @@ from ..cutlist import cut_list
 from ..model import LoadOrigin, Support, Truss, entity_ref, joint_id, member_id
 from ..naming import finding_entities, finding_parts, part_index
 from . import CAUTION, assumptions
-from .cutlist import cut_list_dict
+from .cutlist import JSON_CUT_MEMBERS, cut_list_dict
 
 if TYPE_CHECKING:
     from ..model import LineLoad
@@ -163,7 +163,7 @@ def report_dict(result: Result) -> dict[str, Any]:
         ],
         "cases": [_case(result, c) for c in result.cases],
         "symmetry": {"axis_x": _num(result.symmetry_axis) if result.symmetry_axis is not None else None},
-        "cut_list": cut_list_dict(cut_list(result)),
+        "cut_list": cut_list_dict(cut_list(result), list_members=t.n_members <= JSON_CUT_MEMBERS),
         "caution": CAUTION,
     }
     return doc
