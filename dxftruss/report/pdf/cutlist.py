@@ -24,7 +24,10 @@ TOTAL_COLUMNS = (Column("layer", 150, clip=True), Column("section", 150, clip=Tr
 def _cut_list_section(ctx: _Context, flow: _Flow, *, max_rows: int = 5000) -> None:
     """The cut list pages: one heading per part (a repeated part points to the part it repeats)."""
     r = ctx.result
-    cl = cut_list(r)
+    cl = getattr(ctx, "cut_list", None)  # the dry run that counts the pages computed it
+    if cl is None:
+        cl = cut_list(r)
+        setattr(ctx, "cut_list", cl)  # noqa: B010 - a cache on the shared context, not one of its fields
     unit = cl.unit
     flow.start_section("Cut list", "cutlist")
     flow.para(definition(cl), size=7.2)
