@@ -29,6 +29,7 @@ from .escape import shown
 from .findings import Code, Finding, sort_findings
 from .loadsfile import LoadsSpec, read_loads_file
 from .naming import PartNames, name_parts
+from .plane import into_plane
 from .policy import run_policy
 from .read import LineWork, read_drawing
 from .repeats import copied_stability, find_repeats, repeat_findings
@@ -175,7 +176,7 @@ def _check(
     sha, binary = file_digest(p)
     stage("read")
 
-    findings: list[Finding] = list(linework.findings)
+    findings: list[Finding] = []
     if units_opt:
         unit, unit_source = units_opt, "option"
     elif spec and spec.length_unit:
@@ -197,8 +198,12 @@ def _check(
             )
         )
 
-    all_seg = linework.segments
     opt_snap = _tolerance(settings.snap, unit, "--snap") if settings.snap is not None else None
+    linework, drawing_plane = into_plane(
+        linework, snap=opt_snap, fraction=settings.snap_fraction, mark_reach=settings.near_miss_fraction
+    )
+    findings = list(linework.findings) + findings
+    all_seg = linework.segments
     if settings.layers:
         selection = drafting.everything(linework.layers, "option")
     else:
@@ -329,4 +334,5 @@ def _check(
         part_names=names,
         same_as={copy: rep.of for copy, rep in repeats.items()},
         overhangs=read.overhangs,
+        plane=drawing_plane,
     )

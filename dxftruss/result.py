@@ -23,6 +23,7 @@ from .findings import Finding, Severity
 from .habits import Overhang
 from .loadsfile import LoadsSpec
 from .model import Truss
+from .plane import DrawingPlane
 from .read import LineWork
 from .statics import CaseResult
 
@@ -112,6 +113,9 @@ class Result:
     same_as: dict[int, int] = field(default_factory=dict)
     #: members drawn as overhangs, left out of the model (habits.py); drawn on the PDF
     overhangs: tuple[Overhang, ...] = ()
+    #: the plane the line work lies in when it is not flat in XY (plane.py); the model's
+    #: coordinates are then in-plane; None for a flat XY drawing
+    plane: DrawingPlane | None = None
 
     def part_name(self, index: int) -> str:
         """The part's name (``P<n>`` when the result has no names)."""

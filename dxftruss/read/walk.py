@@ -313,7 +313,7 @@ class _Reader:
                             (order, self.placed.next_seq(), "inclined", name, note, key, el, xy, None)
                         )
                         continue
-                mark = SupportMark(xy[0], xy[1], fix, hh, el, block=name, why=why, normal=normal)
+                mark = SupportMark(xy[0], xy[1], fix, hh, el, block=name, why=why, normal=normal, z=float(pts[k, 2]))
                 self.placed.supports.append((order, self.placed.next_seq(), mark))
                 self.placed.block_notes.append((order, self.placed.next_seq(), kind, name, why, key, el, xy, restrains))
         return rest

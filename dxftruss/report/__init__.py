@@ -41,6 +41,9 @@ def assumptions(result: Result) -> list[str]:
     habits = habits_sentence(result)
     if habits:
         out.append(habits)
+    plane = getattr(result, "plane", None)
+    if plane is not None:
+        out.append(plane.sentence(unit))
     out.append(f"snap tolerance {tol.snap:.6g} {unit} ({tol.snap_source})")
     out.append(f"near-miss radius {tol.near_miss:.6g} {unit} ({tol.near_miss_source})")
     if result.loads is None or not result.loads.force_unit_given:

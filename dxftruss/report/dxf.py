@@ -19,6 +19,9 @@ What goes on the result layers (entities valid in every DXF version, R12 include
     reactions  one TEXT per restrained joint per case below the joint (cases stacked).
     findings   one CIRCLE per finding with a location, the finding's number (as in the
                findings list of the PDF and the terminal) in it and its code beside it.
+
+In a drawing plane other than XY (plane.py) the marks are made in-plane and then carried
+into the plane, so they lie on the members as drawn.
 """
 
 from __future__ import annotations
@@ -255,6 +258,14 @@ def _annotate(
             added.append(msp.add_circle((x, y), 0.9 * h, dxfattribs={"layer": layer, "color": color}))
             text(str(n), (x, y), layer, color, 0.9 * h)
             text(f.code.value, (x + 1.2 * h, y), layer, color, 0.6 * h, align=TextEntityAlignment.MIDDLE_LEFT)
+
+    plane = getattr(result, "plane", None)
+    if plane is not None:  # the marks were made in-plane: carry them into the drawing plane
+        from ezdxf.math import Matrix44
+
+        m = Matrix44.ucs(ux=plane.u, uy=plane.v, uz=plane.normal, origin=plane.origin)
+        for ent in added:
+            ent.transform(m)
 
 
 def _legalise_names(doc: Any, renamed: tuple[tuple[str, str, str], ...]) -> Callable[[], None]:

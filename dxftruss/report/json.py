@@ -69,6 +69,31 @@ def _jsonable(v: Any) -> Any:
     return str(v)
 
 
+def _joints(result: Result, jid: list[str], xs: list[Any], ys: list[Any]) -> list[dict[str, Any]]:
+    """``{id, x, y}`` per joint; in a drawing plane other than XY also ``world``:
+    [x, y, z] as drawn (x, y are then in-plane)."""
+    if result.plane is None:
+        return [{"id": jid[i], "x": xs[i], "y": ys[i]} for i in range(len(jid))]
+    world = result.plane.to_world(result.truss.xy)
+    wx, wy, wz = _nums(world[:, 0]), _nums(world[:, 1]), _nums(world[:, 2])
+    return [{"id": jid[i], "x": xs[i], "y": ys[i], "world": [wx[i], wy[i], wz[i]]} for i in range(len(jid))]
+
+
+def _plane(result: Result) -> dict[str, Any]:
+    """The drawing plane (only present when the line work is not flat in XY)."""
+    pl = result.plane
+    assert pl is not None
+    return {
+        "kind": pl.kind,
+        "origin": _nums(pl.origin),
+        "normal": _nums(pl.normal),
+        "x_axis": _nums(pl.u),
+        "y_axis": _nums(pl.v),
+        "max_offset": _num(pl.max_offset),
+        "tolerance": _num(pl.tolerance),
+    }
+
+
 def report_dict(result: Result) -> dict[str, Any]:
     """The report as plain JSON-ready data."""
     t = result.truss
@@ -108,7 +133,7 @@ def report_dict(result: Result) -> dict[str, Any]:
         },
         "assumptions": assumptions(result),
         "line_work": _line_work(result),
-        "joints": [{"id": jid[i], "x": xs[i], "y": ys[i]} for i in range(len(jid))],
+        "joints": _joints(result, jid, xs, ys),
         "members": [
             {
                 "id": mid[e],
@@ -163,6 +188,10 @@ def report_dict(result: Result) -> dict[str, Any]:
         "symmetry": {"axis_x": _num(result.symmetry_axis) if result.symmetry_axis is not None else None},
         "caution": CAUTION,
     }
+    if result.plane is not None:  # after line_work: the plane the coordinates are in
+        keys = list(doc)
+        at = keys.index("line_work") + 1
+        doc = {k: doc[k] for k in keys[:at]} | {"plane": _plane(result)} | {k: doc[k] for k in keys[at:]}
     return doc
 
 
