@@ -38,12 +38,19 @@ DEFAULT_CASE = "main"
 
 @dataclass(frozen=True)
 class SupportEntry:
-    """``fix`` "roller" in the file is ``Fix.N`` with its unit ``normal`` (None otherwise)."""
+    """``fix`` "roller" in the file is ``Fix.N`` with its unit ``normal`` (None otherwise).
+
+    ``axes`` the world axes the file names ("xyz", "z", "xz" ... ordered; "" for a
+    roller); ``fix`` is their trace in the XY plane ("xyz" -> xy, "xz" -> x; "z" has
+    none: planar models refuse it). ``z`` is the third coordinate of a 3-D ``at``
+    (None for [x, y])."""
 
     number: int
     at: tuple[float, float]
     fix: Fix
     normal: tuple[float, float] | None = None
+    axes: str = ""
+    z: float | None = None
 
 
 @dataclass(frozen=True)
@@ -55,6 +62,9 @@ class LoadEntry:
     fx: float
     fy: float
     case: str
+    #: the force along world z (space trusses) and the third coordinate of a 3-D ``at``
+    fz: float = 0.0
+    z: float | None = None
 
 
 @dataclass(frozen=True)
@@ -112,7 +122,7 @@ _KEYS = {
     "units": {"force", "length"},
     "drawn": {"loads", "supports"},
     "support": {"at", "fix", "normal"},
-    "load": {"at", "fx", "fy", "case"},
+    "load": {"at", "fx", "fy", "fz", "case"},
     "line_load": {"from", "to", "w", "case", "measured", "direction"},
     "area_load": {"from", "to", "q", "spacing", "case", "measured", "direction"},
     "combination": {"name", "factors"},
@@ -141,6 +151,23 @@ def _at(where: str, table: dict[str, Any], key: str = "at") -> tuple[float, floa
     if not (math.isfinite(x) and math.isfinite(y)):
         raise ConfigError(f"{where}: '{key}' must be finite, got {value!r}")
     return x, y
+
+
+def _at3(where: str, table: dict[str, Any]) -> tuple[tuple[float, float], float | None]:
+    """A support's or load's 'at': [x, y] (z None) or [x, y, z] (space trusses)."""
+    value = table.get("at")
+    if isinstance(value, list) and len(value) == 3:
+        if not all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in value):
+            raise ConfigError(f"{where}: 'at' must be [x, y] or [x, y, z] numbers, got {value!r}")
+        x, y, z = (float(v) for v in value)
+        if not all(math.isfinite(v) for v in (x, y, z)):
+            raise ConfigError(f"{where}: 'at' must be finite, got {value!r}")
+        return (x, y), z
+    return _at(where, table), None
+
+
+#: the world axes a support may fix, as written (any order, any case) -> XY trace
+_AXES_TRACE = {"xy": Fix.XY, "xyz": Fix.XY, "x": Fix.X, "xz": Fix.X, "y": Fix.Y, "yz": Fix.Y, "z": Fix.XY}
 
 
 def _case(where: str, table: dict[str, Any]) -> str:
@@ -289,14 +316,18 @@ def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:
     for i, t in enumerate(_tables(name, data, "support"), 1):
         where = f"{name}: [[support]] #{i}"
         _unknown(where, t, "support")
-        at = _at(where, t)
+        at, z = _at3(where, t)
         fix = t.get("fix", "xy")
-        if not isinstance(fix, str) or fix.lower() not in ("xy", "x", "y", "roller"):
-            raise ConfigError(f'{where}: \'fix\' must be "xy", "x", "y" or "roller", got {fix!r}')
+        axes = "".join(sorted(set(fix.lower()))) if isinstance(fix, str) else ""
+        if not isinstance(fix, str) or (fix.lower() != "roller" and (axes not in _AXES_TRACE or len(axes) != len(fix))):
+            raise ConfigError(
+                f'{where}: \'fix\' must name the fixed axes ("xy", "x", "y"; for a space truss also "xyz", "z", '
+                f'"xz", "yz") or be "roller", got {fix!r}'
+            )
         if fix.lower() != "roller":
             if "normal" in t:
                 raise ConfigError(f"{where}: 'normal' is only for fix = \"roller\", not fix = {fix!r}")
-            supports.append(SupportEntry(i, at, Fix(fix.lower())))
+            supports.append(SupportEntry(i, at, _AXES_TRACE[axes], axes=axes, z=z))
             continue
         if "normal" not in t:
             raise ConfigError(f"{where}: fix = \"roller\" needs 'normal' = [nx, ny], the direction it restrains")
@@ -305,19 +336,20 @@ def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:
         size = math.hypot(nx, ny)
         if not (math.isfinite(size) and size > 0):
             raise ConfigError(f"{where}: 'normal' must be a non-zero [nx, ny], got {raw!r}")
-        supports.append(SupportEntry(i, at, Fix.N, (nx / size, ny / size)))
+        supports.append(SupportEntry(i, at, Fix.N, (nx / size, ny / size), z=z))
 
     loads = []
     for i, t in enumerate(_tables(name, data, "load"), 1):
         where = f"{name}: [[load]] #{i}"
         _unknown(where, t, "load")
-        at = _at(where, t)
+        at, z = _at3(where, t)
         case = t.get("case", DEFAULT_CASE)
         if not isinstance(case, str) or not case.strip():
             raise ConfigError(f"{where}: 'case' must be a non-empty string, got {case!r}")
         fx = parse_force(t.get("fx", 0.0), force_unit, f"{where} fx")
         fy = parse_force(t.get("fy", 0.0), force_unit, f"{where} fy")
-        loads.append(LoadEntry(i, at, fx, fy, case.strip()))
+        fz = parse_force(t.get("fz", 0.0), force_unit, f"{where} fz")
+        loads.append(LoadEntry(i, at, fx, fy, case.strip(), fz=fz, z=z))
 
     line_loads = []
     for kind in ("line_load", "area_load"):
@@ -374,6 +406,25 @@ def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:
         drawn.get("supports"),
         tuple(line_loads),
     )
+
+
+def check_planar(spec: LoadsSpec) -> None:
+    """Refuse what only a space truss can use: a 3-D ``at``, ``fz`` or a support fixing z
+    alone (a planar truss's plane holds no z; "xyz", "xz", "yz" are read by their x, y)."""
+    for e in spec.supports:
+        if e.z is not None or e.axes == "z":
+            what = "a 3-D 'at'" if e.z is not None else 'fix = "z"'
+            raise ConfigError(
+                f"{spec.path}: [[support]] #{e.number}: {what} is for space trusses; this drawing is planar "
+                "(give [x, y] in its plane and fix x, y or xy)"
+            )
+    for ld in spec.loads:
+        if ld.z is not None or ld.fz:
+            what = "a 3-D 'at'" if ld.z is not None else "'fz'"
+            raise ConfigError(
+                f"{spec.path}: [[load]] #{ld.number}: {what} is for space trusses; this drawing is planar "
+                "(give [x, y] and fx, fy in its plane)"
+            )
 
 
 def check_combinations(spec: LoadsSpec, case_names: set[str]) -> None:

@@ -198,7 +198,7 @@ def into_plane(
     ``mark_reach`` (relative to the median line length) from the plane are left out
     with an ``unsupported-geometry`` finding (reason ``off-plane``)."""
     if not len(linework.segments) or is_flat_xy(linework):
-        return linework, None
+        return planar_supports(linework), None
     tol = snap if snap is not None else default_snap_3d(linework, fraction)
     pts = _points(linework)
     plane = find_plane(pts, tol=tol)
@@ -264,9 +264,11 @@ def into_plane(
 def _support_in_plane(s: SupportMark, plane: DrawingPlane, uv: np.ndarray) -> tuple[SupportMark | None, Finding | None]:
     """The support mark in in-plane terms, or None with an ``inclined-support`` finding."""
     dirs: list[tuple[float, float, float]] = []
-    if s.fix in (Fix.XY, Fix.X):
+    if s.axes:
+        dirs = [tuple(float(k == "xyz".index(a)) for k in range(3)) for a in s.axes]  # type: ignore[misc]
+    if not s.axes and s.fix in (Fix.XY, Fix.X):
         dirs.append((1.0, 0.0, 0.0))
-    if s.fix in (Fix.XY, Fix.Y):
+    if not s.axes and s.fix in (Fix.XY, Fix.Y):
         dirs.append((0.0, 1.0, 0.0))
     if s.fix is Fix.N and s.normal is not None:
         dirs.append((s.normal[0], s.normal[1], 0.0))
@@ -289,6 +291,24 @@ def _support_in_plane(s: SupportMark, plane: DrawingPlane, uv: np.ndarray) -> tu
     if abs(n[0]) <= DIRECTION_SIN:
         return replace(s, x=at[0], y=at[1], z=0.0, fix=Fix.Y, normal=None), None
     return replace(s, x=at[0], y=at[1], z=0.0, fix=Fix.N, normal=(float(n[0]), float(n[1]))), None
+
+
+def planar_supports(linework: LineWork) -> LineWork:
+    """A flat XY drawing's support marks: a SUPPORT-Z mark restrains only z, the normal of
+    the drawing plane, so it is refused (``inclined-support``); the other 3-D support
+    layers are read by their x and y (SUPPORT-XYZ a pin, SUPPORT-XZ an x roller ...)."""
+    if not any(s.axes == "z" for s in linework.supports):
+        return linework
+    refused = [
+        _refused(s, "restrains only z, the direction normal to the drawing plane")
+        for s in linework.supports
+        if s.axes == "z"
+    ]
+    return replace(
+        linework,
+        supports=tuple(s for s in linework.supports if s.axes != "z"),
+        findings=(*linework.findings, *refused),
+    )
 
 
 def _refused(s: SupportMark, why: str) -> Finding:

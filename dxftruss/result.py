@@ -25,6 +25,7 @@ from .loadsfile import LoadsSpec
 from .model import Truss
 from .plane import DrawingPlane
 from .read import LineWork
+from .space import SpaceAnalysis
 from .statics import CaseResult
 
 
@@ -116,6 +117,9 @@ class Result:
     #: the plane the line work lies in when it is not flat in XY (plane.py); the model's
     #: coordinates are then in-plane; None for a flat XY drawing
     plane: DrawingPlane | None = None
+    #: the space truss when the line work lies in no one plane (space.py); ``truss``,
+    #: ``stability`` and ``cases`` are then empty
+    space: SpaceAnalysis | None = None
 
     def part_name(self, index: int) -> str:
         """The part's name (``P<n>`` when the result has no names)."""

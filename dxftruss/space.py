@@ -481,6 +481,15 @@ def analyse_space_part(
                 + (" ..." if len(moving) > 12 else ""),
                 joints=tuple(moving[:200]),
                 data={"part": p, "mechanisms": k, "rigid": n_rigid, "internal": internal, "maxwell": st.maxwell},
+                next_step=(
+                    "fix the rigid-body motions with supports (SUPPORT-XYZ at three joints not in one line, or "
+                    '[[support]] entries with fix = "xyz")'
+                    if not internal
+                    else "brace the moving joints "
+                    + ", ".join(f"J{j + 1}" for j in moving[:6])
+                    + " to joints that are held (a member closing each moving face into triangles)"
+                    + (", and fix the rigid-body motions with supports" if n_rigid else "")
+                ),
             )
         )
     if gap is not None and math.isfinite(gap) and gap < GAP:
@@ -622,6 +631,16 @@ class SpaceCaseResult:
     methods: tuple[tuple[int, str], ...] = ()
 
 
+@dataclass(frozen=True)
+class SpaceAnalysis:
+    """A space truss checked: the model, per part counts, per case solutions (in the
+    order of ``truss.parts`` and ``truss.cases``)."""
+
+    truss: SpaceTruss
+    stability: tuple[SpaceStability, ...]
+    cases: tuple[SpaceCaseResult, ...]
+
+
 def member_ea(truss: SpaceTruss) -> np.ndarray:
     from .statics import member_ea as ea
 
@@ -699,7 +718,19 @@ def solve_space_case(
     scale = max(float(np.abs(fin).max()) if fin.size else 0.0, float(np.linalg.norm(f_all)))
     by_sol = tuple(int(e) for e in np.flatnonzero(np.isfinite(forces) & (np.abs(forces) <= ZERO_FORCE * scale)))
     forces = np.where(np.isin(np.arange(m), by_sol), 0.0, forces)
-    reactions = tuple((j, *(float(v) for v in r)) for j, r in sorted(react.items()))
+    if by_sol:
+        n_rule = len(set(by_rule) & set(by_sol))
+        findings.append(
+            Finding(
+                Code.ZERO_FORCE_MEMBER,
+                f"load case {case.name!r}: {len(by_sol)} member(s) carry no force ({n_rule} of them follow from the "
+                "joint rules alone)",
+                members=by_sol[:500],
+                data={"case": case.name, "by_rule": len(by_rule), "by_solution": len(by_sol)},
+            )
+        )
+    tiny = ZERO_FORCE * scale  # round-off in a reaction component is shown as 0
+    reactions = tuple((j, *(float(v) if abs(v) > tiny else 0.0 for v in r)) for j, r in sorted(react.items()))
     out = SpaceCaseResult(
         case.name,
         case.assumed,

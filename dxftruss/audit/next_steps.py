@@ -152,6 +152,11 @@ class _Plain:
                 "rewrite the label as one number with its force unit, e.g. '12.5 kN' (or a load per length "
                 "such as '0.75 kN/m' on a row of arrows), or give the load in the loads file"
             )
+        if c is Code.NO_SUPPORTS:
+            return (
+                "draw a POINT on SUPPORT-XYZ at each joint the space truss bears on (SUPPORT-Z for a vertical "
+                'roller), or give [[support]] at = [x, y, z] with fix = "xyz" in the loads file'
+            )
         if c is Code.UNSUPPORTED_GEOMETRY and d.get("reason") == "off-plane":
             return (
                 "move the support and load marks onto the plane the members are drawn in, or give them in the "

@@ -28,6 +28,9 @@ class SupportMark:
     normal: tuple[float, float] | None = None
     #: world z of the mark (0 in a flat drawing; used when the line work lies in another plane)
     z: float = 0.0
+    #: the world axes the mark's layer fixes ("xy", "xyz", "z" ...; "" for a block read
+    #: as a support, which ``fix`` and ``normal`` say in the drawing plane)
+    axes: str = ""
 
 
 @dataclass(frozen=True)

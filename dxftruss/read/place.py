@@ -131,9 +131,10 @@ class _Placed:
         pos: int,
         batch: _Batch | None,
         problems: _Problems,
+        axes: str = "",
     ) -> None:
         for x, y, z, hh, order, _ in _placed_points(t, p, h, layer, pos, batch, problems):
-            self.supports.append((order, self.next_seq(), SupportMark(x, y, fix, hh, layer, z=z)))
+            self.supports.append((order, self.next_seq(), SupportMark(x, y, fix, hh, layer, z=z, axes=axes)))
 
     def add_texts(
         self,

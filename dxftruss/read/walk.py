@@ -176,7 +176,7 @@ class _Reader:
             r = self.role(el)
             if r.role is _Role.SUPPORT:
                 assert r.fix is not None
-                placed.add_supports(t, p, r.fix, h, el, pos, batch, problems)
+                placed.add_supports(t, p, r.fix, h, el, pos, batch, problems, axes=r.axes)
             elif r.role not in (_Role.SKIP, _Role.HIDDEN):
                 problems.ignore(t, el, n_inst)
 
@@ -237,7 +237,15 @@ class _Reader:
                 assert r.fix is not None
                 for i in rows:
                     self.placed.add_supports(
-                        "INSERT", _xyz(ins.point[i]), r.fix, ins.handle[i], el, ins.pos[i], batch, self.problems
+                        "INSERT",
+                        _xyz(ins.point[i]),
+                        r.fix,
+                        ins.handle[i],
+                        el,
+                        ins.pos[i],
+                        batch,
+                        self.problems,
+                        axes=r.axes,
                     )
                 continue
             content: _Content | None = None

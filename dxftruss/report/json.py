@@ -94,6 +94,109 @@ def _plane(result: Result) -> dict[str, Any]:
     }
 
 
+def _space(result: Result) -> dict[str, Any]:
+    """The keys of a space truss (docs/report-format.md, space): joints with z, members,
+    supports with their axes, parts with the 3-D counts, cases with fz."""
+    sa = result.space
+    assert sa is not None
+    t = sa.truss
+    jid = [joint_id(i) for i in range(t.n_joints)]
+    mid = [member_id(e) for e in range(t.n_members)]
+    x, y, z = (_nums(t.xyz[:, c]) for c in range(3))
+    lengths = _nums(t.lengths()) if t.n_members else []
+    parts = []
+    for p, st in zip(t.parts, sa.stability, strict=True):
+        parts.append(
+            {
+                "id": p.index + 1,
+                "name": f"P{p.index + 1}",
+                "same_as": None,
+                "joints": [jid[j] for j in p.joints.tolist()],
+                "members": [mid[e] for e in p.members.tolist()],
+                "j": st.j,
+                "m": st.m,
+                "r": st.r,
+                "rank": st.rank,
+                "mechanisms": st.mechanisms,
+                "self_stress": st.self_stress,
+                "generic_mechanisms": None,
+                "generic_self_stress": None,
+                "verdict": st.verdict,
+                "sigma_min": _num(st.sigma_min) if st.sigma_min is not None else None,
+                "sigma_max": _num(st.sigma_max) if st.sigma_max is not None else None,
+                "rank_gap": _num(st.rank_gap) if st.rank_gap is not None else None,
+                "rank_method": st.method,
+                "maxwell": st.maxwell,
+                "rigid_mechanisms": st.rigid_mechanisms,
+                "rank_tolerance": _num(st.tolerance),
+                "modes": [{"rigid": md.rigid, "joints": [jid[j] for j in md.joints]} for md in st.modes],
+                "self_stress_members": [[mid[e] for e in ms] for ms in st.self_stress_members],
+            }
+        )
+    by_name = {c.name: c for c in t.cases}
+    cases = []
+    for c in sa.cases:
+        case = by_name[c.name]
+        cases.append(
+            {
+                "name": c.name,
+                "assumed": c.assumed,
+                "combination": {k: _num(v) for k, v in c.factors} if c.factors else None,
+                "loads": [
+                    {
+                        "joint": joint_id(ld.joint),
+                        "fx": _num(ld.fx),
+                        "fy": _num(ld.fy),
+                        "fz": _num(ld.fz),
+                        "source": ld.source.value,
+                        "label": ld.label,
+                        "label_source": None,
+                    }
+                    for ld in case.loads
+                ],
+                "reactions": [
+                    {"joint": joint_id(j), "fx": _num(rx), "fy": _num(ry), "fz": _num(rz)}
+                    for j, rx, ry, rz in c.reactions
+                ],
+                "forces": dict(zip(mid, _nums(c.forces), strict=True)),
+                "zero_force": {
+                    "by_rule": [member_id(e) for e in c.zero_by_rule],
+                    "by_solution": [member_id(e) for e in c.zero_by_solution],
+                },
+                "loads_symmetric": None,
+                "solved_parts": [p + 1 for p in c.solved_parts],
+                "residual": _num(c.residual),
+                "methods": {str(p + 1): how for p, how in c.methods},
+            }
+        )
+    return {
+        "space": {
+            "dimension": 3,
+            "rank": "numerical",
+            "note": "stability from the numerical rank of the 3-D equilibrium matrix (tolerance "
+            "max(rows, cols) x machine epsilon x sigma_max, gap reported); the pebble game and the counts "
+            "alone do not decide rigidity in space",
+        },
+        "joints": [{"id": jid[i], "x": x[i], "y": y[i], "z": z[i]} for i in range(t.n_joints)],
+        "members": [
+            {
+                "id": mid[e],
+                "joints": [jid[a], jid[b]],
+                "length": lengths[e],
+                "layer": t.layers[e],
+                "handles": list(t.handles[e]),
+            }
+            for e, (a, b) in enumerate(t.ends.tolist())
+        ],
+        "supports": [
+            {"joint": joint_id(sp.joint), "fix": sp.axes, "assumed": False, "source": sp.source.value}
+            for sp in t.supports
+        ],
+        "parts": parts,
+        "cases": cases,
+    }
+
+
 def report_dict(result: Result) -> dict[str, Any]:
     """The report as plain JSON-ready data."""
     t = result.truss
@@ -188,6 +291,15 @@ def report_dict(result: Result) -> dict[str, Any]:
         "symmetry": {"axis_x": _num(result.symmetry_axis) if result.symmetry_axis is not None else None},
         "caution": CAUTION,
     }
+    if result.space is not None:
+        doc.update(_space(result))
+        keys = list(doc)
+        at = keys.index("line_work") + 1
+        doc = (
+            {k: doc[k] for k in keys[:at] if k != "space"}
+            | {"space": doc["space"]}
+            | {k: doc[k] for k in keys[at:] if k != "space"}
+        )
     if result.plane is not None:  # after line_work: the plane the coordinates are in
         keys = list(doc)
         at = keys.index("line_work") + 1
