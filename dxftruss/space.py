@@ -38,6 +38,7 @@ from __future__ import annotations
 
 import itertools
 import math
+from collections import defaultdict
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 
@@ -214,22 +215,29 @@ def build_space_geometry(
             )
         )
     live = np.flatnonzero(a != b)
-    pa, pb, src = [], [], []
     tree = cKDTree(centres)
     p, q = centres[a[live]], centres[b[live]]
     mid, half = (p + q) / 2, np.linalg.norm(q - p, axis=1) / 2
     near = tree.query_ball_point(mid, half + snap)
-    for k, s in enumerate(live.tolist()):
-        cand = [j for j in near[k] if j != a[s] and j != b[s]]
-        stops: list[tuple[float, int]] = []
-        if cand:
-            d = q[k] - p[k]
-            w = centres[cand] - p[k]
-            t = w @ d / float(d @ d)
-            dist = np.linalg.norm(w - t[:, None] * d, axis=1)
-            stops = sorted(
-                (float(tt), int(j)) for tt, j, dd in zip(t, cand, dist, strict=True) if 0 < tt < 1 and dd <= snap
-            )
+    # joints on the inside of a line, all lines at once: (line, joint) candidate pairs
+    count = np.fromiter((len(n) for n in near), dtype=np.int64, count=len(near))
+    row = np.repeat(np.arange(len(live)), count)
+    cand = np.fromiter(itertools.chain.from_iterable(near), dtype=np.int64, count=int(count.sum()))
+    d = q[row] - p[row]
+    w = centres[cand] - p[row]
+    t = np.einsum("ij,ij->i", w, d) / np.einsum("ij,ij->i", d, d)
+    dist = np.linalg.norm(w - t[:, None] * d, axis=1)
+    hit = (cand != a[live][row]) & (cand != b[live][row]) & (t > 0) & (t < 1) & (dist <= snap)
+    hits: dict[int, list[tuple[float, int]]] = defaultdict(list)
+    for k, tt, j in zip(row[hit].tolist(), t[hit].tolist(), cand[hit].tolist(), strict=True):
+        hits[k].append((tt, j))
+    lo, hi = np.minimum(a[live], b[live]), np.maximum(a[live], b[live])
+    plain = np.ones(len(live), dtype=bool)
+    plain[list(hits)] = False
+    pa, pb, src = lo[plain].tolist(), hi[plain].tolist(), live[plain].tolist()
+    for k in sorted(hits):
+        s = int(live[k])
+        stops = sorted(hits[k])
         chain = [int(a[s]), *(j for _, j in stops), int(b[s])]
         for x, y in itertools.pairwise(chain):
             pa.append(min(x, y))
@@ -381,9 +389,16 @@ def _rigid_fields(xyz: np.ndarray) -> np.ndarray:
 
 
 def _counts_dense(A: sp.csc_matrix) -> tuple[int, np.ndarray, np.ndarray, np.ndarray, float]:
-    """rank, singular values, null(A^T) basis, null(A) basis, tau by the dense SVD."""
+    """rank, singular values, null(A^T) basis, null(A) basis, tau by the dense SVD (the
+    singular values alone when A is square and of full rank: no null spaces)."""
     rows, cols = A.shape
-    U, sv, Vt = la.svd(A.toarray(), full_matrices=True, lapack_driver="gesdd")
+    Ad = A.toarray()
+    if rows == cols and rows:
+        sv = la.svd(Ad, compute_uv=False, lapack_driver="gesdd")
+        tau = max(rows, cols) * EPS * float(sv[0])
+        if int(np.count_nonzero(sv > tau)) == rows:
+            return rows, sv, np.zeros((rows, 0)), np.zeros((cols, 0)), tau
+    U, sv, Vt = la.svd(Ad, full_matrices=True, lapack_driver="gesdd")
     smax = float(sv[0]) if sv.size else 0.0
     tau = max(rows, cols) * EPS * smax
     rank = int(np.count_nonzero(sv > tau))
@@ -571,7 +586,24 @@ def zero_force_by_rule_3d(
     for j, a in restraints.tolist():
         fixed[j].append(a)
     zero: set[int] = set()
-    work = [j for j in range(n_j) if inc[j] and not loaded[j]]
+    # cheap screen: the Gram matrix of all directions at each joint less the bar's own;
+    # a bar whose "others" clearly span space (smallest eigenvalue far above the
+    # tolerance) can never be zero by the rule, so only joints with another bar are visited
+    live_e = np.flatnonzero(active)
+    gram = np.zeros((n_j, 3, 3))
+    outer = np.einsum("ei,ej->eij", u[live_e], u[live_e])
+    np.add.at(gram, ends[live_e, 0], outer)
+    np.add.at(gram, ends[live_e, 1], outer)
+    if len(restraints):
+        axis = np.eye(3)[restraints[:, 1]]
+        np.add.at(gram, restraints[:, 0], np.einsum("ei,ej->eij", axis, axis))
+    at_end = ends[live_e].ravel()
+    ev = np.linalg.eigvalsh(gram[at_end] - np.repeat(outer, 2, axis=0))
+    screen = 1e3 * max(1e-9, snap / float(length[live_e].min())) if live_e.size else 0.0
+    unclear = ev[:, 0] <= screen**2 * np.maximum(ev[:, 2], EPS)
+    visit = np.zeros(n_j, dtype=bool)
+    visit[at_end[unclear]] = True
+    work: list[int] = np.flatnonzero(visit & ~np.asarray(loaded, dtype=bool)).tolist()
     queued = set(work)
     eye = np.eye(3)
     while work:
