@@ -154,3 +154,31 @@ def test_double_banana_drawn_c10(tmp_path):
     mech = [f for f in res.findings if f.code is Code.MECHANISM]
     assert len(mech) == 1 and mech[0].data["internal"] == 1 and mech[0].next_step
     _schema().validate(json.loads(json.dumps(report_dict(res))))
+
+
+def test_space_reports(tmp_path):
+    """The annotated DXF writes the force marks at the members' 3-D midpoints (lifted
+    along z by the text offset); the PDF has one four-view page per case, then the
+    findings and the tables."""
+    from dxftruss.report.dxf import write_dxf
+    from dxftruss.report.pdf import write_pdf
+
+    res = check(tripod_dxf(tmp_path / "t.dxf"))
+    write_dxf(res, tmp_path / "out.dxf")
+    doc = ezdxf.readfile(tmp_path / "out.dxf")
+    texts = [e for e in doc.modelspace().query("TEXT") if e.dxf.layer.startswith("DXFTRUSS-FORCES")]
+    t = res.space.truss
+    assert len(texts) == t.n_members
+    mids = (t.xyz[t.ends[:, 0]] + t.xyz[t.ends[:, 1]]) / 2
+    for e in texts:
+        p = e.dxf.align_point
+        d = ((mids[:, 0] - p.x) ** 2 + (mids[:, 1] - p.y) ** 2) ** 0.5
+        k = int(d.argmin())
+        assert d[k] < 1e-9 and p.z > mids[k, 2]
+    write_pdf(res, tmp_path / "out.pdf")
+    from pypdf import PdfReader
+
+    reader = PdfReader(tmp_path / "out.pdf")
+    assert len(reader.pages) >= 3
+    first = reader.pages[0].extract_text()
+    assert "axonometric" in first and "plan" in first and "front elevation" in first and "side elevation" in first

@@ -140,6 +140,11 @@ def write_pdf(
     key = page.upper()
     if key not in PAGE_SIZES:
         raise ValueError(f"unknown page size {page!r}; use one of A4, A3, letter, tabloid")
+    if getattr(result, "space", None) is not None:  # a space truss: four views per case (space.py)
+        from .space import write_space_pdf
+
+        write_space_pdf(result, path, page=page, max_labels=max_labels, max_rows=max_table_rows)
+        return
     paper = PAGE_SIZES[key]
     fonts = register_fonts()
     r = result
