@@ -267,6 +267,8 @@ def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = F
             max_members=args.max_members,
             max_file_mb=args.max_file_size or None,
             layout=args.layout,
+            # the PDF and the annotated DXF draw and copy the whole document
+            stream_line_work=not (pdf or dxf),
         )
         result = _check_with_progress(drawing, settings, show=not args.quiet and not many)
         from .report.text import summary
