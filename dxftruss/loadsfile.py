@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import math
 import os
+import re
 import stat
 import tomllib
 from dataclasses import dataclass
@@ -276,7 +277,9 @@ def read_loads_file(path: str | os.PathLike[str], *, max_bytes: int = MAX_LOADS_
     name = str(path)
     raw = _read_regular_file(name, max_bytes)
     try:
-        data = tomllib.loads(raw.decode("utf-8"))
+        text = raw.decode("utf-8")
+        plain = plain_toml(text)
+        data = plain if plain is not None else tomllib.loads(text)
     except UnicodeDecodeError:
         raise ConfigError(f"{name}: the loads file is not UTF-8 text") from None
     except tomllib.TOMLDecodeError as exc:
@@ -287,6 +290,98 @@ def read_loads_file(path: str | os.PathLike[str], *, max_bytes: int = MAX_LOADS_
         return parse_loads(data, name)
     except RecursionError:
         raise ConfigError(f"{name}: the loads file nests values too deeply to be a loads file") from None
+
+
+#: one line of the plain TOML subset: a table or array-of-tables header, or key = value
+_PLAIN_LINE = re.compile(
+    r"(?:\[\[(?P<aot>[A-Za-z0-9_-]+)\]\]|\[(?P<table>[A-Za-z0-9_-]+)\]"
+    r"|(?P<key>[A-Za-z0-9_-]+)[ \t]*=[ \t]*(?P<value>.*?))[ \t]*\Z"
+)
+_INT = r"[+-]?(?:0|[1-9][0-9]*)"
+_FLOAT = r"[+-]?(?:0|[1-9][0-9]*)(?:\.[0-9]+(?:[eE][+-]?[0-9]+)?|[eE][+-]?[0-9]+)"
+_PLAIN_INT = re.compile(_INT + r"\Z")
+_PLAIN_FLOAT = re.compile(_FLOAT + r"\Z")
+_PLAIN_STRING = re.compile(r'"([^"\\\x00-\x1f\x7f]*)"\Z')
+_PLAIN_ARRAY = re.compile(rf"\[[ \t]*((?:{_FLOAT}|{_INT})(?:[ \t]*,[ \t]*(?:{_FLOAT}|{_INT}))*)[ \t]*\]\Z")
+_SPLIT_COMMA = re.compile(r"[ \t]*,[ \t]*")
+
+
+def _plain_number(text: str) -> int | float | None:
+    if _PLAIN_INT.match(text):
+        return int(text)
+    if _PLAIN_FLOAT.match(text):
+        return float(text)
+    return None
+
+
+def _plain_value(text: str) -> Any:
+    """A value of the plain subset, or None (also for any other TOML value)."""
+    c = text[:1]
+    if c == '"':
+        m = _PLAIN_STRING.match(text)
+        return m.group(1) if m else None
+    if c == "[":
+        m = _PLAIN_ARRAY.match(text)
+        if not m:
+            return None
+        return [_plain_number(v) for v in _SPLIT_COMMA.split(m.group(1).strip())]
+    if text == "true":
+        return True
+    if text == "false":
+        return False
+    return _plain_number(text)
+
+
+def plain_toml(text: str) -> dict[str, Any] | None:
+    """The TOML document ``text`` when it is written in the plain subset the loads files
+    are usually written in (what ``bench/make_trusses.py`` writes), else None: then
+    ``tomllib`` reads it. The subset: whole-line ``#`` comments, ``[name]`` and
+    ``[[name]]`` headers with bare names, ``key = value`` with a bare key and a value
+    that is a string without escapes, a decimal integer or float, true / false, or a
+    one-line array of numbers. A key or table given twice, a carriage return or
+    anything else in the text gives None, so tomllib decides (and reports errors)."""
+    if "\r" in text:
+        return None
+    root: dict[str, Any] = {}
+    arrays: set[str] = set()
+    current = root
+    for raw in text.split("\n"):
+        line = raw.lstrip(" \t")
+        if not line or line[0] == "#":
+            if line and not _plain_comment(line):
+                return None
+            continue
+        m = _PLAIN_LINE.match(line)
+        if m is None:
+            return None
+        key = m.group("key")
+        if key is not None:
+            value = _plain_value(m.group("value"))
+            if value is None or key in current or (isinstance(value, list) and None in value):
+                return None
+            current[key] = value
+            continue
+        name = m.group("aot")
+        if name is not None:
+            if name in root and name not in arrays:
+                return None
+            arrays.add(name)
+            current = {}
+            root.setdefault(name, []).append(current)
+            continue
+        name = m.group("table")
+        if name in root:
+            return None
+        current = root[name] = {}
+    return root
+
+
+def _plain_comment(line: str) -> bool:
+    """A comment TOML accepts: no control character but tab."""
+    return _CONTROL.search(line) is None
+
+
+_CONTROL = re.compile("[\x00-\x08\x0a-\x1f\x7f]")
 
 
 def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:

@@ -172,6 +172,7 @@ def _check(
         max_members=settings.max_members,
         max_bytes=int(settings.max_file_mb * 2**20) if settings.max_file_mb else None,
         layout=settings.layout,
+        stream=settings.stream_line_work,
     )
     sha, binary = file_digest(p)
     stage("read")

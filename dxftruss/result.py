@@ -58,6 +58,11 @@ class Settings:
     #: the layout to read by name (--layout; any case, "Model" = model space); None:
     #: model space, or a paper-space layout when model space holds no member line work
     layout: str | None = None
+    #: read plain model-space LINE and LWPOLYLINE records with the streaming reader
+    #: (the same result, faster; dxftruss/read/stream.py); the result's document then
+    #: lacks them, so the PDF and DXF reports read the file again (``--pdf``/``--dxf``
+    #: leave it off)
+    stream_line_work: bool = False
 
 
 @dataclass(frozen=True)

@@ -88,6 +88,9 @@ class LineWork:
     #: the DXF library's document as read (ezdxf ``Drawing``): the reports draw and copy
     #: it instead of reading the file again. Not part of comparisons.
     document: Any = field(default=None, compare=False, repr=False)
+    #: the document lacks the plain model-space line work the streaming reader read
+    #: (``read_drawing(stream=True)``): the reports must not draw or copy it
+    partial_document: bool = field(default=False, compare=False, repr=False)
     #: the layout read: "Model" for model space, else a paper-space layout's name
     #: (coordinates are then that layout's paper units)
     layout: str = "Model"

@@ -68,8 +68,11 @@ class _Reader:
         planar_tol: float,
         max_members: int | None = None,
         states: dict[str, LayerState] | None = None,
+        model: list[Any] | None = None,
     ) -> None:
         self.doc = doc
+        #: model space as the streaming reader gives it (None: the document's)
+        self.model = model
         self.states = states if states is not None else {}
         #: hidden layers read because --layers names them (effective names as used)
         self.named_hidden: set[str] = set()
@@ -131,7 +134,7 @@ class _Reader:
     def run(self, layout: Any = None) -> None:
         """Walk model space (``layout`` None) or one paper-space layout."""
         if layout is None:
-            entities: Any = self.doc.modelspace()
+            entities: Any = self.model if self.model is not None else self.doc.modelspace()
         else:
             entities = [e for e in layout if e.dxftype() != "VIEWPORT"]
         content = self.extractor.read(entities, in_block=False)
