@@ -17,6 +17,7 @@ import ezdxf
 import numpy as np
 import pytest
 
+from dxftruss.errors import ConfigError
 from dxftruss.findings import Code
 from dxftruss.pipeline import Settings, check
 from dxftruss.plane import find_plane
@@ -227,3 +228,53 @@ def test_drawn_supports_in_a_front_view(tmp_path):
     assert [(sp.joint, sp.fix.value) for sp in res.truss.supports if not sp.assumed] == [(0, "x")]
     refused = [f for f in res.findings if f.code is Code.INCLINED_SUPPORT]
     assert len(refused) == 1 and refused[0].data["status"] == "off-plane"
+
+
+def test_3d_support_layers_in_an_xy_drawing(tmp_path, xy_result):
+    """In a flat XY drawing the 3-D support layers are read by their x and y:
+    SUPPORT-XYZ is a pin, SUPPORT-YZ a y roller; a SUPPORT-Z mark restrains only the
+    plane's normal and is refused (inclined-support). Pin + roller as in C1, so the C1
+    forces follow (docs/methods.md, C1)."""
+    dwg = write_drawing(
+        tmp_path / "p.dxf",
+        pratt_segments(N, A, H),
+        supports=[(0.0, 0.0, "XYZ"), (N * A, 0.0, "YZ"), (A, H, "Z")],
+        units=6,
+    )
+    text = '[units]\nforce = "kN"\n' + "".join(f"[[load]]\nat = [{i * A!r}, 0.0]\nfy = {-P!r}\n" for i in range(1, N))
+    (tmp_path / "l.toml").write_text(text)
+    res = check(dwg, Settings(loads=str(tmp_path / "l.toml")))
+    assert res.plane is None and res.space is None
+    assert sorted((sp.joint, sp.fix.value) for sp in res.truss.supports) == sorted(
+        (sp.joint, sp.fix.value) for sp in xy_result.truss.supports
+    )
+    refused = [f for f in res.findings if f.code is Code.INCLINED_SUPPORT]
+    assert len(refused) == 1 and refused[0].next_step
+    ref, got = _forces(xy_result), _forces(res)
+    for k, v in ref.items():
+        assert got[k] == pytest.approx(v, rel=1e-9, abs=1e-9 * P)
+
+
+def test_loads_file_axes():
+    from dxftruss.loadsfile import parse_loads
+
+    spec = parse_loads(
+        {
+            "support": [
+                {"at": [0.0, 0.0, 1.0], "fix": "xyz"},
+                {"at": [1.0, 0.0, 1.0], "fix": "ZX"},
+                {"at": [2.0, 0.0], "fix": "y"},
+            ],
+            "load": [{"at": [0.0, 0.0, 1.0], "fz": -2.0}],
+        }
+    )
+    assert [(e.axes, e.fix.value, e.z) for e in spec.supports] == [
+        ("xyz", "xy", 1.0),
+        ("xz", "x", 1.0),
+        ("y", "y", None),
+    ]
+    # fz in the file's force unit (kN by default), as fx and fy are
+    assert (spec.loads[0].fz, spec.loads[0].z) == (-2.0, 1.0)
+    bad = {"support": [{"at": [0.0, 0.0], "fix": "xx"}]}
+    with pytest.raises(ConfigError):
+        parse_loads(bad)

@@ -251,3 +251,55 @@ def test_space_zero_force_rules():
     assert five == (4,)
     # collinear pair: no rule (a straight-through joint)
     assert zero_force_by_rule_3d(xyz, np.array([[0, 1], [0, 3]]), fixed, loaded, snap=1e-9) == ()
+
+
+def test_force_method_on_a_carriable_mechanism():
+    """Two collinear bars A(0,0,0) - B(1,0,0) - C(2,0,0), A and C fixed in x, y, z: B
+    can move in y and z (k = 2, first-order, METHODS section 3.1) and the pair is one
+    self-stress (s = 1). A load P along x at B does not move the mechanism (D^T f = 0),
+    so the force method solves it: equilibrium t_AB - t_BC = P, compatibility with equal
+    EA and lengths t_AB L / EA = -t_BC L / EA (B's x movement is one), so
+    t_AB = P / 2, t_BC = -P / 2 (derived here)."""
+    P = 8.0
+    t = space_truss([(0, 0, 0), (1, 0, 0), (2, 0, 0)], [(0, 1), (1, 2)], {0: "xyz", 2: "xyz"}, {1: (P, 0, 0)})
+    (st,), res, found = solve(t)
+    assert (st.mechanisms, st.self_stress) == (2, 1)
+    assert [f for f in found if f.code is Code.LOAD_EXCITES_MECHANISM] == []
+    assert res.forces == pytest.approx([P / 2, -P / 2], rel=1e-9)
+    assert dict(res.methods)[0] == "force-method"
+    # a load across the line moves the mechanism: not solved, said
+    t2 = space_truss([(0, 0, 0), (1, 0, 0), (2, 0, 0)], [(0, 1), (1, 2)], {0: "xyz", 2: "xyz"}, {1: (0, P, 0)})
+    _, res2, found2 = solve(t2)
+    assert any(f.code is Code.LOAD_EXCITES_MECHANISM for f in found2)
+    assert not np.isfinite(res2.forces).any()
+
+
+def test_indeterminate_space_truss_is_compatible():
+    """An unsymmetric pyramid (apex off centre) on four fixed corners, equal EA: one
+    self-stress s (from an exact sympy null space of the equilibrium equations written
+    out here). The stiffness solution must satisfy joint equilibrium (residual) and
+    compatibility: sum_e s_e t_e L_e / EA = 0 (the force method's condition, METHODS
+    section 3, consequence 3)."""
+    corners = [(3, 2, 0), (-2, 3, 0), (-3, -2, 0), (2, -3, 0)]
+    apex = (0.5, 0.25, 4)
+    xyz = [*corners, apex]
+    bars = [(i, 4) for i in range(4)]
+    t = space_truss(xyz, bars, {i: "xyz" for i in range(4)}, {4: (1.0, -2.0, -10.0)})
+    (st,), res, _ = solve(t)
+    assert (st.self_stress, st.mechanisms) == (1, 0)
+    # apex equilibrium in force densities q_e = t_e / L_e: sum q_e (x_corner - x_apex) = 0
+    q = sympy.symbols("q0:4")
+    eqs = [sum(q[e] * (corners[e][a] - apex[a]) for e in range(4)) for a in range(3)]
+    M = sympy.Matrix([[sympy.diff(eq, v) for v in q] for eq in eqs])
+    (null,) = M.nullspace()
+    lengths = [math.dist(c, apex) for c in corners]
+    s = [float(null[e]) * lengths[e] for e in range(4)]  # bar forces of the self-stress
+    forces = {tuple(b): res.forces[e] for e, b in enumerate(t.ends.tolist())}
+    tt = [forces[(e, 4)] for e in range(4)]
+    compat = sum(s[e] * tt[e] * lengths[e] for e in range(4))
+    assert abs(compat) <= 1e-9 * sum(abs(s[e] * tt[e] * lengths[e]) for e in range(4))
+    # equilibrium at the apex with the program's forces (written out here)
+    total = np.array([1.0, -2.0, -10.0])
+    for e in range(4):
+        total += tt[e] * (np.array(corners[e]) - np.array(apex)) / lengths[e]
+    assert np.abs(total).max() <= 1e-9 * 10
