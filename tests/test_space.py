@@ -284,7 +284,7 @@ def test_indeterminate_space_truss_is_compatible():
     apex = (0.5, 0.25, 4)
     xyz = [*corners, apex]
     bars = [(i, 4) for i in range(4)]
-    t = space_truss(xyz, bars, {i: "xyz" for i in range(4)}, {4: (1.0, -2.0, -10.0)})
+    t = space_truss(xyz, bars, dict.fromkeys(range(4), "xyz"), {4: (1.0, -2.0, -10.0)})
     (st,), res, _ = solve(t)
     assert (st.self_stress, st.mechanisms) == (1, 0)
     # apex equilibrium in force densities q_e = t_e / L_e: sum q_e (x_corner - x_apex) = 0
