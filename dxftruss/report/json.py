@@ -14,9 +14,11 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from ..cutlist import cut_list
 from ..model import LoadOrigin, Support, Truss, entity_ref, joint_id, member_id
 from ..naming import finding_entities, finding_parts, part_index
 from . import CAUTION, assumptions
+from .cutlist import cut_list_dict
 
 _encode_string = json.encoder.encode_basestring  # json's own (C) string writer, ensure_ascii=False
 
@@ -180,6 +182,7 @@ def _report(result: Result, pieces: dict[str, str] | None) -> dict[str, Any]:
         ],
         "cases": [_case(result, c, pieces) for c in result.cases],
         "symmetry": {"axis_x": _num(result.symmetry_axis) if result.symmetry_axis is not None else None},
+        "cut_list": cut_list_dict(cut_list(result)),
         "caution": CAUTION,
     }
     return doc

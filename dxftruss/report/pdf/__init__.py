@@ -24,6 +24,7 @@ The modules, in the order the pipeline of a page uses them:
     panel     the title block and legend beside the drawing
     overlay   one drawing page (``_Overlay``, ``_draw_drawing_page``, mode shapes)
     tables    the flow pages (``_Flow``, ``Column``, findings and tables sections)
+    cutlist   the cut-list flow pages (after the tables)
 
 Forces are in the truss's force unit, tension positive; coordinates in drawing units.
 Every page carries the caution (docs/user-guide.md, What the tool does) in its footer.
@@ -52,6 +53,7 @@ import numpy as np
 
 from ..render import PageMap, Recording, checked_document, record_drawing
 from .context import _Context, _file_sha256, _report_date
+from .cutlist import _cut_list_section
 from .format import clean_reactions, fmt_force, fmt_num, register_fonts, shown
 from .labels import Label, LabelPlacer, convex_overlap, place_member_labels
 from .overlay import _draw_drawing_page
@@ -185,6 +187,8 @@ def write_pdf(
     flow.finish_page()
     _tables_section(ctx, flow, max_rows=max_table_rows)
     flow.finish_page()
+    _cut_list_section(ctx, flow, max_rows=max_table_rows)
+    flow.finish_page()
     n_flow = flow.pages
     n_drawing = max(1, len(r.cases)) + len(mech_jobs)
     ctx.total_pages = n_drawing + n_flow
@@ -235,6 +239,8 @@ def write_pdf(
     _findings_section(ctx, flow, max_findings=max_findings)
     flow.finish_page()
     _tables_section(ctx, flow, max_rows=max_table_rows)
+    flow.finish_page()
+    _cut_list_section(ctx, flow, max_rows=max_table_rows)
     flow.finish_page()
     c.showOutline()
     c.save()
