@@ -331,6 +331,8 @@ def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = F
             max_members=args.max_members,
             max_file_mb=args.max_file_size or None,
             layout=args.layout,
+            # the PDF and the annotated DXF draw and copy the whole document
+            stream_line_work=not (pdf or dxf),
         )
         result = _check_with_progress(drawing, settings, show=not args.quiet and not many)
         from .report.text import summary
@@ -755,7 +757,14 @@ def _main(argv: list[str] | None) -> int:
         # covers the reports too; check() sets the same policy for library use
         from .policy import run_policy
 
-        with run_policy():
-            return _run_guarded(args)
+        try:
+            with run_policy():
+                return _run_guarded(args)
+        finally:
+            # the process ends next: the collector need not walk the run's millions of
+            # objects once more at exit (what is left is freed by the exit itself)
+            import gc
+
+            gc.freeze()
     parser.print_help()
     return EXIT_INPUT

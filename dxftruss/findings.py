@@ -66,6 +66,7 @@ class Code(str, Enum):
     COLLINEAR_PIECES = "collinear-pieces"
     OVERHANG = "overhang"
     OVERHANG_LOAD = "overhang-load"
+    NO_SUPPORTS = "no-supports"
 
     @property
     def severity(self) -> Severity:
@@ -116,6 +117,7 @@ _SEVERITY: dict[Code, Severity] = {
     Code.COLLINEAR_PIECES: _I,  # collinear pieces meeting where nothing else does: one member
     Code.OVERHANG: _W,  # a member continuing another straight past a joint, ending free: left out
     Code.OVERHANG_LOAD: _W,  # a load on an overhang moved to its root; the moment is not carried
+    Code.NO_SUPPORTS: _E,  # a space truss's part with no supports given: none are guessed
 }
 
 

@@ -94,8 +94,11 @@ def _record_original(result: Any, *, max_entities: int = 200_000) -> Recording:
 def page_layout(result: Any, *, page: str = "A3") -> tuple[Sheet, PageMap]:
     """The layout of the load-case pages of ``result`` (for tests and tools that need to
     find a member on the page): the same computation ``write_pdf`` makes."""
+    plane = getattr(result, "plane", None)
     try:
-        recording: Recording | None = _record_original(result)
+        recording: Recording | None = (
+            None if plane is not None and plane.kind != "horizontal" else _record_original(result)
+        )
     except Exception:  # noqa: BLE001 - same fallback as write_pdf
         recording = None
     box, _ = _drawing_box(result, recording)
@@ -139,6 +142,11 @@ def write_pdf(
     key = page.upper()
     if key not in PAGE_SIZES:
         raise ValueError(f"unknown page size {page!r}; use one of A4, A3, letter, tabloid")
+    if getattr(result, "space", None) is not None:  # a space truss: four views per case (space.py)
+        from .space import write_space_pdf
+
+        write_space_pdf(result, path, page=page, max_labels=max_labels, max_rows=max_table_rows)
+        return
     paper = PAGE_SIZES[key]
     fonts = register_fonts()
     r = result
@@ -146,7 +154,10 @@ def write_pdf(
     recording: Recording | None = None
     note = ""
     has_document = getattr(r.linework, "document", None) is not None
-    if render_original and not has_document and _file_sha256(r.source.path) != r.source.sha256:
+    plane = getattr(r, "plane", None)
+    if render_original and plane is not None and plane.kind != "horizontal":
+        note = f"the drawing lies in a {plane.kind} plane, not in XY: members only, drawn in the plane"
+    elif render_original and not has_document and _file_sha256(r.source.path) != r.source.sha256:
         note = "the drawing changed or vanished after it was checked: members only"
     elif render_original:
         try:
