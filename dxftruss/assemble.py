@@ -496,11 +496,13 @@ def build_truss(
         check_combinations(spec, set(case_loads))
         by_name = {c.name: c for c in cases}
         for combo in spec.combinations:
-            loads = [
-                Load(ld.joint, factor * ld.fx, factor * ld.fy, ld.source, ld.label, ld.origin)
-                for case, factor in combo.factors
-                for ld in by_name[case].loads
-            ]
+            loads = _once_per_joint(
+                [
+                    Load(ld.joint, factor * ld.fx, factor * ld.fy, ld.source, ld.label, ld.origin)
+                    for case, factor in combo.factors
+                    for ld in by_name[case].loads
+                ]
+            )
             if not all(np.isfinite(ld.fx) and np.isfinite(ld.fy) for ld in loads):
                 raise ConfigError(
                     f"{spec.path}: [[combination]] #{combo.number} {combo.name!r}: "
@@ -700,3 +702,25 @@ def section_for(layer: str, sections: tuple) -> int | None:
 
 
 __all__ = ["DEFAULT_CASE", "UNIT_PANEL_CASE", "build_truss", "default_supports", "find_parts", "upper_outline_joints"]
+
+
+def _once_per_joint(loads: list[Load]) -> list[Load]:
+    """A combination's factored loads summed per joint (one load per joint, in joint
+    order): its own source and label when every contribution shares them, else
+    source ``combination`` and no label for a mix (the cases' pages say where each came from)."""
+    by_joint: dict[int, list[Load]] = {}
+    for ld in loads:
+        by_joint.setdefault(ld.joint, []).append(ld)
+    out = []
+    for j in sorted(by_joint):
+        group = by_joint[j]
+        fx = float(sum(ld.fx for ld in group))
+        fy = float(sum(ld.fy for ld in group))
+        first = group[0]
+        if len(group) == 1:
+            out.append(first)
+            continue
+        same = all(ld.source is first.source and ld.label == first.label for ld in group)
+        source = first.source if all(ld.source is first.source for ld in group) else Source.COMBINATION
+        out.append(Load(j, fx, fy, source, first.label if same else None, first.origin if same else None))
+    return out

@@ -100,6 +100,8 @@ class Source(str, Enum):
     DRAWING = "drawing"
     LOADS_FILE = "loads-file"
     DEFAULT = "default"
+    #: a combination's load at a joint summed from loads of different sources
+    COMBINATION = "combination"
 
 
 @dataclass(frozen=True)

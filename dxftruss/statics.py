@@ -585,6 +585,12 @@ def solve_case(
             zero_solution.append(ps.members[part_forces == 0.0])
 
     by_rule = zero_force_by_rule(truss, case, angle_tol=angle_tol)
+    # a part that was not solved has no result to count its rule zeros in: only the
+    # solved parts' members are kept
+    in_solved = np.zeros(truss.n_members, dtype=bool)
+    for p in solved:
+        in_solved[truss.parts[p].members] = True
+    by_rule = tuple(e for e in by_rule if in_solved[e])
     by_solution = tuple(sorted(int(e) for arr in zero_solution for e in arr))
     if by_solution:
         first = by_solution[0]

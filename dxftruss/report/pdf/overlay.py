@@ -22,6 +22,7 @@ from typing import Any
 import numpy as np
 
 from ...model import Fix, joint_id, member_id
+from .. import ZERO_FORCE_CAUTION
 from ..render import PageMap, draw_recording, stroke_segments
 from .context import FULL_TABLE_MEMBERS, MAX_MUST, _case_loads, _Context, _findings_for, _member_states
 from .format import _Page, _width, _wrap, clean_reactions, fmt_force, shown
@@ -45,16 +46,17 @@ OVERHANG_RGB = (0.42, 0.3, 0.62)
 OVERHANG_DASH = (4.0, 2.0)
 
 
-def _original_form(ctx: _Context, c: Any, sheet: Sheet, pm: PageMap) -> str | None:
-    """Draw the recorded original into a Form XObject once per sheet geometry."""
+def _original_form(ctx: _Context, c: Any, sheet: Sheet, pm: PageMap, hide: frozenset[str] = frozenset()) -> str | None:
+    """Draw the recorded original into a Form XObject once per sheet geometry and set of
+    hidden entities (``hide``: top-level handles left out)."""
     if ctx.recording is None:
         return None
-    key = (round(sheet.size[0], 3), round(sheet.size[1], 3), round(pm.scale, 12), pm.offset, pm.origin)
+    key = (round(sheet.size[0], 3), round(sheet.size[1], 3), round(pm.scale, 12), pm.offset, pm.origin, hide)
     name = ctx.form_pages.get(key)
     if name is None:
         name = f"original{len(ctx.form_pages) + 1}"
         c.beginForm(name, 0, 0, sheet.size[0], sheet.size[1])
-        skipped = draw_recording(c, ctx.recording, pm)
+        skipped = draw_recording(c, ctx.recording, pm, hide=hide)
         c.endForm()
         ctx.form_pages[key] = name
         if skipped:
@@ -100,6 +102,7 @@ class _Overlay:
         t = ctx.result.truss
         self.ctx, self.c, self.sheet, self.pm, self.title = ctx, c, sheet, pm, title
         self.t = t
+        self.hide: frozenset[str] = frozenset()
         self.fonts = ctx.fonts
         self.pg = _Page(c, ctx.fonts)
         self.notes: list[str] = []
@@ -134,7 +137,7 @@ class _Overlay:
         the drawing area, its frame, and the title block-out. Returns the note lines."""
         c, ctx = self.c, self.ctx
         dx, dy, dw, dh = self.sheet.drawing
-        form = _original_form(ctx, c, self.sheet, self.pm) if ctx.recording is not None else None
+        form = _original_form(ctx, c, self.sheet, self.pm, self.hide) if ctx.recording is not None else None
         c.saveState()
         p = c.beginPath()
         p.rect(dx, dy, dw, dh)
@@ -561,6 +564,7 @@ def _draw_drawing_page(
     c.bookmarkPage(bookmark)
     c.addOutlineEntry(shown(title), bookmark, level=0)
     ov = _Overlay(ctx, c, sheet, pm, title)
+    ov.hide = _other_cases_load_texts(r, case)
     note_lines = ov.frame()
     ov.missing_blocks()
 
@@ -636,6 +640,22 @@ def _draw_drawing_page(
     c.showPage()
 
 
+def _other_cases_load_texts(result: Any, case: Any | None) -> frozenset[str]:
+    """Handles of the drawing's own load texts that do not belong to ``case``: each is
+    drawn (in the grey original) only on the page of the case that reads it, never on
+    the pages of other cases or of combinations, whose loads have other values."""
+    if case is None:
+        return frozenset()
+    texts: dict[str, set[str]] = {}
+    for lc in result.truss.cases:
+        for ld in lc.loads:
+            o = ld.origin
+            if o is not None and o.kind == "text" and o.handle and not lc.is_combination:
+                texts.setdefault(lc.name, set()).add(o.handle.split("/", 1)[0])
+    own = set() if case.factors else texts.get(case.name, set())
+    return frozenset(h for hs in texts.values() for h in hs) - own
+
+
 def _case_summary(ctx: _Context, case: Any) -> list[str]:
     r = ctx.result
     fu = r.truss.force_unit
@@ -655,8 +675,10 @@ def _case_summary(ctx: _Context, case: Any) -> list[str]:
             out.append(f"largest compression {fmt_force(fs[ec])} {fu} in {member_id(ec)}")
         out.append(
             f"zero-force members: {len(case.zero_by_solution)} by the solution, "
-            f"{len(case.zero_by_rule)} by the joint rules"
+            f"{len(case.zero_by_rule)} by the joint rules (on the solved parts)"
         )
+        if case.zero_by_solution:
+            out.append(ZERO_FORCE_CAUTION)
     else:
         out.append("not solved (see the findings)")
     if case.loads_symmetric is not None and r.symmetry_axis is not None:

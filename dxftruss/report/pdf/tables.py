@@ -22,7 +22,7 @@ from ...model import joint_id, member_id
 from ...naming import finding_parts, part_index, where_drawn
 from .. import assumptions
 from .context import FULL_TABLE_MEMBERS, MAX_MUST, SUMMARY_ROWS, _case_loads, _Context, _member_states
-from .format import _clip, _Page, _wrap, clean_reactions, fmt_num, shown
+from .format import _clip, _Page, _wrap, case_noise, clean_reactions, denoise, fmt_num, shown
 from .sheet import FOOTER_H, MARGIN, _footer
 
 
@@ -451,6 +451,8 @@ def _tables_section(ctx: _Context, flow: _Flow, *, max_rows: int) -> None:
             sx += rx
             sy += ry
         loads = _case_loads(r, cs.name)
-        rrows.append([cs.name, "sum", "", fmt_num(sx, sig=6), fmt_num(sy, sig=6)])
-        rrows.append([cs.name, "loads", "", fmt_num(loads[:, 0].sum(), sig=6), fmt_num(loads[:, 1].sum(), sig=6)])
+        noise = case_noise(r, cs)
+        lx, ly = denoise(loads[:, 0].sum(), noise), denoise(loads[:, 1].sum(), noise)
+        rrows.append([cs.name, "sum", "", fmt_num(denoise(sx, noise), sig=6), fmt_num(denoise(sy, noise), sig=6)])
+        rrows.append([cs.name, "loads", "", fmt_num(lx, sig=6), fmt_num(ly, sig=6)])
     flow.table(cols, rrows)
