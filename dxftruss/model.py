@@ -236,14 +236,36 @@ class LoadCase:
 
 @dataclass(frozen=True)
 class Section:
-    """Member stiffness for the layers matching ``layer`` (a glob, case-insensitive).
+    """A member section for the members it names: those whose layer matches ``layer`` (a
+    glob, case-insensitive) or whose id is in ``members`` ("M3"); the first matching
+    ``[[section]]`` of the loads file wins.
 
-    ``area`` in m2 and ``modulus`` in Pa (SI, converted from the loads file's units).
+    SI throughout: ``area`` m2, ``modulus`` (E) Pa, ``inertia`` (the smaller second
+    moment of area, the one buckling takes) m4, ``strength`` Pa, ``density`` kg/m3;
+    None where the file gives nothing. ``shape`` describes a shape the values were
+    computed from ("square hollow 100 x 5 mm"), ``number`` the entry (1-based).
     """
 
-    layer: str
+    layer: str | None
     area: float
     modulus: float
+    members: tuple[str, ...] = ()
+    inertia: float | None = None
+    strength: float | None = None
+    density: float | None = None
+    shape: str | None = None
+    name: str = ""
+    number: int = 0
+
+    @property
+    def label(self) -> str:
+        """How reports name it: its name, else ``[[section]] #n``."""
+        return self.name or f"[[section]] #{self.number}"
+
+    @property
+    def radius(self) -> float | None:
+        """Radius of gyration sqrt(I / A), m; None without I."""
+        return math.sqrt(self.inertia / self.area) if self.inertia is not None else None
 
 
 @dataclass(frozen=True)

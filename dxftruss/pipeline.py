@@ -33,6 +33,7 @@ from .policy import run_policy
 from .read import LineWork, read_drawing
 from .repeats import copied_stability, find_repeats, repeat_findings
 from .result import Result, Settings, SourceInfo, Tolerances
+from .sections import member_sections
 from .snap import build_geometry
 from .statics import CaseResult, solve_case
 from .symmetry import find_mirror_axis
@@ -274,6 +275,8 @@ def _check(
         snap=snap,
         overhangs=read.overhangs,
     )
+    if truss.sections:  # a member list naming a member the drawing lacks is refused here
+        member_sections(truss, source=spec.path if spec else "loads file")
     findings += truss.findings
     findings += _with_inventory(audit_topology(truss, snap=snap, near_miss=near), linework, settings.layers)
     stage("model")
