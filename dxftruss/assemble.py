@@ -47,6 +47,8 @@ from .model import (
     top_handles,
 )
 from .read import LineWork
+from .sections import sections_of
+from .selfweight import self_weight
 from .snap import Geometry
 from .units import FORCE_UNITS, LENGTH_UNITS, LengthFormat, force_text, length_format
 
@@ -488,6 +490,20 @@ def build_truss(
             case_loads[case].extend(joint_loads(ll))
             findings.append(lumped_finding(ll, case, xy, fmt, force_unit))
 
+    own_weight = None
+    if spec and any(sec.density is not None for sec in spec.sections):
+        name = spec.self_weight_case
+        if name in case_loads:
+            raise ConfigError(
+                f"{spec.path}: [self_weight] the self-weight case {name!r} is also the name of a load case; "
+                'name it otherwise with [self_weight] case = "..."'
+            )
+        member_secs = sections_of(geometry.layers, spec.sections, source=spec.path)
+        own_weight, sw_loads, sw_findings = self_weight(
+            xy, ends, parts, member_secs, case=name, length_unit=length_unit, force_unit=force_unit
+        )
+        case_loads[name] = sw_loads
+        findings += sw_findings
     cases = [
         LoadCase(name, tuple(case_loads[name]), unread=unread[name], line_loads=tuple(line_loads.get(name, ())))
         for name in sorted(case_loads)
@@ -511,7 +527,7 @@ def build_truss(
             blocked = sum(by_name[case].unread for case, _ in combo.factors)
             cases.append(LoadCase(combo.name, tuple(loads), factors=combo.factors, unread=blocked))
 
-    if not linework.loads and not (spec and (spec.loads or spec.line_loads)) and parts:
+    if not linework.loads and not (spec and (spec.loads or spec.line_loads)) and own_weight is None and parts:
         loads = []
         for part in parts:
             for j in upper_outline_joints(xy, part.joints, tol=outline_tol):
@@ -542,6 +558,7 @@ def build_truss(
         force_unit=force_unit,
         sections=spec.sections if spec else (),
         findings=tuple(findings),
+        self_weight=own_weight,
     )
 
 

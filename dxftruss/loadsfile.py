@@ -125,8 +125,9 @@ class LoadsSpec:
     line_loads: tuple[LineLoadEntry, ...] = ()
     #: ``[checks] ratio``: members whose utilisation exceeds it are flagged (default 1.0)
     check_ratio: float = 1.0
-    #: ``[checks] slenderness``: compression members with L/r above it are flagged (None: not set)
-    slenderness_limit: float | None = None
+    #: ``[checks] slenderness``: compression members with L/r above it are flagged
+    #: (default 200, common practice for compression members: docs/methods.md, Engineering results)
+    slenderness_limit: float = 200.0
     #: ``[self_weight] case``: the name of the self-weight case
     self_weight_case: str = "self-weight"
     #: ``[[moving_load]]`` entries, in file order
@@ -507,21 +508,18 @@ def _section(where: str, number: int, t: dict[str, Any]) -> Section:
     )
 
 
-def _checks(name: str, data: dict[str, Any]) -> tuple[float, float | None]:
+def _checks(name: str, data: dict[str, Any]) -> tuple[float, float]:
     """``[checks]``: the utilisation ratio that flags a member and the slenderness limit."""
     checks = data.get("checks", {})
     if not isinstance(checks, dict):
         raise ConfigError(f"{name}: [checks] must be a table such as [checks] ratio = 0.9")
     _unknown(f"{name}: [checks]", checks, "checks")
     out = []
-    for key, default in (("ratio", 1.0), ("slenderness", None)):
+    for key, default in (("ratio", 1.0), ("slenderness", 200.0)):
         v = checks.get(key, default)
-        if v is not None and (
-            isinstance(v, bool) or not isinstance(v, (int, float)) or not (math.isfinite(v) and v > 0)
-        ):
+        if isinstance(v, bool) or not isinstance(v, (int, float)) or not (math.isfinite(v) and v > 0):
             raise ConfigError(f"{name}: [checks] {key} must be a positive number, got {v!r}")
-        out.append(None if v is None else float(v))
-    assert out[0] is not None
+        out.append(float(v))
     return out[0], out[1]
 
 

@@ -269,6 +269,23 @@ class Section:
 
 
 @dataclass(frozen=True)
+class SelfWeight:
+    """The self-weight case of the truss (selfweight.py).
+
+    case      its name (a load case combinations can name)
+    weights   (m,) member weights in the force unit: area x density x length x g;
+              NaN for members without a density
+    missing   members without a density (their weight is left out)
+    per_part  total weight per part (of the members with a density), force unit
+    """
+
+    case: str
+    weights: np.ndarray
+    missing: tuple[int, ...]
+    per_part: tuple[float, ...]
+
+
+@dataclass(frozen=True)
 class Part:
     """A connected set of joints and members (sorted index arrays)."""
 
@@ -305,6 +322,8 @@ class Truss:
     entities: tuple[tuple[str, ...], ...] = ()
     #: handle -> block name of the block references the entities' keys pass through
     block_names: dict[str, str] = field(default_factory=dict, compare=False, repr=False)
+    #: the self-weight case's member weights and totals (None: no section gives a density)
+    self_weight: SelfWeight | None = None
     #: (r, 2) int: joint and direction (0 = x, 1 = y, ``INCLINED``) of every restraint,
     #: sorted; derived
     restraints: np.ndarray = field(init=False, repr=False, compare=False)

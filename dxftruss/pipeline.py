@@ -24,6 +24,7 @@ from .assemble import build_truss
 from .audit.next_steps import add_next_steps
 from .audit.stability import PartStability, analyse_part
 from .audit.topology import audit_topology
+from .engineering import engineering_results
 from .errors import ConfigError, InputError, LimitError
 from .escape import shown
 from .findings import Code, Finding, sort_findings
@@ -310,8 +311,11 @@ def _check(
             if key not in seen:  # e.g. assumed-stiffness once per part, not once per case
                 seen.add(key)
                 findings.append(f)
-    findings = add_next_steps(truss, stability, findings, snap=snap, near_miss=near)
     stage("statics")
+    eng, eng_findings = engineering_results(truss, stability, cases, spec, near_miss=near, snap=snap)
+    findings += eng_findings
+    findings = add_next_steps(truss, stability, findings, snap=snap, near_miss=near)
+    stage("engineering")
 
     source = SourceInfo(
         str(path), sha, linework.dxf_version, unit, unit_source, linework.recovered, binary, linework.layout
@@ -332,4 +336,5 @@ def _check(
         part_names=names,
         same_as={copy: rep.of for copy, rep in repeats.items()},
         overhangs=read.overhangs,
+        engineering=eng,
     )

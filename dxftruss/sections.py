@@ -22,7 +22,7 @@ from fnmatch import fnmatchcase
 import numpy as np
 
 from .errors import ConfigError
-from .model import Truss, member_id
+from .model import Section, Truss, member_id
 
 
 @dataclass(frozen=True)
@@ -53,12 +53,19 @@ def member_sections(truss: Truss, *, source: str = "loads file") -> MemberSectio
     """The section of every member (see the module glossary).
 
     Raises ConfigError when a ``members`` list names a member the drawing does not have."""
-    m = truss.n_members
+    return sections_of(truss.layers, truss.sections, source=source)
+
+
+def sections_of(
+    layers: tuple[str, ...], sections: tuple[Section, ...], *, source: str = "loads file"
+) -> MemberSections:
+    """:func:`member_sections` for members given by their layers (member ``e`` is ``M{e+1}``)."""
+    m = len(layers)
     index = np.full(m, -1, dtype=np.int64)
     ids = {member_id(e): e for e in range(m)}
-    by_layer = np.asarray([s.lower() for s in truss.layers], dtype=str) if m else np.zeros(0, dtype=str)
+    by_layer = np.asarray([s.lower() for s in layers], dtype=str) if m else np.zeros(0, dtype=str)
     names, inverse = np.unique(by_layer, return_inverse=True) if m else (np.zeros(0, dtype=str), np.zeros(0, int))
-    for k, sec in enumerate(truss.sections):
+    for k, sec in enumerate(sections):
         if sec.members:
             unknown = [name for name in sec.members if name.upper() not in ids]
             if unknown:
@@ -81,7 +88,7 @@ def member_sections(truss: Truss, *, source: str = "loads file") -> MemberSectio
         out[has] = table[index[has]]
         return out
 
-    secs = truss.sections
+    secs = sections
     return MemberSections(
         index,
         values([s.area for s in secs]),

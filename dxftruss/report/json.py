@@ -280,6 +280,8 @@ def _origin(o: LoadOrigin | None) -> dict[str, Any] | None:
         return {"kind": "loads-file", "entry": o.entry}
     if o.kind == "line-load":
         return {"kind": "line-load", "line_load": o.text}
+    if o.kind == "self-weight":
+        return {"kind": "self-weight", "case": o.text}
     return {
         "kind": "text",
         "text": o.text,
