@@ -57,7 +57,7 @@ def engineering_results(
     *,
     near_miss: float,
     snap: float,
-    block: int = 256,
+    block: int = 32,
 ) -> tuple[Engineering, list[Finding]]:
     """The stage: envelope, checks, deflections and moving loads, with their findings.
 

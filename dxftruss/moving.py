@@ -239,7 +239,7 @@ def load_columns(
 
 
 def running_extremes(
-    factor: PartFactor, F: sp.csc_matrix, *, block: int = 256
+    factor: PartFactor, F: sp.csc_matrix, *, block: int = 32
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """Per local member: largest force and its column, smallest force and its column,
     over the columns of F solved ``block`` at a time (one factorisation; running
@@ -259,7 +259,7 @@ def running_extremes(
     return tmax, imax, cmin, imin
 
 
-def influence_lines(factor: PartFactor, panel_rows: np.ndarray, *, block: int = 256) -> np.ndarray:
+def influence_lines(factor: PartFactor, panel_rows: np.ndarray, *, block: int = 32) -> np.ndarray:
     """Influence lines of every local member (m, P) by unit downward loads at each
     panel point, solved ``block`` columns at a time."""
     n_rows = 2 * factor.ps.n_joints
@@ -288,7 +288,7 @@ def solve_moving(
     start: int,
     vehicle: Vehicle,
     *,
-    block: int = 256,
+    block: int = 32,
     max_values: int = MAX_INFLUENCE_VALUES,
     zero_tol: float = 1e-9,
 ) -> MovingResult:
