@@ -17,6 +17,7 @@ import numpy as np
 from ..model import LoadOrigin, Support, Truss, entity_ref, joint_id, member_id
 from ..naming import finding_entities, finding_parts, part_index
 from . import CAUTION, assumptions
+from .json_engineering import engineering_dict
 
 if TYPE_CHECKING:
     from ..model import LineLoad
@@ -161,6 +162,7 @@ def report_dict(result: Result) -> dict[str, Any]:
         ],
         "cases": [_case(result, c) for c in result.cases],
         "symmetry": {"axis_x": _num(result.symmetry_axis) if result.symmetry_axis is not None else None},
+        "engineering": engineering_dict(result),
         "caution": CAUTION,
     }
     return doc

@@ -19,6 +19,7 @@ from ..findings import Severity
 from ..model import joint_id, member_id
 from ..naming import finding_parts, part_index, where_drawn
 from . import CAUTION, ZERO_FORCE_CAUTION, assumptions
+from .text_engineering import engineering_summary
 
 if TYPE_CHECKING:
     from ..result import Result
@@ -170,6 +171,7 @@ def summary(result: Result, *, max_findings: int = 40, width: int = 110, color: 
             notes.append(ZERO_FORCE_CAUTION)
         for n in notes:
             con.print(_text(n))
+    engineering_summary(result, con, _text, _fmt)
     con.print(_text("caution: " + CAUTION, style="italic"))
     return buf.getvalue()
 
