@@ -253,3 +253,33 @@ def test_pratt_midspan_deflection_by_virtual_work():
     truss = dataclasses.replace(truss, sections=(Section("T", 1900e-6, 210e9, number=1),))
     (res,) = _solve(truss)
     assert res.displacements[3, 1] == pytest.approx(-delta, rel=1e-9)
+
+
+def test_footbridge_sample_shows_the_engineering_results(tmp_path):
+    # the demo sample (samples/footbridge_truss.toml): envelope, checks, self-weight,
+    # deflection and a moving load, in the JSON, the terminal and the PDF, with the caution
+    from pathlib import Path
+
+    from pypdf import PdfReader
+
+    from dxftruss.checks import CHECKS_CAUTION
+    from dxftruss.report.json import report_dict
+    from dxftruss.report.pdf import write_pdf
+    from dxftruss.report.text import summary
+
+    samples = Path(__file__).resolve().parent.parent / "samples"
+    r = check(samples / "footbridge_truss.dxf", Settings(loads=str(samples / "footbridge_truss.toml")))
+    eng = report_dict(r)["engineering"]
+    assert eng["member_checks"]["members"] and eng["self_weight"]["total"] > 0
+    assert eng["deflections"] and eng["moving_loads"][0]["influence_lines"]["complete"]
+    assert {s["kind"] for s in eng["sources"]} == {"case", "combination", "moving"}
+    text = " ".join(summary(r, width=200).split())
+    assert "envelope: governing members" in text and CHECKS_CAUTION in text
+    out = tmp_path / "fb.pdf"
+    write_pdf(r, out)
+    pages = [" ".join((p.extract_text() or "").split()) for p in PdfReader(out).pages]
+    shown = [p for p in pages if "Envelope" in p or "Deflected shape" in p or "Influence lines" in p]
+    assert any("Envelope: governing" in p for p in pages) and any("Deflected shape" in p for p in pages)
+    assert any("Influence lines of the governing members" in p for p in pages)
+    caution = " ".join(CHECKS_CAUTION.split()[:6])
+    assert shown and all(caution in p for p in shown)

@@ -44,6 +44,8 @@ from .symbols import (
 #: an overhang left out of the model (habits.py): dashed, in a colour no force state uses
 OVERHANG_RGB = (0.42, 0.3, 0.62)
 OVERHANG_DASH = (4.0, 2.0)
+#: the deflected shape of a case (a colour no force state uses)
+DEFLECTED_RGB = (0.05, 0.45, 0.5)
 
 
 def _original_form(ctx: _Context, c: Any, sheet: Sheet, pm: PageMap, hide: frozenset[str] = frozenset()) -> str | None:
@@ -337,6 +339,20 @@ class _Overlay:
         self.placer.block(_thin_quad(tail, head, 3.0))
         self.reaction_labels.append((far[0], far[1], ex, ey, f"Rn={fmt_force(value)}"))
 
+    def deflected(self, disp_xy: np.ndarray) -> None:
+        """The deflected shape: every member whose joints have displacements, dashed."""
+        c, t = self.c, self.t
+        ok = np.isfinite(disp_xy[t.ends[:, 0]]).all(axis=1) & np.isfinite(disp_xy[t.ends[:, 1]]).all(axis=1)
+        da = self.pm.apply(disp_xy[t.ends[ok, 0]])
+        db = self.pm.apply(disp_xy[t.ends[ok, 1]])
+        c.saveState()
+        c.setStrokeColorRGB(*DEFLECTED_RGB)
+        c.setLineWidth(1.4)
+        c.setDash(4, 2)
+        c.setLineCap(1)
+        stroke_segments(c, np.column_stack([da, db]))
+        c.restoreState()
+
     def mode(self, st: Any, md: Any, disp_xy: np.ndarray) -> None:
         """A mechanism mode: the displaced shape of the part dashed, moving joints ringed
         with an arrow to where they go."""
@@ -546,13 +562,25 @@ def _draw_drawing_page(
     max_labels: int,
     max_markers: int,
     mode: tuple[Any, Any] | None = None,
+    envelope_notes: list[str] | None = None,
+    deflected: tuple[np.ndarray, list[str]] | None = None,
 ) -> None:
     """One drawing page: a load case (``case``), the bare model (``case`` None) or a
-    mechanism mode (``mode`` = (PartStability, Mode))."""
+    mechanism mode (``mode`` = (PartStability, Mode)). ``envelope_notes``: ``case`` is
+    the envelope (governing force per member), drawn without loads and reactions and
+    with these notes instead of a case summary; ``deflected``: the displaced joint
+    positions (drawing units, already exaggerated) drawn over the case, with the notes
+    that say the exaggeration."""
     r = ctx.result
     t = r.truss
     box = ctx.box
     disp_xy: np.ndarray | None = None
+    if deflected is not None:
+        shape = deflected[0][np.isfinite(deflected[0]).all(axis=1)]
+        if shape.size:
+            lo = np.minimum(shape.min(axis=0), [box[0], box[1]])
+            hi = np.maximum(shape.max(axis=0), [box[2], box[3]])
+            box = (float(lo[0]), float(lo[1]), float(hi[0]), float(hi[1]))
     if mode is not None:
         disp_xy = _mode_shape(t, *mode)
         lo = np.minimum(disp_xy.min(axis=0), [box[0], box[1]]) if t.n_joints else np.array(box[:2])
@@ -592,7 +620,12 @@ def _draw_drawing_page(
             _Item("t", f"moving joints: {moving_ids}"),
             _Item("legend", "displaced shape of the mode", _legend_line(MODE_RGB, 1.6, (5, 2.5)), 9),
         ]
-    if case is not None:
+    if deflected is not None:
+        ov.deflected(deflected[0])
+        extra_items = [_Item("t", line) for line in deflected[1]] + [
+            _Item("legend", "deflected shape (exaggerated)", _legend_line(DEFLECTED_RGB, 1.4, (4, 2)), 9)
+        ]
+    if case is not None and envelope_notes is None:
         ov.loads(case)
         ov.reactions(case)
 
@@ -621,7 +654,10 @@ def _draw_drawing_page(
         pg.text(dx + 6, dy + dh - 23 - 8.5 * k, line, size=7, gray=0.1)
 
     # the panel: title block, scale, legend, assumptions, findings marked here
-    sheet_notes = (_case_summary(ctx, case) if case is not None else []) + ov.notes
+    if envelope_notes is not None:
+        sheet_notes = envelope_notes + ov.notes
+    else:
+        sheet_notes = (_case_summary(ctx, case) if case is not None else []) + ov.notes
     scale_text, bar_u, bar_pt = _scale_note(ctx, pm)
     unit = r.source.length_unit
     legend = _legend_items(ctx, solved=states is not None, w_of=w_of)

@@ -60,6 +60,8 @@ class _Flow:
         self.open = False
         self.section = ""
         self.pages = 0
+        #: a line under the header of every page of the current section ("" none)
+        self.page_note = ""
 
     def new_page(self) -> None:
         if self.open:
@@ -74,6 +76,11 @@ class _Flow:
         self.pg.text(self.x0, self.H - MARGIN - 6, head, size=7, gray=0.35)
         self.pg.text(self.x0 + self.w, self.H - MARGIN - 6, self.ctx.date, size=7, gray=0.35, align="r")
         self.y = self.top
+        if self.page_note:
+            for line in _wrap(self.page_note, self.ctx.fonts.regular, 7, self.w):
+                self.pg.text(self.x0, self.y - 7, line, size=7, gray=0.25)
+                self.y -= 9.4
+            self.y -= 3
 
     def finish_page(self) -> None:
         if self.open:
@@ -85,8 +92,9 @@ class _Flow:
         if not self.open or self.y - h < self.bottom:
             self.new_page()
 
-    def start_section(self, title: str, key: str) -> None:
+    def start_section(self, title: str, key: str, *, note: str = "") -> None:
         self.section = title
+        self.page_note = note
         self.new_page()
         self.c.bookmarkPage(key)
         self.c.addOutlineEntry(shown(title), key, level=0)
