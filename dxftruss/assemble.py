@@ -29,7 +29,7 @@ from .findings import Code, Finding
 from .habits import Overhang, moved_load_finding, overhang_at
 from .labels import CommaStyle, LabelReading, comma_style, read_label
 from .lineloads import drawn_line_loads, file_line_loads, joint_loads, lumped_finding
-from .loadsfile import DEFAULT_CASE, LoadEntry, LoadsSpec, SupportEntry, check_combinations
+from .loadsfile import DEFAULT_CASE, LoadEntry, LoadsSpec, SupportEntry, check_combinations, check_planar
 from .model import (
     Fix,
     LineLoad,
@@ -203,6 +203,8 @@ def build_truss(
 
     Raises LimitError as soon as the parts are known when there are more than
     ``max_parts`` (``source`` names the drawing in the message)."""
+    if spec is not None:
+        check_planar(spec)
     xy, ends = geometry.xy, geometry.ends
     findings: list[Finding] = []
     parts = find_parts(len(xy), ends)

@@ -117,3 +117,21 @@ def legal_names(names: list[str] | tuple[str, ...] | set[str], *, taken: set[str
         used.add(new.upper())
         out[n] = new
     return out
+
+
+#: first characters that make a spreadsheet read a cell as a formula
+CSV_FORMULA_START = frozenset("=+-@")
+
+
+def csv_cell(value: object) -> str:
+    """A CSV cell a spreadsheet shows as text: :func:`shown` of ``value`` (control and
+    bidi characters as visible escapes, so a tab or carriage return cannot start a
+    cell either), and a cell that then starts with ``=``, ``+``, ``-`` or ``@`` gets a
+    leading ``'`` so it is never run as a formula. The cut list writes no negative
+    numbers, so no number is changed by this.
+
+    >>> csv_cell("=HYPERLINK(1)")
+    "'=HYPERLINK(1)"
+    """
+    s = shown(value)
+    return "'" + s if s[:1] in CSV_FORMULA_START else s

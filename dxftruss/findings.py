@@ -70,6 +70,7 @@ class Code(str, Enum):
     MEMBER_OVER_RATIO = "member-over-ratio"
     SLENDER_MEMBER = "slender-member"
     MOVING_LOAD_UNSOLVED = "moving-load-unsolved"
+    NO_SUPPORTS = "no-supports"
 
     @property
     def severity(self) -> Severity:
@@ -124,6 +125,7 @@ _SEVERITY: dict[Code, Severity] = {
     Code.MEMBER_OVER_RATIO: _W,  # an indicative utilisation above the [checks] ratio
     Code.SLENDER_MEMBER: _W,  # a compression member with L/r above the [checks] slenderness limit
     Code.MOVING_LOAD_UNSOLVED: _W,  # a moving load on a part that cannot be solved: no influence lines
+    Code.NO_SUPPORTS: _E,  # a space truss's part with no supports given: none are guessed
 }
 
 

@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import math
 import os
+import re
 import stat
 import tomllib
 from dataclasses import dataclass
@@ -40,12 +41,19 @@ DEFAULT_CASE = "main"
 
 @dataclass(frozen=True)
 class SupportEntry:
-    """``fix`` "roller" in the file is ``Fix.N`` with its unit ``normal`` (None otherwise)."""
+    """``fix`` "roller" in the file is ``Fix.N`` with its unit ``normal`` (None otherwise).
+
+    ``axes`` the world axes the file names ("xyz", "z", "xz" ... ordered; "" for a
+    roller); ``fix`` is their trace in the XY plane ("xyz" -> xy, "xz" -> x; "z" has
+    none: planar models refuse it). ``z`` is the third coordinate of a 3-D ``at``
+    (None for [x, y])."""
 
     number: int
     at: tuple[float, float]
     fix: Fix
     normal: tuple[float, float] | None = None
+    axes: str = ""
+    z: float | None = None
 
 
 @dataclass(frozen=True)
@@ -57,6 +65,9 @@ class LoadEntry:
     fx: float
     fy: float
     case: str
+    #: the force along world z (space trusses) and the third coordinate of a 3-D ``at``
+    fz: float = 0.0
+    z: float | None = None
 
 
 @dataclass(frozen=True)
@@ -151,7 +162,7 @@ _KEYS = {
     "units": {"force", "length"},
     "drawn": {"loads", "supports"},
     "support": {"at", "fix", "normal"},
-    "load": {"at", "fx", "fy", "case"},
+    "load": {"at", "fx", "fy", "fz", "case"},
     "line_load": {"from", "to", "w", "case", "measured", "direction"},
     "area_load": {"from", "to", "q", "spacing", "case", "measured", "direction"},
     "combination": {"name", "factors"},
@@ -186,6 +197,23 @@ def _at(where: str, table: dict[str, Any], key: str = "at") -> tuple[float, floa
     if not (math.isfinite(x) and math.isfinite(y)):
         raise ConfigError(f"{where}: '{key}' must be finite, got {value!r}")
     return x, y
+
+
+def _at3(where: str, table: dict[str, Any]) -> tuple[tuple[float, float], float | None]:
+    """A support's or load's 'at': [x, y] (z None) or [x, y, z] (space trusses)."""
+    value = table.get("at")
+    if isinstance(value, list) and len(value) == 3:
+        if not all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in value):
+            raise ConfigError(f"{where}: 'at' must be [x, y] or [x, y, z] numbers, got {value!r}")
+        x, y, z = (float(v) for v in value)
+        if not all(math.isfinite(v) for v in (x, y, z)):
+            raise ConfigError(f"{where}: 'at' must be finite, got {value!r}")
+        return (x, y), z
+    return _at(where, table), None
+
+
+#: the world axes a support may fix, as written (any order, any case) -> XY trace
+_AXES_TRACE = {"xy": Fix.XY, "xyz": Fix.XY, "x": Fix.X, "xz": Fix.X, "y": Fix.Y, "yz": Fix.Y, "z": Fix.XY}
 
 
 def _case(where: str, table: dict[str, Any]) -> str:
@@ -294,7 +322,9 @@ def read_loads_file(path: str | os.PathLike[str], *, max_bytes: int = MAX_LOADS_
     name = str(path)
     raw = _read_regular_file(name, max_bytes)
     try:
-        data = tomllib.loads(raw.decode("utf-8"))
+        text = raw.decode("utf-8")
+        plain = plain_toml(text)
+        data = plain if plain is not None else tomllib.loads(text)
     except UnicodeDecodeError:
         raise ConfigError(f"{name}: the loads file is not UTF-8 text") from None
     except tomllib.TOMLDecodeError as exc:
@@ -305,6 +335,98 @@ def read_loads_file(path: str | os.PathLike[str], *, max_bytes: int = MAX_LOADS_
         return parse_loads(data, name)
     except RecursionError:
         raise ConfigError(f"{name}: the loads file nests values too deeply to be a loads file") from None
+
+
+#: one line of the plain TOML subset: a table or array-of-tables header, or key = value
+_PLAIN_LINE = re.compile(
+    r"(?:\[\[(?P<aot>[A-Za-z0-9_-]+)\]\]|\[(?P<table>[A-Za-z0-9_-]+)\]"
+    r"|(?P<key>[A-Za-z0-9_-]+)[ \t]*=[ \t]*(?P<value>.*?))[ \t]*\Z"
+)
+_INT = r"[+-]?(?:0|[1-9][0-9]*)"
+_FLOAT = r"[+-]?(?:0|[1-9][0-9]*)(?:\.[0-9]+(?:[eE][+-]?[0-9]+)?|[eE][+-]?[0-9]+)"
+_PLAIN_INT = re.compile(_INT + r"\Z")
+_PLAIN_FLOAT = re.compile(_FLOAT + r"\Z")
+_PLAIN_STRING = re.compile(r'"([^"\\\x00-\x1f\x7f]*)"\Z')
+_PLAIN_ARRAY = re.compile(rf"\[[ \t]*((?:{_FLOAT}|{_INT})(?:[ \t]*,[ \t]*(?:{_FLOAT}|{_INT}))*)[ \t]*\]\Z")
+_SPLIT_COMMA = re.compile(r"[ \t]*,[ \t]*")
+
+
+def _plain_number(text: str) -> int | float | None:
+    if _PLAIN_INT.match(text):
+        return int(text)
+    if _PLAIN_FLOAT.match(text):
+        return float(text)
+    return None
+
+
+def _plain_value(text: str) -> Any:
+    """A value of the plain subset, or None (also for any other TOML value)."""
+    c = text[:1]
+    if c == '"':
+        m = _PLAIN_STRING.match(text)
+        return m.group(1) if m else None
+    if c == "[":
+        m = _PLAIN_ARRAY.match(text)
+        if not m:
+            return None
+        return [_plain_number(v) for v in _SPLIT_COMMA.split(m.group(1).strip())]
+    if text == "true":
+        return True
+    if text == "false":
+        return False
+    return _plain_number(text)
+
+
+def plain_toml(text: str) -> dict[str, Any] | None:
+    """The TOML document ``text`` when it is written in the plain subset the loads files
+    are usually written in (what ``bench/make_trusses.py`` writes), else None: then
+    ``tomllib`` reads it. The subset: whole-line ``#`` comments, ``[name]`` and
+    ``[[name]]`` headers with bare names, ``key = value`` with a bare key and a value
+    that is a string without escapes, a decimal integer or float, true / false, or a
+    one-line array of numbers. A key or table given twice, a carriage return or
+    anything else in the text gives None, so tomllib decides (and reports errors)."""
+    if "\r" in text:
+        return None
+    root: dict[str, Any] = {}
+    arrays: set[str] = set()
+    current = root
+    for raw in text.split("\n"):
+        line = raw.lstrip(" \t")
+        if not line or line[0] == "#":
+            if line and not _plain_comment(line):
+                return None
+            continue
+        m = _PLAIN_LINE.match(line)
+        if m is None:
+            return None
+        key = m.group("key")
+        if key is not None:
+            value = _plain_value(m.group("value"))
+            if value is None or key in current or (isinstance(value, list) and None in value):
+                return None
+            current[key] = value
+            continue
+        name = m.group("aot")
+        if name is not None:
+            if name in root and name not in arrays:
+                return None
+            arrays.add(name)
+            current = {}
+            root.setdefault(name, []).append(current)
+            continue
+        name = m.group("table")
+        if name in root:
+            return None
+        current = root[name] = {}
+    return root
+
+
+def _plain_comment(line: str) -> bool:
+    """A comment TOML accepts: no control character but tab."""
+    return _CONTROL.search(line) is None
+
+
+_CONTROL = re.compile("[\x00-\x08\x0a-\x1f\x7f]")
 
 
 def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:
@@ -334,14 +456,18 @@ def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:
     for i, t in enumerate(_tables(name, data, "support"), 1):
         where = f"{name}: [[support]] #{i}"
         _unknown(where, t, "support")
-        at = _at(where, t)
+        at, z = _at3(where, t)
         fix = t.get("fix", "xy")
-        if not isinstance(fix, str) or fix.lower() not in ("xy", "x", "y", "roller"):
-            raise ConfigError(f'{where}: \'fix\' must be "xy", "x", "y" or "roller", got {fix!r}')
+        axes = "".join(sorted(set(fix.lower()))) if isinstance(fix, str) else ""
+        if not isinstance(fix, str) or (fix.lower() != "roller" and (axes not in _AXES_TRACE or len(axes) != len(fix))):
+            raise ConfigError(
+                f'{where}: \'fix\' must name the fixed axes ("xy", "x", "y"; for a space truss also "xyz", "z", '
+                f'"xz", "yz") or be "roller", got {fix!r}'
+            )
         if fix.lower() != "roller":
             if "normal" in t:
                 raise ConfigError(f"{where}: 'normal' is only for fix = \"roller\", not fix = {fix!r}")
-            supports.append(SupportEntry(i, at, Fix(fix.lower())))
+            supports.append(SupportEntry(i, at, _AXES_TRACE[axes], axes=axes, z=z))
             continue
         if "normal" not in t:
             raise ConfigError(f"{where}: fix = \"roller\" needs 'normal' = [nx, ny], the direction it restrains")
@@ -350,19 +476,20 @@ def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:
         size = math.hypot(nx, ny)
         if not (math.isfinite(size) and size > 0):
             raise ConfigError(f"{where}: 'normal' must be a non-zero [nx, ny], got {raw!r}")
-        supports.append(SupportEntry(i, at, Fix.N, (nx / size, ny / size)))
+        supports.append(SupportEntry(i, at, Fix.N, (nx / size, ny / size), z=z))
 
     loads = []
     for i, t in enumerate(_tables(name, data, "load"), 1):
         where = f"{name}: [[load]] #{i}"
         _unknown(where, t, "load")
-        at = _at(where, t)
+        at, z = _at3(where, t)
         case = t.get("case", DEFAULT_CASE)
         if not isinstance(case, str) or not case.strip():
             raise ConfigError(f"{where}: 'case' must be a non-empty string, got {case!r}")
         fx = parse_force(t.get("fx", 0.0), force_unit, f"{where} fx")
         fy = parse_force(t.get("fy", 0.0), force_unit, f"{where} fy")
-        loads.append(LoadEntry(i, at, fx, fy, case.strip()))
+        fz = parse_force(t.get("fz", 0.0), force_unit, f"{where} fz")
+        loads.append(LoadEntry(i, at, fx, fy, case.strip(), fz=fz, z=z))
 
     line_loads = []
     for kind in ("line_load", "area_load"):
@@ -545,6 +672,25 @@ def _moving(where: str, number: int, t: dict[str, Any], force_unit: str) -> Movi
     if not all(v > 0 for v in loads):
         raise ConfigError(f"{where}: axle loads act downward: give each as a positive force, got {raw!r}")
     return MovingLoadEntry(number, name.strip(), start, end, loads, spacings)
+
+
+def check_planar(spec: LoadsSpec) -> None:
+    """Refuse what only a space truss can use: a 3-D ``at``, ``fz`` or a support fixing z
+    alone (a planar truss's plane holds no z; "xyz", "xz", "yz" are read by their x, y)."""
+    for e in spec.supports:
+        if e.z is not None or e.axes == "z":
+            what = "a 3-D 'at'" if e.z is not None else 'fix = "z"'
+            raise ConfigError(
+                f"{spec.path}: [[support]] #{e.number}: {what} is for space trusses; this drawing is planar "
+                "(give [x, y] in its plane and fix x, y or xy)"
+            )
+    for ld in spec.loads:
+        if ld.z is not None or ld.fz:
+            what = "a 3-D 'at'" if ld.z is not None else "'fz'"
+            raise ConfigError(
+                f"{spec.path}: [[load]] #{ld.number}: {what} is for space trusses; this drawing is planar "
+                "(give [x, y] and fx, fy in its plane)"
+            )
 
 
 def check_combinations(spec: LoadsSpec, case_names: set[str]) -> None:

@@ -105,8 +105,15 @@ def _candidates(seg: np.ndarray, reach: float) -> dict[int, set[int]] | None:
             return None
         found_i.append(ci + start)
         found_j.append(cj)
-    qi, qj = np.concatenate(found_i), np.concatenate(found_j)
-    for i, j in zip(ok[qi].tolist(), ok[qj].tolist(), strict=True):
+    qi, qj = ok[np.concatenate(found_i)], ok[np.concatenate(found_j)]
+    # the tests below for all pairs at once, loosened by a margin, so the loop (which
+    # decides) looks only at pairs that may pass: parallel, not collinear, i < j
+    cross = np.abs(u[qi, 0] * u[qj, 1] - u[qi, 1] * u[qj, 0])
+    rel = seg[qj].reshape(-1, 2, 2) - a[qi][:, None, :]
+    off = u[qi, 0, None] * rel[:, :, 1] - u[qi, 1, None] * rel[:, :, 0]
+    may = (qi < qj) & (cross <= PARALLEL_SIN * (1 + 1e-9)) & (np.abs(off.mean(axis=1)) > 1e-6 * ln[qi] * (1 - 1e-9))
+    qi, qj = qi[may], qj[may]
+    for i, j in zip(qi.tolist(), qj.tolist(), strict=True):
         if i >= j or abs(u[i, 0] * u[j, 1] - u[i, 1] * u[j, 0]) > PARALLEL_SIN:
             continue
         rel = seg[j].reshape(2, 2) - a[i]

@@ -24,7 +24,9 @@ from .findings import Finding, Severity
 from .habits import Overhang
 from .loadsfile import LoadsSpec
 from .model import Truss
+from .plane import DrawingPlane
 from .read import LineWork
+from .space import SpaceAnalysis
 from .statics import CaseResult
 
 
@@ -57,6 +59,11 @@ class Settings:
     #: the layout to read by name (--layout; any case, "Model" = model space); None:
     #: model space, or a paper-space layout when model space holds no member line work
     layout: str | None = None
+    #: read plain model-space LINE and LWPOLYLINE records with the streaming reader
+    #: (the same result, faster; dxftruss/read/stream.py); the result's document then
+    #: lacks them, so the PDF and DXF reports read the file again (``--pdf``/``--dxf``
+    #: leave it off)
+    stream_line_work: bool = False
 
 
 @dataclass(frozen=True)
@@ -115,6 +122,12 @@ class Result:
     overhangs: tuple[Overhang, ...] = ()
     #: envelope, member checks, deflections and moving loads (engineering.py)
     engineering: Engineering | None = None
+    #: the plane the line work lies in when it is not flat in XY (plane.py); the model's
+    #: coordinates are then in-plane; None for a flat XY drawing
+    plane: DrawingPlane | None = None
+    #: the space truss when the line work lies in no one plane (space.py); ``truss``,
+    #: ``stability`` and ``cases`` are then empty
+    space: SpaceAnalysis | None = None
 
     def part_name(self, index: int) -> str:
         """The part's name (``P<n>`` when the result has no names)."""

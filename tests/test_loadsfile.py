@@ -53,13 +53,13 @@ def test_good_file(tmp_path):
 @pytest.mark.parametrize(
     "text, fragment",
     [
-        ("[[load]]\nat=[0,0]\nfz=1\n", "[[load]] #1: unknown key 'fz'"),
+        ("[[load]]\nat=[0,0]\nfw=1\n", "[[load]] #1: unknown key 'fw'"),
         ("[[load]]\nfy=1\n", "[[load]] #1: 'at' is missing"),
         ("[[load]]\nat=[0]\n", "[[load]] #1: 'at' must be a pair"),
         ("[[load]]\nat=[0,nan]\n", "[[load]] #1: 'at' must be finite"),
         ("[[load]]\nat=[0,0]\nfy='12,5 kN'\n", "[[load]] #1 fy"),
         ("[[load]]\nat=[0,0]\nfy=inf\n", "not a finite number"),
-        ("[[support]]\nat=[0,0]\nfix='z'\n", "[[support]] #1: 'fix'"),
+        ("[[support]]\nat=[0,0]\nfix='w'\n", "[[support]] #1: 'fix'"),
         ("[units]\nforce='tonnes'\n", "known units"),
         ("[units]\nlength='furlong'\n", "[units] length"),
         ("[[section]]\nlayer='A'\narea=4800\nE='210 GPa'\n", "[[section]] #1: 'area' needs a unit"),

@@ -32,6 +32,8 @@ ROOT = Path(__file__).resolve().parents[1]
 SCRIPT = ROOT / "samples" / "make_samples.py"
 NAMES = ("farm_shed_truss", "footbridge_truss", "drafting_slips", "hoist_bracket")
 WITH_LOADS = ("farm_shed_truss", "footbridge_truss", "hoist_bracket")
+#: revised drawings for the revision compare, each with its loads file (tests/test_compare.py)
+REVISIONS = ("farm_shed_truss_rev_b",)
 
 #: rounding used to snap end points (decimals of the drawing unit); the samples are drawn
 #: exactly, so any value between the drawing's float noise and its smallest gap works
@@ -193,7 +195,7 @@ def test_reruns_are_byte_identical(generated: Path) -> None:
     second = generated.parent / generated.name.replace("samples_a", "samples_b")
     files = sorted(p.name for p in generated.iterdir())
     assert files == sorted(p.name for p in second.iterdir())
-    assert files == sorted([f"{n}.dxf" for n in NAMES] + [f"{n}.toml" for n in WITH_LOADS])
+    assert files == sorted([f"{n}.dxf" for n in NAMES + REVISIONS] + [f"{n}.toml" for n in WITH_LOADS + REVISIONS])
     for name in files:
         assert (generated / name).read_bytes() == (second / name).read_bytes(), name
 

@@ -152,6 +152,21 @@ class _Plain:
                 "rewrite the label as one number with its force unit, e.g. '12.5 kN' (or a load per length "
                 "such as '0.75 kN/m' on a row of arrows), or give the load in the loads file"
             )
+        if c is Code.NO_SUPPORTS:
+            return (
+                "draw a POINT on SUPPORT-XYZ at each joint the space truss bears on (SUPPORT-Z for a vertical "
+                'roller), or give [[support]] at = [x, y, z] with fix = "xyz" in the loads file'
+            )
+        if c is Code.UNSUPPORTED_GEOMETRY and d.get("reason") == "off-plane":
+            return (
+                "move the support and load marks onto the plane the members are drawn in, or give them in the "
+                "loads file in in-plane coordinates"
+            )
+        if c is Code.INCLINED_SUPPORT and d.get("status") == "off-plane":
+            return (
+                "the drawing lies in a plane other than XY: draw the support on a layer whose directions lie in "
+                "that plane, or give it in the loads file in in-plane coordinates (as the report lists the joints)"
+            )
         if c is Code.INCLINED_SUPPORT:
             return (
                 f"insert the roller block ({entity}) without skew and in the drawing plane, or give the support "

@@ -115,10 +115,11 @@ def checked_document(result: Result) -> Any:
     """The document the check read (``result.linework.document``): the reports draw and
     copy it, so a run opens and hashes the drawing once. A result made without one (a
     tool that built it by hand) reads the file again, and only if it is still the file
-    that was checked (same SHA-256). Raises OSError, ValueError or the DXF library's
+    that was checked (same SHA-256); so does one whose document lacks the line work
+    the streaming reader read (``partial_document``). Raises OSError, ValueError or the DXF library's
     errors when that reading fails, InputError when the file changed."""
     doc = getattr(result.linework, "document", None)
-    if doc is not None:
+    if doc is not None and not getattr(result.linework, "partial_document", False):
         return doc
     from ..errors import InputError
     from ..pipeline import file_sha256

@@ -24,6 +24,7 @@ The modules, in the order the pipeline of a page uses them:
     panel     the title block and legend beside the drawing
     overlay   one drawing page (``_Overlay``, ``_draw_drawing_page``, mode shapes)
     tables    the flow pages (``_Flow``, ``Column``, findings and tables sections)
+    cutlist   the cut-list flow pages (after the tables)
 
 Forces are in the truss's force unit, tension positive; coordinates in drawing units.
 Every page carries the caution (docs/user-guide.md, What the tool does) in its footer.
@@ -52,6 +53,7 @@ import numpy as np
 
 from ..render import PageMap, Recording, checked_document, record_drawing
 from .context import _Context, _file_sha256, _report_date
+from .cutlist import _cut_list_section
 from .engineering import draw_pages as draw_engineering_pages
 from .engineering import drawing_pages as engineering_drawing_pages
 from .engineering import engineering_section
@@ -95,8 +97,11 @@ def _record_original(result: Any, *, max_entities: int = 200_000) -> Recording:
 def page_layout(result: Any, *, page: str = "A3") -> tuple[Sheet, PageMap]:
     """The layout of the load-case pages of ``result`` (for tests and tools that need to
     find a member on the page): the same computation ``write_pdf`` makes."""
+    plane = getattr(result, "plane", None)
     try:
-        recording: Recording | None = _record_original(result)
+        recording: Recording | None = (
+            None if plane is not None and plane.kind != "horizontal" else _record_original(result)
+        )
     except Exception:  # noqa: BLE001 - same fallback as write_pdf
         recording = None
     box, _ = _drawing_box(result, recording)
@@ -142,6 +147,11 @@ def write_pdf(
     key = page.upper()
     if key not in PAGE_SIZES:
         raise ValueError(f"unknown page size {page!r}; use one of A4, A3, letter, tabloid")
+    if getattr(result, "space", None) is not None:  # a space truss: four views per case (space.py)
+        from .space import write_space_pdf
+
+        write_space_pdf(result, path, page=page, max_labels=max_labels, max_rows=max_table_rows)
+        return
     paper = PAGE_SIZES[key]
     fonts = register_fonts()
     r = result
@@ -149,7 +159,10 @@ def write_pdf(
     recording: Recording | None = None
     note = ""
     has_document = getattr(r.linework, "document", None) is not None
-    if render_original and not has_document and _file_sha256(r.source.path) != r.source.sha256:
+    plane = getattr(r, "plane", None)
+    if render_original and plane is not None and plane.kind != "horizontal":
+        note = f"the drawing lies in a {plane.kind} plane, not in XY: members only, drawn in the plane"
+    elif render_original and not has_document and _file_sha256(r.source.path) != r.source.sha256:
         note = "the drawing changed or vanished after it was checked: members only"
     elif render_original:
         try:
@@ -191,6 +204,7 @@ def write_pdf(
     _tables_section(ctx, flow, max_rows=max_table_rows)
     flow.finish_page()
     engineering_section(ctx, flow, max_rows=max_table_rows)
+    _cut_list_section(ctx, flow, max_rows=max_table_rows)
     flow.finish_page()
     n_flow = flow.pages
     n_drawing = max(1, len(r.cases)) + len(mech_jobs) + engineering_drawing_pages(ctx)
@@ -245,6 +259,7 @@ def write_pdf(
     _tables_section(ctx, flow, max_rows=max_table_rows)
     flow.finish_page()
     engineering_section(ctx, flow, max_rows=max_table_rows)
+    _cut_list_section(ctx, flow, max_rows=max_table_rows)
     flow.finish_page()
     c.showOutline()
     c.save()
