@@ -139,6 +139,8 @@ def section_of(truss: Truss, layer: str) -> str | None:
     """The layer glob of the first ``[[section]]`` matching ``layer`` (case-insensitive), or None."""
     low = layer.lower()
     for sec in truss.sections:
+        if sec.layer is None:  # a section given by a member list names members, not a layer
+            continue
         if fnmatchcase(low, sec.layer.lower()):
             return sec.layer
     return None
