@@ -26,10 +26,13 @@ Lengths in drawing units, angles in degrees. Pure functions over a Result; the r
 
 from __future__ import annotations
 
+import itertools
 import math
 from collections import defaultdict
-from dataclasses import dataclass
+from collections.abc import Callable
+from dataclasses import dataclass, field
 from fnmatch import fnmatchcase
+from functools import cached_property, partial
 from typing import TYPE_CHECKING
 
 import numpy as np
@@ -99,13 +102,20 @@ class Total:
 
 @dataclass(frozen=True)
 class PartCutList:
+    """One part's cut list. ``members`` (one row per member, in member order) is built
+    from ``rows`` when first asked for: a report of a large drawing lists the groups."""
+
     part: int
     name: str
     same_as: int | None
     quantity: int  # this part and the parts that repeat it
-    members: tuple[CutMember, ...]
     groups: tuple[CutGroup, ...]
     totals: tuple[Total, ...]
+    rows: Callable[[], tuple[CutMember, ...]] = field(repr=False, compare=False)
+
+    @cached_property
+    def members(self) -> tuple[CutMember, ...]:
+        return self.rows()
 
 
 @dataclass(frozen=True)
@@ -170,126 +180,289 @@ def _same_ends(a: tuple[tuple[float, ...], ...], b: tuple[tuple[float, ...], ...
 
 
 def cut_list(result: Result, *, angle_tol: float = ANGLE_TOL_DEG, length_tol: float | None = None) -> CutList:
-    """The cut list of ``result`` (see the module glossary)."""
+    """The cut list of ``result`` (see the module glossary).
+
+    Vectorised: the end cuts of every member at once, members keyed by part, layer, length
+    (to 1e-6 of the tolerance) and end angles; only one member per key is compared with
+    the groups found so far (members drawn alike join their key's group), and the
+    per-member rows (``PartCutList.members``) are built when first asked for.
+    """
     t = result.truss
     unit = result.source.length_unit
     ltol = length_tolerance(unit, result.tolerances.snap) if length_tol is None else float(length_tol)
-    lengths = t.lengths() if t.n_members else np.zeros(0)
-    d = (t.xy[t.ends[:, 1]] - t.xy[t.ends[:, 0]]) if t.n_members else np.zeros((0, 2))
-    section_for: dict[str, str | None] = {}
-    cuts = _end_cuts(t.ends, d)
-
+    m = t.n_members
+    lengths = t.lengths() if m else np.zeros(0)
+    d = (t.xy[t.ends[:, 1]] - t.xy[t.ends[:, 0]]) if m else np.zeros((0, 2))
+    cuts = _EndCuts(t.ends, d)
     copies: dict[int, int] = defaultdict(int)
     for orig in result.same_as.values():
         copies[orig] += 1
+
+    # layers as ranks in sorted order (a layer decides its section, so layer order is
+    # (layer, section) order); members of no part are in no list
+    names = sorted(set(t.layers))
+    rank = {name: k for k, name in enumerate(names)}
+    sections = [section_of(t, name) for name in names]
+    layer = np.fromiter((rank[x] for x in t.layers), dtype=np.int64, count=m)
+    n_parts = len(t.parts)
+    part_of = np.full(m, -1, dtype=np.int64)
+    for k, p in enumerate(t.parts):
+        part_of[p.members] = k
+    inp = np.flatnonzero(part_of >= 0)
+    # the order members are compared in: per part by layer, longest first, then member
+    order = inp[np.lexsort((inp, -lengths[inp], layer[inp], part_of[inp]))]
+    quantum = ltol * 1e-6 if ltol > 0 else 1e-12
+    rounded = np.rint(lengths / quantum)
+    ea, eb = cuts.sig[:m], cuts.sig[m:]
+    group_local, rep_of_group, group_part = _groups(
+        order, part_of, layer, rounded, ea, eb, lengths, cuts, ltol, float(angle_tol)
+    )
+
+    # groups: members sorted, per part in the order found; marks A, B, ... per part
+    gid = np.full(m, -1, dtype=np.int64)
+    gid[order] = group_local
+    by_group = inp[np.lexsort((inp, gid[inp]))]
+    g_count = np.bincount(gid[inp], minlength=len(rep_of_group)) if len(inp) else np.zeros(0, dtype=np.int64)
+    g_members = by_group.tolist()
+    g_bounds = np.concatenate([[0], np.cumsum(g_count)]).tolist()
+    lengths_l = lengths.tolist()
+    part_groups: list[list[CutGroup]] = [[] for _ in range(n_parts)]
+    marks: list[str] = []
+    for k, e0 in enumerate(rep_of_group):
+        pg = part_groups[group_part[k]]
+        mark = mark_name(len(pg))
+        marks.append(mark)
+        lay = int(layer[e0])
+        pg.append(
+            CutGroup(
+                mark,
+                names[lay],
+                sections[lay],
+                lengths_l[e0],
+                (cuts.angles(int(ea[e0])), cuts.angles(int(eb[e0]))),
+                tuple(g_members[g_bounds[k] : g_bounds[k + 1]]),
+            )
+        )
+
+    # totals, summed member by member in member order as a cutter adds them up
+    part_totals = _segment_totals(inp, part_of[inp], layer[inp], part_of[inp], lengths, names, sections)
+    grand = _segment_totals(inp, None, layer[inp], part_of[inp], lengths, names, sections)
+    rows = _Rows(t, lengths_l, gid, marks, names, sections, layer, cuts)
     parts = []
-    grand: dict[tuple[str, str | None], list[float]] = defaultdict(lambda: [0, 0.0])
-    ends_l, lengths_l = t.ends.tolist(), lengths.tolist()
-    for p in t.parts:
-        infos = []
-        sigs = {}
-        for e in sorted(p.members.tolist()):
-            layer = t.layers[e]
-            if layer not in section_for:
-                section_for[layer] = section_of(t, layer)
-            a, b = ends_l[e]
-            ca, cb = cuts.get((e, a), ()), cuts.get((e, b), ())
-            sigs[e] = (tuple(x for _, x in ca), tuple(x for _, x in cb))
-            infos.append((e, layer, section_for[layer], lengths_l[e], (EndCut(a, ca), EndCut(b, cb))))
-        order = sorted(infos, key=lambda r: (r[1], r[2] or "", -r[3], r[0]))
-        groups: list[list] = []  # type: ignore[type-arg]
-        # members drawn alike to 1e-6 of the tolerance share a key: the first of them
-        # finds its group, the others join it without comparing again
-        seen: dict[tuple, int] = {}  # type: ignore[type-arg]
-        quantum = ltol * 1e-6 if ltol > 0 else 1e-12
-        for e, layer, sec, length, _ in order:
-            sig = sigs[e]
-            key = (layer, sec, round(length / quantum), sig)
-            k = seen.get(key)
-            if k is None:
-                for k, g in enumerate(groups):  # noqa: B007 - k is the group found
-                    if (
-                        g[0] == layer
-                        and g[1] == sec
-                        and abs(g[2] - length) <= ltol
-                        and _same_ends(g[3], sig, angle_tol)
-                    ):
-                        break
-                else:
-                    groups.append([layer, sec, length, sig, []])
-                    k = len(groups) - 1
-                seen[key] = k
-            groups[k][4].append(e)
-        mark_of = {}
-        out_groups = []
-        for k, g in enumerate(groups):
-            mark = mark_name(k)
-            for e in g[4]:
-                mark_of[e] = mark
-            out_groups.append(CutGroup(mark, g[0], g[1], g[2], g[3], tuple(sorted(g[4]))))
-        cut_members = tuple(CutMember(e, mark_of[e], layer, sec, length, ends) for e, layer, sec, length, ends in infos)
-        totals: dict[tuple[str, str | None], list[float]] = defaultdict(lambda: [0, 0.0])
-        for _, layer, sec, length, _ in infos:
-            totals[(layer, sec)][0] += 1
-            totals[(layer, sec)][1] += length
-            grand[(layer, sec)][0] += 1
-            grand[(layer, sec)][1] += length
-        same = result.same_as.get(p.index)
+    for k, p in enumerate(t.parts):
         parts.append(
             PartCutList(
                 part=p.index,
                 name=result.part_name(p.index),
-                same_as=same,
+                same_as=result.same_as.get(p.index),
                 quantity=1 + copies.get(p.index, 0),
-                members=cut_members,
-                groups=tuple(out_groups),
-                totals=_totals(totals),
+                groups=tuple(part_groups[k]),
+                totals=tuple(part_totals.get(k, ())),
+                rows=partial(rows.of, p.members),
             )
         )
     overhangs = tuple(
         OverhangPiece(str(o.layer), float(o.length), (float(o.root_xy[0]), float(o.root_xy[1])))
         for o in result.overhangs
     )
-    return CutList(unit, ltol, float(angle_tol), tuple(parts), _totals(grand), overhangs)
+    return CutList(unit, ltol, float(angle_tol), tuple(parts), grand.get(None, ()), overhangs)
 
 
-def _end_cuts(ends: np.ndarray, d: np.ndarray) -> dict[tuple[int, int], tuple[tuple[int, float], ...]]:
-    """Per (member, joint) end: (other member, angle) for every other member at that
-    joint, sorted by angle, then member. Vectorised: every pair of member ends at one
-    joint (sum of degree squared pairs), angles as in :func:`cut_angle`."""
-    m = len(ends)
-    if m == 0:
+def _groups(
+    order: np.ndarray,
+    part_of: np.ndarray,
+    layer: np.ndarray,
+    rounded: np.ndarray,
+    ea: np.ndarray,
+    eb: np.ndarray,
+    lengths: np.ndarray,
+    cuts: _EndCuts,
+    ltol: float,
+    angle_tol: float,
+) -> tuple[np.ndarray, list[int], list[int]]:
+    """Per member in ``order``, its group's global index; per group its first member
+    and its part position. A member joins the first group (in the order groups were
+    found in its part) of its layer with the length within ``ltol`` and the same end
+    angles within ``angle_tol`` (either way round), else starts one; members with the
+    same key (part, layer, length to 1e-6 of the tolerance, end angles) join the group
+    found for the first of them."""
+    n = len(order)
+    if n == 0:
+        return np.zeros(0, dtype=np.int64), [], []
+    cols = (eb[order], ea[order], rounded[order], layer[order], part_of[order])
+    korder = np.lexsort(cols)
+    new = np.ones(n, dtype=bool)
+    new[1:] = np.any(np.stack([c[korder][1:] != c[korder][:-1] for c in cols]), axis=0)
+    key = np.empty(n, dtype=np.int64)
+    key[korder] = np.cumsum(new) - 1
+    _, first = np.unique(key, return_index=True)  # first place of each key in ``order``
+    firsts = np.sort(first)
+    reps = order[firsts].tolist()
+    rep_key = key[firsts].tolist()
+    part_l, layer_l = part_of.tolist(), layer.tolist()
+    ea_l, eb_l, len_l = ea.tolist(), eb.tolist(), lengths.tolist()
+    same: dict[tuple[int, int], bool] = {}
+
+    def end_eq(x: int, y: int) -> bool:
+        hit = same.get((x, y))
+        if hit is None:
+            ax, ay = cuts.angles(x), cuts.angles(y)
+            hit = len(ax) == len(ay) and all(abs(p - q) <= angle_tol for p, q in zip(ax, ay, strict=True))
+            same[(x, y)] = hit
+        return hit
+
+    group_of_key = np.empty(len(reps), dtype=np.int64)
+    rep_of_group: list[int] = []
+    group_part: list[int] = []
+    found: dict[int, list[int]] = {}  # layer -> groups of the current part, in order
+    part = -1
+    for kk, e in zip(rep_key, reps, strict=True):
+        if part_l[e] != part:
+            part = part_l[e]
+            found = {}
+        length, a, b = len_l[e], ea_l[e], eb_l[e]
+        cand = found.setdefault(layer_l[e], [])
+        for g in cand:
+            f = rep_of_group[g]
+            fa, fb = ea_l[f], eb_l[f]
+            if abs(len_l[f] - length) <= ltol and (
+                (end_eq(fa, a) and end_eq(fb, b)) or (end_eq(fa, b) and end_eq(fb, a))
+            ):
+                break
+        else:
+            g = len(rep_of_group)
+            rep_of_group.append(e)
+            group_part.append(part)
+            cand.append(g)
+        group_of_key[kk] = g
+    return group_of_key[key], rep_of_group, group_part
+
+
+def _segment_totals(
+    members: np.ndarray,
+    owner: np.ndarray | None,
+    layer: np.ndarray,
+    part_pos: np.ndarray,
+    lengths: np.ndarray,
+    names: list[str],
+    sections: list[str | None],
+) -> dict[int | None, tuple[Total, ...]]:
+    """Totals per layer of ``members`` (per ``owner`` too when given: the part
+    position): count and length summed one member after another, parts in order and
+    members in member order within a part (a running sum, as a hand tally adds them).
+    Keyed by the owner, or None."""
+    if len(members) == 0:
         return {}
-    inc_m = np.concatenate([np.arange(m), np.arange(m)])
-    inc_j = np.concatenate([ends[:, 0], ends[:, 1]]).astype(np.int64)
-    order = np.argsort(inc_j, kind="stable")
-    sm, sj = inc_m[order], inc_j[order]
-    _, start, count = np.unique(sj, return_index=True, return_counts=True)
-    group = np.repeat(np.arange(len(start)), count)
-    rep = count[group]
-    total = int(rep.sum())
-    p_idx = np.repeat(np.arange(len(sm)), rep)
-    offset = np.arange(total) - np.repeat(np.cumsum(rep) - rep, rep)
-    q_idx = start[group][p_idx] + offset
-    keep = p_idx != q_idx
-    p_idx, q_idx = p_idx[keep], q_idx[keep]
-    u, v = d[sm[p_idx]], d[sm[q_idx]]
-    cross = np.abs(u[:, 0] * v[:, 1] - u[:, 1] * v[:, 0])
-    dot = np.abs(u[:, 0] * v[:, 0] + u[:, 1] * v[:, 1])
-    ang = np.round(np.degrees(np.arctan2(cross, dot)), 6)
-    other = sm[q_idx]
-    srt = np.lexsort((other, ang, p_idx))
-    p_idx, other, ang = p_idx[srt], other[srt], ang[srt]
-    out: dict[tuple[int, int], tuple[tuple[int, float], ...]] = {}
-    bounds = np.flatnonzero(np.diff(p_idx)) + 1
-    firsts = np.concatenate([[0], bounds]) if len(p_idx) else np.zeros(0, dtype=np.int64)
-    lasts = np.concatenate([bounds, [len(p_idx)]]) if len(p_idx) else np.zeros(0, dtype=np.int64)
-    other_l, ang_l, p_l = other.tolist(), ang.tolist(), p_idx.tolist()
-    sm_l, sj_l = sm.tolist(), sj.tolist()
-    for f, g in zip(firsts.tolist(), lasts.tolist(), strict=True):
-        p = p_l[f]
-        out[(sm_l[p], sj_l[p])] = tuple(zip(other_l[f:g], ang_l[f:g], strict=True))
-    return out
+    own = owner if owner is not None else np.zeros(len(members), dtype=np.int64)
+    srt = np.lexsort((members, part_pos, layer, own))
+    o, lay_s = own[srt], layer[srt]
+    new = np.ones(len(srt), dtype=bool)
+    new[1:] = (o[1:] != o[:-1]) | (lay_s[1:] != lay_s[:-1])
+    starts = [*np.flatnonzero(new).tolist(), len(srt)]
+    run = lengths[members[srt]]
+    out: dict[int | None, list[Total]] = defaultdict(list)
+    lay, own_l = lay_s.tolist(), o.tolist()
+    for s0, s1 in itertools.pairwise(starts):
+        total = float(np.cumsum(run[s0:s1])[-1])  # sequential: 0.0 + l0 + l1 + ...
+        out[own_l[s0] if owner is not None else None].append(Total(names[lay[s0]], sections[lay[s0]], s1 - s0, total))
+    return {k: tuple(v) for k, v in out.items()}
+
+
+class _EndCuts:
+    """Every member end's cuts as arrays. End slot ``s`` is member ``s`` (s < m) at its
+    first joint or member ``s - m`` at its second; its (other member, angle) pairs are
+    ``other[start[s]:start[s + 1]]``, ``angle[...]``, sorted by angle, then member, the
+    angles as in :func:`cut_angle` rounded to 1e-6 degrees. ``sig[s]`` numbers the
+    end's tuple of angles (ends with equal tuples share a number)."""
+
+    def __init__(self, ends: np.ndarray, d: np.ndarray) -> None:
+        m = len(ends)
+        slot = np.arange(2 * m)
+        joint = np.concatenate([ends[:, 0], ends[:, 1]]).astype(np.int64) if m else np.zeros(0, dtype=np.int64)
+        order = np.argsort(joint, kind="stable")
+        sj = joint[order]
+        _, start, count = np.unique(sj, return_index=True, return_counts=True)
+        group = np.repeat(np.arange(len(start)), count)
+        rep = count[group]
+        total = int(rep.sum())
+        p_idx = np.repeat(np.arange(len(sj)), rep)
+        offset = np.arange(total) - np.repeat(np.cumsum(rep) - rep, rep)
+        q_idx = start[group][p_idx] + offset
+        keep = p_idx != q_idx
+        p_slot, q_slot = order[p_idx[keep]], order[q_idx[keep]]
+        p_mem, q_mem = p_slot % max(m, 1), q_slot % max(m, 1)
+        u, v = d[p_mem], d[q_mem]
+        cross = np.abs(u[:, 0] * v[:, 1] - u[:, 1] * v[:, 0])
+        dot = np.abs(u[:, 0] * v[:, 0] + u[:, 1] * v[:, 1])
+        ang = np.round(np.degrees(np.arctan2(cross, dot)), 6)
+        srt = np.lexsort((q_mem, ang, p_slot))
+        self.other = q_mem[srt]
+        self.angle = ang[srt]
+        counts = np.bincount(p_slot[srt], minlength=2 * m)
+        self.start = np.concatenate([[0], np.cumsum(counts)]).astype(np.int64)
+        # number each end's angle tuple: ends with the same count of others compared
+        # as rows of a matrix
+        self.sig = np.empty(2 * m, dtype=np.int64)
+        self._tuples: list[tuple[float, ...]] = []
+        for c in np.unique(counts).tolist():
+            at = slot[counts == c]
+            if c == 0:
+                self.sig[at] = len(self._tuples)
+                self._tuples.append(())
+                continue
+            rows = self.angle[self.start[at][:, None] + np.arange(c)]
+            uniq, inverse = np.unique(rows, axis=0, return_inverse=True)
+            self.sig[at] = len(self._tuples) + inverse.reshape(-1)
+            self._tuples.extend(tuple(r) for r in uniq.tolist())
+
+    def angles(self, sig: int) -> tuple[float, ...]:
+        """The tuple of angles numbered ``sig``."""
+        return self._tuples[sig]
+
+
+class _Rows:
+    """Builds the per-member rows of a part on demand (see PartCutList.members)."""
+
+    def __init__(
+        self,
+        t: Truss,
+        lengths: list[float],
+        gid: np.ndarray,
+        marks: list[str],
+        names: list[str],
+        sections: list[str | None],
+        layer: np.ndarray,
+        cuts: _EndCuts,
+    ) -> None:
+        self.t, self.lengths, self.gid, self.marks = t, lengths, gid, marks
+        self.names, self.sections, self.layer, self.cuts = names, sections, layer, cuts
+        self._lists: tuple[list[int], list[float], list[int]] | None = None
+
+    def of(self, members: np.ndarray) -> tuple[CutMember, ...]:
+        if self._lists is None:
+            c = self.cuts
+            self._lists = (c.other.tolist(), c.angle.tolist(), c.start.tolist())
+        other, angle, start = self._lists
+        m = self.t.n_members
+        ends = self.t.ends
+        out = []
+        for e in sorted(members.tolist()):
+            a, b = ends[e].tolist()
+            sa, sb = e, e + m
+            lay = int(self.layer[e])
+            ca = tuple(zip(other[start[sa] : start[sa + 1]], angle[start[sa] : start[sa + 1]], strict=True))
+            cb = tuple(zip(other[start[sb] : start[sb + 1]], angle[start[sb] : start[sb + 1]], strict=True))
+            out.append(
+                CutMember(
+                    e,
+                    self.marks[int(self.gid[e])],
+                    self.names[lay],
+                    self.sections[lay],
+                    self.lengths[e],
+                    (EndCut(a, ca), EndCut(b, cb)),
+                )
+            )
+        return tuple(out)
 
 
 def _totals(table: dict[tuple[str, str | None], list[float]]) -> tuple[Total, ...]:
