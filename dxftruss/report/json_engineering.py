@@ -28,6 +28,20 @@ def _num(x: Any) -> float | None:
     return num(x)
 
 
+def _nums(values: Any) -> list[float | None]:
+    """:func:`_num` of every element, each distinct value formatted once (json._nums)."""
+    from .json import _nums as nums
+
+    return nums(values)
+
+
+def _dirs(values: np.ndarray) -> list[int | None]:
+    """A direction (+1 / -1) per element as an int, None where not finite."""
+    ok = np.isfinite(values)
+    ints = np.where(ok, values, 0).astype(np.int64).tolist()
+    return [k if f else None for k, f in zip(ints, ok.tolist(), strict=True)]
+
+
 def engineering_dict(result: Result) -> dict[str, Any] | None:
     """The ``engineering`` object, or None when the check has no engineering results."""
     eng = result.engineering
@@ -40,18 +54,36 @@ def engineering_dict(result: Result) -> dict[str, Any] | None:
     def src(k: int) -> str | None:
         return names[k] if k >= 0 else None
 
-    members = {}
-    for e in range(t.n_members):
-        if not (np.isfinite(env.tension[e]) or np.isfinite(env.compression[e])):
-            continue
-        members[member_id(e)] = {
-            "tension": _num(env.tension[e]),
-            "tension_from": src(int(env.tension_source[e])) if env.tension[e] > 0 else None,
-            "tension_at": _num(env.tension_station[e]),
-            "compression": _num(env.compression[e]),
-            "compression_from": src(int(env.compression_source[e])) if env.compression[e] < 0 else None,
-            "compression_at": _num(env.compression_station[e]),
+    # column by column, each distinct number formatted once
+    idx = np.flatnonzero(np.isfinite(env.tension) | np.isfinite(env.compression))
+    tens, comp = env.tension[idx], env.compression[idx]
+    t_from = [
+        src(k) if pos else None for k, pos in zip(env.tension_source[idx].tolist(), (tens > 0).tolist(), strict=True)
+    ]
+    c_from = [
+        src(k) if neg else None
+        for k, neg in zip(env.compression_source[idx].tolist(), (comp < 0).tolist(), strict=True)
+    ]
+    members = {
+        member_id(e): {
+            "tension": tv,
+            "tension_from": tf,
+            "tension_at": ta,
+            "compression": cv,
+            "compression_from": cf,
+            "compression_at": ca,
         }
+        for e, tv, tf, ta, cv, cf, ca in zip(
+            idx.tolist(),
+            _nums(tens),
+            t_from,
+            _nums(env.tension_station[idx]),
+            _nums(comp),
+            c_from,
+            _nums(env.compression_station[idx]),
+            strict=True,
+        )
+    }
     reactions = []
     for j, vals, srcs in env.reactions:
         row: dict[str, Any] = {"joint": joint_id(j)}
@@ -114,21 +146,30 @@ def _checks(result: Result) -> dict[str, Any] | None:
     if ch is None or ms is None:
         return None
     t = result.truss
-    members = {}
-    for e in np.flatnonzero(ms.given).tolist():
-        members[member_id(e)] = {
-            "section": t.sections[int(ms.index[e])].label,
-            "length_m": _num(ch.length[e]),
-            "stress_tension": _num(ch.stress_t[e]),
-            "stress_compression": _num(ch.stress_c[e]),
-            "euler": _num(ch.euler[e]),
-            "slenderness": _num(ch.slenderness[e]),
-            "buckling_ratio": _num(ch.buckling[e]),
-            "strength_ratio": _num(ch.strength[e]),
-            "ratio": _num(ch.ratio[e]),
+    idx = np.flatnonzero(ms.given)
+    labels = [s.label for s in t.sections]
+    ratio = ch.ratio[idx]
+    over = (np.isfinite(ratio) & (ratio > ch.limit)).tolist()
+    cols = [_nums(a[idx]) for a in (ch.length, ch.stress_t, ch.stress_c, ch.euler, ch.slenderness, ch.buckling)]
+    cols += [_nums(ch.strength[idx]), _nums(ratio)]
+    members = {
+        member_id(e): {
+            "section": labels[k],
+            "length_m": c0,
+            "stress_tension": c1,
+            "stress_compression": c2,
+            "euler": c3,
+            "slenderness": c4,
+            "buckling_ratio": c5,
+            "strength_ratio": c6,
+            "ratio": c7,
             "governs": ch.kind[e] or None,
-            "over_ratio": bool(np.isfinite(ch.ratio[e]) and ch.ratio[e] > ch.limit),
+            "over_ratio": o,
         }
+        for e, k, c0, c1, c2, c3, c4, c5, c6, c7, o in zip(
+            idx.tolist(), ms.index[idx].astype(np.int64).tolist(), *cols, over, strict=True
+        )
+    }
     return {
         "ratio_limit": _num(ch.limit),
         "slenderness_limit": _num(ch.slenderness_limit) if ch.slenderness_limit is not None else None,
@@ -152,17 +193,33 @@ def _self_weight(result: Result) -> dict[str, Any] | None:
 
 def _moving(result: Result, mv: Any) -> dict[str, Any]:
     ext = mv.extremes
-    extremes = {}
-    for e in result.truss.parts[mv.part].members.tolist():
-        extremes[member_id(e)] = {
-            "tension": _num(ext.tmax[e]),
-            "tension_at": _num(ext.tmax_at[e]),
-            "tension_direction": int(ext.tmax_dir[e]) if np.isfinite(ext.tmax_dir[e]) else None,
-            "compression": _num(ext.cmin[e]),
-            "compression_at": _num(ext.cmin_at[e]),
-            "compression_direction": int(ext.cmin_dir[e]) if np.isfinite(ext.cmin_dir[e]) else None,
+    idx = result.truss.parts[mv.part].members
+    extremes = {
+        member_id(e): {
+            "tension": tv,
+            "tension_at": ta,
+            "tension_direction": td,
+            "compression": cv,
+            "compression_at": ca,
+            "compression_direction": cd,
         }
-    lines = {member_id(int(e)): [_num(v) for v in row.tolist()] for e, row in zip(mv.members, mv.lines, strict=True)}
+        for e, tv, ta, td, cv, ca, cd in zip(
+            idx.tolist(),
+            _nums(ext.tmax[idx]),
+            _nums(ext.tmax_at[idx]),
+            _dirs(ext.tmax_dir[idx]),
+            _nums(ext.cmin[idx]),
+            _nums(ext.cmin_at[idx]),
+            _dirs(ext.cmin_dir[idx]),
+            strict=True,
+        )
+    }
+    arr = np.asarray(mv.lines, dtype=float)
+    width = arr.shape[1] if arr.ndim == 2 else 0
+    flat = _nums(arr) if arr.size else []
+    lines = {
+        member_id(int(e)): flat[k * width : (k + 1) * width] for k, e in enumerate(np.asarray(mv.members).tolist())
+    }
     return {
         "name": mv.name,
         "part": mv.part + 1,
