@@ -368,52 +368,63 @@ def _segment_totals(
     return {k: tuple(v) for k, v in out.items()}
 
 
+#: joints are taken this many (member end, member end) pairs at a time
+_PAIRS_PER_STEP = 1 << 18
+
+
 class _EndCuts:
     """Every member end's cuts as arrays. End slot ``s`` is member ``s`` (s < m) at its
     first joint or member ``s - m`` at its second; its (other member, angle) pairs are
-    ``other[start[s]:start[s + 1]]``, ``angle[...]``, sorted by angle, then member, the
-    angles as in :func:`cut_angle` rounded to 1e-6 degrees. ``sig[s]`` numbers the
-    end's tuple of angles (ends with equal tuples share a number)."""
+    ``other[start[s]:start[s] + count[s]]``, ``angle[...]``, sorted by angle, then
+    member, the angles as in :func:`cut_angle` rounded to 1e-6 degrees. ``sig[s]``
+    numbers the end's tuple of angles (ends with equal tuples share a number).
+
+    Joints of one degree k at a time, as (joints, k, k) matrices of member pairs in
+    steps of at most ``_PAIRS_PER_STEP`` pairs, so memory stays a few times the result."""
 
     def __init__(self, ends: np.ndarray, d: np.ndarray) -> None:
         m = len(ends)
-        slot = np.arange(2 * m)
         joint = np.concatenate([ends[:, 0], ends[:, 1]]).astype(np.int64) if m else np.zeros(0, dtype=np.int64)
         order = np.argsort(joint, kind="stable")
-        sj = joint[order]
-        _, start, count = np.unique(sj, return_index=True, return_counts=True)
-        group = np.repeat(np.arange(len(start)), count)
-        rep = count[group]
-        total = int(rep.sum())
-        p_idx = np.repeat(np.arange(len(sj)), rep)
-        offset = np.arange(total) - np.repeat(np.cumsum(rep) - rep, rep)
-        q_idx = start[group][p_idx] + offset
-        keep = p_idx != q_idx
-        p_slot, q_slot = order[p_idx[keep]], order[q_idx[keep]]
-        p_mem, q_mem = p_slot % max(m, 1), q_slot % max(m, 1)
-        u, v = d[p_mem], d[q_mem]
-        cross = np.abs(u[:, 0] * v[:, 1] - u[:, 1] * v[:, 0])
-        dot = np.abs(u[:, 0] * v[:, 0] + u[:, 1] * v[:, 1])
-        ang = np.round(np.degrees(np.arctan2(cross, dot)), 6)
-        srt = np.lexsort((q_mem, ang, p_slot))
-        self.other = q_mem[srt]
-        self.angle = ang[srt]
-        counts = np.bincount(p_slot[srt], minlength=2 * m)
-        self.start = np.concatenate([[0], np.cumsum(counts)]).astype(np.int64)
-        # number each end's angle tuple: ends with the same count of others compared
-        # as rows of a matrix
-        self.sig = np.empty(2 * m, dtype=np.int64)
-        self._tuples: list[tuple[float, ...]] = []
-        for c in np.unique(counts).tolist():
-            at = slot[counts == c]
-            if c == 0:
-                self.sig[at] = len(self._tuples)
-                self._tuples.append(())
-                continue
-            rows = self.angle[self.start[at][:, None] + np.arange(c)]
-            uniq, inverse = np.unique(rows, axis=0, return_inverse=True)
+        _, jstart, jcount = np.unique(joint[order], return_index=True, return_counts=True)
+        self.start = np.zeros(2 * m, dtype=np.int64)
+        self.count = np.zeros(2 * m, dtype=np.int64)
+        self.sig = np.zeros(2 * m, dtype=np.int64)
+        self._tuples: list[tuple[float, ...]] = [()]  # number 0: no other member at the end
+        others: list[np.ndarray] = []
+        angles: list[np.ndarray] = []
+        base = 0
+        for k in np.unique(jcount).tolist():
+            if k < 2:
+                continue  # a joint of one member end: sig 0, no pairs
+            off = ~np.eye(k, dtype=bool)
+            js = np.flatnonzero(jcount == k)
+            step = max(1, _PAIRS_PER_STEP // (k * k))
+            rows_a, rows_o, slots = [], [], []
+            for i in range(0, len(js), step):
+                sl = order[jstart[js[i : i + step]][:, None] + np.arange(k)]  # (joints, k) end slots
+                mem = sl % m
+                dx, dy = d[mem, 0], d[mem, 1]
+                # u = this end's member, v = the other's: as cut_angle, |u x v| and |u . v|
+                cross = np.abs(dx[:, :, None] * dy[:, None, :] - dy[:, :, None] * dx[:, None, :])
+                dot = np.abs(dx[:, :, None] * dx[:, None, :] + dy[:, :, None] * dy[:, None, :])
+                ang = np.round(np.degrees(np.arctan2(cross, dot)), 6)[:, off].reshape(-1, k - 1)
+                oth = np.broadcast_to(mem[:, None, :], (len(sl), k, k))[:, off].reshape(-1, k - 1)
+                srt = np.lexsort((oth, ang), axis=-1)
+                rows_a.append(np.take_along_axis(ang, srt, axis=-1))
+                rows_o.append(np.take_along_axis(oth, srt, axis=-1))
+                slots.append(sl.reshape(-1))
+            ra, at = np.concatenate(rows_a), np.concatenate(slots)
+            self.start[at] = base + (k - 1) * np.arange(len(at))
+            self.count[at] = k - 1
+            base += ra.size
+            angles.append(ra.reshape(-1))
+            others.append(np.concatenate(rows_o).reshape(-1))
+            uniq, inverse = np.unique(ra, axis=0, return_inverse=True)
             self.sig[at] = len(self._tuples) + inverse.reshape(-1)
             self._tuples.extend(tuple(r) for r in uniq.tolist())
+        self.other = np.concatenate(others) if others else np.zeros(0, dtype=np.int64)
+        self.angle = np.concatenate(angles) if angles else np.zeros(0)
 
     def angles(self, sig: int) -> tuple[float, ...]:
         """The tuple of angles numbered ``sig``."""
@@ -436,13 +447,13 @@ class _Rows:
     ) -> None:
         self.t, self.lengths, self.gid, self.marks = t, lengths, gid, marks
         self.names, self.sections, self.layer, self.cuts = names, sections, layer, cuts
-        self._lists: tuple[list[int], list[float], list[int]] | None = None
+        self._lists: tuple[list[int], list[float], list[int], list[int]] | None = None
 
     def of(self, members: np.ndarray) -> tuple[CutMember, ...]:
         if self._lists is None:
             c = self.cuts
-            self._lists = (c.other.tolist(), c.angle.tolist(), c.start.tolist())
-        other, angle, start = self._lists
+            self._lists = (c.other.tolist(), c.angle.tolist(), c.start.tolist(), c.count.tolist())
+        other, angle, start, count = self._lists
         m = self.t.n_members
         ends = self.t.ends
         out = []
@@ -450,8 +461,9 @@ class _Rows:
             a, b = ends[e].tolist()
             sa, sb = e, e + m
             lay = int(self.layer[e])
-            ca = tuple(zip(other[start[sa] : start[sa + 1]], angle[start[sa] : start[sa + 1]], strict=True))
-            cb = tuple(zip(other[start[sb] : start[sb + 1]], angle[start[sb] : start[sb + 1]], strict=True))
+            fa, fb = start[sa], start[sb]
+            ca = tuple(zip(other[fa : fa + count[sa]], angle[fa : fa + count[sa]], strict=True))
+            cb = tuple(zip(other[fb : fb + count[sb]], angle[fb : fb + count[sb]], strict=True))
             out.append(
                 CutMember(
                     e,
