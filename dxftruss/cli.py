@@ -346,6 +346,7 @@ def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = F
         staged = OutputSet()
         js = None
         if json_out:
+            from .outputs import write_text_chunked
             from .report.json import to_json
 
             js = to_json(result)
@@ -353,7 +354,7 @@ def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = F
                 # names from the drawing may hold undecodable bytes: escape, never fail
                 staged.stage(
                     json_out,
-                    lambda tmp: Path(tmp).write_text(js, encoding="utf-8", errors="backslashreplace"),
+                    lambda tmp: write_text_chunked(tmp, js),
                     "JSON",
                 )
         if pdf:

@@ -71,3 +71,31 @@ def test_placeholder_text_in_a_name_falls_back(tmp_path: Path, monkeypatch: pyte
     monkeypatch.setattr(report_json, "_joined", lambda text, pieces: calls.append(1) or real(text + text, pieces))
     assert to_json(r) == reference(r)  # the doubled placeholders are refused, the whole report written
     assert calls
+
+
+def test_envelope_written_as_text_with_case_names_to_escape(tmp_path: Path) -> None:
+    # the envelope's members name the case each extreme comes from: names with quotes,
+    # non-ASCII and a line separator go through json's own string writer
+    doc = ezdxf.new("R2018")
+    doc.units = 6
+    msp = doc.modelspace()
+    for x1, y1, x2, y2 in pratt_segments():
+        msp.add_line((x1, y1), (x2, y2), dxfattribs={"layer": "TRUSS"})
+    path = tmp_path / "t.dxf"
+    doc.saveas(path)
+    loads = tmp_path / "t.toml"
+    loads.write_text(
+        '[units]\nforce = "kN"\nlength = "m"\n'
+        '[[support]]\nat = [0.0, 0.0]\nfix = "xy"\n[[support]]\nat = [24.0, 0.0]\nfix = "y"\n'
+        '[[load]]\nat = [8.0, 0.0]\nfy = -10.0\ncase = "Schnee\\u2028\\"ü\\""\n'
+        '[[load]]\nat = [8.0, 3.0]\nfx = 4.0\ncase = "wind\\\\east"\n',
+        encoding="utf-8",
+    )
+    r = check(path, Settings(loads=str(loads)))
+    eng = report_dict(r)["engineering"]
+    assert eng is not None and eng["envelope"]["members"]
+    froms = {v["tension_from"] for v in eng["envelope"]["members"].values()}
+    assert {'Schnee\u2028"ü"', "wind\\east"} <= froms | {
+        v["compression_from"] for v in eng["envelope"]["members"].values()
+    }
+    assert to_json(r) == reference(r)

@@ -411,3 +411,15 @@ def test_folder_with_one_drawing_writes_into_the_output_folder(tmp_path):
     code, _stdout, err = run(["check", tmp_path / "jobs", "--json", out])
     assert code == 0, err
     assert out.is_dir() and json.loads((out / "roof.check.json").read_text())["schema"].startswith("dxftruss")
+
+
+def test_chunked_text_write_gives_the_bytes_of_write_text(tmp_path):
+    # reference: pathlib's own Path.write_text with the same encoding and error handler
+    from dxftruss.outputs import write_text_chunked
+
+    text = ('{"name":"Läufer ✓","x":1.5}\n' * 50) + "lone \udcff surrogate\n"
+    want, got = tmp_path / "want.json", tmp_path / "got.json"
+    want.write_text(text, encoding="utf-8", errors="backslashreplace")
+    for chunk in (1, 7, 64, 1 << 20):
+        write_text_chunked(got, text, chunk)
+        assert got.read_bytes() == want.read_bytes()

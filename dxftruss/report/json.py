@@ -311,7 +311,7 @@ def _report(result: Result, pieces: dict[str, str] | None) -> dict[str, Any]:
         ],
         "cases": [_case(result, c, pieces) for c in result.cases],
         "symmetry": {"axis_x": _num(result.symmetry_axis) if result.symmetry_axis is not None else None},
-        "engineering": engineering_dict(result),
+        "engineering": engineering_dict(result, pieces),
         "cut_list": cut_list_dict(cut_list(result), list_members=t.n_members <= JSON_CUT_MEMBERS),
         "caution": CAUTION,
     }
@@ -507,6 +507,7 @@ def to_json(result: Result) -> str:
     no NaN), the long lists written piece by piece (the same text, faster)."""
     pieces: dict[str, str] = {}
     text = _joined(_dumps(_report(result, pieces)), pieces)
+    pieces.clear()  # the pieces are in the text now
     if text is None:  # a name in the drawing holds a placeholder's text: no pieces
         text = _dumps(report_dict(result))
     text += "\n"

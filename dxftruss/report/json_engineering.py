@@ -42,8 +42,10 @@ def _dirs(values: np.ndarray) -> list[int | None]:
     return [k if f else None for k, f in zip(ints, ok.tolist(), strict=True)]
 
 
-def engineering_dict(result: Result) -> dict[str, Any] | None:
-    """The ``engineering`` object, or None when the check has no engineering results."""
+def engineering_dict(result: Result, pieces: dict[str, str] | None = None) -> dict[str, Any] | None:
+    """The ``engineering`` object, or None when the check has no engineering results.
+    With ``pieces`` (json._report), the envelope's members are written as JSON text
+    into ``pieces`` (the same text json writes, without the per-member dicts)."""
     eng = result.engineering
     t = result.truss
     if eng is None or not (result.cases or eng.moving):
@@ -64,26 +66,21 @@ def engineering_dict(result: Result) -> dict[str, Any] | None:
         src(k) if neg else None
         for k, neg in zip(env.compression_source[idx].tolist(), (comp < 0).tolist(), strict=True)
     ]
-    members = {
-        member_id(e): {
-            "tension": tv,
-            "tension_from": tf,
-            "tension_at": ta,
-            "compression": cv,
-            "compression_from": cf,
-            "compression_at": ca,
-        }
-        for e, tv, tf, ta, cv, cf, ca in zip(
-            idx.tolist(),
-            _nums(tens),
-            t_from,
-            _nums(env.tension_station[idx]),
-            _nums(comp),
-            c_from,
-            _nums(env.compression_station[idx]),
-            strict=True,
-        )
-    }
+    columns = (
+        [member_id(e) for e in idx.tolist()],
+        _nums(tens),
+        t_from,
+        _nums(env.tension_station[idx]),
+        _nums(comp),
+        c_from,
+        _nums(env.compression_station[idx]),
+    )
+    if pieces is not None:
+        from .json import _piece
+
+        members: Any = _piece(pieces, "envelope members", lambda: _envelope_text(columns))
+    else:
+        members = {mid: dict(zip(ENVELOPE_KEYS, row, strict=True)) for mid, *row in zip(*columns, strict=True)}
     reactions = []
     for j, vals, srcs in env.reactions:
         row: dict[str, Any] = {"joint": joint_id(j)}
@@ -121,6 +118,31 @@ def engineering_dict(result: Result) -> dict[str, Any] | None:
         "moving_loads": [_moving(result, mv) for mv in eng.moving],
     }
     return out
+
+
+#: the keys of one member of the envelope, in the order written
+ENVELOPE_KEYS = ("tension", "tension_from", "tension_at", "compression", "compression_from", "compression_at")
+
+
+def _envelope_text(columns: tuple[list[Any], ...]) -> str:
+    """The envelope's members object as json writes it (compact, see json._dumps)."""
+    from .json import _encode_string as enc
+    from .json import _text_of
+
+    names: dict[str | None, str] = {None: "null"}
+    for col in (columns[2], columns[5]):
+        for name in set(col) - names.keys():
+            names[name] = enc(name)
+    keys = [enc(k) for k in ENVELOPE_KEYS]
+    return (
+        "{"
+        + ",".join(
+            f"{enc(mid)}:{{{keys[0]}:{_text_of(tv)},{keys[1]}:{names[tf]},{keys[2]}:{_text_of(ta)},"
+            f"{keys[3]}:{_text_of(cv)},{keys[4]}:{names[cf]},{keys[5]}:{_text_of(ca)}}}"
+            for mid, tv, tf, ta, cv, cf, ca in zip(*columns, strict=True)
+        )
+        + "}"
+    )
 
 
 def _section(s: Any) -> dict[str, Any]:
