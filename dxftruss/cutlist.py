@@ -420,9 +420,15 @@ class _EndCuts:
             base += ra.size
             angles.append(ra.reshape(-1))
             others.append(np.concatenate(rows_o).reshape(-1))
-            uniq, inverse = np.unique(ra, axis=0, return_inverse=True)
-            self.sig[at] = len(self._tuples) + inverse.reshape(-1)
-            self._tuples.extend(tuple(r) for r in uniq.tolist())
+            # equal rows share a number: sort the rows, count where one differs from the last
+            srt = np.lexsort(ra.T[::-1])
+            rs = ra[srt]
+            new = np.ones(len(rs), dtype=bool)
+            new[1:] = np.any(rs[1:] != rs[:-1], axis=1)
+            number = np.empty(len(rs), dtype=np.int64)
+            number[srt] = np.cumsum(new) - 1
+            self.sig[at] = len(self._tuples) + number
+            self._tuples.extend(tuple(r) for r in rs[new].tolist())
         self.other = np.concatenate(others) if others else np.zeros(0, dtype=np.int64)
         self.angle = np.concatenate(angles) if angles else np.zeros(0)
 

@@ -12,7 +12,7 @@ import numpy as np
 
 from dxftruss import Settings, check
 from dxftruss.model import member_id
-from dxftruss.report.json import _num, _nums
+from dxftruss.report.json import _num, _nums, _texts
 from dxftruss.report.json_engineering import engineering_dict
 
 SAMPLES = Path(__file__).resolve().parent.parent / "samples"
@@ -99,3 +99,6 @@ def test_each_distinct_number_formatted_once_gives_every_number_as_alone():
     pool = np.concatenate([rng.normal(size=50) * 1e3, [np.nan, np.inf, -np.inf, -0.0, 0.0, 1e-300, 1 / 3]])
     values = rng.choice(pool, size=5000)
     assert _text(_nums(values)) == _text([_num(v) for v in values.tolist()])
+    # and as JSON text: what json writes of each number alone
+    assert _texts(values) == [_text(_num(v)) for v in values.tolist()]
+    assert _texts(values[:10]) == [_text(_num(v)) for v in values[:10].tolist()]

@@ -64,6 +64,17 @@ def _nums(values: Any) -> list[float | None]:
     return [done[i] for i in inverse.tolist()]
 
 
+def _texts(values: Any) -> list[str]:
+    """Each element of an array as json writes :func:`_num` of it ("null" for NaN and
+    the infinities), each distinct value formatted once (for the pieces of to_json)."""
+    a = np.asarray(values, dtype=float).ravel()
+    if len(a) < 64:
+        return [_text_of(_num(x)) for x in a.tolist()]
+    uniq, inverse = np.unique(a, return_inverse=True)
+    done = [_text_of(_num(x)) for x in uniq.tolist()]
+    return [done[i] for i in inverse.tolist()]
+
+
 def _jsonable(v: Any) -> Any:
     if isinstance(v, dict):
         return {str(k): _jsonable(x) for k, x in v.items()}
@@ -479,8 +490,7 @@ def _any_nested(t: Truss) -> bool:
 
 def _forces_text(forces: Any) -> str:
     enc = _encode_string
-    values = _nums(forces)
-    return "{" + ",".join(f"{enc(member_id(e))}:{_text_of(v)}" for e, v in enumerate(values)) + "}"
+    return "{" + ",".join(f"{enc(member_id(e))}:{v}" for e, v in enumerate(_texts(forces))) + "}"
 
 
 def _joined(text: str, pieces: dict[str, str]) -> str | None:

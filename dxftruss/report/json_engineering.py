@@ -66,21 +66,18 @@ def engineering_dict(result: Result, pieces: dict[str, str] | None = None) -> di
         src(k) if neg else None
         for k, neg in zip(env.compression_source[idx].tolist(), (comp < 0).tolist(), strict=True)
     ]
-    columns = (
-        [member_id(e) for e in idx.tolist()],
-        _nums(tens),
-        t_from,
-        _nums(env.tension_station[idx]),
-        _nums(comp),
-        c_from,
-        _nums(env.compression_station[idx]),
-    )
+    mids = [member_id(e) for e in idx.tolist()]
+    numbers = (tens, env.tension_station[idx], comp, env.compression_station[idx])
     if pieces is not None:
         from .json import _piece
 
-        members: Any = _piece(pieces, "envelope members", lambda: _envelope_text(columns))
+        members: Any = _piece(pieces, "envelope members", lambda: _envelope_text(mids, numbers, t_from, c_from))
     else:
-        members = {mid: dict(zip(ENVELOPE_KEYS, row, strict=True)) for mid, *row in zip(*columns, strict=True)}
+        tv, ta, cv, ca = (_nums(a) for a in numbers)
+        members = {
+            mid: dict(zip(ENVELOPE_KEYS, row, strict=True))
+            for mid, *row in zip(mids, tv, t_from, ta, cv, c_from, ca, strict=True)
+        }
     reactions = []
     for j, vals, srcs in env.reactions:
         row: dict[str, Any] = {"joint": joint_id(j)}
@@ -124,22 +121,27 @@ def engineering_dict(result: Result, pieces: dict[str, str] | None = None) -> di
 ENVELOPE_KEYS = ("tension", "tension_from", "tension_at", "compression", "compression_from", "compression_at")
 
 
-def _envelope_text(columns: tuple[list[Any], ...]) -> str:
-    """The envelope's members object as json writes it (compact, see json._dumps)."""
+def _envelope_text(
+    mids: list[str], numbers: tuple[np.ndarray, ...], t_from: list[str | None], c_from: list[str | None]
+) -> str:
+    """The envelope's members object as json writes it (compact, see json._dumps):
+    ``numbers`` are the tension, its station, the compression and its station."""
     from .json import _encode_string as enc
-    from .json import _text_of
+    from .json import _texts
 
     names: dict[str | None, str] = {None: "null"}
-    for col in (columns[2], columns[5]):
-        for name in set(col) - names.keys():
-            names[name] = enc(name)
+    for col in (t_from, c_from):
+        for name in set(col):
+            if name is not None and name not in names:
+                names[name] = enc(name)
     keys = [enc(k) for k in ENVELOPE_KEYS]
+    tv, ta, cv, ca = (_texts(a) for a in numbers)
     return (
         "{"
         + ",".join(
-            f"{enc(mid)}:{{{keys[0]}:{_text_of(tv)},{keys[1]}:{names[tf]},{keys[2]}:{_text_of(ta)},"
-            f"{keys[3]}:{_text_of(cv)},{keys[4]}:{names[cf]},{keys[5]}:{_text_of(ca)}}}"
-            for mid, tv, tf, ta, cv, cf, ca in zip(*columns, strict=True)
+            f"{enc(mid)}:{{{keys[0]}:{a},{keys[1]}:{names[af]},{keys[2]}:{b},"
+            f"{keys[3]}:{c},{keys[4]}:{names[cf]},{keys[5]}:{d}}}"
+            for mid, a, af, b, c, cf, d in zip(mids, tv, t_from, ta, cv, c_from, ca, strict=True)
         )
         + "}"
     )
