@@ -19,11 +19,14 @@ from dataclasses import dataclass, field
 
 from .audit.stability import PartStability
 from .drafting import Selection
+from .engineering import Engineering
 from .findings import Finding, Severity
 from .habits import Overhang
 from .loadsfile import LoadsSpec
 from .model import Truss
+from .plane import DrawingPlane
 from .read import LineWork
+from .space import SpaceAnalysis
 from .statics import CaseResult
 
 
@@ -117,6 +120,14 @@ class Result:
     same_as: dict[int, int] = field(default_factory=dict)
     #: members drawn as overhangs, left out of the model (habits.py); drawn on the PDF
     overhangs: tuple[Overhang, ...] = ()
+    #: envelope, member checks, deflections and moving loads (engineering.py)
+    engineering: Engineering | None = None
+    #: the plane the line work lies in when it is not flat in XY (plane.py); the model's
+    #: coordinates are then in-plane; None for a flat XY drawing
+    plane: DrawingPlane | None = None
+    #: the space truss when the line work lies in no one plane (space.py); ``truss``,
+    #: ``stability`` and ``cases`` are then empty
+    space: SpaceAnalysis | None = None
 
     def part_name(self, index: int) -> str:
         """The part's name (``P<n>`` when the result has no names)."""

@@ -56,7 +56,7 @@ def cluster_points(points: np.ndarray, *, tol: float, resolution: float = 1e-3) 
     never finer than 1e-15 of their magnitude).
     """
     if len(points) == 0:
-        return np.zeros(0, dtype=np.int64), np.zeros((0, 2))
+        return np.zeros(0, dtype=np.int64), np.zeros((0, points.shape[1] if points.ndim == 2 else 2))
     exact, inverse = np.unique(points, axis=0, return_inverse=True)
     inverse = inverse.reshape(-1)
     # Points closer than the coordinates' own resolution are one point. Rounding them
@@ -85,7 +85,7 @@ def cluster_points(points: np.ndarray, *, tol: float, resolution: float = 1e-3) 
     _, label = np.unique(label, return_inverse=True)
     label = label.reshape(-1)[to_uniq]  # per distinct exact point
     counts = np.bincount(label)
-    centres = np.column_stack([np.bincount(label, exact[:, 0]), np.bincount(label, exact[:, 1])]) / counts[:, None]
+    centres = np.column_stack([np.bincount(label, exact[:, c]) for c in range(exact.shape[1])]) / counts[:, None]
     return label[inverse], centres
 
 

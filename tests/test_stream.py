@@ -43,9 +43,13 @@ def same_line_work(path: Path) -> bool:
     a = read_drawing(path)
     b = read_drawing(path, stream=True)
     assert not a.partial_document
-    skip = {"segments", "document", "partial_document"}
+    skip = {"segments", "segment_z", "document", "partial_document"}
     names = [f.name for f in dataclasses.fields(a) if f.name not in skip]
-    return np.array_equal(a.segments, b.segments) and all(getattr(a, n) == getattr(b, n) for n in names)
+    return (
+        np.array_equal(a.segments, b.segments)
+        and np.array_equal(a.segment_z, b.segment_z)
+        and all(getattr(a, n) == getattr(b, n) for n in names)
+    )
 
 
 @pytest.mark.skipif(not CORPUS_FILES, reason=f"real DXF corpus not found at {CORPUS}")

@@ -237,6 +237,7 @@ def read_drawing(
         layout=layout_name,
         layer_states=tuple(states.values()),
         layer_counts={k: dict(sorted(v.items())) for k, v in reader.counts.items()},
+        segment_z=z,
     )
 
 

@@ -179,7 +179,7 @@ class _Reader:
             r = self.role(el)
             if r.role is _Role.SUPPORT:
                 assert r.fix is not None
-                placed.add_supports(t, p, r.fix, h, el, pos, batch, problems)
+                placed.add_supports(t, p, r.fix, h, el, pos, batch, problems, axes=r.axes)
             elif r.role not in (_Role.SKIP, _Role.HIDDEN):
                 problems.ignore(t, el, n_inst)
 
@@ -240,7 +240,15 @@ class _Reader:
                 assert r.fix is not None
                 for i in rows:
                     self.placed.add_supports(
-                        "INSERT", _xyz(ins.point[i]), r.fix, ins.handle[i], el, ins.pos[i], batch, self.problems
+                        "INSERT",
+                        _xyz(ins.point[i]),
+                        r.fix,
+                        ins.handle[i],
+                        el,
+                        ins.pos[i],
+                        batch,
+                        self.problems,
+                        axes=r.axes,
                     )
                 continue
             content: _Content | None = None
@@ -316,7 +324,7 @@ class _Reader:
                             (order, self.placed.next_seq(), "inclined", name, note, key, el, xy, None)
                         )
                         continue
-                mark = SupportMark(xy[0], xy[1], fix, hh, el, block=name, why=why, normal=normal)
+                mark = SupportMark(xy[0], xy[1], fix, hh, el, block=name, why=why, normal=normal, z=float(pts[k, 2]))
                 self.placed.supports.append((order, self.placed.next_seq(), mark))
                 self.placed.block_notes.append((order, self.placed.next_seq(), kind, name, why, key, el, xy, restrains))
         return rest

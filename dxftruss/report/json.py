@@ -18,7 +18,8 @@ from ..cutlist import cut_list
 from ..model import LoadOrigin, Support, Truss, entity_ref, joint_id, member_id
 from ..naming import finding_entities, finding_parts, part_index
 from . import CAUTION, assumptions
-from .cutlist import cut_list_dict
+from .cutlist import JSON_CUT_MEMBERS, cut_list_dict
+from .json_engineering import engineering_dict
 
 _encode_string = json.encoder.encode_basestring  # json's own (C) string writer, ensure_ascii=False
 
@@ -79,6 +80,134 @@ def _jsonable(v: Any) -> Any:
     return str(v)
 
 
+def _joints(result: Result, jid: list[str], xs: list[Any], ys: list[Any]) -> list[dict[str, Any]]:
+    """``{id, x, y}`` per joint; in a drawing plane other than XY also ``world``:
+    [x, y, z] as drawn (x, y are then in-plane)."""
+    if result.plane is None:
+        return [{"id": jid[i], "x": xs[i], "y": ys[i]} for i in range(len(jid))]
+    world = result.plane.to_world(result.truss.xy)
+    wx, wy, wz = _nums(world[:, 0]), _nums(world[:, 1]), _nums(world[:, 2])
+    return [{"id": jid[i], "x": xs[i], "y": ys[i], "world": [wx[i], wy[i], wz[i]]} for i in range(len(jid))]
+
+
+def _plane(result: Result) -> dict[str, Any]:
+    """The drawing plane (only present when the line work is not flat in XY)."""
+    pl = result.plane
+    assert pl is not None
+    return {
+        "kind": pl.kind,
+        "origin": _nums(pl.origin),
+        "normal": _nums(pl.normal),
+        "x_axis": _nums(pl.u),
+        "y_axis": _nums(pl.v),
+        "max_offset": _num(pl.max_offset),
+        "tolerance": _num(pl.tolerance),
+    }
+
+
+def _space(result: Result) -> dict[str, Any]:
+    """The keys of a space truss (docs/report-format.md, space): joints with z, members,
+    supports with their axes, parts with the 3-D counts, cases with fz."""
+    sa = result.space
+    assert sa is not None
+    t = sa.truss
+    jid = [joint_id(i) for i in range(t.n_joints)]
+    mid = [member_id(e) for e in range(t.n_members)]
+    x, y, z = (_nums(t.xyz[:, c]) for c in range(3))
+    lengths = _nums(t.lengths()) if t.n_members else []
+    parts = []
+    for p, st in zip(t.parts, sa.stability, strict=True):
+        parts.append(
+            {
+                "id": p.index + 1,
+                "name": f"P{p.index + 1}",
+                "same_as": None,
+                "joints": [jid[j] for j in p.joints.tolist()],
+                "members": [mid[e] for e in p.members.tolist()],
+                "j": st.j,
+                "m": st.m,
+                "r": st.r,
+                "rank": st.rank,
+                "mechanisms": st.mechanisms,
+                "self_stress": st.self_stress,
+                "generic_mechanisms": None,
+                "generic_self_stress": None,
+                "verdict": st.verdict,
+                "sigma_min": _num(st.sigma_min) if st.sigma_min is not None else None,
+                "sigma_max": _num(st.sigma_max) if st.sigma_max is not None else None,
+                "rank_gap": _num(st.rank_gap) if st.rank_gap is not None else None,
+                "rank_method": st.method,
+                "maxwell": st.maxwell,
+                "rigid_mechanisms": st.rigid_mechanisms,
+                "rank_tolerance": _num(st.tolerance),
+                "modes": [{"rigid": md.rigid, "joints": [jid[j] for j in md.joints]} for md in st.modes],
+                "self_stress_members": [[mid[e] for e in ms] for ms in st.self_stress_members],
+            }
+        )
+    by_name = {c.name: c for c in t.cases}
+    cases = []
+    for c in sa.cases:
+        case = by_name[c.name]
+        cases.append(
+            {
+                "name": c.name,
+                "assumed": c.assumed,
+                "combination": {k: _num(v) for k, v in c.factors} if c.factors else None,
+                "loads": [
+                    {
+                        "joint": joint_id(ld.joint),
+                        "fx": _num(ld.fx),
+                        "fy": _num(ld.fy),
+                        "fz": _num(ld.fz),
+                        "source": ld.source.value,
+                        "label": ld.label,
+                        "label_source": None,
+                    }
+                    for ld in case.loads
+                ],
+                "reactions": [
+                    {"joint": joint_id(j), "fx": _num(rx), "fy": _num(ry), "fz": _num(rz)}
+                    for j, rx, ry, rz in c.reactions
+                ],
+                "forces": dict(zip(mid, _nums(c.forces), strict=True)),
+                "zero_force": {
+                    "by_rule": [member_id(e) for e in c.zero_by_rule],
+                    "by_solution": [member_id(e) for e in c.zero_by_solution],
+                },
+                "loads_symmetric": None,
+                "solved_parts": [p + 1 for p in c.solved_parts],
+                "residual": _num(c.residual),
+                "methods": {str(p + 1): how for p, how in c.methods},
+            }
+        )
+    return {
+        "space": {
+            "dimension": 3,
+            "rank": "numerical",
+            "note": "stability from the numerical rank of the 3-D equilibrium matrix (tolerance "
+            "max(rows, cols) x machine epsilon x sigma_max, gap reported); the pebble game and the counts "
+            "alone do not decide rigidity in space",
+        },
+        "joints": [{"id": jid[i], "x": x[i], "y": y[i], "z": z[i]} for i in range(t.n_joints)],
+        "members": [
+            {
+                "id": mid[e],
+                "joints": [jid[a], jid[b]],
+                "length": lengths[e],
+                "layer": t.layers[e],
+                "handles": list(t.handles[e]),
+            }
+            for e, (a, b) in enumerate(t.ends.tolist())
+        ],
+        "supports": [
+            {"joint": joint_id(sp.joint), "fix": sp.axes, "assumed": False, "source": sp.source.value}
+            for sp in t.supports
+        ],
+        "parts": parts,
+        "cases": cases,
+    }
+
+
 def report_dict(result: Result) -> dict[str, Any]:
     """The report as plain JSON-ready data."""
     return _report(result, pieces=None)
@@ -125,9 +254,9 @@ def _report(result: Result, pieces: dict[str, str] | None) -> dict[str, Any]:
         },
         "assumptions": assumptions(result),
         "line_work": _line_work(result),
-        "joints": _piece(pieces, "joints", lambda: _joints_text(jid, xs, ys))
-        if pieces is not None
-        else [{"id": jid[i], "x": xs[i], "y": ys[i]} for i in range(len(jid))],
+        "joints": _joints(result, jid, xs, ys)
+        if pieces is None or result.plane is not None
+        else _piece(pieces, "joints", lambda: _joints_text(jid, xs, ys)),
         "members": _piece(pieces, "members", lambda: _members_text(t, jid, mid, lengths))
         if pieces is not None
         else [
@@ -182,9 +311,23 @@ def _report(result: Result, pieces: dict[str, str] | None) -> dict[str, Any]:
         ],
         "cases": [_case(result, c, pieces) for c in result.cases],
         "symmetry": {"axis_x": _num(result.symmetry_axis) if result.symmetry_axis is not None else None},
-        "cut_list": cut_list_dict(cut_list(result)),
+        "engineering": engineering_dict(result),
+        "cut_list": cut_list_dict(cut_list(result), list_members=t.n_members <= JSON_CUT_MEMBERS),
         "caution": CAUTION,
     }
+    if result.space is not None:
+        doc.update(_space(result))
+        keys = list(doc)
+        at = keys.index("line_work") + 1
+        doc = (
+            {k: doc[k] for k in keys[:at] if k != "space"}
+            | {"space": doc["space"]}
+            | {k: doc[k] for k in keys[at:] if k != "space"}
+        )
+    if result.plane is not None:  # after line_work: the plane the coordinates are in
+        keys = list(doc)
+        at = keys.index("line_work") + 1
+        doc = {k: doc[k] for k in keys[:at]} | {"plane": _plane(result)} | {k: doc[k] for k in keys[at:]}
     return doc
 
 
@@ -384,6 +527,8 @@ def _origin(o: LoadOrigin | None) -> dict[str, Any] | None:
         return {"kind": "loads-file", "entry": o.entry}
     if o.kind == "line-load":
         return {"kind": "line-load", "line_load": o.text}
+    if o.kind == "self-weight":
+        return {"kind": "self-weight", "case": o.text}
     return {
         "kind": "text",
         "text": o.text,

@@ -54,6 +54,9 @@ import numpy as np
 from ..render import PageMap, Recording, checked_document, record_drawing
 from .context import _Context, _file_sha256, _report_date
 from .cutlist import _cut_list_section
+from .engineering import draw_pages as draw_engineering_pages
+from .engineering import drawing_pages as engineering_drawing_pages
+from .engineering import engineering_section
 from .format import clean_reactions, fmt_force, fmt_num, register_fonts, shown
 from .labels import Label, LabelPlacer, convex_overlap, place_member_labels
 from .overlay import _draw_drawing_page
@@ -94,8 +97,11 @@ def _record_original(result: Any, *, max_entities: int = 200_000) -> Recording:
 def page_layout(result: Any, *, page: str = "A3") -> tuple[Sheet, PageMap]:
     """The layout of the load-case pages of ``result`` (for tests and tools that need to
     find a member on the page): the same computation ``write_pdf`` makes."""
+    plane = getattr(result, "plane", None)
     try:
-        recording: Recording | None = _record_original(result)
+        recording: Recording | None = (
+            None if plane is not None and plane.kind != "horizontal" else _record_original(result)
+        )
     except Exception:  # noqa: BLE001 - same fallback as write_pdf
         recording = None
     box, _ = _drawing_box(result, recording)
@@ -129,8 +135,10 @@ def write_pdf(
     """Write the marked-up PDF of ``result`` to ``path``.
 
     Pages: one drawing page per load case and combination (one bare page when there is
-    none), one page per mechanism mode (at most ``max_mechanism_pages``), the findings
-    list, then the tables. ``page`` is A4, A3, letter or tabloid; drawing pages turn to
+    none), the envelope and the deflected shape (engineering results), one page per
+    mechanism mode (at most ``max_mechanism_pages``), the findings list, the tables,
+    then the engineering results' tables and influence lines. ``page`` is A4, A3, letter
+    or tabloid; drawing pages turn to
     landscape when that gives the drawing a larger scale. Tables list at most
     ``max_table_rows`` rows each (the JSON report has everything).
     """
@@ -139,6 +147,11 @@ def write_pdf(
     key = page.upper()
     if key not in PAGE_SIZES:
         raise ValueError(f"unknown page size {page!r}; use one of A4, A3, letter, tabloid")
+    if getattr(result, "space", None) is not None:  # a space truss: four views per case (space.py)
+        from .space import write_space_pdf
+
+        write_space_pdf(result, path, page=page, max_labels=max_labels, max_rows=max_table_rows)
+        return
     paper = PAGE_SIZES[key]
     fonts = register_fonts()
     r = result
@@ -146,7 +159,10 @@ def write_pdf(
     recording: Recording | None = None
     note = ""
     has_document = getattr(r.linework, "document", None) is not None
-    if render_original and not has_document and _file_sha256(r.source.path) != r.source.sha256:
+    plane = getattr(r, "plane", None)
+    if render_original and plane is not None and plane.kind != "horizontal":
+        note = f"the drawing lies in a {plane.kind} plane, not in XY: members only, drawn in the plane"
+    elif render_original and not has_document and _file_sha256(r.source.path) != r.source.sha256:
         note = "the drawing changed or vanished after it was checked: members only"
     elif render_original:
         try:
@@ -187,10 +203,11 @@ def write_pdf(
     flow.finish_page()
     _tables_section(ctx, flow, max_rows=max_table_rows)
     flow.finish_page()
+    engineering_section(ctx, flow, max_rows=max_table_rows)
     _cut_list_section(ctx, flow, max_rows=max_table_rows)
     flow.finish_page()
     n_flow = flow.pages
-    n_drawing = max(1, len(r.cases)) + len(mech_jobs)
+    n_drawing = max(1, len(r.cases)) + len(mech_jobs) + engineering_drawing_pages(ctx)
     ctx.total_pages = n_drawing + n_flow
     ctx.page_no = 0
 
@@ -221,6 +238,7 @@ def write_pdf(
             max_labels=max_labels,
             max_markers=max_markers,
         )
+    draw_engineering_pages(ctx, c, max_labels=max_labels, max_markers=max_markers)
     for k, (st, md, i, n) in enumerate(mech_jobs, 1):
         title = f"Mechanism: part {st.part + 1}, mode {i} of {n}"
         if k == len(mech_jobs) and n_modes > len(mech_jobs):
@@ -240,6 +258,7 @@ def write_pdf(
     flow.finish_page()
     _tables_section(ctx, flow, max_rows=max_table_rows)
     flow.finish_page()
+    engineering_section(ctx, flow, max_rows=max_table_rows)
     _cut_list_section(ctx, flow, max_rows=max_table_rows)
     flow.finish_page()
     c.showOutline()
