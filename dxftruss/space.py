@@ -478,20 +478,15 @@ def analyse_space_part(
         tuple(stress),
     )
     p = part.index + 1
-    counts = f"m + r - 3j = {st.m} + {st.r} - {3 * st.j} = {st.maxwell} = s - k with s = {s}, k = {k}"
     if k:
         internal = k - n_rigid
-        what = []
-        if n_rigid:
-            what.append(f"{n_rigid} rigid-body motion(s) the supports leave free")
-        if internal:
-            what.append(f"{internal} internal mechanism(s)")
         moving = sorted({j for md in modes for j in md.joints})
         findings.append(
             Finding(
                 Code.MECHANISM,
-                f"part P{p} (space truss) can move: {' and '.join(what)} ({counts}; numerical rank, the counts "
-                "alone do not decide rigidity in space); moving joints: "
+                f"part P{p} (space truss) can move: {k} mechanism(s) (Maxwell's count m + r - 3j = s - k = "
+                f"{st.maxwell}: the numerical rank decides, the counts alone do not in space); rigid-body motions "
+                f"the supports leave free: {n_rigid}; internal mechanisms: {internal}; moving joints: "
                 + ", ".join(f"J{j + 1}" for j in moving[:12])
                 + (" ..." if len(moving) > 12 else ""),
                 joints=tuple(moving[:200]),
@@ -511,8 +506,8 @@ def analyse_space_part(
         findings.append(
             Finding(
                 Code.NEAR_MECHANISM,
-                f"part P{p} (space truss): the rank gap sigma_r / sigma_(r+1) is only {gap:.3g} (below {GAP:g}); "
-                "the counts are unclear at this geometry",
+                f"part P{p} (space truss): the rank gap (the last nonzero singular value over the next) is only "
+                f"{gap:.3g} times (below {GAP:g} times); the counts are unclear at this geometry",
                 data={"part": p, "kind": "gap", "rank_gap": gap},
             )
         )
@@ -520,8 +515,8 @@ def analyse_space_part(
         findings.append(
             Finding(
                 Code.NEAR_MECHANISM,
-                f"part P{p} (space truss): sigma_min / sigma_max = {smin / smax:.3g}, a force amplification of "
-                f"about {smax / smin:.3g} per unit load",
+                f"part P{p} (space truss): the smallest singular value is {smin / smax:.3g} of the largest (forces "
+                f"may reach about {smax / smin:.3g} times the load)",
                 data={"part": p, "kind": "global", "ratio": smin / smax},
             )
         )

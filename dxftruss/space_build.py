@@ -82,7 +82,8 @@ def build_space_truss(
             findings.append(
                 Finding(
                     Code.SUPPORT_OFF_JOINT,
-                    f"support ({shown(s.layer)}, handle {shown(s.handle)}) at {_xyz_text(p)} is not on a joint "
+                    f"support ({shown(s.layer)}, handle {shown(s.handle)}) at {_xyz_text(p)} {length_unit} "
+                    "is not on a joint "
                     f"(nearest J{j + 1}, {d:.6g} {length_unit} away)",
                     joints=(j,) if j >= 0 else (),
                     data={"handle": s.handle, "distance": d if j >= 0 else None, "xyz": list(p)},
@@ -103,7 +104,7 @@ def build_space_truss(
             findings.append(
                 Finding(
                     Code.SUPPORT_OFF_JOINT,
-                    f"{where}: no joint within {near_miss:.6g} {length_unit} of {_xyz_text(p)}"
+                    f"{where}: no joint within {near_miss:.6g} {length_unit} of {_xyz_text(p)} {length_unit}"
                     + (f" (nearest J{j + 1}, {d:.6g} {length_unit} away)" if j >= 0 else ""),
                     joints=(j,) if j >= 0 else (),
                     data={"entry": e.number, "distance": d if j >= 0 else None, "xyz": list(p)},
@@ -178,7 +179,7 @@ def build_space_truss(
             findings.append(
                 Finding(
                     Code.LOAD_OFF_JOINT,
-                    f"{where}: no joint within {near_miss:.6g} {length_unit} of {_xyz_text(p)}",
+                    f"{where}: no joint within {near_miss:.6g} {length_unit} of {_xyz_text(p)} {length_unit}",
                     joints=(j,) if j >= 0 else (),
                     data={"entry": ld.number, "distance": d if j >= 0 else None, "case": ld.case, "xyz": list(p)},
                 )

@@ -27,7 +27,8 @@ So does a record whose layer name is not a valid DXF layer name (the audit would
 it), whose value does not convert, or that follows a record which may link it (INSERT,
 POLYLINE, VERTEX, ATTRIB). The whole file goes to the library reader (``None``) when the
 stream cannot be sure it reads what the library would: a binary file, more than one
-ENTITIES section, an EOF before it, a section that does not close, a duplicated handle
+ENTITIES section, an EOF before it, a section that does not close, lines that are not
+pairs of a group code and a value, a group code 0 spelt unusually, a duplicated handle
 or one at or above the header's handle seed, a plain record owned by anything but model
 space, a model-space entity of the library whose place in the file cannot be found, or
 any failure of the library on the rest (it then meets the same failure on the whole
