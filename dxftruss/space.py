@@ -492,13 +492,13 @@ def analyse_space_part(
                 Code.MECHANISM,
                 f"part P{p} (space truss) can move: {k} mechanism(s) (Maxwell's count m + r - 3j = s - k = "
                 f"{st.maxwell}: the numerical rank decides, the counts alone do not in space); rigid-body motions "
-                f"the supports leave free: {n_rigid}; internal mechanisms: {internal}"
+                f"the supports leave free: {n_rigid}; internal mechanisms"
                 + {
                     "first-order": " (first-order: a state of self-stress stiffens them, only under prestress)",
                     "finite-or-higher": " (finite or of higher order: no self-stress stiffens them)",
                     "": "",
                 }[st.order]
-                + "; moving joints: "
+                + f": {internal}; moving joints: "
                 + ", ".join(f"J{j + 1}" for j in moving[:12])
                 + (" ..." if len(moving) > 12 else ""),
                 joints=tuple(moving[:200]),
