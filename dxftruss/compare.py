@@ -40,7 +40,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from .errors import ConfigError
-from .findings import Finding, Severity
+from .findings import Finding
 from .model import Fix, Support, joint_id, member_id
 
 if TYPE_CHECKING:
@@ -487,13 +487,17 @@ def _compare_findings(
 ) -> int:
     olds = [(f, _finding_key(f, jmap, mmap)) for f in old.findings]
     news = [(f, _finding_key(f, None, None)) for f in new.findings]
+    by_kind: dict[tuple[str, str], list[int]] = {}
+    for k, (_, (gcode, gcase, _, _)) in enumerate(news):
+        by_kind.setdefault((gcode, gcase), []).append(k)
     used: set[int] = set()
     same = 0
     fixed = []
     for f, (code, case, members, joints) in olds:
         hit = None
-        for k, (g, (gcode, gcase, gm, gj)) in enumerate(news):
-            if k in used or gcode != code or gcase != case:
+        for k in by_kind.get((code, case), ()):
+            g, (_, _, gm, gj) = news[k]
+            if k in used:
                 continue
             if f.members or g.members:
                 ok = members is not None and members == gm
@@ -563,20 +567,22 @@ def _compare_forces(old: Result, new: Result, mmap: dict[int, int], th: ForceThr
     limit = th.limit(largest)
     by_name = {cs.name: cs for cs in old.cases}
     tn = new.truss
+    pairs = np.array(sorted(mmap.items(), key=lambda kv: kv[1]), dtype=np.int64).reshape(-1, 2)
     for cs in new.cases:
         oc = by_name.get(cs.name)
         if oc is None:
             continue
         fo, fn = np.asarray(oc.forces, dtype=float), np.asarray(cs.forces, dtype=float)
-        for e, ne in sorted(mmap.items(), key=lambda kv: kv[1]):
-            a, b = float(fo[e]), float(fn[ne])
-            solved = (math.isfinite(a), math.isfinite(b))
-            if solved == (True, True):
-                if abs(b - a) <= limit:
-                    continue
+        a_all, b_all = fo[pairs[:, 0]], fn[pairs[:, 1]]
+        ok_a, ok_b = np.isfinite(a_all), np.isfinite(b_all)
+        with np.errstate(invalid="ignore"):
+            flag = (ok_a & ok_b & (np.abs(b_all - a_all) > limit)) | (ok_a != ok_b)
+        for i in np.nonzero(flag)[0].tolist():
+            e, ne = int(pairs[i, 0]), int(pairs[i, 1])
+            a, b = float(a_all[i]), float(b_all[i])
+            solved = (bool(ok_a[i]), bool(ok_b[i]))
+            if all(solved):
                 what = f"'{cs.name}' {member_id(ne)}: {a:.4g} -> {b:.4g} {fu} (change {b - a:+.4g})"
-            elif solved == (False, False):
-                continue
             else:
                 what = f"'{cs.name}' {member_id(ne)}: {'not solved' if not solved[0] else f'{a:.4g}'} -> " + (
                     "not solved" if not solved[1] else f"{b:.4g} {fu}"
@@ -594,8 +600,3 @@ def _compare_forces(old: Result, new: Result, mmap: dict[int, int], th: ForceThr
                 change=(b - a) if all(solved) else None,
             )
     return limit
-
-
-def severity_of_new_errors(cmp: Comparison) -> int:
-    """How many new findings are errors."""
-    return sum(1 for c in cmp.changes if c.kind == "finding-new" and c.data.get("severity") == Severity.ERROR.value)

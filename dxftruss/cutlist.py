@@ -109,12 +109,23 @@ class PartCutList:
 
 
 @dataclass(frozen=True)
+class OverhangPiece:
+    """An overhang the model leaves out (habits.py): not in the member list, so the
+    cutter adds it to the member it continues. ``at`` is the joint it hangs from."""
+
+    layer: str
+    length: float
+    at: tuple[float, float]
+
+
+@dataclass(frozen=True)
 class CutList:
     unit: str
     length_tol: float  # drawing units
     angle_tol: float  # degrees
     parts: tuple[PartCutList, ...]
     totals: tuple[Total, ...]  # the whole drawing, every part counted
+    overhangs: tuple[OverhangPiece, ...] = ()
 
 
 def cut_angle(u: tuple[float, float], v: tuple[float, float]) -> float:
@@ -128,6 +139,8 @@ def section_of(truss: Truss, layer: str) -> str | None:
     """The layer glob of the first ``[[section]]`` matching ``layer`` (case-insensitive), or None."""
     low = layer.lower()
     for sec in truss.sections:
+        if sec.layer is None:  # a section given by a member list names members, not a layer
+            continue
         if fnmatchcase(low, sec.layer.lower()):
             return sec.layer
     return None
@@ -163,46 +176,50 @@ def cut_list(result: Result, *, angle_tol: float = ANGLE_TOL_DEG, length_tol: fl
     ltol = length_tolerance(unit, result.tolerances.snap) if length_tol is None else float(length_tol)
     lengths = t.lengths() if t.n_members else np.zeros(0)
     d = (t.xy[t.ends[:, 1]] - t.xy[t.ends[:, 0]]) if t.n_members else np.zeros((0, 2))
-    at_joint: dict[int, list[int]] = defaultdict(list)
-    for e, (a, b) in enumerate(t.ends.tolist()):
-        at_joint[a].append(e)
-        at_joint[b].append(e)
     section_for: dict[str, str | None] = {}
-
-    def end_cut(e: int, j: int) -> EndCut:
-        u = (float(d[e, 0]), float(d[e, 1]))
-        rows = []
-        for o in at_joint[j]:
-            if o != e:
-                rows.append((o, round(cut_angle(u, (float(d[o, 0]), float(d[o, 1]))), 6)))
-        rows.sort(key=lambda r: (r[1], r[0]))
-        return EndCut(j, tuple(rows))
+    cuts = _end_cuts(t.ends, d)
 
     copies: dict[int, int] = defaultdict(int)
     for orig in result.same_as.values():
         copies[orig] += 1
     parts = []
     grand: dict[tuple[str, str | None], list[float]] = defaultdict(lambda: [0, 0.0])
+    ends_l, lengths_l = t.ends.tolist(), lengths.tolist()
     for p in t.parts:
-        members = sorted(int(e) for e in p.members)
         infos = []
-        for e in members:
+        sigs = {}
+        for e in sorted(p.members.tolist()):
             layer = t.layers[e]
             if layer not in section_for:
                 section_for[layer] = section_of(t, layer)
-            a, b = (int(v) for v in t.ends[e])
-            infos.append((e, layer, section_for[layer], float(lengths[e]), (end_cut(e, a), end_cut(e, b))))
+            a, b = ends_l[e]
+            ca, cb = cuts.get((e, a), ()), cuts.get((e, b), ())
+            sigs[e] = (tuple(x for _, x in ca), tuple(x for _, x in cb))
+            infos.append((e, layer, section_for[layer], lengths_l[e], (EndCut(a, ca), EndCut(b, cb))))
         order = sorted(infos, key=lambda r: (r[1], r[2] or "", -r[3], r[0]))
         groups: list[list] = []  # type: ignore[type-arg]
-        for info in order:
-            e, layer, sec, length, ends = info
-            sig = (ends[0].angles, ends[1].angles)
-            for g in groups:
-                if g[0] == layer and g[1] == sec and abs(g[2] - length) <= ltol and _same_ends(g[3], sig, angle_tol):
-                    g[4].append(e)
-                    break
-            else:
-                groups.append([layer, sec, length, sig, [e]])
+        # members drawn alike to 1e-6 of the tolerance share a key: the first of them
+        # finds its group, the others join it without comparing again
+        seen: dict[tuple, int] = {}  # type: ignore[type-arg]
+        quantum = ltol * 1e-6 if ltol > 0 else 1e-12
+        for e, layer, sec, length, _ in order:
+            sig = sigs[e]
+            key = (layer, sec, round(length / quantum), sig)
+            k = seen.get(key)
+            if k is None:
+                for k, g in enumerate(groups):  # noqa: B007 - k is the group found
+                    if (
+                        g[0] == layer
+                        and g[1] == sec
+                        and abs(g[2] - length) <= ltol
+                        and _same_ends(g[3], sig, angle_tol)
+                    ):
+                        break
+                else:
+                    groups.append([layer, sec, length, sig, []])
+                    k = len(groups) - 1
+                seen[key] = k
+            groups[k][4].append(e)
         mark_of = {}
         out_groups = []
         for k, g in enumerate(groups):
@@ -229,7 +246,50 @@ def cut_list(result: Result, *, angle_tol: float = ANGLE_TOL_DEG, length_tol: fl
                 totals=_totals(totals),
             )
         )
-    return CutList(unit, ltol, float(angle_tol), tuple(parts), _totals(grand))
+    overhangs = tuple(
+        OverhangPiece(str(o.layer), float(o.length), (float(o.root_xy[0]), float(o.root_xy[1])))
+        for o in result.overhangs
+    )
+    return CutList(unit, ltol, float(angle_tol), tuple(parts), _totals(grand), overhangs)
+
+
+def _end_cuts(ends: np.ndarray, d: np.ndarray) -> dict[tuple[int, int], tuple[tuple[int, float], ...]]:
+    """Per (member, joint) end: (other member, angle) for every other member at that
+    joint, sorted by angle, then member. Vectorised: every pair of member ends at one
+    joint (sum of degree squared pairs), angles as in :func:`cut_angle`."""
+    m = len(ends)
+    if m == 0:
+        return {}
+    inc_m = np.concatenate([np.arange(m), np.arange(m)])
+    inc_j = np.concatenate([ends[:, 0], ends[:, 1]]).astype(np.int64)
+    order = np.argsort(inc_j, kind="stable")
+    sm, sj = inc_m[order], inc_j[order]
+    _, start, count = np.unique(sj, return_index=True, return_counts=True)
+    group = np.repeat(np.arange(len(start)), count)
+    rep = count[group]
+    total = int(rep.sum())
+    p_idx = np.repeat(np.arange(len(sm)), rep)
+    offset = np.arange(total) - np.repeat(np.cumsum(rep) - rep, rep)
+    q_idx = start[group][p_idx] + offset
+    keep = p_idx != q_idx
+    p_idx, q_idx = p_idx[keep], q_idx[keep]
+    u, v = d[sm[p_idx]], d[sm[q_idx]]
+    cross = np.abs(u[:, 0] * v[:, 1] - u[:, 1] * v[:, 0])
+    dot = np.abs(u[:, 0] * v[:, 0] + u[:, 1] * v[:, 1])
+    ang = np.round(np.degrees(np.arctan2(cross, dot)), 6)
+    other = sm[q_idx]
+    srt = np.lexsort((other, ang, p_idx))
+    p_idx, other, ang = p_idx[srt], other[srt], ang[srt]
+    out: dict[tuple[int, int], tuple[tuple[int, float], ...]] = {}
+    bounds = np.flatnonzero(np.diff(p_idx)) + 1
+    firsts = np.concatenate([[0], bounds]) if len(p_idx) else np.zeros(0, dtype=np.int64)
+    lasts = np.concatenate([bounds, [len(p_idx)]]) if len(p_idx) else np.zeros(0, dtype=np.int64)
+    other_l, ang_l, p_l = other.tolist(), ang.tolist(), p_idx.tolist()
+    sm_l, sj_l = sm.tolist(), sj.tolist()
+    for f, g in zip(firsts.tolist(), lasts.tolist(), strict=True):
+        p = p_l[f]
+        out[(sm_l[p], sj_l[p])] = tuple(zip(other_l[f:g], ang_l[f:g], strict=True))
+    return out
 
 
 def _totals(table: dict[tuple[str, str | None], list[float]]) -> tuple[Total, ...]:

@@ -24,7 +24,9 @@ from .errors import ConfigError
 from .model import Fix, Section
 from .units import (
     AREA_UNITS,
+    DENSITY_UNITS,
     FORCE_UNITS,
+    INERTIA_UNITS,
     LENGTH_UNITS,
     MODULUS_UNITS,
     PER_AREA_UNITS,
@@ -100,6 +102,22 @@ class CombinationEntry:
 
 
 @dataclass(frozen=True)
+class MovingLoadEntry:
+    """A ``[[moving_load]]``: a point load, or a group of axle loads at fixed spacings,
+    travelling along the chord from ``start`` to ``end`` (drawing coordinates).
+
+    ``loads`` are the axle loads in the force unit, acting downward, front axle first;
+    ``spacings`` the distances between consecutive axles in metres (one fewer)."""
+
+    number: int
+    name: str
+    start: tuple[float, float]
+    end: tuple[float, float]
+    loads: tuple[float, ...]
+    spacings: tuple[float, ...]
+
+
+@dataclass(frozen=True)
 class LoadsSpec:
     path: str
     force_unit: str
@@ -116,9 +134,30 @@ class LoadsSpec:
     drawn_supports: str | None = None
     #: ``[[line_load]]`` and ``[[area_load]]`` entries, in file order
     line_loads: tuple[LineLoadEntry, ...] = ()
+    #: ``[checks] ratio``: members whose utilisation exceeds it are flagged (default 1.0)
+    check_ratio: float = 1.0
+    #: ``[checks] slenderness``: compression members with L/r above it are flagged
+    #: (default 200, common practice for compression members: docs/methods.md, Engineering results)
+    slenderness_limit: float = 200.0
+    #: ``[self_weight] case``: the name of the self-weight case
+    self_weight_case: str = "self-weight"
+    #: ``[[moving_load]]`` entries, in file order
+    moving_loads: tuple[MovingLoadEntry, ...] = ()
 
 
-_TOP_KEYS = {"units", "drawn", "support", "load", "line_load", "area_load", "combination", "section"}
+_TOP_KEYS = {
+    "units",
+    "drawn",
+    "support",
+    "load",
+    "line_load",
+    "area_load",
+    "combination",
+    "section",
+    "checks",
+    "self_weight",
+    "moving_load",
+}
 _KEYS = {
     "units": {"force", "length"},
     "drawn": {"loads", "supports"},
@@ -127,8 +166,14 @@ _KEYS = {
     "line_load": {"from", "to", "w", "case", "measured", "direction"},
     "area_load": {"from", "to", "q", "spacing", "case", "measured", "direction"},
     "combination": {"name", "factors"},
-    "section": {"layer", "area", "E"},
+    "section": {"layer", "members", "name", "area", "E", "I", "r", "strength", "density", "shape", "b", "d", "D", "t"},
+    "checks": {"ratio", "slenderness"},
+    "self_weight": {"case"},
+    "moving_load": {"name", "from", "to", "loads", "spacing"},
 }
+
+#: ``shape`` of a [[section]] -> the dimensions it needs
+SHAPES = {"rectangle": ("b", "d"), "round-hollow": ("D", "t"), "square-hollow": ("D", "t")}
 
 
 def _unknown(where: str, table: dict[str, Any], kind: str) -> None:
@@ -472,21 +517,19 @@ def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:
             pairs.append((str(case), float(factor)))
         combos.append(CombinationEntry(i, cname.strip(), tuple(pairs)))
 
-    sections = []
-    for i, t in enumerate(_tables(name, data, "section"), 1):
-        where = f"{name}: [[section]] #{i}"
-        _unknown(where, t, "section")
-        for key in ("layer", "area", "E"):
-            if key not in t:
-                raise ConfigError(f"{where}: '{key}' is missing")
-        layer = t["layer"]
-        if not isinstance(layer, str) or not layer:
-            raise ConfigError(f"{where}: 'layer' must be a layer name or glob such as \"CHORD*\"")
-        area = parse_si(t["area"], AREA_UNITS, f"{where} area")
-        modulus = parse_si(t["E"], MODULUS_UNITS, f"{where} E")
-        if area <= 0 or modulus <= 0:
-            raise ConfigError(f"{where}: area and E must be positive")
-        sections.append(Section(layer, area, modulus))
+    sections = [_section(f"{name}: [[section]] #{i}", i, t) for i, t in enumerate(_tables(name, data, "section"), 1)]
+    ratio, slender = _checks(name, data)
+    sw = data.get("self_weight", {})
+    if not isinstance(sw, dict):
+        raise ConfigError(f'{name}: [self_weight] must be a table such as [self_weight] case = "dead-own"')
+    _unknown(f"{name}: [self_weight]", sw, "self_weight")
+    sw_case = sw.get("case", "self-weight")
+    if not isinstance(sw_case, str) or not sw_case.strip():
+        raise ConfigError(f"{name}: [self_weight] case must be a non-empty string, got {sw_case!r}")
+    moving = [
+        _moving(f"{name}: [[moving_load]] #{i}", i, t, force_unit)
+        for i, t in enumerate(_tables(name, data, "moving_load"), 1)
+    ]
 
     return LoadsSpec(
         name,
@@ -500,7 +543,135 @@ def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:
         drawn.get("loads"),
         drawn.get("supports"),
         tuple(line_loads),
+        ratio,
+        slender,
+        sw_case.strip(),
+        tuple(moving),
     )
+
+
+def _positive(where: str, key: str, value: Any, table: dict[str, float], example: str) -> float:
+    v = _per_unit(where, key, value, table, example)
+    if not (v > 0 and math.isfinite(v)):
+        raise ConfigError(f"{where}: '{key}' must be positive, got {value!r}")
+    return v
+
+
+def shape_properties(shape: str, dims: dict[str, float]) -> tuple[float, float]:
+    """(area m2, smaller second moment of area m4) of a simple shape, dimensions in m.
+
+    rectangle b x d (solid): A = b d, I = max(b, d) min(b, d)^3 / 12;
+    round-hollow D x t: A = pi (D^2 - d^2) / 4, I = pi (D^4 - d^4) / 64 with d = D - 2t;
+    square-hollow D x t (sharp corners): A = D^2 - d^2, I = (D^4 - d^4) / 12.
+    (Closed forms of the second moment of area of a rectangle and an annulus.)"""
+    if shape == "rectangle":
+        b, d = dims["b"], dims["d"]
+        lo, hi = min(b, d), max(b, d)
+        return b * d, hi * lo**3 / 12
+    big, t = dims["D"], dims["t"]
+    inner = big - 2 * t
+    if shape == "round-hollow":
+        return math.pi * (big**2 - inner**2) / 4, math.pi * (big**4 - inner**4) / 64
+    return big**2 - inner**2, (big**4 - inner**4) / 12
+
+
+def _section(where: str, number: int, t: dict[str, Any]) -> Section:
+    """One ``[[section]]``: which members (layer glob or member list), then the values."""
+    _unknown(where, t, "section")
+    layer = t.get("layer")
+    members = t.get("members")
+    if (layer is None) == (members is None):
+        raise ConfigError(
+            f"{where}: give either 'layer' (a glob such as \"CHORD*\") or 'members' (ids such as [\"M1\"])"
+        )
+    if layer is not None and (not isinstance(layer, str) or not layer):
+        raise ConfigError(f"{where}: 'layer' must be a layer name or glob such as \"CHORD*\"")
+    if members is not None and (
+        not isinstance(members, list) or not members or not all(isinstance(m, str) and m for m in members)
+    ):
+        raise ConfigError(f'{where}: \'members\' must be a list of member ids such as ["M1", "M4"]')
+    label = t.get("name", "")
+    if not isinstance(label, str):
+        raise ConfigError(f"{where}: 'name' must be a string")
+    if "E" not in t:
+        raise ConfigError(f"{where}: 'E' is missing")
+    modulus = _positive(where, "E", t["E"], MODULUS_UNITS, '"210 GPa"')
+    shape = t.get("shape")
+    described = None
+    inertia: float | None = None
+    if shape is not None:
+        if shape not in SHAPES:
+            raise ConfigError(f"{where}: 'shape' must be one of {', '.join(SHAPES)}, got {shape!r}")
+        if "area" in t or "I" in t or "r" in t:
+            raise ConfigError(f"{where}: give either 'shape' with its dimensions or 'area' (with 'I' or 'r'), not both")
+        dims = {}
+        for key in SHAPES[shape]:
+            if key not in t:
+                raise ConfigError(f"{where}: shape {shape!r} needs '{key}' (a length such as \"100 mm\")")
+            dims[key] = _positive(where, key, t[key], LENGTH_UNITS, '"100 mm"')
+        if shape != "rectangle" and not 2 * dims["t"] < dims["D"]:
+            raise ConfigError(f"{where}: the wall 't' = {t['t']!r} must be less than half of 'D' = {t['D']!r}")
+        area, inertia = shape_properties(shape, dims)
+        described = f"{shape} " + " x ".join(str(t[k]) for k in SHAPES[shape])
+    else:
+        for key in ("b", "d", "D", "t"):
+            if key in t:
+                raise ConfigError(f"{where}: '{key}' is a dimension of a 'shape'; give 'shape' too")
+        if "area" not in t:
+            raise ConfigError(f"{where}: 'area' is missing (or give a 'shape' with its dimensions)")
+        area = _positive(where, "area", t["area"], AREA_UNITS, '"4800 mm2"')
+        if "I" in t and "r" in t:
+            raise ConfigError(f"{where}: give 'I' or 'r', not both")
+        if "I" in t:
+            inertia = _positive(where, "I", t["I"], INERTIA_UNITS, '"1.2e6 mm4"')
+        elif "r" in t:
+            inertia = area * _positive(where, "r", t["r"], LENGTH_UNITS, '"25 mm"') ** 2
+    strength = _positive(where, "strength", t["strength"], MODULUS_UNITS, '"355 MPa"') if "strength" in t else None
+    density = _positive(where, "density", t["density"], DENSITY_UNITS, '"7850 kg/m3"') if "density" in t else None
+    if not all(math.isfinite(v) for v in (area, inertia or 1.0)):
+        raise ConfigError(f"{where}: the section's values are too large to represent")
+    return Section(
+        layer, area, modulus, tuple(members or ()), inertia, strength, density, described, label.strip(), number
+    )
+
+
+def _checks(name: str, data: dict[str, Any]) -> tuple[float, float]:
+    """``[checks]``: the utilisation ratio that flags a member and the slenderness limit."""
+    checks = data.get("checks", {})
+    if not isinstance(checks, dict):
+        raise ConfigError(f"{name}: [checks] must be a table such as [checks] ratio = 0.9")
+    _unknown(f"{name}: [checks]", checks, "checks")
+    out = []
+    for key, default in (("ratio", 1.0), ("slenderness", 200.0)):
+        v = checks.get(key, default)
+        if isinstance(v, bool) or not isinstance(v, (int, float)) or not (math.isfinite(v) and v > 0):
+            raise ConfigError(f"{name}: [checks] {key} must be a positive number, got {v!r}")
+        out.append(float(v))
+    return out[0], out[1]
+
+
+def _moving(where: str, number: int, t: dict[str, Any], force_unit: str) -> MovingLoadEntry:
+    """One ``[[moving_load]]``: the chord it travels along, axle loads and spacings."""
+    _unknown(where, t, "moving_load")
+    start, end = _at(where, t, "from"), _at(where, t, "to")
+    if start == end:
+        raise ConfigError(f"{where}: 'from' and 'to' are the same point {list(start)}")
+    name = t.get("name", f"moving load #{number}")
+    if not isinstance(name, str) or not name.strip():
+        raise ConfigError(f"{where}: 'name' must be a non-empty string")
+    raw = t.get("loads")
+    if not isinstance(raw, list) or not raw:
+        raise ConfigError(f'{where}: \'loads\' must be a list of axle loads such as ["40 kN", "40 kN"] (front first)')
+    loads = tuple(parse_force(v, force_unit, f"{where} loads") for v in raw)
+    gaps = t.get("spacing", [])
+    if not isinstance(gaps, list) or len(gaps) != len(loads) - 1:
+        raise ConfigError(
+            f"{where}: 'spacing' must list {len(loads) - 1} distance(s) between consecutive axles, got {gaps!r}"
+        )
+    spacings = tuple(_positive(where, "spacing", g, LENGTH_UNITS, '"3 m"') for g in gaps)
+    if not all(v > 0 for v in loads):
+        raise ConfigError(f"{where}: axle loads act downward: give each as a positive force, got {raw!r}")
+    return MovingLoadEntry(number, name.strip(), start, end, loads, spacings)
 
 
 def check_planar(spec: LoadsSpec) -> None:

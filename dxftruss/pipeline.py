@@ -24,6 +24,7 @@ from .assemble import build_truss
 from .audit.next_steps import add_next_steps
 from .audit.stability import PartStability, analyse_part
 from .audit.topology import audit_topology
+from .engineering import engineering_results
 from .errors import ConfigError, InputError, LimitError
 from .escape import shown
 from .findings import Code, Finding, sort_findings
@@ -34,6 +35,7 @@ from .policy import run_policy
 from .read import LineWork, read_drawing
 from .repeats import copied_stability, find_repeats, repeat_findings
 from .result import Result, Settings, SourceInfo, Tolerances
+from .sections import member_sections
 from .snap import build_geometry
 from .statics import CaseResult, solve_case
 from .symmetry import find_mirror_axis
@@ -286,6 +288,8 @@ def _check(
         snap=snap,
         overhangs=read.overhangs,
     )
+    if truss.sections:  # a member list naming a member the drawing lacks is refused here
+        member_sections(truss, source=spec.path if spec else "loads file")
     findings += truss.findings
     findings += _with_inventory(audit_topology(truss, snap=snap, near_miss=near), linework, settings.layers)
     stage("model")
@@ -319,8 +323,11 @@ def _check(
             if key not in seen:  # e.g. assumed-stiffness once per part, not once per case
                 seen.add(key)
                 findings.append(f)
-    findings = add_next_steps(truss, stability, findings, snap=snap, near_miss=near)
     stage("statics")
+    eng, eng_findings = engineering_results(truss, stability, cases, spec, near_miss=near, snap=snap)
+    findings += eng_findings
+    findings = add_next_steps(truss, stability, findings, snap=snap, near_miss=near)
+    stage("engineering")
 
     source = SourceInfo(
         str(path), sha, linework.dxf_version, unit, unit_source, linework.recovered, binary, linework.layout
@@ -341,6 +348,7 @@ def _check(
         part_names=names,
         same_as={copy: rep.of for copy, rep in repeats.items()},
         overhangs=read.overhangs,
+        engineering=eng,
         plane=drawing_plane,
     )
 

@@ -19,6 +19,7 @@ from dataclasses import dataclass, field
 
 from .audit.stability import PartStability
 from .drafting import Selection
+from .engineering import Engineering
 from .findings import Finding, Severity
 from .habits import Overhang
 from .loadsfile import LoadsSpec
@@ -119,6 +120,8 @@ class Result:
     same_as: dict[int, int] = field(default_factory=dict)
     #: members drawn as overhangs, left out of the model (habits.py); drawn on the PDF
     overhangs: tuple[Overhang, ...] = ()
+    #: envelope, member checks, deflections and moving loads (engineering.py)
+    engineering: Engineering | None = None
     #: the plane the line work lies in when it is not flat in XY (plane.py); the model's
     #: coordinates are then in-plane; None for a flat XY drawing
     plane: DrawingPlane | None = None

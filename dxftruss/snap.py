@@ -25,6 +25,7 @@ import numpy as np
 from scipy.spatial import cKDTree
 
 from .findings import Code, Finding
+from .spatial import query_points
 
 
 @dataclass(frozen=True)
@@ -102,7 +103,7 @@ def _split_on_joints(
         return np.zeros(0, np.int64), np.zeros(0, np.int64), np.zeros(0)
     lines = shapely.linestrings(np.stack([xy[a], xy[b]], axis=1))
     tree = shapely.STRtree(lines)
-    pj, seg = tree.query(shapely.points(xy), predicate="dwithin", distance=tol)
+    pj, seg = query_points(tree, xy, predicate="dwithin", distance=tol)
     keep = (pj != a[seg]) & (pj != b[seg])
     pj, seg = pj[keep], seg[keep]
     d = xy[b[seg]] - xy[a[seg]]

@@ -113,14 +113,22 @@ def _toml_value(value: object) -> str:
     raise TypeError(f"no TOML form for {value!r}")
 
 
-def loads_toml(header: Sequence[str], units: dict[str, str], tables: Sequence[tuple[str, dict[str, object]]]) -> str:
-    """The text of a loads file: comment lines, ``[units]`` and arrays of tables.
+def loads_toml(
+    header: Sequence[str],
+    units: dict[str, str],
+    tables: Sequence[tuple[str, dict[str, object]]],
+    plain: Sequence[tuple[str, dict[str, object]]] = (),
+) -> str:
+    """The text of a loads file: comment lines, ``[units]``, plain tables and arrays of tables.
 
     ``tables`` holds (table name, entries) pairs, e.g. ("load", {"at": [0, 0], "fy": -1}),
-    written in the order given as ``[[load]]`` blocks.
+    written in the order given as ``[[load]]`` blocks; ``plain`` ("checks", {...}) pairs
+    are written as ``[checks]`` tables after ``[units]``.
     """
     out = [f"# {h}" if h else "#" for h in header]
     out += ["", "[units]"] + [f"{_toml_key(k)} = {_toml_value(v)}" for k, v in units.items()]
+    for name, entry in plain:
+        out += ["", f"[{name}]"] + [f"{_toml_key(k)} = {_toml_value(v)}" for k, v in entry.items()]
     for name, entry in tables:
         out += ["", f"[[{name}]]"] + [f"{_toml_key(k)} = {_toml_value(v)}" for k, v in entry.items()]
     return "\n".join(out) + "\n"
@@ -259,7 +267,8 @@ def footbridge_truss() -> Sample:
     Panel B3-B4 is X-braced (counter-diagonal B3-T4 crosses T3-B4 with no joint):
     j = 16, m = 30, r = 3, one state of self-stress. Supports are POINTs; the deck
     load is drawn on LOAD-deck with a TEXT value beside each line; the loads file adds
-    a "wind" case, a combination and steel sections for the chords only.
+    a "wind" case, combinations (one with the self-weight), steel hollow sections,
+    member-check limits and a two-axle maintenance buggy on the bottom chord.
     """
     panels, panel, depth = 8, 3.0, 2.4
     deck_kn = 5.0 * panel * 1.2  # crowd 5 kN/m2 x 3 m panel x 1.2 m half deck width = 18 kN
@@ -327,16 +336,34 @@ def footbridge_truss() -> Sample:
         ("load", {"at": pt(*T[i]), "fx": wind_kn, "case": "wind"}) for i in range(1, panels)
     ]
     tables.append(("combination", {"name": "deck+wind", "factors": {"deck": 1.5, "wind": 0.9}}))
-    tables.append(("section", {"layer": "*-CHORD", "area": "4800 mm2", "E": "210 GPa"}))
+    tables.append(("combination", {"name": "dead+deck", "factors": {"self-weight": 1.35, "deck": 1.5}}))
+    steel = {"E": "210 GPa", "strength": "355 MPa", "density": "7850 kg/m3"}
+    tables.append(("section", {"name": "chord SHS", "layer": "*-CHORD", "shape": "square-hollow"}))
+    tables[-1][1].update({"D": "150 mm", "t": "8 mm", **steel})
+    tables.append(("section", {"name": "web SHS", "layer": "WEB", "shape": "square-hollow"}))
+    tables[-1][1].update({"D": "90 mm", "t": "4 mm", **steel})
+    tables.append(
+        (
+            "moving_load",
+            {
+                "name": "maintenance buggy",
+                "from": pt(*B[0]),
+                "to": pt(*B[panels]),
+                "loads": ["8 kN", "12 kN"],
+                "spacing": ["1.8 m"],
+            },
+        )
+    )
     toml = loads_toml(
         [
             f"{SITE} - Mill Stream footbridge, main girder G1 (footbridge_truss.dxf).",
-            "The deck case is drawn in the DXF (layer LOAD-deck); this file adds wind.",
-            "Sections are given for the chords only, so the webs take the assumed stiffness.",
-            "Illustrative values for the demo, not a design.",
+            "The deck case is drawn in the DXF (layer LOAD-deck); this file adds wind,",
+            "steel hollow sections (checks, self-weight, deflection) and a maintenance buggy",
+            "crossing on the bottom chord. Illustrative values for the demo, not a design.",
         ],
         {"force": "kN"},
         tables,
+        [("checks", {"ratio": 1.0, "slenderness": 180})],
     )
     return Sample("footbridge_truss", doc, toml)
 

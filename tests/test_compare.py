@@ -224,7 +224,7 @@ def test_cli_exit_status_json_schema_and_pdf(tmp_path):
 def test_pdf_clouds_and_numbers(tmp_path):
     from dxftruss.report.pdf.compare import cloud_corners, write_compare_pdf
 
-    from .pdf_look import outside, read_pages
+    from .pdf_look import outside, overlaps, read_pages
 
     (a, ta), (b, tb) = _sample_pair(tmp_path)
     cmp = compare(check(a, Settings(loads=str(ta))), check(b, Settings(loads=str(tb))))
@@ -239,9 +239,24 @@ def test_pdf_clouds_and_numbers(tmp_path):
     for label in ("1", "2-5", "6", "7", "8", "9"):
         assert label in words, label
     assert not outside(texts, size)
+    assert not overlaps(texts)  # the triangles' numbers keep clear of each other
     table = " ".join(t.text for t in pages[1][1])
     assert "member-moved" in table and "force-changed" in table
     # a cloud along a member is a rectangle of the member's length plus twice the pad
     corners = cloud_corners(("seg", (0.0, 0.0), (30.0, 40.0)), pad=5.0)
     assert math.dist(corners[0], corners[1]) == pytest.approx(50.0 + 10.0)
     assert math.dist(corners[1], corners[2]) == pytest.approx(10.0)
+
+
+def test_no_changes_pdf_and_json_on_standard_output(tmp_path, capsys):
+    from .pdf_look import read_pages
+
+    a = _pratt(tmp_path / "a.dxf")
+    b = _pratt(tmp_path / "b.dxf", shift=(0.2, 0.2))  # 0.28 mm < 0.5 mm
+    pdf = tmp_path / "same.pdf"
+    assert main(["compare", str(a), str(b), "--snap", SNAP, "--pdf", str(pdf), "--json", "-"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["changes"] == [] and set(doc["summary"].values()) == {0}
+    assert doc["unchanged"] == {"members": 4 * N + 1, "findings": len(check(a, Settings(snap=SNAP)).findings)}
+    words = " ".join(t.text for _, texts in read_pages(pdf) for t in texts)
+    assert "No changes" in words and "0 change(s)" in words

@@ -229,7 +229,8 @@ def test_json_cut_list_matches_the_cut_list(pratt, tmp_path):
     groups = cl["parts"][0]["groups"]
     assert sum(g["count"] for g in groups) == 25
     u0l1 = next(m for m in cl["parts"][0]["members"] if m["length"] == pytest.approx(5.0) and m["ends"][0]["joint"])
-    assert all(0.0 <= a["angle_deg"] <= 90.0 for end in u0l1["ends"] for a in end["against"])
+    assert all(0.0 <= a <= 90.0 for end in u0l1["ends"] for a in end["angles_deg"])
+    assert all(len(end["against"]) == len(end["angles_deg"]) for end in u0l1["ends"])
     assert cut_list_csv(pratt).count("\r\n") == len(groups) + 1
 
 
@@ -265,3 +266,28 @@ def test_pdf_cut_list_page(pratt, tmp_path):
     assert any(w == "5.0000" for w in words)  # sqrt(4^2 + 3^2) m at the 0.5 mm tolerance's resolution
     assert not outside(texts, size)
     assert not overlaps(texts)
+
+
+def test_overhang_listed_apart(tmp_path):
+    """A tie drawn 0.6 m past the support joint L0 is an overhang (habits.py): not a
+    member of the model, listed apart with its length and the joint it hangs from."""
+    segs = [*pratt_segments(N, A, H), (-0.6, 0.0, 0.0, 0.0)]
+    path = write_drawing(tmp_path / "o.dxf", segs, supports=[(0.0, 0.0, "XY"), (N * A, 0.0, "Y")], units=6)
+    r = check(path, Settings())
+    cl = cut_list(r)
+    assert sum(g.count for g in cl.parts[0].groups) == 25  # the Pratt's members only
+    (o,) = cl.overhangs
+    assert o.length == pytest.approx(0.6) and o.at == pytest.approx((0.0, 0.0))
+    from dxftruss.report.json import report_dict
+
+    assert report_dict(r)["cut_list"]["overhangs"] == [{"layer": "TRUSS", "length": 0.6, "at": [0.0, 0.0]}]
+
+
+def test_json_lists_members_up_to_the_limit(pratt, monkeypatch):
+    import dxftruss.report.json as js
+
+    assert js.report_dict(pratt)["cut_list"]["members_listed"] is True
+    monkeypatch.setattr(js, "JSON_CUT_MEMBERS", 10)  # the Pratt has 25 members
+    cl = js.report_dict(pratt)["cut_list"]
+    assert cl["members_listed"] is False and cl["parts"][0]["members"] == []
+    assert sum(len(g["members"]) for g in cl["parts"][0]["groups"]) == 25  # every member still in a group

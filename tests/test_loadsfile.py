@@ -62,7 +62,7 @@ def test_good_file(tmp_path):
         ("[[support]]\nat=[0,0]\nfix='w'\n", "[[support]] #1: 'fix'"),
         ("[units]\nforce='tonnes'\n", "known units"),
         ("[units]\nlength='furlong'\n", "[units] length"),
-        ("[[section]]\nlayer='A'\narea=4800\nE='210 GPa'\n", "[[section]] #1 area"),
+        ("[[section]]\nlayer='A'\narea=4800\nE='210 GPa'\n", "[[section]] #1: 'area' needs a unit"),
         ("[[section]]\nlayer='A'\narea='4800 mm2'\nE='210 GPx'\n", "known units"),
         ("[[combination]]\nname='c'\nfactors={a='x'}\n", "[[combination]] #1"),
         ("[loadz]\n", "unknown table 'loadz'"),

@@ -295,3 +295,21 @@ def test_front_view_defaults_are_the_xy_defaults(tmp_path):
     assert set(ref) == set(got)
     for k, v in ref.items():
         assert got[k] == pytest.approx(v, rel=1e-9, abs=1e-12)
+
+
+def test_front_view_streamed_is_the_library_reading(tmp_path):
+    """3-D LINEs read by the streaming reader give the same report as the library
+    reader (reference: the library reader, dxftruss/read/stream.py's contract)."""
+    from dxftruss.report.json import to_json
+
+    segs = np.asarray(pratt_segments(N, A, H), float).reshape(-1, 2, 2)
+    s3 = np.zeros((len(segs), 2, 3))
+    s3[:, :, 0] = segs[:, :, 0]
+    s3[:, :, 1] = -2.5
+    s3[:, :, 2] = segs[:, :, 1] + 1.0
+    dwg = _write_3d(tmp_path / "front.dxf", s3)
+    pts = [(i * A, 1.0) for i in range(N + 1)]  # in-plane y = world z
+    loads = str(_loads_file(tmp_path / "f.toml", pts))
+    streamed = check(dwg, Settings(loads=loads, stream_line_work=True))
+    assert streamed.plane is not None and streamed.cases
+    assert to_json(streamed) == to_json(check(dwg, Settings(loads=loads)))

@@ -274,7 +274,9 @@ ALLOWED = {
     "support": {"at", "fix"},
     "load": {"at", "fx", "fy", "case"},
     "combination": {"name", "factors"},
-    "section": {"layer", "area", "E"},
+    "section": {"layer", "area", "E", "shape", "D", "t", "strength", "density", "name"},
+    "checks": {"ratio", "slenderness"},
+    "moving_load": {"name", "from", "to", "loads", "spacing"},
 }
 AREA_UNITS = ("mm2", "cm2", "m2", "in2")
 MODULUS_UNITS = ("MPa", "GPa", "N/mm2", "ksi")
@@ -286,7 +288,7 @@ def test_loads_file_follows_spec(generated: Path, name: str) -> None:
     assert set(data) <= set(ALLOWED)
     assert data["units"]["force"] in ("kN", "N", "kip", "lbf")
     assert set(data["units"]) <= ALLOWED["units"]
-    for table in ("support", "load", "combination", "section"):
+    for table in ("support", "load", "combination", "section", "moving_load"):
         entries = data.get(table, [])
         assert isinstance(entries, list)  # arrays of tables: [[load]], not [load]
         for entry in entries:
@@ -299,10 +301,15 @@ def test_loads_file_follows_spec(generated: Path, name: str) -> None:
     cases = {entry.get("case", "main") for entry in data["load"]}
     msp = read(generated, name).modelspace()
     drawn_cases = {e.dxf.layer.split("-", 1)[1] for e in msp if e.dxf.layer.startswith("LOAD-")}
+    if any("density" in entry for entry in data.get("section", [])):
+        cases.add("self-weight")  # the self-weight case the densities make
     for combo in data.get("combination", []):
         assert set(combo["factors"]) <= cases | drawn_cases
         assert combo["name"] not in cases | drawn_cases
     for entry in data.get("section", []):
+        if "shape" in entry:  # the area is computed from the shape's dimensions
+            assert entry["shape"] in ("rectangle", "round-hollow", "square-hollow")
+            continue
         value, unit = entry["area"].split()
         assert float(value) > 0 and unit in AREA_UNITS
         value, unit = entry["E"].split()

@@ -204,6 +204,23 @@ class _Plain:
                 "check the rafter or chord for the bending this moment causes at the joint (not part of a "
                 "pin-jointed check), or move the load onto a joint"
             )
+        if c is Code.SELF_WEIGHT_INCOMPLETE:
+            return (
+                'give the members named a density in their [[section]] (e.g. density = "7850 kg/m3"), or a '
+                "[[section]] of their own, so their weight is counted"
+            )
+        if c is Code.MEMBER_OVER_RATIO and f.members:
+            return (
+                f"check {member_id(f.members[0])} to the applicable code with its real buckling length, end "
+                "connections and bracing; if the ratio stands, choose a larger section and check again"
+            )
+        if c is Code.SLENDER_MEMBER and f.members:
+            return (
+                f"brace {member_id(f.members[0])} between its joints or choose a section with a larger radius "
+                "of gyration, then check its buckling length to the applicable code"
+            )
+        if c is Code.MOVING_LOAD_UNSOLVED:
+            return "make the part carrying the moving load's chord stable and solvable first (see its findings)"
         if c is Code.NEAR_MECHANISM and d.get("kind") == "local" and f.joints:
             return f"brace {joint_id(f.joints[0])} across the line of its members, or draw them as one straight member"
         return ""

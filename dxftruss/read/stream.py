@@ -27,7 +27,8 @@ So does a record whose layer name is not a valid DXF layer name (the audit would
 it), whose value does not convert, or that follows a record which may link it (INSERT,
 POLYLINE, VERTEX, ATTRIB). The whole file goes to the library reader (``None``) when the
 stream cannot be sure it reads what the library would: a binary file, more than one
-ENTITIES section, an EOF before it, a section that does not close, a duplicated handle
+ENTITIES section, an EOF before it, a section that does not close, lines that are not
+pairs of a group code and a value, a group code 0 spelt unusually, a duplicated handle
 or one at or above the header's handle seed, a plain record owned by anything but model
 space, a model-space entity of the library whose place in the file cannot be found, or
 any failure of the library on the rest (it then meets the same failure on the whole
@@ -41,12 +42,9 @@ import re
 from pathlib import Path
 from typing import Any
 
-import numpy as np
-
 #: record types after which a record may be linked to the one before (ezdxf's entity linker)
 _LINKING = frozenset({"INSERT", "POLYLINE", "VERTEX", "ATTRIB"})
 _HEX = re.compile(r"[0-9A-F]+\Z")
-_HEXES = re.compile(r"[0-9A-F]+(?:\n[0-9A-F]+)*")
 _LW_FLAGS = frozenset({0, 1, 128, 129})
 _Z_AXIS = (0.0, 0.0, 1.0)
 
@@ -151,106 +149,115 @@ def _text(path: Path) -> str | None:
         return fp.read()
 
 
-def _entities_head(lines: list[str]) -> int | None:
-    """Index of the line ``ENTITIES`` of the one ENTITIES section head, or None."""
-    try:
-        j = lines.index("ENTITIES")
-        lines.index("ENTITIES", j + 1)
-        return None  # two: a text value or a second section; the library decides
-    except ValueError:
-        pass
-    if j < 3 or lines[j - 1].strip() != "2" or lines[j - 2].strip() != "SECTION" or lines[j - 3].strip() != "0":
+#: one record of the ENTITIES section: its group code 0 line, its type, then pairs of
+#: lines whose code line is not a plain 0 (an unusual spelling of 0 inside a record is
+#: caught when the record's codes are converted)
+_RECORD = re.compile(r"[ \t]*[+-]?0+[ \t]*\n([^\n]*)\n((?:(?![ \t]*[+-]?0+[ \t]*\n)[^\n]*\n[^\n]*\n)*)")
+
+
+def _entities_start(text: str) -> int | None:
+    """Where the records of the one ENTITIES section start (after its head), or None."""
+    j = text.find("\nENTITIES\n")
+    if j < 0 or text.find("\nENTITIES\n", j + 1) >= 0:
+        return None  # none, or a text value or a second section: the library decides
+    before = text[:j].rsplit("\n", 3)
+    if len(before) < 3 or before[-1].strip() != "2" or before[-2].strip() != "SECTION":
+        return None
+    if before[-3].strip() != "0":
         return None
     # an EOF record before the section ends the file there for the library
-    k = -1
-    while True:
+    k = text.find("\nEOF\n", 0, j)
+    while k >= 0:
+        line_start = text.rfind("\n", 0, k) + 1
         try:
-            k = lines.index("EOF", k + 1, j)
+            if int(text[line_start:k]) == 0:
+                return None
         except ValueError:
-            break
-        if k == 0 or lines[k - 1].strip() == "0":
-            return None
-    return j
+            pass
+        k = text.find("\nEOF\n", k + 1, j)
+    if text.startswith(("EOF\n", "0\nEOF\n")):
+        return None
+    return j + len("\nENTITIES\n")
 
 
 def _read(path: Path) -> Streamed | None:
     text = _text(path)
     if text is None:
         return None
-    lines = text.split("\n")
-    del text
-    j = _entities_head(lines)
-    if j is None:
+    start = _entities_start(text)
+    if start is None:
         return None
-    codes = lines[j + 1 :: 2]
-    values = lines[j + 2 :: 2]
-    # the section's end: the first ENDSEC value on a group code 0 line
-    end = -1
-    while True:
-        end = values.index("ENDSEC", end + 1)  # ValueError: unclosed, the library decides
-        if codes[end].strip() == "0":
-            break
-    codes = codes[:end]
-    values = values[:end]
-    icodes = np.fromiter(map(int, codes), dtype=np.int64, count=len(codes))
-    starts = np.flatnonzero(icodes == 0).tolist()
-    if len(codes) and (not starts or starts[0] != 0):
-        return None
-    bounds = [*starts, len(codes)]
 
-    # which records may be plain: grouped by their exact group codes
-    groups: dict[tuple[str, ...], list[int]] = {}
-    kept: list[int] = []
+    from ezdxf.lldxf.validator import is_valid_layer_name
+
+    plans: dict[tuple[str, ...], tuple[int, ...] | None] = {}
+    layer_ok: dict[str, bool] = {}
+    plain: list[tuple[int, Any, str | None]] = []  # (record, stand-in, owner)
+    kept: list[tuple[int, int, int]] = []  # (record, text start, text end)
+    place: dict[str, int] = {}  # handle -> record of the records the library reads
     prev = ""
-    for r in range(len(starts)):
-        a, b = bounds[r], bounds[r + 1]
-        t = values[a]
+    pos = start
+    r = 0
+    match = _RECORD.match
+    while True:
+        m = match(text, pos)
+        if m is None:
+            return None  # not pairs of lines up to a record: the library decides
+        t = m.group(1)
         if t != "LINE" and t != "LWPOLYLINE":
             t = t.strip()
-            if t in ("SECTION", "ENDSEC", "EOF"):
+            if t == "ENDSEC":
+                break
+            if t in ("SECTION", "EOF"):
                 return None
-        if (t == "LINE" or t == "LWPOLYLINE") and prev not in _LINKING:
-            sig = (t, *codes[a + 1 : b])
-            rows = groups.get(sig)
-            if rows is None:
-                rows = groups[sig] = []
-            rows.append(r)
+        parts = m.group(2).split("\n")
+        codes = parts[0:-1:2]
+        sig = (t, *codes)
+        if sig in plans:
+            plan = plans[sig]
         else:
-            kept.append(r)
+            ints = [int(c) for c in codes]  # ValueError: a bad group code, the library's
+            if 0 in ints:
+                return None  # a record start spelt unusually: the library decides
+            plan = plans[sig] = _plan(t, ints)
+        item = None
+        if plan is not None and prev not in _LINKING:
+            values = parts[1::2]
+            try:
+                item = _line(values, plan) if t == "LINE" else _polyline(values, plan)
+            except ValueError:  # a value that does not convert: the library reports it
+                item = None
+            if item is not None:
+                layer = item[0].layer
+                ok = layer_ok.get(layer)
+                if ok is None:
+                    ok = layer_ok[layer] = bool(is_valid_layer_name(layer))
+                if not ok:
+                    item = None
+        if item is not None:
+            plain.append((r, item[0], item[1]))
+        else:
+            kept.append((r, m.start(), m.end()))
+            handle = _handle_of(codes, parts, sig, plans)
+            if handle is not None:
+                if handle in place:
+                    return None
+                place[handle] = r
         prev = t
+        pos = m.end()
+        r += 1
+    end = m.start()
 
-    vals = np.array(values, dtype=object)
-    plain: list[tuple[int, Any, str | None]] = []  # (record, stand-in, owner)
-    layer_ok: dict[str, bool] = {}
-    for sig, rows in groups.items():
-        plan = _plan(sig[0], [int(c) for c in sig[1:]])
-        if plan is None:
-            kept.extend(rows)
-            continue
-        at = np.array([bounds[r] for r in rows], dtype=np.int64)
-        read = _lines if sig[0] == "LINE" else _polylines
-        items, ok = read(vals, at, plan, layer_ok)
-        chosen = [r for r, good in zip(rows, ok.tolist(), strict=True) if good]
-        kept.extend(r for r, good in zip(rows, ok.tolist(), strict=True) if not good)
-        plain.extend((r, e, owner) for r, (e, owner) in zip(chosen, items, strict=True))
-    kept.sort()
+    from ezdxf.document import Drawing
 
-    head = lines[: j + 1]
-    tail = lines[j + 1 + 2 * end :]
-    section = lines[j + 1 : j + 1 + 2 * end]
-
-    def partial(keep: list[int]) -> Any:
-        from ezdxf.document import Drawing
-
-        parts = [*head]
-        for r in keep:
-            parts.extend(section[2 * bounds[r] : 2 * bounds[r + 1]])
-        parts.extend(tail)
-        doc = Drawing.read(io.StringIO("\n".join(parts)))
-        doc.filename = str(path)
-        return doc
-
-    doc = partial(kept)
+    # the library's document of the rest: the file without the plain records
+    pieces = [text[:start]]
+    pieces.extend(text[a:b] for _, a, b in kept)
+    pieces.append(text[end:])
+    del text
+    doc = Drawing.read(io.StringIO("".join(pieces)))
+    doc.filename = str(path)
+    del pieces
     if not plain:
         return Streamed(doc, list(doc.modelspace()), 0)
     msp_record = doc.block_records.get("*Model_Space")
@@ -268,19 +275,7 @@ def _read(path: Path) -> Streamed | None:
     seed = int(str(doc.header.get("$HANDSEED", "0")), 16)
     if max(int(h, 16) for h in handles) >= seed:
         return None
-
     # where the library's model-space entities were in the file: by handle
-    place: dict[str, int] = {}
-    code_list = icodes.tolist()
-    for r in kept:
-        a, b = bounds[r], bounds[r + 1]
-        for q in range(a + 1, b):
-            if code_list[q] in (5, 105):
-                h = values[q]
-                if h in place:
-                    return None
-                place[h] = r
-                break
     ordered: list[tuple[int, Any]] = [(r, e) for r, e, _ in plain]
     for e in doc.modelspace():
         where = place.get(e.dxf.handle)
@@ -291,9 +286,22 @@ def _read(path: Path) -> Streamed | None:
     return Streamed(doc, [e for _, e in ordered], len(plain))
 
 
+def _handle_of(codes: list[str], parts: list[str], sig: tuple[str, ...], plans: dict[Any, Any]) -> str | None:
+    """The handle (group code 5, or 105 for DIMENSION) of a record the library reads."""
+    key = ("handle at", *sig)
+    at = plans.get(key)
+    if at is None:
+        ints = [int(c) for c in codes]
+        at = plans[key] = next((k for k, c in enumerate(ints) if c in (5, 105)), -1)
+    return parts[2 * at + 1] if at >= 0 else None
+
+
 def _plan(t: str, codes: list[int]) -> tuple[int, ...] | None:
-    """Offsets (from the record's code 0) of the values a plain record is read from, or
-    None when the record's group codes are not exactly those of a plain record."""
+    """Where (index into the record's values after its type) a plain record's values
+    are, -1 for an optional one left out; None when the record's group codes are not
+    exactly those of a plain record."""
+    if t not in ("LINE", "LWPOLYLINE"):
+        return None
     k = 0
     n = len(codes)
 
@@ -301,120 +309,71 @@ def _plan(t: str, codes: list[int]) -> tuple[int, ...] | None:
         nonlocal k
         if k < n and codes[k] == code:
             k += 1
-            return k  # offset of the value: codes[0] is the record's second pair
-        return 0
+            return k - 1
+        return -1
 
     handle = take(5)
     owner = take(330)
     m1 = take(100)
     layer = take(8)
     m2 = take(100)
-    if not handle or not layer or (t == "LWPOLYLINE" and not m1) or bool(m1) != bool(m2):
+    if handle < 0 or layer < 0 or (t == "LWPOLYLINE" and m1 < 0) or (m1 < 0) != (m2 < 0):
         return None
     if t == "LINE":
         x1, y1, z1 = take(10), take(20), take(30)
         x2, y2, z2 = take(11), take(21), take(31)
-        if k != n or not (x1 and y1 and x2 and y2):
+        if k != n or min(x1, y1, x2, y2) < 0:
             return None
         return (handle, owner, m1, layer, m2, x1, y1, z1, x2, y2, z2)
     count, flags = take(90), take(70)
     width = take(43)
-    if not count or not flags:
+    if count < 0 or flags < 0:
         return None
-    first = k + 1
     rest = codes[k:]
-    if rest != [10, 20] * (len(rest) // 2) or len(rest) % 2:
+    if len(rest) % 2 or rest != [10, 20] * (len(rest) // 2):
         return None
-    return (handle, owner, m1, layer, m2, count, flags, width, first, len(rest) // 2)
+    return (handle, owner, m1, layer, m2, count, flags, width, k, len(rest) // 2)
 
 
 _SUBCLASS = {"LINE": "AcDbLine", "LWPOLYLINE": "AcDbPolyline"}
 
 
-def _common(
-    vals: np.ndarray, at: np.ndarray, plan: tuple[int, ...], t: str, layer_ok: dict[str, bool]
-) -> tuple[list[str], list[str | None], list[str], np.ndarray]:
-    """Handles, owners, layers and which records have a plain handle, subclass markers
-    and a valid layer name (the audit would rename an invalid one)."""
-    from ezdxf.lldxf.validator import is_valid_layer_name
-
+def _common(v: list[str], plan: tuple[int, ...], t: str) -> tuple[str, str | None, str] | None:
     handle, owner, m1, layer, m2 = plan[:5]
-    handles = vals[at + handle].tolist()
-    ok = np.ones(len(at), dtype=bool)
-    if not _HEXES.fullmatch("\n".join(handles)) or "0" in handles:
-        ok &= np.array([bool(_HEX.match(h)) and h != "0" for h in handles], dtype=bool)
-    if m1:
-        ok &= (vals[at + m1] == "AcDbEntity") & (vals[at + m2] == _SUBCLASS[t])
-    layers = vals[at + layer].tolist()
-    for name in set(layers).difference(layer_ok):
-        layer_ok[name] = bool(is_valid_layer_name(name))
-    if not all(layer_ok[name] for name in set(layers)):
-        ok &= np.array([layer_ok[name] for name in layers], dtype=bool)
-    owners = vals[at + owner].tolist() if owner else [None] * len(at)
-    return handles, owners, layers, ok
+    h = v[handle]
+    if not _HEX.match(h) or h == "0":
+        return None
+    if m1 >= 0 and (v[m1] != "AcDbEntity" or v[m2] != _SUBCLASS[t]):
+        return None
+    return h, (v[owner] if owner >= 0 else None), v[layer]
 
 
-def _floats(cells: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Values (an object array of text, one row per record) as floats the way the
-    library converts them (Python's float), and which rows all converted."""
-    try:
-        return cells.astype(float), np.ones(len(cells), dtype=bool)
-    except ValueError:
-        pass
-    out = np.zeros(cells.shape)
-    ok = np.ones(len(cells), dtype=bool)
-    for i, row in enumerate(cells):
-        try:
-            out[i] = row.astype(float)
-        except ValueError:  # the library reports this record's value
-            ok[i] = False
-    return out, ok
+def _line(v: list[str], plan: tuple[int, ...]) -> tuple[PlainLine, str | None] | None:
+    common = _common(v, plan, "LINE")
+    if common is None:
+        return None
+    h, owner, layer = common
+    x1, y1, z1, x2, y2, z2 = plan[5:]
+    # as the library converts them (Python's float); a 2-D point has z 0
+    start = (float(v[x1]), float(v[y1]), float(v[z1]) if z1 >= 0 else 0.0)
+    end = (float(v[x2]), float(v[y2]), float(v[z2]) if z2 >= 0 else 0.0)
+    return PlainLine(start, end, h, layer), owner
 
 
-def _lines(
-    vals: np.ndarray, at: np.ndarray, plan: tuple[int, ...], layer_ok: dict[str, bool]
-) -> tuple[list[tuple[PlainLine, str | None]], np.ndarray]:
-    """The plain LINEs of one group code layout: (stand-in, owner) per record that is
-    plain, and which records are."""
-    handles, owners, layers, ok = _common(vals, at, plan, "LINE", layer_ok)
-    offsets = np.array(plan[5:], dtype=np.int64)
-    has = offsets > 0
-    xyz, good = _floats(vals[at[:, None] + offsets[has][None, :]])
-    ok &= good
-    coords = np.zeros((len(at), 6))
-    coords[:, has] = xyz  # a missing z (2-D point) is 0, as in the library
-    keep = np.flatnonzero(ok).tolist()
-    rows = coords[keep].tolist()
-    items = [
-        (PlainLine((c[0], c[1], c[2]), (c[3], c[4], c[5]), handles[i], layers[i]), owners[i])
-        for i, c in zip(keep, rows, strict=True)
-    ]
-    return items, ok
-
-
-def _polylines(
-    vals: np.ndarray, at: np.ndarray, plan: tuple[int, ...], layer_ok: dict[str, bool]
-) -> tuple[list[tuple[PlainPolyline, str | None]], np.ndarray]:
-    """The plain LWPOLYLINEs of one group code layout (all with the same vertex count)."""
-    handles, owners, layers, ok = _common(vals, at, plan, "LWPOLYLINE", layer_ok)
+def _polyline(v: list[str], plan: tuple[int, ...]) -> tuple[PlainPolyline, str | None] | None:
+    common = _common(v, plan, "LWPOLYLINE")
+    if common is None:
+        return None
+    h, owner, layer = common
     count, flags, width, first, n = plan[5:]
-    flag = np.zeros(len(at), dtype=np.int64)
-    for i in range(len(at)):
-        try:
-            if int(vals[at[i] + count]) != n:  # a count the points do not match: the library's
-                ok[i] = False
-            flag[i] = int(vals[at[i] + flags])
-            if width:
-                float(vals[at[i] + width])  # converts as the library converts it
-        except ValueError:
-            ok[i] = False
-    ok &= np.isin(flag, list(_LW_FLAGS))
-    xy, good = _floats(vals[at[:, None] + (first + np.arange(2 * n))[None, :]])
-    ok &= good
-    keep = np.flatnonzero(ok).tolist()
-    items = []
-    for i in keep:
-        pts = xy[i].reshape(n, 2).tolist()
-        points = [(x, y, 0.0) for x, y in pts]
-        items.append((PlainPolyline(points, bool(flag[i] & 1), handles[i], layers[i]), owners[i]))
-    return items, ok
+    if int(v[count]) != n:  # a count the points do not match: the library's
+        return None
+    f = int(v[flags])
+    if f not in _LW_FLAGS:
+        return None
+    if width >= 0:
+        float(v[width])  # converts as the library converts it, or the record is the library's
+    xs = v[first : first + 2 * n : 2]
+    ys = v[first + 1 : first + 2 * n : 2]
+    points = [(float(x), float(y), 0.0) for x, y in zip(xs, ys, strict=True)]
+    return PlainPolyline(points, bool(f & 1), h, layer), owner

@@ -20,6 +20,12 @@ CAUTION = (
     "work of a qualified engineer under the codes that apply where the structure is built."
 )
 
+#: said wherever zero-force members are listed
+ZERO_FORCE_CAUTION = (
+    "zero-force members carry nothing under this load only: they may still brace the truss "
+    "(a compression chord's buckling length) and carry load under other cases; do not remove them on this result"
+)
+
 #: finding codes that state an assumption the tool made
 ASSUMPTION_CODES = (
     Code.ASSUMED_UNITS,

@@ -43,7 +43,8 @@ def angles_text(angles: tuple[float, ...]) -> str:
 def _end(end: EndCut) -> dict[str, Any]:
     return {
         "joint": joint_id(end.joint),
-        "against": [{"member": member_id(o), "angle_deg": _n(a)} for o, a in end.against],
+        "against": [member_id(o) for o, _ in end.against],
+        "angles_deg": [_n(a) for _, a in end.against],
     }
 
 
@@ -51,10 +52,17 @@ def _total(t: Total) -> dict[str, Any]:
     return {"layer": t.layer, "section": t.section, "count": t.count, "length": _n(t.length)}
 
 
-def cut_list_dict(cl: CutList, names: Any = None) -> dict[str, Any]:
+#: the JSON lists every member's end cuts for trusses of at most this many members; a
+#: larger truss gets the groups (every member named in one, with its mark and the end
+#: angles) and the totals, so the report of a 100k-member drawing stays quick to write
+JSON_CUT_MEMBERS = 20_000
+
+
+def cut_list_dict(cl: CutList, *, list_members: bool = True) -> dict[str, Any]:
     """The ``cut_list`` object of the JSON report (docs/report-format.md, cut_list)."""
     return {
         "unit": cl.unit,
+        "members_listed": list_members,
         "length_tolerance": _n(cl.length_tol),
         "angle_tolerance_deg": _n(cl.angle_tol),
         "definition": definition(cl),
@@ -68,12 +76,10 @@ def cut_list_dict(cl: CutList, names: Any = None) -> dict[str, Any]:
                     {
                         "member": member_id(m.member),
                         "mark": m.mark,
-                        "layer": m.layer,
-                        "section": m.section,
                         "length": _n(m.length),
                         "ends": [_end(m.ends[0]), _end(m.ends[1])],
                     }
-                    for m in p.members
+                    for m in (p.members if list_members else ())
                 ],
                 "groups": [
                     {
@@ -92,6 +98,9 @@ def cut_list_dict(cl: CutList, names: Any = None) -> dict[str, Any]:
             for p in cl.parts
         ],
         "totals": [_total(t) for t in cl.totals],
+        "overhangs": [
+            {"layer": o.layer, "length": _n(o.length), "at": [_n(o.at[0]), _n(o.at[1])]} for o in cl.overhangs
+        ],
     }
 
 

@@ -18,7 +18,8 @@ from ..cutlist import cut_list
 from ..model import LoadOrigin, Support, Truss, entity_ref, joint_id, member_id
 from ..naming import finding_entities, finding_parts, part_index
 from . import CAUTION, assumptions
-from .cutlist import cut_list_dict
+from .cutlist import JSON_CUT_MEMBERS, cut_list_dict
+from .json_engineering import engineering_dict
 
 _encode_string = json.encoder.encode_basestring  # json's own (C) string writer, ensure_ascii=False
 
@@ -311,7 +312,8 @@ def _report(result: Result, pieces: dict[str, str] | None) -> dict[str, Any]:
         ],
         "cases": [_case(result, c, pieces) for c in result.cases],
         "symmetry": {"axis_x": _num(result.symmetry_axis) if result.symmetry_axis is not None else None},
-        "cut_list": cut_list_dict(cut_list(result)),
+        "engineering": engineering_dict(result),
+        "cut_list": cut_list_dict(cut_list(result), list_members=t.n_members <= JSON_CUT_MEMBERS),
         "caution": CAUTION,
     }
     if result.space is not None:
@@ -526,6 +528,8 @@ def _origin(o: LoadOrigin | None) -> dict[str, Any] | None:
         return {"kind": "loads-file", "entry": o.entry}
     if o.kind == "line-load":
         return {"kind": "line-load", "line_load": o.text}
+    if o.kind == "self-weight":
+        return {"kind": "self-weight", "case": o.text}
     return {
         "kind": "text",
         "text": o.text,

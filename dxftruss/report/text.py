@@ -18,7 +18,8 @@ from ..escape import shown
 from ..findings import Severity
 from ..model import joint_id, member_id
 from ..naming import finding_parts, part_index, where_drawn
-from . import CAUTION, assumptions
+from . import CAUTION, ZERO_FORCE_CAUTION, assumptions
+from .text_engineering import engineering_summary
 
 if TYPE_CHECKING:
     from ..result import Result
@@ -157,7 +158,7 @@ def summary(result: Result, *, max_findings: int = 40, width: int = 110, color: 
             ct.add_row(_text(name), _text(tension), _text(compression), _text(reactions), _text(zeros or "-"))
             if c.loads_symmetric is False and result.symmetry_axis is not None:
                 notes.append(
-                    f"case {c.name!r}: the truss is symmetric but this load is not: the reactions will not split evenly"
+                    f"case {c.name!r}: the truss is symmetric but this load is not: the reactions need not split evenly"
                 )
             lumped = next((lc.line_loads for lc in t.cases if lc.name == c.name), ())
             if lumped:
@@ -170,8 +171,11 @@ def summary(result: Result, *, max_findings: int = 40, width: int = 110, color: 
             if len(c.solved_parts) < len(t.parts):
                 notes.append(f"case {c.name!r}: solved {len(c.solved_parts)} of {len(t.parts)} parts (see findings)")
         con.print(ct)
+        if any(c.zero_by_solution for c in result.cases):
+            notes.append(ZERO_FORCE_CAUTION)
         for n in notes:
             con.print(_text(n))
+    engineering_summary(result, con, _text, _fmt)
     if result.space is not None:
         _space_cases(con, result)
     con.print(_text("caution: " + CAUTION, style="italic"))

@@ -54,6 +54,9 @@ import numpy as np
 from ..render import PageMap, Recording, checked_document, record_drawing
 from .context import _Context, _file_sha256, _report_date
 from .cutlist import _cut_list_section
+from .engineering import draw_pages as draw_engineering_pages
+from .engineering import drawing_pages as engineering_drawing_pages
+from .engineering import engineering_section
 from .format import clean_reactions, fmt_force, fmt_num, register_fonts, shown
 from .labels import Label, LabelPlacer, convex_overlap, place_member_labels
 from .overlay import _draw_drawing_page
@@ -132,8 +135,10 @@ def write_pdf(
     """Write the marked-up PDF of ``result`` to ``path``.
 
     Pages: one drawing page per load case and combination (one bare page when there is
-    none), one page per mechanism mode (at most ``max_mechanism_pages``), the findings
-    list, then the tables. ``page`` is A4, A3, letter or tabloid; drawing pages turn to
+    none), the envelope and the deflected shape (engineering results), one page per
+    mechanism mode (at most ``max_mechanism_pages``), the findings list, the tables,
+    then the engineering results' tables and influence lines. ``page`` is A4, A3, letter
+    or tabloid; drawing pages turn to
     landscape when that gives the drawing a larger scale. Tables list at most
     ``max_table_rows`` rows each (the JSON report has everything).
     """
@@ -198,10 +203,11 @@ def write_pdf(
     flow.finish_page()
     _tables_section(ctx, flow, max_rows=max_table_rows)
     flow.finish_page()
+    engineering_section(ctx, flow, max_rows=max_table_rows)
     _cut_list_section(ctx, flow, max_rows=max_table_rows)
     flow.finish_page()
     n_flow = flow.pages
-    n_drawing = max(1, len(r.cases)) + len(mech_jobs)
+    n_drawing = max(1, len(r.cases)) + len(mech_jobs) + engineering_drawing_pages(ctx)
     ctx.total_pages = n_drawing + n_flow
     ctx.page_no = 0
 
@@ -232,6 +238,7 @@ def write_pdf(
             max_labels=max_labels,
             max_markers=max_markers,
         )
+    draw_engineering_pages(ctx, c, max_labels=max_labels, max_markers=max_markers)
     for k, (st, md, i, n) in enumerate(mech_jobs, 1):
         title = f"Mechanism: part {st.part + 1}, mode {i} of {n}"
         if k == len(mech_jobs) and n_modes > len(mech_jobs):
@@ -251,6 +258,7 @@ def write_pdf(
     flow.finish_page()
     _tables_section(ctx, flow, max_rows=max_table_rows)
     flow.finish_page()
+    engineering_section(ctx, flow, max_rows=max_table_rows)
     _cut_list_section(ctx, flow, max_rows=max_table_rows)
     flow.finish_page()
     c.showOutline()

@@ -24,7 +24,10 @@ TOTAL_COLUMNS = (Column("layer", 150, clip=True), Column("section", 150, clip=Tr
 def _cut_list_section(ctx: _Context, flow: _Flow, *, max_rows: int = 5000) -> None:
     """The cut list pages: one heading per part (a repeated part points to the part it repeats)."""
     r = ctx.result
-    cl = cut_list(r)
+    cl = getattr(ctx, "cut_list", None)  # the dry run that counts the pages computed it
+    if cl is None:
+        cl = cut_list(r)
+        setattr(ctx, "cut_list", cl)  # noqa: B010 - a cache on the shared context, not one of its fields
     unit = cl.unit
     flow.start_section("Cut list", "cutlist")
     flow.para(definition(cl), size=7.2)
@@ -103,5 +106,18 @@ def _cut_list_section(ctx: _Context, flow: _Flow, *, max_rows: int = 5000) -> No
             )
         if len(cl.parts) > 1:
             flow.table([*TOTAL_COLUMNS, Column(f"length ({unit})", 80, "r")], _totals_rows(cl, p.totals))
+    if cl.overhangs:
+        flow.heading(f"Overhangs ({len(cl.overhangs)}): not in the model, add to the member they continue", "cut-over")
+        flow.table(
+            [
+                Column("layer", 150, clip=True),
+                Column(f"length ({unit})", 80, "r"),
+                Column(f"from the joint at ({unit})", 160),
+            ],
+            (
+                [o.layer, length_number(cl, o.length), f"({length_number(cl, o.at[0])}, {length_number(cl, o.at[1])})"]
+                for o in cl.overhangs
+            ),
+        )
     flow.heading("Totals per layer and section (every part counted)", "cut-totals")
     flow.table([*TOTAL_COLUMNS, Column(f"total length ({unit})", 90, "r")], _totals_rows(cl, cl.totals))
