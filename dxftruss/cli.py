@@ -1,9 +1,11 @@
 """The command line: argument parsing, the only printing, and the exit codes.
 
-Exit status: 0 no error findings; 1 error findings (a mechanism included);
+Exit status (check): 0 no error findings; 1 error findings (a mechanism included);
 2 the input could not be read, an option or the loads file is wrong, a report could
 not be written, standard output was closed early, or an internal error (reported in
-one line, never a traceback); 130 after Ctrl-C, 143 after SIGTERM.
+one line, never a traceback); 130 after Ctrl-C, 143 after SIGTERM. ``compare``: 0
+compared and no new error finding, 1 the new revision has error findings the old did
+not, 2 and the signals as for check.
 """
 
 from __future__ import annotations
@@ -26,6 +28,7 @@ examples:
   dxftruss check bridge.dxf --units m --snap 0.5mm --near-miss 20mm --layers "CHORD*" --layers "WEB*"
   dxftruss check bridge.dxf --json -            JSON on standard output, summary on standard error
   dxftruss check drawings/ --json reports/      every *.dxf in a folder, one report each, both cores
+  dxftruss check roof.dxf --csv roof.cutlist.csv  the cut list as CSV (also a PDF page and in the JSON)
 
 drawing conventions:
   members   LINE, LWPOLYLINE and POLYLINE on any layer except SUPPORT* and LOAD*

@@ -9,6 +9,9 @@ Glossary:
                    characters ``<>/\\":;?*|=`` and control characters in table names;
                    :func:`dxf_name` maps a name to a legal one (each forbidden character
                    becomes ``_``) and the report lists every name it changed.
+    CSV cell       a cell of the cut-list CSV: shown text, and a cell starting with
+                   ``=``, ``+``, ``-`` or ``@`` gets a leading ``'`` (:func:`csv_cell`)
+                   so a spreadsheet shows it as text and never runs it as a formula.
 
 One function per job; every printer in the command line and every report that writes
 names from the drawing goes through them.

@@ -12,7 +12,7 @@ from typing import TYPE_CHECKING, Any
 
 from ..compare import KINDS
 from ..model import joint_id
-from . import CAUTION
+from . import CAUTION, assumptions
 from .json import _UNSAFE, _jsonable, _num
 
 if TYPE_CHECKING:
@@ -31,6 +31,7 @@ def _source(r: Result) -> dict[str, Any]:
         "loads": r.settings.loads,
         "snap": _num(r.tolerances.snap),
         "errors": r.n_errors,
+        "assumptions": assumptions(r),
     }
 
 
@@ -111,5 +112,8 @@ def compare_text(cmp: Comparison) -> str:
         lines.append(f"  ... and {len(cmp.changes) - TEXT_ROWS} more (the PDF and JSON list them all)")
     if cmp.new_errors:
         lines.append(f"{len(cmp.new_errors)} new error finding(s) in the new revision")
+    for label, r in (("old", cmp.old), ("new", cmp.new)):
+        lines.append(f"assumptions ({label}):")
+        lines += [f"  - {one_line(a)}" for a in assumptions(r)]
     lines.append("caution: " + CAUTION)
     return "\n".join(lines) + "\n"

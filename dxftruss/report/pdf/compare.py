@@ -294,6 +294,12 @@ def _changes_section(cmp: Comparison, flow: _Flow) -> None:
     flow.table(cols, ([str(c.number), c.kind, c.what] for c in cmp.changes))
     if not cmp.changes:
         flow.para("No changes: the two revisions give the same model, findings and forces.")
+    from .. import assumptions
+
+    for label, r in (("old", old), ("new", new)):
+        flow.heading(f"Assumptions of the {label} revision's check")
+        for a in assumptions(r):
+            flow.para("\u2022 " + a, indent=6)
 
 
 def write_compare_pdf(cmp: Comparison, path: str | os.PathLike[str], *, page: str = "A3") -> None:
