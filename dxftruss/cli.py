@@ -347,9 +347,9 @@ def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = F
         js = None
         if json_out:
             from .outputs import write_text_chunked
-            from .report.json import to_json
+            from .report.json import json_chunks
 
-            js = to_json(result)
+            js = json_chunks(result)
             if json_out != "-":
                 # names from the drawing may hold undecodable bytes: escape, never fail
                 staged.stage(
@@ -376,7 +376,7 @@ def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = F
             )
         written = staged.commit()
         if json_out == "-" and js is not None:
-            sys.stdout.write(js)
+            sys.stdout.writelines(js)
             sys.stdout.flush()
         if written and not args.quiet:
             text += "wrote " + ", ".join(one_line(p) for p in written) + "\n"

@@ -283,8 +283,10 @@ def write_atomic(path: str | os.PathLike[str], write: Callable[[str], object]) -
     out.commit()
 
 
-def write_text_chunked(path: str | os.PathLike[str], text: str, chunk: int = 1 << 20) -> None:
-    """``text`` as UTF-8 (undecodable bytes backslash-escaped), encoded a megabyte at a
-    time: the same bytes as ``Path.write_text`` without a second copy of a large report."""
+def write_text_chunked(path: str | os.PathLike[str], text: str | list[str], chunk: int = 1 << 20) -> None:
+    """``text`` (or the strings of a list, one after another) as UTF-8, undecodable
+    bytes backslash-escaped, encoded a megabyte at a time: the same bytes as
+    ``Path.write_text`` of the whole text, without a second copy of a large report."""
+    texts = [text] if isinstance(text, str) else text
     with open(path, "w", encoding="utf-8", errors="backslashreplace") as f:
-        f.writelines(text[i : i + chunk] for i in range(0, len(text), chunk))
+        f.writelines(t[i : i + chunk] for t in texts for i in range(0, len(t), chunk))

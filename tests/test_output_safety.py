@@ -423,3 +423,5 @@ def test_chunked_text_write_gives_the_bytes_of_write_text(tmp_path):
     for chunk in (1, 7, 64, 1 << 20):
         write_text_chunked(got, text, chunk)
         assert got.read_bytes() == want.read_bytes()
+        write_text_chunked(got, [text[:100], "", text[100:333], text[333:]], chunk)  # a list of strings
+        assert got.read_bytes() == want.read_bytes()

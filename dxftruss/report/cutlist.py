@@ -48,6 +48,13 @@ def _end(end: EndCut) -> dict[str, Any]:
     }
 
 
+class _Ids:
+    """``member_id`` by index (when no list of ids is given)."""
+
+    def __getitem__(self, e: int) -> str:
+        return member_id(e)
+
+
 def _total(t: Total) -> dict[str, Any]:
     return {"layer": t.layer, "section": t.section, "count": t.count, "length": _n(t.length)}
 
@@ -58,8 +65,10 @@ def _total(t: Total) -> dict[str, Any]:
 JSON_CUT_MEMBERS = 20_000
 
 
-def cut_list_dict(cl: CutList, *, list_members: bool = True) -> dict[str, Any]:
-    """The ``cut_list`` object of the JSON report (docs/report-format.md, cut_list)."""
+def cut_list_dict(cl: CutList, *, list_members: bool = True, member_ids: list[str] | None = None) -> dict[str, Any]:
+    """The ``cut_list`` object of the JSON report (docs/report-format.md, cut_list);
+    ``member_ids``: every member's id when the caller has them (shared, not made again)."""
+    ids: Any = member_ids if member_ids is not None else _Ids()
     return {
         "unit": cl.unit,
         "members_listed": list_members,
@@ -89,7 +98,7 @@ def cut_list_dict(cl: CutList, *, list_members: bool = True) -> dict[str, Any]:
                         "section": g.section,
                         "length": _n(g.length),
                         "end_angles_deg": [[_n(a) for a in g.ends[0]], [_n(a) for a in g.ends[1]]],
-                        "members": [member_id(e) for e in g.members],
+                        "members": [ids[e] for e in g.members],
                     }
                     for g in p.groups
                 ],

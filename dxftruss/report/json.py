@@ -323,8 +323,8 @@ def _report(result: Result, pieces: dict[str, str] | None) -> dict[str, Any]:
         ],
         "cases": [_case(result, c, pieces) for c in result.cases],
         "symmetry": {"axis_x": _num(result.symmetry_axis) if result.symmetry_axis is not None else None},
-        "engineering": engineering_dict(result, pieces),
-        "cut_list": cut_list_dict(cut_list(result), list_members=t.n_members <= JSON_CUT_MEMBERS),
+        "engineering": engineering_dict(result, pieces, mid),
+        "cut_list": cut_list_dict(cut_list(result), list_members=t.n_members <= JSON_CUT_MEMBERS, member_ids=mid),
         "caution": CAUTION,
     }
     if result.space is not None:
@@ -494,9 +494,10 @@ def _forces_text(forces: Any) -> str:
     return "{" + ",".join(f"{enc(member_id(e))}:{v}" for e, v in enumerate(_texts(forces))) + "}"
 
 
-def _joined(text: str, pieces: dict[str, str]) -> str | None:
-    """``text`` with each placeholder replaced by its piece; None unless every
-    placeholder is there exactly once and nothing else looks like one."""
+def _joined(text: str, pieces: dict[str, str]) -> list[str] | None:
+    """``text`` with each placeholder replaced by its piece, as the list of strings it
+    is made of in order; None unless every placeholder is there exactly once and
+    nothing else looks like one."""
     quoted = {_encode_string(k): v for k, v in pieces.items()}
     head = _encode_string(_PIECE.format(""))[:-7]  # up to the name: '"\\u0000dxftruss piece '
     parts = text.split(head)
@@ -510,22 +511,33 @@ def _joined(text: str, pieces: dict[str, str]) -> str | None:
             return None
         out.append(piece)
         out.append(part[end + 7 :])
-    return "".join(out)
+    return out
 
 
 def to_json(result: Result) -> str:
     """The report as JSON text: ``report_dict`` as json writes it (compact, UTF-8 kept,
     no NaN), the long lists written piece by piece (the same text, faster)."""
+    return "".join(json_chunks(result))
+
+
+def json_chunks(result: Result) -> list[str]:
+    """:func:`to_json` as a list of strings in order (a file can be written from them
+    without the whole text as one more string)."""
     pieces: dict[str, str] = {}
-    text = _joined(_dumps(_report(result, pieces)), pieces)
-    pieces.clear()  # the pieces are in the text now
-    if text is None:  # a name in the drawing holds a placeholder's text: no pieces
-        text = _dumps(report_dict(result))
-    text += "\n"
+    out = _joined(_dumps(_report(result, pieces)), pieces)
+    pieces.clear()  # the list holds what is still needed
+    if out is None:  # a name in the drawing holds a placeholder's text: no pieces
+        out = [_dumps(report_dict(result))]
+    out.append("\n")
     # JSON escapes C0 itself; C1 controls (a lone CSI is an escape sequence on many
     # terminals), bidi and line separators and undecodable bytes are written as \\u
-    # escapes too, so the report can go to a terminal (``--json -``) unaltered in meaning
-    return _UNSAFE.sub(lambda m: f"\\u{ord(m.group()):04x}", text)
+    # escapes too, so the report can go to a terminal (``--json -``) unaltered in meaning;
+    # one character at a time, so chunk by chunk is the same
+    return [_UNSAFE.sub(_escape_unsafe, chunk) for chunk in out]
+
+
+def _escape_unsafe(m: re.Match[str]) -> str:
+    return f"\\u{ord(m.group()):04x}"
 
 
 _UNSAFE = re.compile("[\u007f-\u009f\u061c\u200b-\u200f\u2028-\u202e\u2060-\u2069\ufeff\ud800-\udfff]")

@@ -42,16 +42,20 @@ def _dirs(values: np.ndarray) -> list[int | None]:
     return [k if f else None for k, f in zip(ints, ok.tolist(), strict=True)]
 
 
-def engineering_dict(result: Result, pieces: dict[str, str] | None = None) -> dict[str, Any] | None:
+def engineering_dict(
+    result: Result, pieces: dict[str, str] | None = None, member_ids: list[str] | None = None
+) -> dict[str, Any] | None:
     """The ``engineering`` object, or None when the check has no engineering results.
     With ``pieces`` (json._report), the envelope's members are written as JSON text
-    into ``pieces`` (the same text json writes, without the per-member dicts)."""
+    into ``pieces`` (the same text json writes, without the per-member dicts);
+    ``member_ids``: every member's id (the report's own list, shared, not made again)."""
     eng = result.engineering
     t = result.truss
     if eng is None or not (result.cases or eng.moving):
         return None
     env = eng.envelope
     names = [s.name for s in env.sources]
+    ids = member_ids if member_ids is not None else [member_id(e) for e in range(t.n_members)]
 
     def src(k: int) -> str | None:
         return names[k] if k >= 0 else None
@@ -66,7 +70,7 @@ def engineering_dict(result: Result, pieces: dict[str, str] | None = None) -> di
         src(k) if neg else None
         for k, neg in zip(env.compression_source[idx].tolist(), (comp < 0).tolist(), strict=True)
     ]
-    mids = [member_id(e) for e in idx.tolist()]
+    mids = [ids[e] for e in idx.tolist()]
     numbers = (tens, env.tension_station[idx], comp, env.compression_station[idx])
     if pieces is not None:
         from .json import _piece
@@ -94,10 +98,10 @@ def engineering_dict(result: Result, pieces: dict[str, str] | None = None) -> di
             "reactions": reactions,
         },
         "sections": [_section(s) for s in t.sections],
-        "members_without_section": [member_id(int(e)) for e in np.flatnonzero(~eng.sections.given)]
+        "members_without_section": [ids[e] for e in np.flatnonzero(~eng.sections.given).tolist()]
         if eng.sections is not None
-        else [member_id(e) for e in range(t.n_members)],
-        "member_checks": _checks(result),
+        else list(ids),
+        "member_checks": _checks(result, ids),
         "self_weight": _self_weight(result),
         "deflections": [
             {
@@ -163,7 +167,7 @@ def _section(s: Any) -> dict[str, Any]:
     }
 
 
-def _checks(result: Result) -> dict[str, Any] | None:
+def _checks(result: Result, ids: list[str]) -> dict[str, Any] | None:
     eng = result.engineering
     assert eng is not None
     ch, ms = eng.checks, eng.sections
@@ -177,7 +181,7 @@ def _checks(result: Result) -> dict[str, Any] | None:
     cols = [_nums(a[idx]) for a in (ch.length, ch.stress_t, ch.stress_c, ch.euler, ch.slenderness, ch.buckling)]
     cols += [_nums(ch.strength[idx]), _nums(ratio)]
     members = {
-        member_id(e): {
+        ids[e]: {
             "section": labels[k],
             "length_m": c0,
             "stress_tension": c1,
