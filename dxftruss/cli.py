@@ -107,6 +107,15 @@ def build_parser() -> argparse.ArgumentParser:
     )
     c.add_argument("--page", choices=["A4", "A3", "letter", "tabloid"], default="A3", help="PDF page size (default A3)")
     c.add_argument("--quiet", action="store_true", help="print nothing but errors")
+    tb = c.add_argument_group("title block (over the loads file's [report] table and the drawing's attributes)")
+    for flag, key, what in (
+        ("--project", "project", "project name"),
+        ("--drawing-no", "drawing_no", "drawing number"),
+        ("--revision", "revision", "revision of the drawing checked"),
+        ("--checked-by", "checked_by", "name or initials of the checker"),
+        ("--check-date", "check_date", "date of the check (default: the loads file, the drawing, then today)"),
+    ):
+        tb.add_argument(flag, dest=key, metavar="TEXT", help=what)
     lay = sub.add_parser(
         "layers",
         help="list a drawing's layers and what check does with each",
@@ -267,6 +276,7 @@ def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = F
             max_members=args.max_members,
             max_file_mb=args.max_file_size or None,
             layout=args.layout,
+            report=_title_options(args),
         )
         result = _check_with_progress(drawing, settings, show=not args.quiet and not many)
         from .report.text import summary
@@ -327,6 +337,22 @@ def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = F
         # the last line of defence: one line, never a traceback
         row["message"] = f"{drawing}: internal error ({type(exc).__name__}: {exc}); please report it with the drawing"
         return EXIT_INPUT, text, row
+
+
+def _title_options(args: argparse.Namespace) -> tuple[tuple[str, str], ...]:
+    """The title-block fields given as options, as (field, value) pairs."""
+    pairs = []
+    for key, field in (
+        ("project", "project"),
+        ("drawing_no", "drawing_no"),
+        ("revision", "revision"),
+        ("checked_by", "checked_by"),
+        ("check_date", "date"),
+    ):
+        value = getattr(args, key, None)
+        if value is not None:
+            pairs.append((field, value))
+    return tuple(pairs)
 
 
 def _check_with_progress(drawing: str, settings, *, show: bool):  # type: ignore[no-untyped-def]

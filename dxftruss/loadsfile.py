@@ -12,6 +12,7 @@ when the model is built (it needs the joints).
 
 from __future__ import annotations
 
+import datetime
 import math
 import os
 import stat
@@ -105,12 +106,15 @@ class LoadsSpec:
     drawn_supports: str | None = None
     #: ``[[line_load]]`` and ``[[area_load]]`` entries, in file order
     line_loads: tuple[LineLoadEntry, ...] = ()
+    #: the ``[report]`` table: title-block fields (titleblock.py), in file order
+    report: tuple[tuple[str, str], ...] = ()
 
 
-_TOP_KEYS = {"units", "drawn", "support", "load", "line_load", "area_load", "combination", "section"}
+_TOP_KEYS = {"units", "drawn", "report", "support", "load", "line_load", "area_load", "combination", "section"}
 _KEYS = {
     "units": {"force", "length"},
     "drawn": {"loads", "supports"},
+    "report": {"project", "drawing_no", "revision", "checked_by", "date"},
     "support": {"at", "fix", "normal"},
     "load": {"at", "fx", "fy", "case"},
     "line_load": {"from", "to", "w", "case", "measured", "direction"},
@@ -285,6 +289,8 @@ def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:
         if key in drawn and drawn[key] not in ("add", "ignore"):
             raise ConfigError(f'{name}: [drawn] {key} must be "add" or "ignore", got {drawn[key]!r}')
 
+    report = _report_table(name, data.get("report", {}))
+
     supports = []
     for i, t in enumerate(_tables(name, data, "support"), 1):
         where = f"{name}: [[support]] #{i}"
@@ -373,7 +379,25 @@ def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:
         drawn.get("loads"),
         drawn.get("supports"),
         tuple(line_loads),
+        report,
     )
+
+
+def _report_table(name: str, table: Any) -> tuple[tuple[str, str], ...]:
+    """The ``[report]`` table: each key a string (the date may also be a TOML date)."""
+    if not isinstance(table, dict):
+        raise ConfigError(f'{name}: [report] must be a table such as [report] project = "Shed 2"')
+    _unknown(f"{name}: [report]", table, "report")
+    out = []
+    for key, value in table.items():
+        if key == "date" and isinstance(value, datetime.date) and not isinstance(value, datetime.datetime):
+            value = value.isoformat()
+        if not isinstance(value, str):
+            raise ConfigError(f'{name}: [report] {key} must be a string such as "A", got {value!r}')
+        if len(value) > 200:
+            raise ConfigError(f"{name}: [report] {key} is {len(value)} characters long; at most 200 are allowed")
+        out.append((key, value))
+    return tuple(out)
 
 
 def check_combinations(spec: LoadsSpec, case_names: set[str]) -> None:

@@ -25,6 +25,7 @@ from .loadsfile import LoadsSpec
 from .model import Truss
 from .read import LineWork
 from .statics import CaseResult
+from .titleblock import TitleBlock
 
 
 @dataclass(frozen=True)
@@ -56,6 +57,9 @@ class Settings:
     #: the layout to read by name (--layout; any case, "Model" = model space); None:
     #: model space, or a paper-space layout when model space holds no member line work
     layout: str | None = None
+    #: title-block fields given on the command line: (field, value) pairs, field one of
+    #: project, drawing_no, revision, checked_by, date (titleblock.py)
+    report: tuple[tuple[str, str], ...] = ()
 
 
 @dataclass(frozen=True)
@@ -112,6 +116,8 @@ class Result:
     same_as: dict[int, int] = field(default_factory=dict)
     #: members drawn as overhangs, left out of the model (habits.py); drawn on the PDF
     overhangs: tuple[Overhang, ...] = ()
+    #: the report's title block and where each field came from (titleblock.py)
+    title_block: TitleBlock | None = None
 
     def part_name(self, index: int) -> str:
         """The part's name (``P<n>`` when the result has no names)."""

@@ -112,14 +112,22 @@ def _toml_value(value: object) -> str:
     raise TypeError(f"no TOML form for {value!r}")
 
 
-def loads_toml(header: Sequence[str], units: dict[str, str], tables: Sequence[tuple[str, dict[str, object]]]) -> str:
-    """The text of a loads file: comment lines, ``[units]`` and arrays of tables.
+def loads_toml(
+    header: Sequence[str],
+    units: dict[str, str],
+    tables: Sequence[tuple[str, dict[str, object]]],
+    report: dict[str, str] | None = None,
+) -> str:
+    """The text of a loads file: comment lines, ``[units]``, ``[report]`` (the title
+    block's fields, when given) and arrays of tables.
 
     ``tables`` holds (table name, entries) pairs, e.g. ("load", {"at": [0, 0], "fy": -1}),
     written in the order given as ``[[load]]`` blocks.
     """
     out = [f"# {h}" if h else "#" for h in header]
     out += ["", "[units]"] + [f"{_toml_key(k)} = {_toml_value(v)}" for k, v in units.items()]
+    if report:
+        out += ["", "[report]"] + [f"{_toml_key(k)} = {_toml_value(v)}" for k, v in report.items()]
     for name, entry in tables:
         out += ["", f"[[{name}]]"] + [f"{_toml_key(k)} = {_toml_value(v)}" for k, v in entry.items()]
     return "\n".join(out) + "\n"
@@ -214,6 +222,12 @@ def farm_shed_truss() -> Sample:
         ],
         {"force": "kN", "length": "mm"},
         tables,
+        {
+            "project": "Hollybrook Farm machinery shed",
+            "drawing_no": "HF-MS-104",
+            "revision": "B",
+            "checked_by": "J. Varga",
+        },
     )
     return Sample("farm_shed_truss", doc, toml)
 
@@ -303,6 +317,14 @@ def footbridge_truss() -> Sample:
         at=(0.0, -0.8),
         height=0.2,
     )
+    # the sheet's title block: a block whose attributes hold the project, number and revision
+    doc.layers.add("TITLE", color=8)
+    title = doc.blocks.new("SHEET-TITLE")
+    for k, (tag, prompt) in enumerate((("PROJECT", "project"), ("DWG_NO", "drawing no."), ("REV", "revision"))):
+        title.add_text(prompt.upper(), height=0.12, dxfattribs={"layer": "0", "insert": (0.0, -0.45 * k)})
+        title.add_attdef(tag, (1.6, -0.45 * k), height=0.15, dxfattribs={"layer": "0"})
+    sheet_title = msp.add_blockref("SHEET-TITLE", (16.0, -0.8), dxfattribs={"layer": "TITLE"})
+    sheet_title.add_auto_attribs({"PROJECT": "Mill Stream footbridge", "DWG_NO": "MS-FB-201", "REV": "C"})
 
     tables: list[tuple[str, dict[str, object]]] = [
         ("load", {"at": pt(*T[i]), "fx": wind_kn, "case": "wind"}) for i in range(1, panels)
@@ -318,6 +340,7 @@ def footbridge_truss() -> Sample:
         ],
         {"force": "kN"},
         tables,
+        {"checked_by": "J. Varga"},
     )
     return Sample("footbridge_truss", doc, toml)
 

@@ -69,6 +69,22 @@ def _jsonable(v: Any) -> Any:
     return str(v)
 
 
+def _title_block(result: Result) -> dict[str, Any]:
+    """{field: {value, source, note}} of the title block (titleblock.py)."""
+    from ..titleblock import FIELD_NAMES
+
+    tb = result.title_block
+    out: dict[str, Any] = {}
+    for key in FIELD_NAMES:
+        f = tb.get(key) if tb is not None else None
+        out[key] = {
+            "value": (f.value or None) if f is not None else None,
+            "source": f.source if f is not None else "not given",
+            "note": (f.note or None) if f is not None else None,
+        }
+    return out
+
+
 def report_dict(result: Result) -> dict[str, Any]:
     """The report as plain JSON-ready data."""
     t = result.truss
@@ -106,6 +122,7 @@ def report_dict(result: Result) -> dict[str, Any]:
             "loads": s.loads,
             "force_unit": t.force_unit,
         },
+        "title_block": _title_block(result),
         "assumptions": assumptions(result),
         "line_work": _line_work(result),
         "joints": [{"id": jid[i], "x": xs[i], "y": ys[i]} for i in range(len(jid))],

@@ -100,6 +100,26 @@ def page_layout(result: Any, *, page: str = "A3") -> tuple[Sheet, PageMap]:
     return sheet_and_map(PAGE_SIZES[page.upper()], box, frame_pads(result))
 
 
+def _metadata(ctx: _Context, c: Any) -> None:
+    """The PDF's document information: the title names the drawing (number and revision
+    when given, and the file), the subject the project; the author is the checker when
+    one is given and empty otherwise."""
+    from ... import __version__
+
+    tb = ctx.result.title_block
+    value = tb.value if tb is not None else (lambda key: "")
+    number = value("drawing_no")
+    rev = value("revision")
+    title = "Check of " + (
+        f"drawing {number}" + (f" rev. {rev}" if rev else "") + f" ({ctx.file_name})" if number else ctx.file_name
+    )
+    c.setTitle(shown(title))
+    project = value("project")
+    c.setSubject(shown("truss line-model check" + (f": {project}" if project else "")))
+    c.setAuthor(shown(value("checked_by")))  # empty when no checker is given (never a made-up name)
+    c.setCreator(f"dxftruss {__version__}")
+
+
 def _mechanism_jobs(result: Any, limit: int) -> tuple[list[tuple[Any, Any, int, int]], int]:
     jobs: list[tuple[Any, Any, int, int]] = []
     total = 0
@@ -191,10 +211,7 @@ def write_pdf(
     ctx.page_no = 0
 
     c = Canvas(str(path), pagesize=paper, invariant=1, pageCompression=1)
-    c.setTitle(shown(f"dxftruss check: {ctx.file_name}"))
-    c.setAuthor("dxftruss")
-    c.setSubject("truss line-model check")
-    c.setCreator("dxftruss")
+    _metadata(ctx, c)
     if r.cases:
         for k, cs in enumerate(r.cases, 1):
             kind = "combination" if cs.factors else "load case"

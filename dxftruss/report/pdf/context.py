@@ -9,8 +9,6 @@ Glossary:
 
 from __future__ import annotations
 
-import datetime
-import os
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -93,7 +91,6 @@ def _file_sha256(path: str) -> str:
 
 
 def _report_date() -> str:
-    sde = os.environ.get("SOURCE_DATE_EPOCH", "")
-    if sde.isdigit():
-        return datetime.datetime.fromtimestamp(int(sde), tz=datetime.UTC).date().isoformat()
-    return datetime.date.today().isoformat()
+    from ...titleblock import report_date
+
+    return report_date()

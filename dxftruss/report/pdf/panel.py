@@ -14,6 +14,7 @@ from typing import Any
 
 from ...findings import Severity
 from ...model import Fix
+from ...titleblock import sources_text
 from .. import assumptions
 from .context import _Context
 from .format import _clip, _Page, _wrap, fmt_force
@@ -68,6 +69,8 @@ def _panel_items(
             f"model: {t.n_joints} joints, {t.n_members} members, {len(t.supports)} supports, {len(t.parts)} part(s)",
         ),
     ]
+    if r.title_block is not None:
+        items.append(_Item("s", sources_text(r.title_block)))
     items += [_Item("s", s) for s in sheet_note]
     items += extra
     # verdicts

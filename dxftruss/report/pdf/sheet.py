@@ -21,7 +21,7 @@ import numpy as np
 from .. import CAUTION
 from ..render import PageMap, Recording
 from .context import _Context
-from .format import _clip, _Page, _width, _wrap
+from .format import _clip, _Page, _wrap
 
 #: page sizes in points, portrait (width, height)
 PAGE_SIZES: dict[str, tuple[float, float]] = {
@@ -47,7 +47,7 @@ class Sheet:
 
 
 MARGIN = 10 * 72 / 25.4
-FOOTER_H = 30.0
+FOOTER_H = 44.0
 GAP = 8.0
 RIGHT_PANEL_W = 236.0
 COL_W = 226.0
@@ -132,29 +132,62 @@ def _nice_length(x: float) -> float:
     return e
 
 
+#: the title block's cells along the foot of every page: (label, share of the width)
+TITLE_CELLS: tuple[tuple[str, float], ...] = (
+    ("project", 0.2),
+    ("drawing no.", 0.11),
+    ("revision", 0.06),
+    ("checked by", 0.1),
+    ("date", 0.085),
+    ("drawing file and sha256", 0.245),
+    ("checked with", 0.1),
+    ("sheet", 0.1),
+)
+TITLE_H = 22.0
+
+
+def title_values(ctx: _Context) -> list[str]:
+    """The title block's cell values, in the order of ``TITLE_CELLS``."""
+    from ... import __version__
+
+    tb = ctx.result.title_block
+    vals = [tb.value(k) if tb is not None else "" for k in ("project", "drawing_no", "revision", "checked_by")]
+    date = tb.value("date") if tb is not None else ctx.date
+    sha = ctx.result.source.sha256
+    return [
+        *vals,
+        date,
+        f"{ctx.file_name} \u00b7 {sha[:12]}",
+        f"dxftruss {__version__}",
+        f"page {ctx.page_no} of {ctx.total_pages}",
+    ]
+
+
 def _footer(ctx: _Context, c: Any, size: tuple[float, float]) -> None:
+    """The foot of every page: the caution, then the title block (``TITLE_CELLS``): a
+    row of cells, each a small label over its value; a field not given reads "-"."""
     pg = _Page(c, ctx.fonts)
     W, _H = size
     x, y, w = MARGIN, MARGIN, W - 2 * MARGIN
-    c.setStrokeGray(0.5)
-    c.setLineWidth(0.4)
-    c.setDash()
-    c.line(x, y + FOOTER_H - 5, x + w, y + FOOTER_H - 5)
     lines = _wrap("Caution: " + CAUTION, ctx.fonts.regular, 6.2, w)
-    yy = y + FOOTER_H - 12
+    yy = y + FOOTER_H - 9
     for s in lines[:2]:
         pg.text(x, yy, s, size=6.2, gray=0.15)
         yy -= 7.4
-    right = f"page {ctx.page_no} of {ctx.total_pages}"
-    rw = _width(right, ctx.fonts.regular, 6.5)
-    left = _clip(
-        f"dxftruss check \u00b7 {ctx.file_name} \u00b7 sha256 {ctx.result.source.sha256[:16]} \u00b7 {ctx.date}",
-        ctx.fonts.regular,
-        6.5,
-        w - rw - 20,
-    )
-    pg.text(x, y - 2, left, size=6.5, gray=0.3)
-    pg.text(x + w, y - 2, right, size=6.5, gray=0.3, align="r")
+    c.setStrokeGray(0.2)
+    c.setLineWidth(0.6)
+    c.setDash()
+    c.rect(x, y, w, TITLE_H, stroke=1, fill=0)
+    cx = x
+    for (label, share), value in zip(TITLE_CELLS, title_values(ctx), strict=True):
+        cw = share * w
+        if cx > x:
+            c.line(cx, y, cx, y + TITLE_H)
+        pg.text(cx + 3, y + TITLE_H - 7, label, size=5.2, gray=0.4)
+        bold = label in ("drawing no.", "revision")
+        font = ctx.fonts.bold if bold else ctx.fonts.regular
+        pg.text(cx + 3, y + 4, _clip(value or "-", font, 7.2, cw - 6), size=7.2, bold=bold)
+        cx += cw
 
 
 def frame_pads(result: Any) -> tuple[float, float]:
