@@ -55,7 +55,7 @@ from .context import _Context, _file_sha256, _report_date
 from .format import clean_reactions, fmt_force, fmt_num, register_fonts, shown
 from .labels import Label, LabelPlacer, convex_overlap, place_member_labels
 from .overlay import _draw_drawing_page
-from .sheet import PAGE_SIZES, Sheet, _drawing_box, choose_sheet, frame_pads, sheet_and_map
+from .sheet import PAGE_SIZES, Sheet, _drawing_box, choose_sheet, frame_pads, mm_per_unit, sheet_and_map
 from .symbols import COMPRESSION, TENSION
 from .tables import _findings_section, _Flow, _NullCanvas, _tables_section
 
@@ -97,7 +97,7 @@ def page_layout(result: Any, *, page: str = "A3") -> tuple[Sheet, PageMap]:
     except Exception:  # noqa: BLE001 - same fallback as write_pdf
         recording = None
     box, _ = _drawing_box(result, recording)
-    return sheet_and_map(PAGE_SIZES[page.upper()], box, frame_pads(result))
+    return sheet_and_map(PAGE_SIZES[page.upper()], box, frame_pads(result), mm_per_unit(result))
 
 
 def _metadata(ctx: _Context, c: Any) -> None:

@@ -27,7 +27,7 @@ from .context import FULL_TABLE_MEMBERS, MAX_MUST, _case_loads, _Context, _findi
 from .format import _Page, _width, _wrap, clean_reactions, fmt_force, shown
 from .labels import OFF_GAPS, Label, LabelPlacer, _draw_label, _thin_quad, around_candidates, place_member_labels
 from .panel import _flow_panel, _Item, _legend_items, _legend_line, _panel_items
-from .sheet import Sheet, _draw_scale_bar, _footer, _scale_note, frame_pads, sheet_and_map
+from .sheet import Sheet, _draw_scale_bar, _footer, _scale_note, frame_pads, mm_per_unit, sheet_and_map
 from .symbols import (
     COMPRESSION_TEXT,
     LOAD_RGB,
@@ -555,7 +555,7 @@ def _draw_drawing_page(
         lo = np.minimum(disp_xy.min(axis=0), [box[0], box[1]]) if t.n_joints else np.array(box[:2])
         hi = np.maximum(disp_xy.max(axis=0), [box[2], box[3]]) if t.n_joints else np.array(box[2:])
         box = (float(lo[0]), float(lo[1]), float(hi[0]), float(hi[1]))
-    sheet, pm = sheet_and_map(ctx.paper, box, frame_pads(r))
+    sheet, pm = sheet_and_map(ctx.paper, box, frame_pads(r), mm_per_unit(r))
     c.setPageSize(sheet.size)
     ctx.page_no += 1
     c.bookmarkPage(bookmark)

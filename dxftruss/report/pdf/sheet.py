@@ -121,6 +121,50 @@ def _drawing_box(
     return u, note
 
 
+# =========================================================================================
+# true scale
+# =========================================================================================
+def scale_series(limit: float = 1e7) -> list[tuple[int, int]]:
+    """The standard scales as (a, b) for "a:b", largest first: enlargements 1-2-5 by
+    decades (..., 10:1, 5:1, 2:1), then 1:1, 1:2, 1:5 and from 1:10 on 1, 2, 2.5 and 5 by
+    decades (1:10, 1:20, 1:25, 1:50, 1:100, 1:200, 1:250, 1:500, 1:1000, ...)."""
+    out: list[tuple[int, int]] = []
+    k = 1
+    while k * 1 <= limit:
+        for m in (5, 2, 1):
+            if 1 < m * k <= limit:
+                out.append((m * k, 1))
+        k *= 10
+    out.sort(key=lambda ab: -ab[0])
+    out.append((1, 1))
+    out += [(1, 2), (1, 5)]
+    k = 10
+    while k <= limit:
+        out += [(1, k), (1, 2 * k), (1, 5 * k // 2), (1, 5 * k)]
+        k *= 10
+    return out
+
+
+SCALES = scale_series()
+
+
+def standard_scale(points_per_unit: float, mm_per_unit: float) -> tuple[int, int] | None:
+    """The largest standard scale (``SCALES``) at which a drawing fitted at
+    ``points_per_unit`` still fits: its paper length per real length is at most the
+    fitted one. None when even the smallest does not fit (an absurd box)."""
+    if not (points_per_unit > 0 and mm_per_unit > 0) or not math.isfinite(points_per_unit):
+        return None
+    fitted = points_per_unit * 25.4 / 72.0 / mm_per_unit  # paper mm per real mm
+    for a, b in SCALES:
+        if a / b <= fitted * (1 + 1e-9):
+            return a, b
+    return None
+
+
+def scale_text(ab: tuple[int, int]) -> str:
+    return f"{ab[0]}:{ab[1]}"
+
+
 def _nice_length(x: float) -> float:
     """The largest 1-2-5 step not above x."""
     if x <= 0 or not math.isfinite(x):
@@ -206,29 +250,56 @@ def sheet_and_map(
     paper: tuple[float, float],
     box: tuple[float, float, float, float],
     pads: tuple[float, float] = (48.0, 56.0),
+    mm_per_unit: float | None = None,
 ) -> tuple[Sheet, PageMap]:
     """The drawing-page layout for a box of the drawing and the map into its drawing area
-    (``pads`` = room kept sideways and up/down, points)."""
+    (``pads`` = room kept sideways and up/down, points). With ``mm_per_unit`` (the
+    drawing unit in millimetres) the map is at the largest standard scale that fits
+    (``standard_scale``), the drawing centred in the room the fit gave it."""
     bw, bh = box[2] - box[0], box[3] - box[1]
     big = max(bw, bh, 1e-300)
     px, py = pads
     sheet = choose_sheet(paper, max(bw, 1e-3 * big), max(bh, 1e-3 * big), (px, py))
     x, y, w, h = sheet.drawing
     px, py = min(px, w / 4), min(py, h / 4)
-    pm = PageMap.fit(box, (x + px, y + py, max(w - 2 * px, 10), max(h - 2 * py, 10)))
+    rect = (x + px, y + py, max(w - 2 * px, 10), max(h - 2 * py, 10))
+    pm = PageMap.fit(box, rect)
+    ab = standard_scale(pm.scale, mm_per_unit) if mm_per_unit else None
+    if ab is not None:
+        s = ab[0] / ab[1] * mm_per_unit * 72.0 / 25.4  # type: ignore[operator]
+        cx, cy = (box[0] + box[2]) / 2, (box[1] + box[3]) / 2
+        ox, oy = rect[0] + rect[2] / 2 - (cx - box[0]) * s, rect[1] + rect[3] / 2 - (cy - box[1]) * s
+        pm = PageMap((box[0], box[1]), float(s), (float(ox), float(oy)))
     return sheet, pm
 
 
-def _scale_note(ctx: _Context, pm: PageMap) -> tuple[str, float, float]:
-    """'scale 1:N' text, a scale bar length in drawing units and in points."""
+def mm_per_unit(result: Any) -> float:
+    """The drawing unit of ``result`` in millimetres."""
     from ...units import LENGTH_UNITS
 
+    return LENGTH_UNITS.get(result.source.length_unit, 1e-3) * 1000.0
+
+
+def page_scale(ctx: _Context, pm: PageMap) -> tuple[int, int] | None:
+    """The standard scale a page map is at (None when it is at no standard scale)."""
+    mpu = mm_per_unit(ctx.result)
+    paper = pm.scale * 25.4 / 72.0 / mpu
+    for a, b in SCALES:
+        if abs(a / b - paper) <= 1e-6 * paper:
+            return a, b
+    return None
+
+
+def _scale_note(ctx: _Context, pm: PageMap) -> tuple[str, float, float]:
+    """The scale as printed ("1:50 on A3 paper", the one scale figure of the page), a
+    scale bar length in drawing units and in points."""
     unit = ctx.result.source.length_unit
-    mm_per_unit = LENGTH_UNITS.get(unit, 1e-3) * 1000.0
-    paper_mm_per_unit = pm.scale * 25.4 / 72.0
-    ratio = mm_per_unit / paper_mm_per_unit if paper_mm_per_unit > 0 else float("inf")
+    ab = page_scale(ctx, pm)
     bar_units = _nice_length(90.0 / pm.scale) if pm.scale > 0 else 0.0
-    text = f"scale about 1:{ratio:.4g} on {ctx.paper_name} paper (drawing unit {unit})"
+    if ab is None:
+        text = f"not to scale: the drawing is fitted to the page (drawing unit {unit}); use the scale bar"
+    else:
+        text = f"scale {scale_text(ab)} on {ctx.paper_name} paper printed at actual size (drawing unit {unit})"
     return text, bar_units, bar_units * pm.scale
 
 
