@@ -359,7 +359,7 @@ def test_pdf_mechanism_page_and_unsolved_case(tmp_path: Path) -> None:
     pages = _pages_text(out)
     # 1 case page (not solved, members uncoloured) + 1 mechanism page + findings + tables
     assert len(pages) == 4
-    assert "Mechanism: part 1, mode 1 of 1" in pages[1]
+    assert "Mechanism: part P1, mode 1 of 1" in pages[1]  # the part by its name (naming.py)
     assert "moving joints: J2, J3, J4" in _norm(pages[1])
     assert "not solved" in pages[0]
     assert "mechanism" in pages[2] and "load-excites-mechanism" in pages[2]

@@ -45,16 +45,19 @@ check read; a result made by hand reads the file again).
 from __future__ import annotations
 
 import os
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
 import numpy as np
 
 from ..render import PageMap, Recording, checked_document, record_drawing
-from .context import _Context, _file_sha256, _report_date
+from .context import View, _Context, _file_sha256, _report_date, part_views
 from .format import clean_reactions, fmt_force, fmt_num, register_fonts, shown
 from .labels import Label, LabelPlacer, convex_overlap, place_member_labels
 from .overlay import _draw_drawing_page
+from .panel import _Item
 from .sheet import PAGE_SIZES, Sheet, _drawing_box, choose_sheet, frame_pads, mm_per_unit, sheet_and_map
 from .symbols import COMPRESSION, TENSION
 from .tables import _findings_section, _Flow, _NullCanvas, _tables_section
@@ -120,6 +123,95 @@ def _metadata(ctx: _Context, c: Any) -> None:
     c.setCreator(f"dxftruss {__version__}")
 
 
+#: a flow section: ``section(ctx, flow, limits)`` writes its pages on the flow (it calls
+#: ``flow.start_section(title, bookmark)`` first); ``limits`` holds ``max_findings`` and
+#: ``max_rows``. It runs twice, on a null canvas to count the pages, then for real.
+FlowSection = Callable[[_Context, _Flow, dict[str, int]], None]
+
+
+def _findings_pages(ctx: _Context, flow: _Flow, limits: dict[str, int]) -> None:
+    _findings_section(ctx, flow, max_findings=limits["max_findings"])
+
+
+def _tables_pages(ctx: _Context, flow: _Flow, limits: dict[str, int]) -> None:
+    _tables_section(ctx, flow, max_rows=limits["max_rows"])
+
+
+#: the flow pages after the drawing pages, in order; a new kind of page (a list or a
+#: table of its own) is a function added here or passed as ``write_pdf(extra_sections=)``
+FLOW_SECTIONS: tuple[FlowSection, ...] = (_findings_pages, _tables_pages)
+
+
+@dataclass(frozen=True)
+class _Job:
+    """One drawing page to draw: its case (None: the model or a mode) and the keyword
+    arguments of ``_draw_drawing_page`` (title, bookmark, level, view, mode, extra)."""
+
+    case: Any
+    page: dict[str, Any]
+
+
+def _case_title(cs: Any) -> str:
+    if cs is None:
+        return "Model (no load case solved)"
+    kind = "combination" if cs.factors else "load case"
+    return f"{kind.capitalize()} '{cs.name}'"
+
+
+def _drawing_jobs(ctx: _Context, *, max_mechanism_pages: int, max_part_pages: int) -> list[_Job]:
+    """The drawing pages in order: per case the overview, then its part pages; then the
+    mechanism modes (each on its part's page when the sheet has several parts)."""
+    r = ctx.result
+    views = part_views(r)
+    cases: list[Any] = list(r.cases) or [None]
+    shown_views = views[: max(0, max_part_pages // len(cases))] if views else []
+    jobs: list[_Job] = []
+    for k, cs in enumerate(cases, 1 if r.cases else 0):
+        title = _case_title(cs)
+        page: dict[str, Any] = {"title": title, "bookmark": f"case{k}"}
+        if views:
+            page["title"] = title + f": the sheet, {len(r.truss.parts)} parts"
+            page["extra"] = _overview_items(r, views, shown_views)
+        jobs.append(_Job(cs, page))
+        for v in shown_views:
+            assert v.part is not None
+            name = r.part_name(v.part)
+            extra = [_Item("h", f"Part {name}")]
+            if v.copies:
+                extra.append(
+                    _Item("t", "the same as this part, solved once and not drawn again: " + ", ".join(v.copies))
+                )
+            same = f" (and {len(v.copies)} the same)" if v.copies else ""
+            part_page = {"title": f"{title}: part {name}{same}", "bookmark": f"case{k}-part{v.part + 1}"}
+            jobs.append(_Job(cs, {**part_page, "level": 1, "view": v, "extra": extra}))
+    mech_jobs, n_modes = _mechanism_jobs(r, max_mechanism_pages)
+    view_of = {v.part: v for v in views}
+    for k, (st, md, i, n) in enumerate(mech_jobs, 1):
+        title = f"Mechanism: part {r.part_name(st.part)}, mode {i} of {n}"
+        if k == len(mech_jobs) and n_modes > len(mech_jobs):
+            title += f" ({n_modes - len(mech_jobs)} more modes not drawn)"
+        mode_page: dict[str, Any] = {"title": title, "bookmark": f"mode{k}", "mode": (st, md)}
+        if st.part in view_of:
+            mode_page["view"] = view_of[st.part]
+        jobs.append(_Job(None, mode_page))
+    return jobs
+
+
+def _overview_items(r: Any, views: list[View], shown_views: list[View]) -> list[_Item]:
+    """The overview page's note on the part pages that follow it."""
+    names = [r.part_name(v.part) for v in shown_views if v.part is not None]
+    text = f"a page per part follows this overview for {len(names)} part(s): " + ", ".join(names[:30])
+    if len(names) > 30:
+        text += f" ... ({len(names)} in all)"
+    items = [_Item("h", "Part pages"), _Item("t", text)]
+    if r.same_as:
+        items.append(_Item("t", f"{len(r.same_as)} part(s) repeat another and are listed on its page, not drawn again"))
+    if len(shown_views) < len(views):
+        left = len(views) - len(shown_views)
+        items.append(_Item("t", f"{left} part(s) get no page of their own (page limit); see the tables"))
+    return items
+
+
 def _mechanism_jobs(result: Any, limit: int) -> tuple[list[tuple[Any, Any, int, int]], int]:
     jobs: list[tuple[Any, Any, int, int]] = []
     total = 0
@@ -141,14 +233,19 @@ def write_pdf(
     max_labels: int = 4000,
     max_markers: int = 400,
     max_mechanism_pages: int = 6,
+    max_part_pages: int = 60,
     render_original: bool = True,
     max_original_entities: int = 200_000,
+    extra_sections: Sequence[FlowSection] = (),
 ) -> None:
     """Write the marked-up PDF of ``result`` to ``path``.
 
-    Pages: one drawing page per load case and combination (one bare page when there is
-    none), one page per mechanism mode (at most ``max_mechanism_pages``), the findings
-    list, then the tables. ``page`` is A4, A3, letter or tabloid; drawing pages turn to
+    Pages (``_drawing_jobs``, then ``FLOW_SECTIONS`` and ``extra_sections``): per load
+    case and combination (one bare page when there is none) a drawing page of the whole
+    sheet and, on a sheet of several parts, a page per part that is not a repeat of
+    another (at most ``max_part_pages`` in all); one page per mechanism mode (at most
+    ``max_mechanism_pages``); the findings list, the tables, then each extra section.
+    ``page`` is A4, A3, letter or tabloid; drawing pages turn to
     landscape when that gives the drawing a larger scale. Tables list at most
     ``max_table_rows`` rows each (the JSON report has everything).
     """
@@ -196,62 +293,26 @@ def write_pdf(
         box=box,
         max_abs=max_abs,
     )
-    mech_jobs, n_modes = _mechanism_jobs(r, max_mechanism_pages)
+    jobs = _drawing_jobs(ctx, max_mechanism_pages=max_mechanism_pages, max_part_pages=max_part_pages)
+    sections = [*FLOW_SECTIONS, *extra_sections]
+    limits = {"max_findings": max_findings, "max_rows": max_table_rows}
 
     # count the flow pages first (a dry run), so every footer can say "page i of N"
     dry = _NullCanvas()
     flow = _Flow(ctx, dry)
-    _findings_section(ctx, flow, max_findings=max_findings)
-    flow.finish_page()
-    _tables_section(ctx, flow, max_rows=max_table_rows)
-    flow.finish_page()
-    n_flow = flow.pages
-    n_drawing = max(1, len(r.cases)) + len(mech_jobs)
-    ctx.total_pages = n_drawing + n_flow
+    for section in sections:
+        section(ctx, flow, limits)
+        flow.finish_page()
+    ctx.total_pages = len(jobs) + flow.pages
     ctx.page_no = 0
 
     c = Canvas(str(path), pagesize=paper, invariant=1, pageCompression=1)
     _metadata(ctx, c)
-    if r.cases:
-        for k, cs in enumerate(r.cases, 1):
-            kind = "combination" if cs.factors else "load case"
-            _draw_drawing_page(
-                ctx,
-                c,
-                cs,
-                title=f"{kind.capitalize()} '{cs.name}'",
-                bookmark=f"case{k}",
-                max_labels=max_labels,
-                max_markers=max_markers,
-            )
-    else:
-        _draw_drawing_page(
-            ctx,
-            c,
-            None,
-            title="Model (no load case solved)",
-            bookmark="case0",
-            max_labels=max_labels,
-            max_markers=max_markers,
-        )
-    for k, (st, md, i, n) in enumerate(mech_jobs, 1):
-        title = f"Mechanism: part {st.part + 1}, mode {i} of {n}"
-        if k == len(mech_jobs) and n_modes > len(mech_jobs):
-            title += f" ({n_modes - len(mech_jobs)} more modes not drawn)"
-        _draw_drawing_page(
-            ctx,
-            c,
-            None,
-            title=title,
-            bookmark=f"mode{k}",
-            max_labels=max_labels,
-            max_markers=max_markers,
-            mode=(st, md),
-        )
+    for job in jobs:
+        _draw_drawing_page(ctx, c, job.case, max_labels=max_labels, max_markers=max_markers, **job.page)
     flow = _Flow(ctx, c)
-    _findings_section(ctx, flow, max_findings=max_findings)
-    flow.finish_page()
-    _tables_section(ctx, flow, max_rows=max_table_rows)
-    flow.finish_page()
+    for section in sections:
+        section(ctx, flow, limits)
+        flow.finish_page()
     c.showOutline()
     c.save()
