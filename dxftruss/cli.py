@@ -286,10 +286,18 @@ def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = F
             text += summary(result, color=color)
         staged = OutputSet()
         js = None
+        zones: dict[int, list[tuple[int, str]]] = {}
+        if pdf:  # first: the JSON report says where the PDF marks each finding
+            from .report.pdf import write_pdf
+
+            def pdf_writer(tmp: str) -> None:
+                zones.update(write_pdf(result, tmp, page=args.page))
+
+            staged.stage(pdf, pdf_writer, "PDF")
         if json_out:
             from .report.json import to_json
 
-            js = to_json(result)
+            js = to_json(result, zones if pdf else None)
             if json_out != "-":
                 # names from the drawing may hold undecodable bytes: escape, never fail
                 staged.stage(
@@ -297,10 +305,6 @@ def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = F
                     lambda tmp: Path(tmp).write_text(js, encoding="utf-8", errors="backslashreplace"),
                     "JSON",
                 )
-        if pdf:
-            from .report.pdf import write_pdf
-
-            staged.stage(pdf, lambda tmp: write_pdf(result, tmp, page=args.page), "PDF")
         if dxf:
             from .report.dxf import write_dxf
 

@@ -85,8 +85,10 @@ def _title_block(result: Result) -> dict[str, Any]:
     return out
 
 
-def report_dict(result: Result) -> dict[str, Any]:
-    """The report as plain JSON-ready data."""
+def report_dict(result: Result, zones: dict[int, list[tuple[int, str]]] | None = None) -> dict[str, Any]:
+    """The report as plain JSON-ready data; ``zones`` is what ``write_pdf`` returns
+    (where the PDF marks each finding), None when no PDF was written."""
+    zones = zones or {}
     t = result.truss
     lengths = _nums(t.lengths())
     xs, ys = _nums(t.xy[:, 0]), _nums(t.xy[:, 1])
@@ -172,9 +174,11 @@ def report_dict(result: Result) -> dict[str, Any]:
                 "parts": finding_parts(f, index, result.part_names),
                 "entities": _finding_entities(t, f),
                 "next_step": f.next_step or None,
+                "zone": zones[n][0][1] if zones.get(n) else None,
+                "zones": [{"page": page, "zone": zone} for page, zone in zones.get(n, [])],
                 **({"data": _jsonable(f.data)} if f.data else {}),
             }
-            for f in result.findings
+            for n, f in enumerate(result.findings, 1)
         ],
         "cases": [_case(result, c) for c in result.cases],
         "symmetry": {"axis_x": _num(result.symmetry_axis) if result.symmetry_axis is not None else None},
@@ -277,9 +281,9 @@ def _finding_entities(t: Truss, f: Any) -> list[dict[str, Any]]:
     return [entity_ref(k, layer, t.block_names) for k, layer in finding_entities(t, f, MAX_FINDING_ENTITIES)]
 
 
-def to_json(result: Result) -> str:
+def to_json(result: Result, zones: dict[int, list[tuple[int, str]]] | None = None) -> str:
     # no indent: json's C encoder is used only without one (3-5x faster on large reports)
-    text = json.dumps(report_dict(result), ensure_ascii=False, allow_nan=False, separators=(",", ":")) + "\n"
+    text = json.dumps(report_dict(result, zones), ensure_ascii=False, allow_nan=False, separators=(",", ":")) + "\n"
     # JSON escapes C0 itself; C1 controls (a lone CSI is an escape sequence on many
     # terminals), bidi and line separators and undecodable bytes are written as \\u
     # escapes too, so the report can go to a terminal (``--json -``) unaltered in meaning

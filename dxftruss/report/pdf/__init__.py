@@ -44,6 +44,7 @@ check read; a result made by hand reads the file again).
 
 from __future__ import annotations
 
+import math
 import os
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
@@ -56,9 +57,9 @@ from ..render import PageMap, Recording, checked_document, record_drawing
 from .context import View, _Context, _file_sha256, _report_date, part_views
 from .format import clean_reactions, fmt_force, fmt_num, register_fonts, shown
 from .labels import Label, LabelPlacer, convex_overlap, place_member_labels
-from .overlay import _draw_drawing_page
+from .overlay import _draw_drawing_page, page_findings, page_map
 from .panel import _Item
-from .sheet import PAGE_SIZES, Sheet, _drawing_box, choose_sheet, frame_pads, mm_per_unit, sheet_and_map
+from .sheet import PAGE_SIZES, Sheet, _drawing_box, choose_sheet, frame_pads, mm_per_unit, sheet_and_map, zone_of
 from .symbols import COMPRESSION, TENSION
 from .tables import _findings_section, _Flow, _NullCanvas, _tables_section
 
@@ -197,6 +198,25 @@ def _drawing_jobs(ctx: _Context, *, max_mechanism_pages: int, max_part_pages: in
     return jobs
 
 
+def _finding_zones(ctx: _Context, jobs: list[_Job]) -> dict[int, list[tuple[int, str]]]:
+    """{finding number: [(page, zone)]}: the zone of each finding's point on each drawing
+    page that marks it (a point outside the page's drawing area has none there)."""
+    zones: dict[int, list[tuple[int, str]]] = {}
+    for page, job in enumerate(jobs, 1):
+        view = job.page.get("view") or View(None, ctx.box)
+        mode = job.page.get("mode")
+        sheet, pm = page_map(ctx, view, mode)
+        dx, dy, dw, dh = sheet.drawing
+        for n, f in page_findings(ctx, job.case, view, mode):
+            if f.at is None or not all(math.isfinite(v) for v in f.at):
+                continue
+            x, y = pm.point(*f.at)
+            zone = zone_of(sheet, x, y) if (dx <= x <= dx + dw and dy <= y <= dy + dh) else None
+            if zone is not None:
+                zones.setdefault(n, []).append((page, zone))
+    return zones
+
+
 def _overview_items(r: Any, views: list[View], shown_views: list[View]) -> list[_Item]:
     """The overview page's note on the part pages that follow it."""
     names = [r.part_name(v.part) for v in shown_views if v.part is not None]
@@ -237,7 +257,7 @@ def write_pdf(
     render_original: bool = True,
     max_original_entities: int = 200_000,
     extra_sections: Sequence[FlowSection] = (),
-) -> None:
+) -> dict[int, list[tuple[int, str]]]:
     """Write the marked-up PDF of ``result`` to ``path``.
 
     Pages (``_drawing_jobs``, then ``FLOW_SECTIONS`` and ``extra_sections``): per load
@@ -248,6 +268,9 @@ def write_pdf(
     ``page`` is A4, A3, letter or tabloid; drawing pages turn to
     landscape when that gives the drawing a larger scale. Tables list at most
     ``max_table_rows`` rows each (the JSON report has everything).
+
+    Returns where each finding is marked: {finding number (1-based): [(page, zone)]}
+    (``report.json.to_json(result, zones=...)`` writes it into the JSON report).
     """
     from reportlab.pdfgen.canvas import Canvas
 
@@ -294,6 +317,7 @@ def write_pdf(
         max_abs=max_abs,
     )
     jobs = _drawing_jobs(ctx, max_mechanism_pages=max_mechanism_pages, max_part_pages=max_part_pages)
+    ctx.zones = _finding_zones(ctx, jobs)
     sections = [*FLOW_SECTIONS, *extra_sections]
     limits = {"max_findings": max_findings, "max_rows": max_table_rows}
 
@@ -316,3 +340,4 @@ def write_pdf(
         flow.finish_page()
     c.showOutline()
     c.save()
+    return ctx.zones

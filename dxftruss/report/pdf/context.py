@@ -44,6 +44,25 @@ class _Context:
     total_pages: int = 0
     page_no: int = 0
     form_pages: dict[tuple[Any, ...], str] = field(default_factory=dict)
+    #: finding number (1-based) -> [(page, zone)] of the drawing pages that mark it
+    zones: dict[int, list[tuple[int, str]]] = field(default_factory=dict)
+
+    def zone_on(self, number: int, page: int) -> str | None:
+        """The zone of finding ``number`` on drawing page ``page``, if it is marked there."""
+        return next((z for p, z in self.zones.get(number, []) if p == page), None)
+
+    def zone_text(self, number: int, limit: int = 6) -> str:
+        """Where a finding is on the drawing pages: "zone C4 on pages 1, 2; zone B2 on page 5"."""
+        by_zone: dict[str, list[int]] = {}
+        for page, zone in self.zones.get(number, []):
+            by_zone.setdefault(zone, []).append(page)
+        parts = []
+        for zone, pages in list(by_zone.items())[:limit]:
+            shown_pages = ", ".join(str(p) for p in pages[:8]) + (" ..." if len(pages) > 8 else "")
+            parts.append(f"zone {zone} on page{'s' if len(pages) > 1 else ''} {shown_pages}")
+        if len(by_zone) > limit:
+            parts.append(f"... ({len(by_zone)} zones in all)")
+        return "; ".join(parts)
 
 
 @dataclass(frozen=True)

@@ -36,7 +36,7 @@ from .context import (
 from .format import _Page, _width, _wrap, clean_reactions, fmt_force, shown
 from .labels import OFF_GAPS, Label, LabelPlacer, _draw_label, _thin_quad, around_candidates, place_member_labels
 from .panel import _flow_panel, _Item, _legend_items, _legend_line, _panel_items
-from .sheet import Sheet, _draw_scale_bar, _footer, _scale_note, frame_pads, mm_per_unit, sheet_and_map
+from .sheet import Sheet, _draw_scale_bar, _footer, _scale_note, draw_zones, frame_pads, mm_per_unit, sheet_and_map
 from .symbols import (
     COMPRESSION_TEXT,
     LOAD_RGB,
@@ -163,8 +163,9 @@ class _Overlay:
         if ctx.render_note:
             self.notes.append(ctx.render_note)
         c.setStrokeGray(0.2)
-        c.setLineWidth(0.8)
+        c.setLineWidth(0.6)
         c.rect(dx, dy, dw, dh, stroke=1, fill=0)
+        draw_zones(self.pg, self.sheet)
         f = self.fonts
         note_lines = _wrap("Note: " + ctx.render_note, f.regular, 7, dw - 20)[:3] if ctx.render_note else []
         top_w = max([_width(self.title, f.bold, 9)] + [_width(s, f.regular, 7) for s in note_lines]) + 12
@@ -557,6 +558,32 @@ def _mode_shape(t: Any, st: Any, md: Any, *, fraction: float = 0.1) -> np.ndarra
     return disp_xy
 
 
+def page_map(ctx: _Context, view: View, mode: tuple[Any, Any] | None = None) -> tuple[Sheet, PageMap]:
+    """The sheet and page map of a drawing page of ``view`` (a mechanism page's box
+    grown to hold the displaced shape)."""
+    r = ctx.result
+    box = view.box
+    if mode is not None:
+        disp_xy = _mode_shape(r.truss, *mode)
+        moved = disp_xy[np.asarray(mode[1].joints, dtype=int)] if len(mode[1].joints) else disp_xy[:0]
+        lo = np.minimum(moved.min(axis=0), [box[0], box[1]]) if len(moved) else np.array(box[:2])
+        hi = np.maximum(moved.max(axis=0), [box[2], box[3]]) if len(moved) else np.array(box[2:])
+        box = (float(lo[0]), float(lo[1]), float(hi[0]), float(hi[1]))
+    return sheet_and_map(ctx.paper, box, frame_pads(r), mm_per_unit(r))
+
+
+def page_findings(ctx: _Context, case: Any, view: View, mode: tuple[Any, Any] | None) -> list[tuple[int, Any]]:
+    """The findings (number, finding) a drawing page marks: those of its case and view;
+    on a mechanism page the mechanism finding of its mode (the same moving joints), else
+    those sharing joints with it."""
+    r = ctx.result
+    if mode is None:
+        return findings_of_view(r, view, _findings_for(r, case.name if case is not None else None))
+    mech = [(i, f) for i, f in enumerate(r.findings, 1) if f.code.value == "mechanism"]
+    moving = set(mode[1].joints)
+    return [(i, f) for i, f in mech if set(f.joints) == moving] or [(i, f) for i, f in mech if set(f.joints) & moving]
+
+
 def _draw_drawing_page(
     ctx: _Context,
     c: Any,
@@ -577,15 +604,8 @@ def _draw_drawing_page(
     r = ctx.result
     t = r.truss
     view = view if view is not None else View(None, ctx.box)
-    box = view.box
-    disp_xy: np.ndarray | None = None
-    if mode is not None:
-        disp_xy = _mode_shape(t, *mode)
-        moved = disp_xy[np.asarray(mode[1].joints, dtype=int)] if len(mode[1].joints) else disp_xy[:0]
-        lo = np.minimum(moved.min(axis=0), [box[0], box[1]]) if len(moved) else np.array(box[:2])
-        hi = np.maximum(moved.max(axis=0), [box[2], box[3]]) if len(moved) else np.array(box[2:])
-        box = (float(lo[0]), float(lo[1]), float(hi[0]), float(hi[1]))
-    sheet, pm = sheet_and_map(ctx.paper, box, frame_pads(r), mm_per_unit(r))
+    disp_xy = _mode_shape(t, *mode) if mode is not None else None
+    sheet, pm = page_map(ctx, view, mode)
     c.setPageSize(sheet.size)
     ctx.page_no += 1
     c.bookmarkPage(bookmark)
@@ -627,14 +647,7 @@ def _draw_drawing_page(
         ov.loads(case)
         ov.reactions(case)
 
-    if mode is None:
-        findings_here = findings_of_view(r, view, _findings_for(r, case.name if case is not None else None))
-    else:  # the mechanism finding of this mode (same moving joints), else those sharing joints
-        mech = [(i, f) for i, f in enumerate(r.findings, 1) if f.code.value == "mechanism"]
-        moving = set(mode[1].joints)
-        findings_here = [(i, f) for i, f in mech if set(f.joints) == moving] or [
-            (i, f) for i, f in mech if set(f.joints) & moving
-        ]
+    findings_here = page_findings(ctx, case, view, mode)
     ov.place_markers(findings_here, max_markers)
     ov.label_loads_and_reactions()
     if states is not None:

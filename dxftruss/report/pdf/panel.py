@@ -99,7 +99,9 @@ def _panel_items(
     if findings_here:
         items.append(_Item("h", f"Findings marked here ({len(findings_here)}; full list on the findings pages)"))
         for n, f in findings_here:
-            items.append(_Item("t", f"{n}. {f.severity.value} {f.code.value}: {f.message}"))
+            zone = ctx.zone_on(n, ctx.page_no)
+            where = f" (zone {zone})" if zone else ""
+            items.append(_Item("t", f"{n}. {f.severity.value} {f.code.value}{where}: {f.message}"))
     return items
 
 

@@ -37,13 +37,17 @@ PAGE_SIZES: dict[str, tuple[float, float]] = {
 # =========================================================================================
 @dataclass(frozen=True)
 class Sheet:
-    """A drawing page: size, the drawing area, the title-block panel and the footer."""
+    """A drawing page: size, the drawing area, the title-block panel and the footer.
+
+    ``frame`` is the drawing's border: the drawing area inside it and, between the two,
+    the strip with the zone references (``ZONE_W`` wide)."""
 
     size: tuple[float, float]
     drawing: tuple[float, float, float, float]
     panel: tuple[float, float, float, float]
     footer: tuple[float, float, float, float]
     panel_side: str
+    frame: tuple[float, float, float, float] = (0.0, 0.0, 0.0, 0.0)
 
 
 MARGIN = 10 * 72 / 25.4
@@ -51,6 +55,68 @@ FOOTER_H = 44.0
 GAP = 8.0
 RIGHT_PANEL_W = 236.0
 COL_W = 226.0
+
+
+#: the strip inside the drawing's border that holds the zone references, points
+ZONE_W = 9.0
+#: the size a zone is made near, paper millimetres (common practice, no source: drawing
+#: sheets are zoned in fields of about 50 mm)
+ZONE_MM = 50.0
+#: row letters, top to bottom (I and O left out: they read as 1 and 0)
+ZONE_LETTERS = "ABCDEFGHJKLMNPQRSTUVWXYZ"
+
+
+def zone_grid(sheet: Sheet) -> tuple[int, int]:
+    """(columns, rows) of the zones of a sheet's frame: about ``ZONE_MM`` each, at least 2."""
+    _x, _y, w, h = sheet.frame
+    mm = 25.4 / 72.0
+    cols = max(2, round(w * mm / ZONE_MM))
+    rows = min(len(ZONE_LETTERS), max(2, round(h * mm / ZONE_MM)))
+    return cols, rows
+
+
+def zone_of(sheet: Sheet, x: float, y: float) -> str | None:
+    """The zone ("C4": row letter from the top, column number from the left) of a page
+    point, or None when it lies outside the frame."""
+    fx, fy, fw, fh = sheet.frame
+    if not (fx <= x <= fx + fw and fy <= y <= fy + fh) or fw <= 0 or fh <= 0:
+        return None
+    cols, rows = zone_grid(sheet)
+    col = min(cols - 1, int((x - fx) / fw * cols))
+    row = min(rows - 1, int((fy + fh - y) / fh * rows))
+    return f"{ZONE_LETTERS[row]}{col + 1}"
+
+
+def draw_zones(pg: _Page, sheet: Sheet) -> None:
+    """The border and the zone references: the column numbers along the top and the
+    bottom, the row letters along both sides, in the strip between frame and drawing."""
+    c = pg.c
+    fx, fy, fw, fh = sheet.frame
+    dx, dy, dw, dh = sheet.drawing
+    cols, rows = zone_grid(sheet)
+    c.saveState()
+    c.setStrokeGray(0.2)
+    c.setLineWidth(0.8)
+    c.setDash()
+    c.rect(fx, fy, fw, fh, stroke=1, fill=0)
+    c.setLineWidth(0.4)
+    for k in range(1, cols):
+        x = fx + fw * k / cols
+        c.line(x, fy, x, dy)
+        c.line(x, dy + dh, x, fy + fh)
+    for k in range(1, rows):
+        y = fy + fh - fh * k / rows
+        c.line(fx, y, dx, y)
+        c.line(dx + dw, y, fx + fw, y)
+    c.restoreState()
+    for k in range(cols):
+        x = fx + fw * (k + 0.5) / cols
+        for y in (fy + 2.4, dy + dh + 2.4):
+            pg.text(x, y, str(k + 1), size=6.0, gray=0.3, align="c")
+    for k in range(rows):
+        y = fy + fh - fh * (k + 0.5) / rows - 2.1
+        for x in (fx + ZONE_W / 2, dx + dw + ZONE_W / 2):
+            pg.text(x, y, ZONE_LETTERS[k], size=6.0, gray=0.3, align="c")
 
 
 def choose_sheet(
@@ -74,8 +140,9 @@ def choose_sheet(
             options.append(("right", (x, y, w - RIGHT_PANEL_W - GAP, h), (x + w - RIGHT_PANEL_W, y, RIGHT_PANEL_W, h)))
         options.append(("bottom", (x, y + bottom_h + GAP, w, h - bottom_h - GAP), (x, y, w, bottom_h)))
         for side, draw, panel in options:
-            s = min((draw[2] - 2 * pads[0]) / max(box_w, 1e-300), (draw[3] - 2 * pads[1]) / max(box_h, 1e-300))
-            sheet = Sheet((W, H), draw, panel, footer, side)
+            inner = (draw[0] + ZONE_W, draw[1] + ZONE_W, draw[2] - 2 * ZONE_W, draw[3] - 2 * ZONE_W)
+            s = min((inner[2] - 2 * pads[0]) / max(box_w, 1e-300), (inner[3] - 2 * pads[1]) / max(box_h, 1e-300))
+            sheet = Sheet((W, H), inner, panel, footer, side, draw)
             key = (s * (1 + 1e-9), -rank)
             if best is None or key > (best[0], best[1]):
                 best = (key[0], key[1], sheet)

@@ -212,7 +212,8 @@ def _findings_section(ctx: _Context, flow: _Flow, *, max_findings: int) -> None:
     index = part_index(r.truss)
     for i, f in enumerate(r.findings[:max_findings], 1):
         lines: list[tuple[str, float, float, bool, float]] = []
-        lines.append((f"{i}.  {f.severity.value.upper()}  {f.code.value}", 7.6, 0.0, True, 0.0))
+        where = ctx.zone_text(i) or ("not marked on a drawing page" if f.at is None else "outside the drawing areas")
+        lines.append((f"{i}.  {f.severity.value.upper()}  {f.code.value}  \u00b7  {where}", 7.6, 0.0, True, 0.0))
         for s in _wrap(f.message, fonts.regular, 7.2, width):
             lines.append((s, 7.2, 0.0, False, 18.0))
         if f.next_step:
