@@ -324,8 +324,8 @@ def test_pdf_pages_text_and_caution(king_post: tuple[Result, Path], tmp_path: Pa
     assert fmt_force(N_TIE_SNOW) in pages[0] and fmt_force(N_RAFTER_SNOW) in pages[0]
     assert fmt_force(N_RAFTER_WIND) in pages[1] and fmt_force(-N_RAFTER_WIND) in pages[1]
     # reactions drawn with values: R1y = R4y = 5 in snow; R1x = -2 in wind
-    assert "Ry=+5.00" in pages[0]
-    assert "Rx=-2.00" in pages[1]
+    assert "Ry +5.00 kN" in pages[0]
+    assert "Rx -2.00 kN" in pages[1]
     # the title block: file, sha prefix, units, verdict, an assumption
     assert "press_house_roof.dxf" in pages[0]
     assert result.source.sha256[:16] in pages[0]

@@ -337,7 +337,7 @@ class _Overlay:
                 tail, head = (near, far) if pointing_out else (far, near)
                 self.pg.arrow(tail, head, REACTION_RGB, width=1.0, head_len=5.5, filled=False)
                 self.placer.block(_thin_quad(tail, head, 3.0))
-                self.reaction_labels.append((far[0], far[1], ex, ey, f"{name}={fmt_force(value)}"))
+                self.reaction_labels.append((far[0], far[1], ex, ey, f"{name} {fmt_force(value)} {self.t.force_unit}"))
 
     def _inclined_reaction(self, j: int, x: float, y: float, rx: float, ry: float) -> None:
         """The reaction of an inclined roller as one arrow along its normal n, beyond its
@@ -355,7 +355,7 @@ class _Overlay:
         tail, head = (near, far) if pointing_out else (far, near)
         self.pg.arrow(tail, head, REACTION_RGB, width=1.0, head_len=5.5, filled=False)
         self.placer.block(_thin_quad(tail, head, 3.0))
-        self.reaction_labels.append((far[0], far[1], ex, ey, f"Rn={fmt_force(value)}"))
+        self.reaction_labels.append((far[0], far[1], ex, ey, f"Rn {fmt_force(value)} {self.t.force_unit}"))
 
     def mode(self, st: Any, md: Any, disp_xy: np.ndarray) -> None:
         """A mechanism mode: the displaced shape of the part dashed, moving joints ringed
@@ -449,7 +449,11 @@ class _Overlay:
         |force| first while they fit; a member whose value does not fit gets its number.
         The rest are thinned, and the page says how many were left out."""
         t, f, size = self.t, self.fonts, self.lab_size
-        texts = ["" if states[e] == 2 else ("0" if states[e] == 0 else fmt_force(v)) for e, v in enumerate(forces)]
+        fu = t.force_unit
+        texts = [
+            "" if states[e] == 2 else f"{member_id(e)} {'0' if states[e] == 0 else fmt_force(v)} {fu}"
+            for e, v in enumerate(forces)
+        ]
         solved = np.nonzero((states != 2) & self.eshow)[0].tolist()
         order = sorted(solved, key=lambda e: (-abs(float(forces[e])), e))
         ids = [member_id(e) for e in range(t.n_members)]
@@ -477,7 +481,7 @@ class _Overlay:
             where = "the member table" if t.n_members <= FULL_TABLE_MEMBERS else "the JSON report"
             self.notes.append(
                 f"{n_id + len(left)} of {len(solved)} force values left out at this scale "
-                f"({n_id} shown by member number instead); the largest tension and compression "
+                f"({n_id} of them shown by their member number instead); the largest tension and compression "
                 f"and the members named by findings are labelled first; {where} has every force"
             )
 
@@ -702,8 +706,8 @@ def _case_summary(ctx: _Context, case: Any) -> list[str]:
         if fs[ec] < 0:
             out.append(f"largest compression {fmt_force(fs[ec])} {fu} in {member_id(ec)}")
         out.append(
-            f"zero-force members: {len(case.zero_by_solution)} by the solution, "
-            f"{len(case.zero_by_rule)} by the joint rules"
+            f"zero-force members: {len(case.zero_by_solution)} member(s) by the solution, "
+            f"{len(case.zero_by_rule)} member(s) by the joint rules"
         )
     else:
         out.append("not solved (see the findings)")

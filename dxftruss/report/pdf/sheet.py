@@ -380,5 +380,5 @@ def _draw_scale_bar(pg: _Page, x: float, y: float, units: float, pts: float, uni
     for k in range(4):
         c.setFillGray(0.15 if k % 2 == 0 else 1.0)
         c.rect(x + k * pts / 4, y, pts / 4, 3, stroke=1, fill=1)
-    pg.text(x, y + 5, "0", size=6, gray=0.2)
+    pg.text(x, y + 5, f"0 {unit}", size=6, gray=0.2)
     pg.text(x + pts, y + 5, f"{units:g} {unit}", size=6, gray=0.2, align="c")
