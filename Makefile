@@ -27,6 +27,11 @@ demo: $(STAMP)
 		--pdf out/hoist_bracket.check.pdf --json out/hoist_bracket.check.json
 	-$(VENV)/bin/dxftruss check samples/drafting_slips.dxf \
 		--pdf out/drafting_slips.check.pdf --json out/drafting_slips.check.json
+	-$(VENV)/bin/dxftruss check samples/farm_shed_truss.dxf --loads samples/farm_shed_truss.toml \
+		--csv out/farm_shed_truss.cutlist.csv --quiet
+	-$(VENV)/bin/dxftruss compare samples/farm_shed_truss.dxf samples/farm_shed_truss_rev_b.dxf \
+		--loads samples/farm_shed_truss.toml --new-loads samples/farm_shed_truss_rev_b.toml \
+		--pdf out/farm_shed_truss.compare.pdf --json out/farm_shed_truss.compare.json
 	@echo "demo outputs are in out/"
 
 test: $(STAMP)

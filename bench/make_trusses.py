@@ -2,7 +2,7 @@ r"""Write the synthetic benchmark drawings: rows of long-span Pratt trusses, 1k 
 
 Usage::
 
-    python bench/make_trusses.py [--sizes 1k,10k,50k,100k] [--variants poly,lines]
+    python bench/make_trusses.py [--sizes 1k,10k,50k,100k] [--variants poly,lines] [--long] [--job]
                                  [--panels 50] [--outdir bench/generated] [--force]
 
 Glossary:
@@ -166,8 +166,8 @@ def expected_extremes(
     at most R/sin(59 deg) = 1.17 R, far below the chords for any span/depth above 2.
     """
     r = load * (panels - 1) / 2.0
-    x = [k * panel for k in range(panels + 1)]
-    moment = [r * x[k] - sum(load * (x[k] - x[i]) for i in range(1, k)) for k in range(panels + 1)]
+    # sum over i = 1 .. k-1 of (x_k - x_i) = panel ((k - 1) k - (k - 1) k / 2) = panel (k - 1) k / 2
+    moment = [r * k * panel - load * panel * (k - 1) * k / 2.0 if k else 0.0 for k in range(panels + 1)]
     half = panels // 2
     compression = -max(moment[i + 1] for i in range(half)) / depth
     tension = max(moment[i] for i in range(half)) / depth
@@ -243,6 +243,75 @@ def write_drawing(path: Path, variant: str, n_parts: int, panels: int) -> int:
     _fix_class_order(doc)
     doc.saveas(path)
     return n_parts * len(part.members)
+
+
+#: the job sheet: this many small trusses of JOB_PANELS panels (49 members each), every
+#: second one a block reference (INSERT) of one block holding the truss
+JOB_PARTS = 2000
+JOB_PANELS = 12
+JOB_BLOCK = "PRATT-12"
+
+
+def job_long_panels() -> int:
+    """Panels of the one long truss with (nearly) the job sheet's member count:
+    4 P + 1 = 98 001 for the sheet's 98 000."""
+    return 2 * round(JOB_PARTS * (4 * JOB_PANELS + 1) / 8)
+
+
+def write_job(path: Path, n_parts: int, panels: int) -> int:
+    """The job sheet: ``n_parts`` trusses on the grid of ``part_origins``; the even ones
+    drawn as LINEs, the odd ones as INSERTs of one block holding the same truss (its
+    base point at B0). Returns the member count."""
+    import ezdxf
+
+    ezdxf.options.write_fixed_meta_data_for_testing = True
+    doc = ezdxf.new("R2018", setup=False, units=6)
+    for name, colour in LAYERS.items():
+        doc.layers.add(name, color=colour)
+    doc.layers.add("TRUSSES", color=7)
+    part = pratt_part(panels)
+    block = doc.blocks.new(JOB_BLOCK)
+    for k, (i, j) in enumerate(part.members):
+        block.add_line(_pt(*part.xy[i]), _pt(*part.xy[j]), dxfattribs={"layer": part.layer[k]})
+    msp = doc.modelspace()
+    for n, (ox, oy) in enumerate(part_origins(n_parts, panels)):
+        if n % 2:
+            msp.add_blockref(JOB_BLOCK, (ox, oy), dxfattribs={"layer": "TRUSSES"})
+            continue
+        pts = [_pt(ox + x, oy + y) for x, y in part.xy.tolist()]
+        for k, (i, j) in enumerate(part.members):
+            msp.add_line(pts[i], pts[j], dxfattribs={"layer": part.layer[k]})
+    _fix_class_order(doc)
+    doc.saveas(path)
+    return n_parts * len(part.members)
+
+
+def generate_job(*, outdir: Path = DEFAULT_OUTDIR, force: bool = False) -> Drawing:
+    """Write (or reuse) the job sheet ``job_sheet.dxf`` and its loads file."""
+    outdir.mkdir(parents=True, exist_ok=True)
+    dxf, loads, meta_path = outdir / "job_sheet.dxf", outdir / "job_sheet.toml", outdir / "job_sheet.meta.json"
+    meta = {
+        "generator": _generator_hash(),
+        "size": "job",
+        "variant": "job",
+        "parts": JOB_PARTS,
+        "panels": JOB_PANELS,
+        "members": JOB_PARTS * (4 * JOB_PANELS + 1),
+        "joints": JOB_PARTS * (2 * JOB_PANELS + 2),
+    }
+    current = (
+        not force
+        and dxf.is_file()
+        and loads.is_file()
+        and meta_path.is_file()
+        and json.loads(meta_path.read_text()) == meta
+    )
+    if not current:
+        verify_part(pratt_part(JOB_PANELS))
+        assert write_job(dxf, JOB_PARTS, JOB_PANELS) == meta["members"]
+        loads.write_text(loads_text(JOB_PARTS, JOB_PANELS), encoding="utf-8")
+        meta_path.write_text(json.dumps(meta, indent=1) + "\n", encoding="utf-8")
+    return Drawing("job", "job", dxf, loads, JOB_PARTS, JOB_PANELS, int(meta["members"]), int(meta["joints"]))
 
 
 def loads_text(n_parts: int, panels: int) -> str:
@@ -353,6 +422,12 @@ def main(argv: list[str] | None = None) -> int:
         action="store_true",
         help="one long truss per size instead of a grid of parts (panels = members / 4, even)",
     )
+    ap.add_argument(
+        "--job",
+        action="store_true",
+        help=f"also write the job sheet ({JOB_PARTS} trusses of {JOB_PANELS} panels, every second one a block "
+        "reference) and the one long truss of the same member count",
+    )
     ap.add_argument("--outdir", type=Path, default=DEFAULT_OUTDIR, help="output folder (default bench/generated)")
     ap.add_argument("--force", action="store_true", help="rewrite drawings even when current")
     args = ap.parse_args(argv)
@@ -360,6 +435,12 @@ def main(argv: list[str] | None = None) -> int:
         for variant in args.variants:
             panels = long_panels(size) if args.long else args.panels
             d = generate(size, variant, outdir=args.outdir, panels=panels, force=args.force)
+            print(f"{d.dxf}  {d.members} members, {d.joints} joints, {d.parts} parts of {d.panels} panels")
+    if args.job:
+        for d in (
+            generate_job(outdir=args.outdir, force=args.force),
+            generate("100k", "poly", outdir=args.outdir, panels=job_long_panels(), force=args.force),
+        ):
             print(f"{d.dxf}  {d.members} members, {d.joints} joints, {d.parts} parts of {d.panels} panels")
     return 0
 

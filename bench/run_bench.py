@@ -4,6 +4,7 @@ Usage::
 
     python bench/run_bench.py [--sizes 1k,10k,50k,100k] [--variants poly,lines]
                               [--repeat 3] [--quick] [--no-pdf] [--markdown]
+                              [--best] [--pdf-all] [--job] [--long-pdf]
                               [--budget 60] [--blas-threads N] [--timeout 900]
                               [--save FILE.json]
 
@@ -13,6 +14,8 @@ Glossary:
     stage times   ``Result.timings`` of ``dxftruss.pipeline.check`` (read, snap, model,
                   stability, statics) in a fresh interpreter that sets nothing itself:
                   ``check()`` sets the run's policy (one BLAS thread, no cyclic gc).
+                  It reads with the streaming reader, as ``check --json`` does
+                  (``Settings(stream_line_work=True)``).
     python        that interpreter's whole wall time (imports, check(), no report):
                   library use, to compare with ``end-to-end``.
     end-to-end    ``python -m dxftruss check FILE --loads L --json OUT --quiet``: the
@@ -34,6 +37,12 @@ values of make_trusses.expected_extremes.
 ``--quick`` means one repeat, sizes 1k and 10k unless ``--sizes`` is given, and no PDF.
 The default run (all four sizes, both variants, 3 repeats, the PDF) took under 5 minutes
 on the 2-core machine; the drawings are written once into bench/generated/ and reused while current.
+
+``--best`` shows the fastest run of each measurement instead of the median; ``--pdf-all``
+times ``check --pdf`` of every drawing of the table (columns ``pdf``, ``pdf ratio`` and
+``pdf MB``); ``--job`` adds the job sheet (make_trusses.py --job: 2,000 trusses of 49
+members, every second one a block reference) and the one long truss of the same member
+count, and the target that the sheet checks within JOB_RATIO_MAX of the long truss.
 
 Targets (printed at the end, held / missed / not measured):
     end-to-end <= 2.0 x bare read at 50k and 100k members (both variants);
@@ -72,6 +81,10 @@ MEMORY_MAX_MB = 1536.0  # 1.5 GB in MiB
 PDF_MAX_S = 30.0
 LONG_PDF_RATIO_MAX = 10.0  # check --pdf of one long 100k-member truss / bare read
 LONG_PDF_GROWTH_MAX = 2.2  # check --pdf time 100k / 50k of the long trusses
+JSON_RATIO_MAX = 1.5  # check --json at 100k / bare read (the streaming reader's target)
+JSON_MEMORY_MAX_MB = 350.0  # peak memory of check --json at 100k
+JOB_RATIO_MAX = 1.5  # check --json of the job sheet / of one long truss of the same size
+
 #: relative tolerance of the closed-form force check
 FORCE_RTOL = 1e-6
 
@@ -95,7 +108,7 @@ import numpy as np
 from dxftruss.pipeline import Settings, check
 from dxftruss.findings import Severity
 t1 = time.perf_counter()
-r = check(sys.argv[1], Settings(loads=sys.argv[2]))
+r = check(sys.argv[1], Settings(loads=sys.argv[2], stream_line_work=True))  # the path check --json takes
 t2 = time.perf_counter()
 out = {"import": t1 - t0, "check": t2 - t1, "timings": dict(r.timings),
        "joints": int(r.truss.n_joints), "members": int(r.truss.n_members),
@@ -178,9 +191,12 @@ class Row:
     e2e_rss: float | None = None
     e2e_cpu: float | None = None
     e2e_status: int | None = None
+    pdf: float | None = None  # check --pdf, whole process (--pdf-all)
+    pdf_rss: float | None = None
     correct: str = "not run"
     runs: str = "-"  # successful runs of the stage-timing child / of end-to-end
     notes: list[str] = field(default_factory=list)
+    parts_note: str = ""
 
     @property
     def ratio(self) -> float | None:
@@ -194,9 +210,20 @@ class Row:
     def ratio_call(self) -> float | None:
         return self.e2e / self.read_call if self.e2e and self.read_call else None
 
+    @property
+    def pdf_ratio(self) -> float | None:
+        return self.pdf / self.read_proc if self.pdf and self.read_proc else None
+
+
+#: how the runs of one measurement are summarised: "median", or "best" (--best)
+SUMMARY = {"how": "median"}
+
 
 def _median(xs: list[float]) -> float | None:
-    return statistics.median(xs) if xs else None
+    """The median of the runs, or the fastest with --best."""
+    if not xs:
+        return None
+    return min(xs) if SUMMARY["how"] == "best" else statistics.median(xs)
 
 
 def _last_line(text: str) -> str:
@@ -255,7 +282,13 @@ def repeated(
 
 
 def measure(
-    drawing: make_trusses.Drawing, repeat: int, timeout: float, budget: float, env: dict[str, str] | None = None
+    drawing: make_trusses.Drawing,
+    repeat: int,
+    timeout: float,
+    budget: float,
+    env: dict[str, str] | None = None,
+    *,
+    pdf_all: bool = False,
 ) -> Row:
     row = Row(drawing.size, drawing.variant, drawing.members, drawing.dxf.stat().st_size / 2**20)
     dxf, loads = str(drawing.dxf), str(drawing.loads)
@@ -274,8 +307,8 @@ def measure(
     stage_runs = [json.loads(c.stdout) for c in done]
     if stage_runs:
         names = list(stage_runs[0]["timings"])
-        row.stages = {n: statistics.median(r["timings"].get(n, float("nan")) for r in stage_runs) for n in names}
-        row.check = statistics.median(r["check"] for r in stage_runs)
+        row.stages = {n: _median([r["timings"].get(n, float("nan")) for r in stage_runs]) or 0.0 for n in names}
+        row.check = _median([r["check"] for r in stage_runs])
         row.lib = _median([c.wall for c in done])
         row.correct = verify(stage_runs[0], drawing)
     # end-to-end
@@ -295,6 +328,18 @@ def measure(
     row.e2e_rss = max((c.rss_mb for c in e2e), default=None)
     row.e2e_status = e2e[-1].status if e2e else None
     row.runs = f"{len(stage_runs)}/{len(e2e)}"
+    if pdf_all:
+        pdfs = []
+        for _ in range(repeat):
+            p = measure_pdf(drawing, timeout, env)
+            if not p["ok"]:
+                row.notes.append(f"check --pdf failed: {p['note']}")
+                break
+            pdfs.append(p)
+            if sum(q["wall"] for q in pdfs) > budget:
+                break
+        row.pdf = _median([p["wall"] for p in pdfs])
+        row.pdf_rss = max((p["rss_mb"] for p in pdfs), default=None)
     return row
 
 
@@ -349,6 +394,7 @@ def table(rows: list[Row], markdown: bool) -> str:
         "ratio cpu",
         "ratio*",
         "peak MB",
+        *(("pdf", "pdf ratio", "pdf MB") if any(r.pdf for r in rows) else ()),
         "runs",
         "result",
     ]
@@ -370,6 +416,7 @@ def table(rows: list[Row], markdown: bool) -> str:
                 _f(r.ratio_cpu),
                 _f(r.ratio_call),
                 _f(r.e2e_rss, "{:.0f}"),
+                *((_f(r.pdf), _f(r.pdf_ratio), _f(r.pdf_rss, "{:.0f}")) if any(x.pdf for x in rows) else ()),
                 r.runs,
                 r.correct if r.correct == "ok" else "WRONG" if r.correct != "not run" else "-",
             ]
@@ -463,6 +510,28 @@ def targets(rows: list[Row], pdf: dict | None, pdf_note: str) -> list[str]:
             + (f" ({pdf['note']})" if pdf["note"] else "")
         )
         out.append(f"{verdict(ok)}  check --pdf of 50k < {PDF_MAX_S:g} s: {detail}")
+    vals = [(v, by[("100k", v)]) for v in variants if ("100k", v) in by]
+    vals = [(v, r) for v, r in vals if r.ratio is not None and r.e2e_rss is not None]
+    ok = all(r.ratio <= JSON_RATIO_MAX and r.e2e_rss <= JSON_MEMORY_MAX_MB for _, r in vals) if vals else None  # type: ignore[operator]
+    out.append(
+        f"{verdict(ok)}  check --json at 100k <= {JSON_RATIO_MAX:g}x bare read, peak <= {JSON_MEMORY_MAX_MB:.0f} MB: "
+        + ", ".join(f"{v} {_f(r.ratio)}x (cpu {_f(r.ratio_cpu)}x), {r.e2e_rss:.0f} MB" for v, r in vals)
+    )
+    reach = [(v, r) for v, r in vals if r.ratio < 1.0]  # type: ignore[operator]
+    if vals:
+        out.append(
+            f"{'held  ' if len(reach) == len(vals) else 'not yet'}  reach: check --json at 100k faster than bare read: "
+            + ", ".join(f"{v} {_f(r.ratio)}x" for v, r in vals)
+        )
+    job, long = by.get(("job", "job")), by.get(("long", "poly"))
+    if job and long and job.e2e and long.e2e:
+        ratio = job.e2e / long.e2e
+        ok = ratio <= JOB_RATIO_MAX and job.correct == "ok" and long.correct == "ok"
+        out.append(
+            f"{verdict(ok)}  job sheet within {JOB_RATIO_MAX:g}x of one truss of the same size: "
+            f"{job.e2e:.2f} s ({job.members} members, {job.parts_note}) / {long.e2e:.2f} s ({long.members} members) "
+            f"= {ratio:.2f}"
+        )
     wrong = [f"{r.size}/{r.variant}: {r.correct}" for r in rows if r.correct not in ("ok", "not run")]
     if wrong:
         out.append("WRONG RESULTS (timings of a wrong answer mean little): " + " | ".join(wrong))
@@ -475,6 +544,16 @@ def _list(text: str, allowed: tuple[str, ...]) -> list[str]:
     if bad:
         raise argparse.ArgumentTypeError(f"{', '.join(bad)}: choose from {', '.join(allowed)}")
     return items
+
+
+def _said(row: Row) -> None:
+    print(
+        f" end-to-end {_f(row.e2e)} s, bare read {_f(row.read_proc)} s"
+        + (f", check --pdf {_f(row.pdf)} s" if row.pdf else "")
+        + f", result {row.correct}"
+        + ("; " + "; ".join(row.notes) if row.notes else ""),
+        flush=True,
+    )
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -498,6 +577,13 @@ def main(argv: list[str] | None = None) -> int:
         "--long-pdf",
         action="store_true",
         help="also time check --pdf of one long truss at 50k and 100k members (make_trusses.py --long)",
+    )
+    ap.add_argument("--best", action="store_true", help="the fastest run of each measurement, not the median")
+    ap.add_argument("--pdf-all", action="store_true", help="time check --pdf of every drawing of the table too")
+    ap.add_argument(
+        "--job",
+        action="store_true",
+        help="also the job sheet (2,000 small trusses, half block references) and one long truss of its size",
     )
     ap.add_argument("--markdown", action="store_true", help="print the table as Markdown")
     ap.add_argument("--timeout", type=float, default=900.0, help="seconds before a child is killed (default 900)")
@@ -528,6 +614,8 @@ def main(argv: list[str] | None = None) -> int:
         n = str(args.blas_threads)
         env = {"OPENBLAS_NUM_THREADS": n, "OMP_NUM_THREADS": n, "MKL_NUM_THREADS": n}
 
+    if args.best:
+        SUMMARY["how"] = "best"
     rows: list[Row] = []
     load0 = os.getloadavg()
     t_start = time.perf_counter()
@@ -543,13 +631,22 @@ def main(argv: list[str] | None = None) -> int:
                 end="",
                 flush=True,
             )
-            row = measure(drawing, repeat, args.timeout, args.budget, env)
+            row = measure(drawing, repeat, args.timeout, args.budget, env, pdf_all=args.pdf_all)
             rows.append(row)
-            print(
-                f" end-to-end {_f(row.e2e)} s, bare read {_f(row.read_proc)} s, result {row.correct}"
-                + ("; " + "; ".join(row.notes) if row.notes else ""),
-                flush=True,
-            )
+            _said(row)
+    if args.job:
+        t0 = time.perf_counter()
+        job = make_trusses.generate_job()
+        long = make_trusses.generate("100k", "poly", panels=make_trusses.job_long_panels())
+        print(f"  job sheet and one long truss written in {time.perf_counter() - t0:.1f} s", flush=True)
+        for drawing, size, variant in ((job, "job", "job"), (long, "long", "poly")):
+            print(f"{size:>5} {variant:<6} {drawing.members} members ({drawing.parts} parts) ...", end="", flush=True)
+            row = measure(drawing, repeat, args.timeout, args.budget, env, pdf_all=args.pdf_all)
+            row.size, row.variant = size, variant
+            if size == "job":
+                row.parts_note = f"{drawing.parts} parts, every second a block reference"
+            rows.append(row)
+            _said(row)
 
     pdf: dict | None = None
     pdf_note = ""
@@ -567,8 +664,8 @@ def main(argv: list[str] | None = None) -> int:
     print()
     print(
         f"dxftruss benchmark: up to {repeat} run(s) per child process (fewer once a measurement took "
-        f"{args.budget:g} s; 'runs' = check()/end-to-end runs), medians in seconds; peak MB = max RSS (MiB)"
-        + (f"; BLAS threads {args.blas_threads}" if args.blas_threads is not None else "")
+        f"{args.budget:g} s; 'runs' = check()/end-to-end runs), {'best runs' if args.best else 'medians'} in seconds; "
+        "peak MB = max RSS (MiB)" + (f"; BLAS threads {args.blas_threads}" if args.blas_threads is not None else "")
     )
     print(table(rows, args.markdown))
     print()
@@ -589,6 +686,7 @@ def main(argv: list[str] | None = None) -> int:
         rows_out = [asdict(r) | {"ratio": r.ratio, "ratio_cpu": r.ratio_cpu, "ratio_call": r.ratio_call} for r in rows]
         raw = {
             "repeat": repeat,
+            "summary": SUMMARY["how"],
             "budget": args.budget,
             "blas_threads": args.blas_threads,
             "python": sys.version.split()[0],

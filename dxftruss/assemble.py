@@ -29,7 +29,7 @@ from .findings import Code, Finding
 from .habits import Overhang, moved_load_finding, overhang_at
 from .labels import CommaStyle, LabelReading, comma_style, read_label
 from .lineloads import drawn_line_loads, file_line_loads, joint_loads, lumped_finding
-from .loadsfile import DEFAULT_CASE, LoadEntry, LoadsSpec, SupportEntry, check_combinations
+from .loadsfile import DEFAULT_CASE, LoadEntry, LoadsSpec, SupportEntry, check_combinations, check_planar
 from .model import (
     Fix,
     LineLoad,
@@ -47,6 +47,8 @@ from .model import (
     top_handles,
 )
 from .read import LineWork
+from .sections import sections_of
+from .selfweight import self_weight
 from .snap import Geometry
 from .units import FORCE_UNITS, LENGTH_UNITS, LengthFormat, force_text, length_format
 
@@ -201,6 +203,8 @@ def build_truss(
 
     Raises LimitError as soon as the parts are known when there are more than
     ``max_parts`` (``source`` names the drawing in the message)."""
+    if spec is not None:
+        check_planar(spec)
     xy, ends = geometry.xy, geometry.ends
     findings: list[Finding] = []
     parts = find_parts(len(xy), ends)
@@ -488,6 +492,20 @@ def build_truss(
             case_loads[case].extend(joint_loads(ll))
             findings.append(lumped_finding(ll, case, xy, fmt, force_unit))
 
+    own_weight = None
+    if spec and any(sec.density is not None for sec in spec.sections):
+        name = spec.self_weight_case
+        if name in case_loads:
+            raise ConfigError(
+                f"{spec.path}: [self_weight] the self-weight case {name!r} is also the name of a load case; "
+                'name it otherwise with [self_weight] case = "..."'
+            )
+        member_secs = sections_of(geometry.layers, spec.sections, source=spec.path)
+        own_weight, sw_loads, sw_findings = self_weight(
+            xy, ends, parts, member_secs, case=name, length_unit=length_unit, force_unit=force_unit
+        )
+        case_loads[name] = sw_loads
+        findings += sw_findings
     cases = [
         LoadCase(name, tuple(case_loads[name]), unread=unread[name], line_loads=tuple(line_loads.get(name, ())))
         for name in sorted(case_loads)
@@ -496,11 +514,13 @@ def build_truss(
         check_combinations(spec, set(case_loads))
         by_name = {c.name: c for c in cases}
         for combo in spec.combinations:
-            loads = [
-                Load(ld.joint, factor * ld.fx, factor * ld.fy, ld.source, ld.label, ld.origin)
-                for case, factor in combo.factors
-                for ld in by_name[case].loads
-            ]
+            loads = _once_per_joint(
+                [
+                    Load(ld.joint, factor * ld.fx, factor * ld.fy, ld.source, ld.label, ld.origin)
+                    for case, factor in combo.factors
+                    for ld in by_name[case].loads
+                ]
+            )
             if not all(np.isfinite(ld.fx) and np.isfinite(ld.fy) for ld in loads):
                 raise ConfigError(
                     f"{spec.path}: [[combination]] #{combo.number} {combo.name!r}: "
@@ -509,7 +529,7 @@ def build_truss(
             blocked = sum(by_name[case].unread for case, _ in combo.factors)
             cases.append(LoadCase(combo.name, tuple(loads), factors=combo.factors, unread=blocked))
 
-    if not linework.loads and not (spec and (spec.loads or spec.line_loads)) and parts:
+    if not linework.loads and not (spec and (spec.loads or spec.line_loads)) and own_weight is None and parts:
         loads = []
         for part in parts:
             for j in upper_outline_joints(xy, part.joints, tol=outline_tol):
@@ -540,6 +560,7 @@ def build_truss(
         force_unit=force_unit,
         sections=spec.sections if spec else (),
         findings=tuple(findings),
+        self_weight=own_weight,
     )
 
 
@@ -700,3 +721,25 @@ def section_for(layer: str, sections: tuple) -> int | None:
 
 
 __all__ = ["DEFAULT_CASE", "UNIT_PANEL_CASE", "build_truss", "default_supports", "find_parts", "upper_outline_joints"]
+
+
+def _once_per_joint(loads: list[Load]) -> list[Load]:
+    """A combination's factored loads summed per joint (one load per joint, in joint
+    order): its own source and label when every contribution shares them, else
+    source ``combination`` and no label for a mix (the cases' pages say where each came from)."""
+    by_joint: dict[int, list[Load]] = {}
+    for ld in loads:
+        by_joint.setdefault(ld.joint, []).append(ld)
+    out = []
+    for j in sorted(by_joint):
+        group = by_joint[j]
+        fx = float(sum(ld.fx for ld in group))
+        fy = float(sum(ld.fy for ld in group))
+        first = group[0]
+        if len(group) == 1:
+            out.append(first)
+            continue
+        same = all(ld.source is first.source and ld.label == first.label for ld in group)
+        source = first.source if all(ld.source is first.source for ld in group) else Source.COMBINATION
+        out.append(Load(j, fx, fy, source, first.label if same else None, first.origin if same else None))
+    return out

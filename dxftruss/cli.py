@@ -1,9 +1,11 @@
 """The command line: argument parsing, the only printing, and the exit codes.
 
-Exit status: 0 no error findings; 1 error findings (a mechanism included);
+Exit status (check): 0 no error findings; 1 error findings (a mechanism included);
 2 the input could not be read, an option or the loads file is wrong, a report could
 not be written, standard output was closed early, or an internal error (reported in
-one line, never a traceback); 130 after Ctrl-C, 143 after SIGTERM.
+one line, never a traceback); 130 after Ctrl-C, 143 after SIGTERM. ``compare``: 0
+compared and no new error finding, 1 the new revision has error findings the old did
+not, 2 and the signals as for check.
 """
 
 from __future__ import annotations
@@ -26,6 +28,7 @@ examples:
   dxftruss check bridge.dxf --units m --snap 0.5mm --near-miss 20mm --layers "CHORD*" --layers "WEB*"
   dxftruss check bridge.dxf --json -            JSON on standard output, summary on standard error
   dxftruss check drawings/ --json reports/      every *.dxf in a folder, one report each, both cores
+  dxftruss check roof.dxf --csv roof.cutlist.csv  the cut list as CSV (also a PDF page and in the JSON)
 
 drawing conventions:
   members   LINE, LWPOLYLINE and POLYLINE on any layer except SUPPORT* and LOAD*
@@ -51,7 +54,7 @@ def build_parser() -> argparse.ArgumentParser:
         "zero-force members, member forces and reactions.",
     )
     parser.add_argument("--version", action="version", version=f"dxftruss {__version__}")
-    sub = parser.add_subparsers(dest="command", required=True, metavar="{check,layers}")
+    sub = parser.add_subparsers(dest="command", required=True, metavar="{check,compare,layers}")
     c = sub.add_parser(
         "check",
         help="check one drawing",
@@ -66,6 +69,85 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--pdf", metavar="OUT.pdf", help="marked-up PDF (default: <drawing name>.check.pdf here)")
     c.add_argument("--dxf", metavar="OUT.dxf", help="annotated copy of the drawing with results on new layers")
     c.add_argument("--json", metavar="OUT.json", help="JSON report; '-' for standard output")
+    c.add_argument(
+        "--csv",
+        metavar="OUT.csv",
+        help="cut list as CSV: per part the members cut alike, with count, length and end angles",
+    )
+    add_model_options(c)
+    c.add_argument("--quiet", action="store_true", help="print nothing but errors")
+    lay = sub.add_parser(
+        "layers",
+        help="list a drawing's layers and what check does with each",
+        description="List every layer of a drawing: its state, the entities on it by type (block content "
+        "counted once per placement, on the layer it is shown on) and what 'dxftruss check' does with it.",
+    )
+    lay.add_argument("drawing", metavar="DRAWING.dxf", help="a DXF drawing (never modified)")
+    lay.add_argument(
+        "--layers",
+        metavar="GLOB",
+        action="append",
+        default=[],
+        help="the --layers globs check would be given: shows which layers they leave out",
+    )
+    lay.add_argument("--layout", metavar="NAME", help=LAYOUT_HELP)
+    lay.add_argument("--json", action="store_true", help="JSON on standard output instead of the table")
+    lay.add_argument(
+        "--max-file-size",
+        metavar="MB",
+        type=float,
+        default=256,
+        help="refuse drawings larger on disk than MB mebibytes (default 256; 0: no limit)",
+    )
+    cmp = sub.add_parser(
+        "compare",
+        help="compare two revisions of a drawing",
+        description="Check two revisions of a truss drawing and report what changed: members added, removed "
+        "or moved, supports and loads changed, findings fixed and new, member forces changed.",
+        epilog=COMPARE_EPILOG,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    cmp.add_argument("old", metavar="OLD.dxf", help="the earlier revision (never modified)")
+    cmp.add_argument("new", metavar="NEW.dxf", help="the later revision (never modified)")
+    cmp.add_argument(
+        "--loads", metavar="FILE.toml", help="loads file for both revisions (or OLD only with --new-loads)"
+    )
+    cmp.add_argument("--new-loads", metavar="FILE.toml", help="loads file for NEW.dxf when it is not the --loads file")
+    cmp.add_argument(
+        "--pdf",
+        metavar="OUT.pdf",
+        help="NEW drawing with the changes in revision clouds and a table of changes "
+        "(default: <NEW name>.compare.pdf here)",
+    )
+    cmp.add_argument(
+        "--json", metavar="OUT.json", help="JSON comparison (docs/compare.schema.json); '-' for standard output"
+    )
+    cmp.add_argument(
+        "--force-change",
+        metavar="CHANGE",
+        default="1%",
+        help="report member forces that changed by more than this: a percentage of the largest force of "
+        "both revisions, or a force, e.g. '0.5 kN' (default 1%%)",
+    )
+    add_model_options(cmp)
+    cmp.add_argument("--quiet", action="store_true", help="print nothing but errors")
+    return parser
+
+
+COMPARE_EPILOG = """\
+examples:
+  dxftruss compare shed_a.dxf shed_b.dxf --loads shed_a.toml --new-loads shed_b.toml --pdf shed.compare.pdf
+  dxftruss compare old.dxf new.dxf --snap 0.5mm --force-change "0.2 kN" --json changes.json
+
+matching: a joint of NEW within the snap tolerance of a joint of OLD is the same joint; a member
+          with one end moved is moved, one with both ends moved is removed and added
+exit status: 0 compared, no new error findings; 1 NEW has error findings OLD did not;
+             2 unreadable input, bad options, an output that cannot be written
+"""
+
+
+def add_model_options(c: argparse.ArgumentParser) -> None:
+    """The options that say how a drawing is read and modelled (check and compare share them)."""
     c.add_argument(
         "--snap", metavar="LENGTH", help="join endpoints closer than this, e.g. 0.5mm (default 1e-6 of the extent)"
     )
@@ -106,7 +188,6 @@ def build_parser() -> argparse.ArgumentParser:
         help="refuse drawings larger on disk than MB mebibytes before reading them (default 256; 0: no limit)",
     )
     c.add_argument("--page", choices=["A4", "A3", "letter", "tabloid"], default="A3", help="PDF page size (default A3)")
-    c.add_argument("--quiet", action="store_true", help="print nothing but errors")
     tb = c.add_argument_group("title block (over the loads file's [report] table and the drawing's attributes)")
     for flag, key, what in (
         ("--project", "project", "project name"),
@@ -116,30 +197,6 @@ def build_parser() -> argparse.ArgumentParser:
         ("--check-date", "check_date", "date of the check (default: the loads file, the drawing, then today)"),
     ):
         tb.add_argument(flag, dest=key, metavar="TEXT", help=what)
-    lay = sub.add_parser(
-        "layers",
-        help="list a drawing's layers and what check does with each",
-        description="List every layer of a drawing: its state, the entities on it by type (block content "
-        "counted once per placement, on the layer it is shown on) and what 'dxftruss check' does with it.",
-    )
-    lay.add_argument("drawing", metavar="DRAWING.dxf", help="a DXF drawing (never modified)")
-    lay.add_argument(
-        "--layers",
-        metavar="GLOB",
-        action="append",
-        default=[],
-        help="the --layers globs check would be given: shows which layers they leave out",
-    )
-    lay.add_argument("--layout", metavar="NAME", help=LAYOUT_HELP)
-    lay.add_argument("--json", action="store_true", help="JSON on standard output instead of the table")
-    lay.add_argument(
-        "--max-file-size",
-        metavar="MB",
-        type=float,
-        default=256,
-        help="refuse drawings larger on disk than MB mebibytes (default 256; 0: no limit)",
-    )
-    return parser
 
 
 LAYOUT_HELP = (
@@ -192,18 +249,18 @@ def _expand(drawings: list[str]) -> tuple[list[str], bool]:
     return unique, many
 
 
-Outs = tuple[str | None, str | None, str | None]
+Outs = tuple[str | None, str | None, str | None, str | None]
 
 
 def _outputs(args: argparse.Namespace, drawing: str, many: bool, common: str = "") -> Outs:
-    """(pdf, dxf, json) paths for one drawing. With several drawings (or a folder) an
+    """(pdf, dxf, json, csv) paths for one drawing. With several drawings (or a folder) an
     output option names a folder that receives <name>.check.<ext>, below it in the
     drawing's folder relative to the drawings' common folder (out/a/roof.check.json,
     out/b/roof.check.json); with no output option the PDFs go here, laid out the same."""
     stem = Path(drawing).with_suffix("").name
     if not many:
-        pdf = args.pdf or (None if (args.dxf or args.json) else stem + ".check.pdf")
-        return pdf, args.dxf, args.json
+        pdf = args.pdf or (None if (args.dxf or args.json or args.csv) else stem + ".check.pdf")
+        return pdf, args.dxf, args.json, args.csv
     rel = os.path.relpath(os.path.dirname(os.path.abspath(drawing)), common) if common else "."
 
     def inside(folder: str | None, ext: str) -> str | None:
@@ -211,8 +268,13 @@ def _outputs(args: argparse.Namespace, drawing: str, many: bool, common: str = "
             return None
         return os.path.normpath(os.path.join(folder, rel, f"{stem}.check.{ext}"))
 
-    pdf = inside(args.pdf or (None if (args.dxf or args.json) else "."), "pdf")
-    return pdf, inside(args.dxf, "dxf"), inside(args.json, "json")
+    pdf = inside(args.pdf or (None if (args.dxf or args.json or args.csv) else "."), "pdf")
+    return pdf, inside(args.dxf, "dxf"), inside(args.json, "json"), _cutlist_name(inside(args.csv, "csv"))
+
+
+def _cutlist_name(path: str | None) -> str | None:
+    """<name>.check.csv in a folder of outputs is named <name>.cutlist.csv."""
+    return path[: -len(".check.csv")] + ".cutlist.csv" if path and path.endswith(".check.csv") else path
 
 
 def _plan(args: argparse.Namespace, drawings: list[str], many: bool) -> dict[str, Outs]:
@@ -228,7 +290,7 @@ def _plan(args: argparse.Namespace, drawings: list[str], many: bool) -> dict[str
     for d in drawings:
         outs = _outputs(args, d, many, common)
         plan[d] = outs
-        for out, what in zip(outs, ("PDF", "annotated DXF", "JSON"), strict=True):
+        for out, what in zip(outs, ("PDF", "annotated DXF", "JSON", "CSV cut list"), strict=True):
             if not out or out == "-":
                 continue
             if many:
@@ -261,9 +323,14 @@ def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = F
         from .outputs import OutputSet, check_output_path
         from .pipeline import Settings
 
-        pdf, dxf, json_out = outs
+        pdf, dxf, json_out, csv_out = outs
         inputs = [drawing] + ([args.loads] if args.loads else [])
-        for out, what in ((pdf, "PDF"), (dxf, "annotated DXF"), (json_out if json_out != "-" else None, "JSON")):
+        for out, what in (
+            (pdf, "PDF"),
+            (dxf, "annotated DXF"),
+            (json_out if json_out != "-" else None, "JSON"),
+            (csv_out, "CSV cut list"),
+        ):
             if out:
                 check_output_path(out, inputs, what)
         settings = Settings(
@@ -277,6 +344,8 @@ def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = F
             max_file_mb=args.max_file_size or None,
             layout=args.layout,
             report=_title_options(args),
+            # the PDF and the annotated DXF draw and copy the whole document
+            stream_line_work=not (pdf or dxf),
         )
         result = _check_with_progress(drawing, settings, show=not args.quiet and not many)
         from .report.text import summary
@@ -309,6 +378,15 @@ def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = F
             from .report.dxf import write_dxf
 
             staged.stage(dxf, lambda tmp: write_dxf(result, tmp), "annotated DXF")
+        if csv_out:
+            from .report.cutlist import cut_list_csv
+
+            table = cut_list_csv(result)
+            staged.stage(
+                csv_out,
+                lambda tmp: Path(tmp).write_text(table, encoding="utf-8", errors="backslashreplace", newline=""),
+                "CSV cut list",
+            )
         written = staged.commit()
         if json_out == "-" and js is not None:
             sys.stdout.write(js)
@@ -410,7 +488,7 @@ def run_check(args: argparse.Namespace) -> int:
             _err("--json - takes one drawing; give a folder for several")
             return EXIT_INPUT
         if many:
-            for folder, opt in ((args.pdf, "--pdf"), (args.dxf, "--dxf"), (args.json, "--json")):
+            for folder, opt in ((args.pdf, "--pdf"), (args.dxf, "--dxf"), (args.json, "--json"), (args.csv, "--csv")):
                 if folder:
                     try:
                         Path(folder).mkdir(parents=True, exist_ok=True)
@@ -554,6 +632,89 @@ def run_layers(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
+def _settings(args: argparse.Namespace, loads: str | None):  # type: ignore[no-untyped-def]
+    from .pipeline import Settings
+
+    return Settings(
+        snap=args.snap,
+        near_miss=args.near_miss,
+        units=args.units,
+        layers=tuple(args.layers),
+        loads=loads,
+        max_parts=args.max_parts,
+        max_members=args.max_members,
+        max_file_mb=args.max_file_size or None,
+        layout=args.layout,
+    )
+
+
+def run_compare(args: argparse.Namespace) -> int:
+    """``dxftruss compare``: check both revisions, compare, write the PDF and JSON."""
+    from .errors import DxftrussError
+
+    staged = None
+    try:
+        if "ezdxf" not in sys.modules:
+            check_library_settings()
+        from .compare import compare, parse_force_change
+        from .escape import one_line
+        from .outputs import OutputSet, check_output_path
+        from .pipeline import check
+
+        new_loads = args.new_loads or args.loads
+        inputs = [args.old, args.new] + [f for f in (args.loads, args.new_loads) if f]
+        pdf = args.pdf or (None if args.json else Path(args.new).with_suffix("").name + ".compare.pdf")
+        json_out = args.json
+        for out, what in ((pdf, "PDF"), (json_out if json_out != "-" else None, "JSON")):
+            if out:
+                check_output_path(out, inputs, what)
+        if pdf and json_out and json_out != "-" and os.path.realpath(pdf) == os.path.realpath(json_out):
+            _err(f"{pdf}: named twice as an output; give each report its own file")
+            return EXIT_INPUT
+        old = check(args.old, _settings(args, args.loads))
+        new = check(args.new, _settings(args, new_loads))
+        threshold = parse_force_change(args.force_change, new.truss.force_unit)
+        cmp = compare(old, new, threshold=threshold)
+        from .report.compare import compare_json, compare_text
+
+        staged = OutputSet()
+        js = compare_json(cmp) if json_out else None
+        if json_out and json_out != "-":
+            text_js = js or ""
+            staged.stage(
+                json_out,
+                lambda tmp: Path(tmp).write_text(text_js, encoding="utf-8", errors="backslashreplace"),
+                "JSON",
+            )
+        if pdf:
+            from .report.pdf.compare import write_compare_pdf
+
+            staged.stage(pdf, lambda tmp: write_compare_pdf(cmp, tmp, page=args.page), "PDF")
+        written = staged.commit()
+        out_stream = sys.stderr if json_out == "-" else sys.stdout
+        if not args.quiet:
+            out_stream.write(compare_text(cmp))
+            if written:
+                out_stream.write("wrote " + ", ".join(one_line(p) for p in written) + "\n")
+            out_stream.flush()
+        if json_out == "-" and js is not None:
+            sys.stdout.write(js)
+            sys.stdout.flush()
+        return EXIT_FINDINGS if cmp.new_errors else EXIT_OK
+    except DxftrussError as exc:
+        if staged is not None:
+            staged.discard()
+        _err(str(exc))
+        return EXIT_INPUT
+    except OSError as exc:
+        if staged is not None:
+            staged.discard()
+        if isinstance(exc, BrokenPipeError):
+            raise
+        _err(f"{exc.filename if exc.filename is not None else args.new}: {exc.strerror or exc}")
+        return EXIT_INPUT
+
+
 def _run_guarded(args: argparse.Namespace) -> int:
     """run_check with the interrupts and a closed pipe turned into one line and an exit
     status: Ctrl-C 130, SIGTERM 143 (128 + the signal, the shell's convention), closed
@@ -570,6 +731,8 @@ def _run_guarded(args: argparse.Namespace) -> int:
     except ValueError:  # not the main thread (main() called from a tool)
         previous = None
     try:
+        if args.command == "compare":
+            return run_compare(args)
         return run_layers(args) if args.command == "layers" else run_check(args)
     except KeyboardInterrupt:
         remove_live_temporaries()
@@ -622,12 +785,19 @@ def _main(argv: list[str] | None) -> int:
             reconfigure(errors="backslashreplace")
     parser = build_parser()
     args = parser.parse_args(argv)
-    if args.command in ("check", "layers"):
+    if args.command in ("check", "layers", "compare"):
         # the run's policy (no cyclic gc, one BLAS thread: dxftruss.pipeline.run_policy)
         # covers the reports too; check() sets the same policy for library use
         from .policy import run_policy
 
-        with run_policy():
-            return _run_guarded(args)
+        try:
+            with run_policy():
+                return _run_guarded(args)
+        finally:
+            # the process ends next: the collector need not walk the run's millions of
+            # objects once more at exit (what is left is freed by the exit itself)
+            import gc
+
+            gc.freeze()
     parser.print_help()
     return EXIT_INPUT

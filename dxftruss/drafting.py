@@ -33,6 +33,7 @@ import numpy as np
 
 from .escape import shown
 from .findings import Code, Finding
+from .spatial import query_points
 
 #: share of a group's length in triangles for it to be structure
 TRIANGULATED_SHARE = 0.5
@@ -375,7 +376,7 @@ def _outlines(seg: np.ndarray, keep: np.ndarray, why: np.ndarray, median: float)
     mid = (a + b) / 2
     reach = OUTLINE_MAX_OFFSET * median
     tree = shapely.STRtree(shapely.linestrings(np.stack([a, b], axis=1)))
-    qs, qc = tree.query(shapely.points(mid), predicate="dwithin", distance=reach)
+    qs, qc = query_points(tree, mid, predicate="dwithin", distance=reach)
     pick = (qs != qc) & keep[idx[qc]]  # a centre line is a used line; an outline any line
     qs, qc = qs[pick], qc[pick]
     if not len(qs):

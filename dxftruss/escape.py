@@ -9,6 +9,9 @@ Glossary:
                    characters ``<>/\\":;?*|=`` and control characters in table names;
                    :func:`dxf_name` maps a name to a legal one (each forbidden character
                    becomes ``_``) and the report lists every name it changed.
+    CSV cell       a cell of the cut-list CSV: shown text, and a cell starting with
+                   ``=``, ``+``, ``-`` or ``@`` gets a leading ``'`` (:func:`csv_cell`)
+                   so a spreadsheet shows it as text and never runs it as a formula.
 
 One function per job; every printer in the command line and every report that writes
 names from the drawing goes through them.
@@ -117,3 +120,21 @@ def legal_names(names: list[str] | tuple[str, ...] | set[str], *, taken: set[str
         used.add(new.upper())
         out[n] = new
     return out
+
+
+#: first characters that make a spreadsheet read a cell as a formula
+CSV_FORMULA_START = frozenset("=+-@")
+
+
+def csv_cell(value: object) -> str:
+    """A CSV cell a spreadsheet shows as text: :func:`shown` of ``value`` (control and
+    bidi characters as visible escapes, so a tab or carriage return cannot start a
+    cell either), and a cell that then starts with ``=``, ``+``, ``-`` or ``@`` gets a
+    leading ``'`` so it is never run as a formula. The cut list writes no negative
+    numbers, so no number is changed by this.
+
+    >>> csv_cell("=HYPERLINK(1)")
+    "'=HYPERLINK(1)"
+    """
+    s = shown(value)
+    return "'" + s if s[:1] in CSV_FORMULA_START else s

@@ -66,6 +66,11 @@ class Code(str, Enum):
     COLLINEAR_PIECES = "collinear-pieces"
     OVERHANG = "overhang"
     OVERHANG_LOAD = "overhang-load"
+    SELF_WEIGHT_INCOMPLETE = "self-weight-incomplete"
+    MEMBER_OVER_RATIO = "member-over-ratio"
+    SLENDER_MEMBER = "slender-member"
+    MOVING_LOAD_UNSOLVED = "moving-load-unsolved"
+    NO_SUPPORTS = "no-supports"
 
     @property
     def severity(self) -> Severity:
@@ -116,6 +121,11 @@ _SEVERITY: dict[Code, Severity] = {
     Code.COLLINEAR_PIECES: _I,  # collinear pieces meeting where nothing else does: one member
     Code.OVERHANG: _W,  # a member continuing another straight past a joint, ending free: left out
     Code.OVERHANG_LOAD: _W,  # a load on an overhang moved to its root; the moment is not carried
+    Code.SELF_WEIGHT_INCOMPLETE: _W,  # members without a density: their weight is left out of self-weight
+    Code.MEMBER_OVER_RATIO: _W,  # an indicative utilisation above the [checks] ratio
+    Code.SLENDER_MEMBER: _W,  # a compression member with L/r above the [checks] slenderness limit
+    Code.MOVING_LOAD_UNSOLVED: _W,  # a moving load on a part that cannot be solved: no influence lines
+    Code.NO_SUPPORTS: _E,  # a space truss's part with no supports given: none are guessed
 }
 
 

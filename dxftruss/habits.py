@@ -39,6 +39,7 @@ from scipy.spatial import cKDTree
 
 from .findings import Code, Finding
 from .snap import Geometry
+from .spatial import query_points_within
 from .units import LengthFormat, force_text, length_format, plain_number
 
 #: overlap candidates examined per drawn line, on average, before the search gives up
@@ -126,15 +127,10 @@ def _overlap_pairs(seg: np.ndarray, tol: float) -> tuple[np.ndarray, np.ndarray]
     pts = ends[first]
     tree = shapely.STRtree(shapely.linestrings(seg[ok].reshape(-1, 2, 2)))
     budget = MAX_PAIRS_PER_LINE * len(ok) + 10_000
-    found_p, found_l, total = [], [], 0
-    for start in range(0, len(pts), QUERY_CHUNK):
-        cp, cl = tree.query(shapely.points(pts[start : start + QUERY_CHUNK]), predicate="dwithin", distance=tol)
-        total += len(cp)
-        if total > budget:
-            return None
-        found_p.append(cp + start)
-        found_l.append(cl)
-    pi, li = np.concatenate(found_p), ok[np.concatenate(found_l)]
+    found = query_points_within(tree, pts, chunk=QUERY_CHUNK, budget=budget, predicate="dwithin", distance=tol)
+    if found is None:
+        return None
+    pi, li = found[0], ok[found[1]]
     inside = (np.hypot(*(pts[pi] - a[li]).T) > tol) & (np.hypot(*(pts[pi] - b[li]).T) > tol)
     pi, li = pi[inside], li[inside]
     if not len(pi):

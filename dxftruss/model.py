@@ -100,6 +100,8 @@ class Source(str, Enum):
     DRAWING = "drawing"
     LOADS_FILE = "loads-file"
     DEFAULT = "default"
+    #: a combination's load at a joint summed from loads of different sources
+    COMBINATION = "combination"
 
 
 @dataclass(frozen=True)
@@ -234,14 +236,53 @@ class LoadCase:
 
 @dataclass(frozen=True)
 class Section:
-    """Member stiffness for the layers matching ``layer`` (a glob, case-insensitive).
+    """A member section for the members it names: those whose layer matches ``layer`` (a
+    glob, case-insensitive) or whose id is in ``members`` ("M3"); the first matching
+    ``[[section]]`` of the loads file wins.
 
-    ``area`` in m2 and ``modulus`` in Pa (SI, converted from the loads file's units).
+    SI throughout: ``area`` m2, ``modulus`` (E) Pa, ``inertia`` (the smaller second
+    moment of area, the one buckling takes) m4, ``strength`` Pa, ``density`` kg/m3;
+    None where the file gives nothing. ``shape`` describes a shape the values were
+    computed from ("square hollow 100 x 5 mm"), ``number`` the entry (1-based).
     """
 
-    layer: str
+    layer: str | None
     area: float
     modulus: float
+    members: tuple[str, ...] = ()
+    inertia: float | None = None
+    strength: float | None = None
+    density: float | None = None
+    shape: str | None = None
+    name: str = ""
+    number: int = 0
+
+    @property
+    def label(self) -> str:
+        """How reports name it: its name, else ``[[section]] #n``."""
+        return self.name or f"[[section]] #{self.number}"
+
+    @property
+    def radius(self) -> float | None:
+        """Radius of gyration sqrt(I / A), m; None without I."""
+        return math.sqrt(self.inertia / self.area) if self.inertia is not None else None
+
+
+@dataclass(frozen=True)
+class SelfWeight:
+    """The self-weight case of the truss (selfweight.py).
+
+    case      its name (a load case combinations can name)
+    weights   (m,) member weights in the force unit: area x density x length x g;
+              NaN for members without a density
+    missing   members without a density (their weight is left out)
+    per_part  total weight per part (of the members with a density), force unit
+    """
+
+    case: str
+    weights: np.ndarray
+    missing: tuple[int, ...]
+    per_part: tuple[float, ...]
 
 
 @dataclass(frozen=True)
@@ -281,6 +322,8 @@ class Truss:
     entities: tuple[tuple[str, ...], ...] = ()
     #: handle -> block name of the block references the entities' keys pass through
     block_names: dict[str, str] = field(default_factory=dict, compare=False, repr=False)
+    #: the self-weight case's member weights and totals (None: no section gives a density)
+    self_weight: SelfWeight | None = None
     #: (r, 2) int: joint and direction (0 = x, 1 = y, ``INCLINED``) of every restraint,
     #: sorted; derived
     restraints: np.ndarray = field(init=False, repr=False, compare=False)

@@ -27,6 +27,7 @@ import numpy as np
 from .drafting import Selection, select_structure
 from .findings import Code, Finding
 from .snap import Geometry
+from .spatial import query_points_within
 
 #: an outline offset (member width) is at most this fraction of the median line length
 MAX_WIDTH = 0.25
@@ -97,16 +98,18 @@ def _candidates(seg: np.ndarray, reach: float) -> dict[int, set[int]] | None:
     # in chunks with a budget: a pile of lines drawn over each other (thousands within
     # reach of each other) has quadratically many close pairs and is no outline drawing
     budget = MAX_PAIRS_PER_LINE * len(ok) + 10_000
-    found_i, found_j, total = [], [], 0
-    for start in range(0, len(ok), 1024):
-        ci, cj = tree.query(shapely.points(mid[start : start + 1024]), predicate="dwithin", distance=2 * reach)
-        total += len(ci)
-        if total > budget:
-            return None
-        found_i.append(ci + start)
-        found_j.append(cj)
-    qi, qj = np.concatenate(found_i), np.concatenate(found_j)
-    for i, j in zip(ok[qi].tolist(), ok[qj].tolist(), strict=True):
+    found = query_points_within(tree, mid, chunk=1024, budget=budget, predicate="dwithin", distance=2 * reach)
+    if found is None:
+        return None
+    qi, qj = ok[found[0]], ok[found[1]]
+    # the tests below for all pairs at once, loosened by a margin, so the loop (which
+    # decides) looks only at pairs that may pass: parallel, not collinear, i < j
+    cross = np.abs(u[qi, 0] * u[qj, 1] - u[qi, 1] * u[qj, 0])
+    rel = seg[qj].reshape(-1, 2, 2) - a[qi][:, None, :]
+    off = u[qi, 0, None] * rel[:, :, 1] - u[qi, 1, None] * rel[:, :, 0]
+    may = (qi < qj) & (cross <= PARALLEL_SIN * (1 + 1e-9)) & (np.abs(off.mean(axis=1)) > 1e-6 * ln[qi] * (1 - 1e-9))
+    qi, qj = qi[may], qj[may]
+    for i, j in zip(qi.tolist(), qj.tolist(), strict=True):
         if i >= j or abs(u[i, 0] * u[j, 1] - u[i, 1] * u[j, 0]) > PARALLEL_SIN:
             continue
         rel = seg[j].reshape(2, 2) - a[i]

@@ -24,15 +24,18 @@ from .assemble import build_truss
 from .audit.next_steps import add_next_steps
 from .audit.stability import PartStability, analyse_part
 from .audit.topology import audit_topology
+from .engineering import engineering_results
 from .errors import ConfigError, InputError, LimitError
 from .escape import shown
 from .findings import Code, Finding, sort_findings
 from .loadsfile import LoadsSpec, read_loads_file
 from .naming import PartNames, name_parts
+from .plane import default_snap_3d, find_plane, into_plane, is_flat_xy
 from .policy import run_policy
 from .read import LineWork, read_drawing
 from .repeats import copied_stability, find_repeats, repeat_findings
 from .result import Result, Settings, SourceInfo, Tolerances
+from .sections import member_sections
 from .snap import build_geometry
 from .statics import CaseResult, solve_case
 from .symmetry import find_mirror_axis
@@ -173,11 +176,12 @@ def _check(
         max_members=settings.max_members,
         max_bytes=int(settings.max_file_mb * 2**20) if settings.max_file_mb else None,
         layout=settings.layout,
+        stream=settings.stream_line_work,
     )
     sha, binary = file_digest(p)
     stage("read")
 
-    findings: list[Finding] = list(linework.findings)
+    findings: list[Finding] = []
     if units_opt:
         unit, unit_source = units_opt, "option"
     elif spec and spec.length_unit:
@@ -199,8 +203,18 @@ def _check(
             )
         )
 
-    all_seg = linework.segments
     opt_snap = _tolerance(settings.snap, unit, "--snap") if settings.snap is not None else None
+    linework, drawing_plane = into_plane(
+        linework, snap=opt_snap, fraction=settings.snap_fraction, mark_reach=settings.near_miss_fraction
+    )
+    findings = list(linework.findings) + findings
+    if drawing_plane is None and len(linework.segments) and not is_flat_xy(linework):
+        spatial = _check_space(
+            p, settings, spec, linework, findings, unit, unit_source, opt_snap, (sha, binary), (stage, timings)
+        )
+        if spatial is not None:
+            return spatial
+    all_seg = linework.segments
     if settings.layers:
         selection = drafting.everything(linework.layers, "option")
     else:
@@ -276,6 +290,8 @@ def _check(
         snap=snap,
         overhangs=read.overhangs,
     )
+    if truss.sections:  # a member list naming a member the drawing lacks is refused here
+        member_sections(truss, source=spec.path if spec else "loads file")
     findings += truss.findings
     findings += _with_inventory(audit_topology(truss, snap=snap, near_miss=near), linework, settings.layers)
     stage("model")
@@ -309,8 +325,11 @@ def _check(
             if key not in seen:  # e.g. assumed-stiffness once per part, not once per case
                 seen.add(key)
                 findings.append(f)
-    findings = add_next_steps(truss, stability, findings, snap=snap, near_miss=near)
     stage("statics")
+    eng, eng_findings = engineering_results(truss, stability, cases, spec, near_miss=near, snap=snap)
+    findings += eng_findings
+    findings = add_next_steps(truss, stability, findings, snap=snap, near_miss=near)
+    stage("engineering")
 
     source = SourceInfo(
         str(path), sha, linework.dxf_version, unit, unit_source, linework.recovered, binary, linework.layout
@@ -332,4 +351,114 @@ def _check(
         same_as={copy: rep.of for copy, rep in repeats.items()},
         overhangs=read.overhangs,
         title_block=resolve_title_block(settings.report, spec.report if spec else (), linework.document, report_date()),
+        engineering=eng,
+        plane=drawing_plane,
+    )
+
+
+def _check_space(
+    path: Path,
+    settings: Settings,
+    spec: LoadsSpec | None,
+    linework: LineWork,
+    findings: list[Finding],
+    unit: str,
+    unit_source: str,
+    opt_snap: float | None,
+    digest: tuple[str, bool],
+    clock: tuple[Callable[[str], None], dict[str, float]],
+) -> Result | None:
+    """The stages for a space truss (space.py): line work in no one plane, with at least
+    one connected part that lies in no one plane itself. None when every part is flat
+    on its own (planar parts in different planes, or a stray 3-D line beside a planar
+    truss): the drawing is then read flat in XY, as the reader's warning says."""
+    from .model import Truss
+    from .space import SpaceAnalysis, analyse_space_part, build_space_geometry, solve_space_case
+    from .space import find_parts as space_parts
+    from .space_build import build_space_truss
+
+    stage, timings = clock
+    # the reader's "not flat" warning: the line work is analysed in 3-D instead
+    findings = [
+        f for f in findings if not (f.code is Code.UNSUPPORTED_GEOMETRY and f.data.get("reason") == "non-planar")
+    ]
+    seg = np.asarray(linework.segments, dtype=float).reshape(-1, 4)
+    z = np.asarray(linework.segment_z, dtype=float).reshape(-1, 2)
+    seg6 = np.column_stack([seg[:, 0], seg[:, 1], z[:, 0], seg[:, 2], seg[:, 3], z[:, 1]])
+    selection = drafting.everything(linework.layers, "option" if settings.layers else "all")
+    if opt_snap is not None:
+        snap, snap_source = opt_snap, "option"
+    else:
+        snap = default_snap_3d(linework, settings.snap_fraction)
+        snap_source = f"{settings.snap_fraction:g} x median drawn line length"
+    geometry = build_space_geometry(seg6, linework.entity_keys(), linework.layers, snap=snap)
+    if not any(  # fewer than four joints always lie in one plane
+        part.joints.size >= 4 and find_plane(geometry.xyz[part.joints], tol=snap) is None
+        for part in space_parts(len(geometry.xyz), geometry.ends)
+    ):
+        return None
+    if len(geometry.ends) > settings.max_members:
+        raise LimitError(
+            f"{path}: {len(geometry.ends):,} members after splitting at joints, more than the limit of "
+            f"{settings.max_members:,}; raise it with --max-members if the drawing is genuine"
+        )
+    findings += geometry.findings
+    if settings.near_miss is not None:
+        near, near_source = _tolerance(settings.near_miss, unit, "--near-miss"), "option"
+    else:
+        lengths = np.linalg.norm(geometry.xyz[geometry.ends[:, 1]] - geometry.xyz[geometry.ends[:, 0]], axis=1)
+        near = settings.near_miss_fraction * float(np.median(lengths)) if len(lengths) else 0.0
+        near_source = f"{settings.near_miss_fraction:g} x median member length"
+    near = max(near, snap)
+    stage("snap")
+    space, fs = build_space_truss(geometry, linework, spec, near_miss=near, length_unit=unit)
+    findings += fs
+    if settings.max_parts is not None and len(space.parts) > settings.max_parts:
+        raise LimitError(
+            f"{path}: the line work falls into {len(space.parts):,} separate parts, more than the limit of "
+            f"{settings.max_parts:,}; raise it with --max-parts if the drawing is genuine"
+        )
+    stage("model")
+    analysed = []
+    for part in space.parts:
+        st, fs, ps, D, S = analyse_space_part(space, part)
+        analysed.append((st, ps, D, S))
+        findings += fs
+    stage("stability")
+    cases = []
+    for case in space.cases:
+        res, fs = solve_space_case(space, analysed, case, snap=snap)
+        cases.append(res)
+        findings += fs
+    empty = Truss(
+        xy=np.zeros((0, 2)),
+        ends=np.zeros((0, 2), dtype=np.int64),
+        layers=(),
+        handles=(),
+        supports=(),
+        cases=(),
+        parts=(),
+        length_unit=unit,
+        force_unit=space.force_unit,
+    )
+    findings = add_next_steps(empty, [], findings, snap=snap, near_miss=near)
+    stage("statics")
+    sha, binary = digest
+    source = SourceInfo(
+        str(path), sha, linework.dxf_version, unit, unit_source, linework.recovered, binary, linework.layout
+    )
+    return Result(
+        source=source,
+        settings=settings,
+        tolerances=Tolerances(snap, near, snap_source, near_source),
+        truss=empty,
+        linework=linework,
+        stability=(),
+        cases=(),
+        findings=sort_findings(findings),
+        symmetry_axis=None,
+        loads=spec,
+        timings=timings,
+        selection=selection,
+        space=SpaceAnalysis(space, tuple(a[0] for a in analysed), tuple(cases)),
     )

@@ -19,11 +19,14 @@ from dataclasses import dataclass, field
 
 from .audit.stability import PartStability
 from .drafting import Selection
+from .engineering import Engineering
 from .findings import Finding, Severity
 from .habits import Overhang
 from .loadsfile import LoadsSpec
 from .model import Truss
+from .plane import DrawingPlane
 from .read import LineWork
+from .space import SpaceAnalysis
 from .statics import CaseResult
 from .titleblock import TitleBlock
 
@@ -60,6 +63,11 @@ class Settings:
     #: title-block fields given on the command line: (field, value) pairs, field one of
     #: project, drawing_no, revision, checked_by, date (titleblock.py)
     report: tuple[tuple[str, str], ...] = ()
+    #: read plain model-space LINE and LWPOLYLINE records with the streaming reader
+    #: (the same result, faster; dxftruss/read/stream.py); the result's document then
+    #: lacks them, so the PDF and DXF reports read the file again (``--pdf``/``--dxf``
+    #: leave it off)
+    stream_line_work: bool = False
 
 
 @dataclass(frozen=True)
@@ -118,6 +126,14 @@ class Result:
     overhangs: tuple[Overhang, ...] = ()
     #: the report's title block and where each field came from (titleblock.py)
     title_block: TitleBlock | None = None
+    #: envelope, member checks, deflections and moving loads (engineering.py)
+    engineering: Engineering | None = None
+    #: the plane the line work lies in when it is not flat in XY (plane.py); the model's
+    #: coordinates are then in-plane; None for a flat XY drawing
+    plane: DrawingPlane | None = None
+    #: the space truss when the line work lies in no one plane (space.py); ``truss``,
+    #: ``stability`` and ``cases`` are then empty
+    space: SpaceAnalysis | None = None
 
     def part_name(self, index: int) -> str:
         """The part's name (``P<n>`` when the result has no names)."""

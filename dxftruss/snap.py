@@ -25,6 +25,7 @@ import numpy as np
 from scipy.spatial import cKDTree
 
 from .findings import Code, Finding
+from .spatial import query_points
 
 
 @dataclass(frozen=True)
@@ -55,7 +56,7 @@ def cluster_points(points: np.ndarray, *, tol: float, resolution: float = 1e-3) 
     never finer than 1e-15 of their magnitude).
     """
     if len(points) == 0:
-        return np.zeros(0, dtype=np.int64), np.zeros((0, 2))
+        return np.zeros(0, dtype=np.int64), np.zeros((0, points.shape[1] if points.ndim == 2 else 2))
     exact, inverse = np.unique(points, axis=0, return_inverse=True)
     inverse = inverse.reshape(-1)
     # Points closer than the coordinates' own resolution are one point. Rounding them
@@ -84,7 +85,7 @@ def cluster_points(points: np.ndarray, *, tol: float, resolution: float = 1e-3) 
     _, label = np.unique(label, return_inverse=True)
     label = label.reshape(-1)[to_uniq]  # per distinct exact point
     counts = np.bincount(label)
-    centres = np.column_stack([np.bincount(label, exact[:, 0]), np.bincount(label, exact[:, 1])]) / counts[:, None]
+    centres = np.column_stack([np.bincount(label, exact[:, c]) for c in range(exact.shape[1])]) / counts[:, None]
     return label[inverse], centres
 
 
@@ -102,7 +103,7 @@ def _split_on_joints(
         return np.zeros(0, np.int64), np.zeros(0, np.int64), np.zeros(0)
     lines = shapely.linestrings(np.stack([xy[a], xy[b]], axis=1))
     tree = shapely.STRtree(lines)
-    pj, seg = tree.query(shapely.points(xy), predicate="dwithin", distance=tol)
+    pj, seg = query_points(tree, xy, predicate="dwithin", distance=tol)
     keep = (pj != a[seg]) & (pj != b[seg])
     pj, seg = pj[keep], seg[keep]
     d = xy[b[seg]] - xy[a[seg]]

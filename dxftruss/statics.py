@@ -76,7 +76,6 @@ from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
-from fnmatch import fnmatchcase
 from typing import Any
 
 import numpy as np
@@ -89,8 +88,9 @@ from .audit.stability import PartStability, Verdict
 from .audit.zero_force import zero_force_by_rule
 from .equilibrium import PartSystem, part_system
 from .findings import Code, Finding
-from .model import INCLINED, PARALLEL_SIN, LoadCase, Truss, joint_id
+from .model import INCLINED, PARALLEL_SIN, LoadCase, Truss, joint_id, member_id
 from .repeats import Repeat
+from .sections import member_sections
 from .symmetry import loads_symmetric
 from .units import FORCE_UNITS, LENGTH_UNITS
 
@@ -126,25 +126,14 @@ class CaseResult:
 def member_ea(truss: Truss) -> np.ndarray:
     """Axial stiffness EA in newtons per member from ``truss.sections``; NaN when none.
 
-    The first section whose ``layer`` glob matches the member's layer (fnmatch, case
-    insensitive) wins; area (m2) times modulus (Pa). A section with a non-positive or
-    non-finite EA counts as no section.
+    The first section that names the member (its id, or a ``layer`` glob matching its
+    layer, fnmatch, case-insensitive) wins (sections.py); area (m2) times modulus (Pa).
+    A section with a non-positive or non-finite EA counts as no section.
     """
-    m = truss.n_members
-    ea = np.full(m, np.nan)
-    if m == 0 or not truss.sections:
-        return ea
-    names, inverse = np.unique(np.asarray(truss.layers, dtype=str), return_inverse=True)
-    per_name = np.full(names.size, np.nan)
-    for i, name in enumerate(names):
-        low = str(name).lower()
-        for sec in truss.sections:
-            if fnmatchcase(low, sec.layer.lower()):
-                value = float(sec.area) * float(sec.modulus)
-                if np.isfinite(value) and value > 0:
-                    per_name[i] = value
-                break
-    return per_name[inverse.ravel()]
+    if truss.n_members == 0 or not truss.sections:
+        return np.full(truss.n_members, np.nan)
+    ea = member_sections(truss).ea
+    return np.where(np.isfinite(ea) & (ea > 0), ea, np.nan)
 
 
 @dataclass(frozen=True)
@@ -482,7 +471,7 @@ def solve_case(
 
     forces = np.full(truss.n_members, np.nan)
     disp = np.full((n_joints, 2), np.nan)
-    disp_known = True
+    disp_known = False
     reactions: dict[int, list[float]] = {}
     solved: list[int] = []
     residual = 0.0
@@ -511,7 +500,11 @@ def solve_case(
         f_norm = float(np.linalg.norm(f))
         a_norm = _a_norm(ps, stab)
         ea = ea_all[ps.members]
-        has_sections = bool(np.all(np.isfinite(ea)))
+        given = np.isfinite(ea)
+        has_sections = bool(given.any())
+        default_ea = float(np.median(ea[given])) if has_sections else float("nan")
+        if has_sections and not given.all():  # the members without a section take the default
+            ea = np.where(given, ea, default_ea)
         mechanism = stab.verdict is Verdict.MECHANISM or stab.mechanisms > 0
         where = {"case": case.name, "part": int(part.index)}
 
@@ -544,19 +537,8 @@ def solve_case(
         except _SolveFailed as err:
             findings.append(_failed_finding(truss, ps, stab, err, where, mechanism and not complete))
             continue
-        if stab.self_stress > 0 and not has_sections and f_norm > 0:
-            unmatched = int(np.count_nonzero(~np.isfinite(ea)))
-            first_unmatched = int(ps.members[~np.isfinite(ea)][0])
-            mid = truss.xy[truss.ends[first_unmatched]].mean(axis=0)
-            findings.append(
-                Finding(
-                    Code.ASSUMED_STIFFNESS,
-                    f"part {part.index + 1}: {unmatched} of {ps.n_members} members have no section; "
-                    "the part was solved with one uniform member stiffness EA",
-                    at=(float(mid[0]), float(mid[1])),
-                    data={"part": int(part.index), "unmatched": unmatched},
-                )
-            )
+        if not given.all() and f_norm > 0 and (stab.self_stress > 0 or has_sections):
+            findings.append(_stiffness_finding(truss, ps, given, default_ea, int(part.index)))
 
         solved.append(int(part.index))
         restrained[int(part.index)] = sorted({int(j) for j in ps.restraints[:, 0].tolist()})
@@ -577,14 +559,20 @@ def solve_case(
                 rxy[1] += value * ny
             else:
                 reactions.setdefault(int(joint), [0.0, 0.0])[direction] += value
-        if not has_sections:
-            disp_known = False
-        elif sol.displacement is not None:
-            disp[ps.joints] = sol.displacement
+        if has_sections:  # NaN for a mechanism part (not unique) and unsectioned parts
+            disp_known = True
+            if sol.displacement is not None:
+                disp[ps.joints] = sol.displacement
         if ps.n_members:
             zero_solution.append(ps.members[part_forces == 0.0])
 
     by_rule = zero_force_by_rule(truss, case, angle_tol=angle_tol)
+    # a part that was not solved has no result to count its rule zeros in: only the
+    # solved parts' members are kept
+    in_solved = np.zeros(truss.n_members, dtype=bool)
+    for p in solved:
+        in_solved[truss.parts[p].members] = True
+    by_rule = tuple(e for e in by_rule if in_solved[e])
     by_solution = tuple(sorted(int(e) for arr in zero_solution for e in arr))
     if by_solution:
         first = by_solution[0]
@@ -617,6 +605,42 @@ def solve_case(
         else loads_symmetric(truss, case, symmetry_axis, distance=symmetry_distance),
     )
     return result, findings
+
+
+def _stiffness_finding(truss: Truss, ps: PartSystem, given: np.ndarray, default_ea: float, part: int) -> Finding:
+    """assumed-stiffness: which members of the part took a default stiffness, and which.
+
+    With some sections in the part, the members without one take the median EA of the
+    others (named in ``members``); with none, the part is solved with one uniform EA
+    (forces only: no displacements are given)."""
+    missing = ps.members[~given]
+    first = int(missing[0])
+    mid = truss.xy[truss.ends[first]].mean(axis=0)
+    names = ", ".join(member_id(int(e)) for e in missing[:8]) + (
+        f" and {missing.size - 8} more" if missing.size > 8 else ""
+    )
+    if np.isfinite(default_ea):
+        message = (
+            f"part {part + 1}: {missing.size} of {ps.n_members} members have no section ({names}): they took the "
+            f"median EA of the part's sections, {default_ea:.4g} N, in the stiffness solution (displacements, and "
+            "forces where the part is indeterminate)"
+        )
+    else:
+        message = (
+            f"part {part + 1}: {missing.size} of {ps.n_members} members have no section; "
+            "the part was solved with one uniform member stiffness EA"
+        )
+    return Finding(
+        Code.ASSUMED_STIFFNESS,
+        message,
+        members=tuple(int(e) for e in missing),
+        at=(float(mid[0]), float(mid[1])),
+        data={
+            "part": part,
+            "unmatched": int(missing.size),
+            "default_ea": float(default_ea) if np.isfinite(default_ea) else None,
+        },
+    )
 
 
 def _unsolved(truss: Truss, case: LoadCase) -> CaseResult:

@@ -108,6 +108,25 @@ MODULUS_UNITS: dict[str, float] = {
     "ksi": 4448.2216152605 / 0.0254**2,
 }
 
+#: metres to the fourth per second-moment-of-area unit
+INERTIA_UNITS: dict[str, float] = {
+    "mm4": 1e-12,
+    "cm4": 1e-8,
+    "m4": 1.0,
+    "in4": 0.0254**4,
+}
+
+#: kilograms per cubic metre per density unit
+DENSITY_UNITS: dict[str, float] = {
+    "kg/m3": 1.0,
+    "t/m3": 1e3,
+    "g/cm3": 1e3,
+    "lb/ft3": 0.45359237 / 0.3048**3,
+}
+
+#: standard gravity, m/s2 (the conventional value of the SI: weight = mass x g)
+STANDARD_GRAVITY = 9.80665
+
 #: newtons per metre per load-per-length unit: a force unit over mm, cm, m, in or ft
 #: ("2.5 kN/m", "150 lbf/ft"), and the US words plf (lbf/ft) and klf (kip/ft)
 PER_LENGTH_UNITS: dict[str, float] = {

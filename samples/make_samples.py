@@ -18,6 +18,7 @@ The drawings (all a scenario of our own; loads are illustrative, not a design):
 
 - ``farm_shed_truss``   Fink roof truss, machinery shed, millimetres, R2018;
                         supports drawn as circles, loads and sections in the loads file.
+- ``farm_shed_truss_rev_b``  its revision B with four known edits (``dxftruss compare``).
 - ``footbridge_truss``  Pratt girder of the Mill Stream footbridge, metres, R2004;
                         a web panel drawn as a block (inserted plain and mirrored), one
                         X-braced panel, deck loads drawn on LOAD-deck, wind in the file.
@@ -116,18 +117,18 @@ def loads_toml(
     header: Sequence[str],
     units: dict[str, str],
     tables: Sequence[tuple[str, dict[str, object]]],
-    report: dict[str, str] | None = None,
+    plain: Sequence[tuple[str, dict[str, object]]] = (),
 ) -> str:
-    """The text of a loads file: comment lines, ``[units]``, ``[report]`` (the title
-    block's fields, when given) and arrays of tables.
+    """The text of a loads file: comment lines, ``[units]``, plain tables and arrays of tables.
 
     ``tables`` holds (table name, entries) pairs, e.g. ("load", {"at": [0, 0], "fy": -1}),
-    written in the order given as ``[[load]]`` blocks.
+    written in the order given as ``[[load]]`` blocks; ``plain`` ("checks", {...}) pairs
+    are written as ``[checks]`` tables after ``[units]``.
     """
     out = [f"# {h}" if h else "#" for h in header]
     out += ["", "[units]"] + [f"{_toml_key(k)} = {_toml_value(v)}" for k, v in units.items()]
-    if report:
-        out += ["", "[report]"] + [f"{_toml_key(k)} = {_toml_value(v)}" for k, v in report.items()]
+    for name, entry in plain:
+        out += ["", f"[{name}]"] + [f"{_toml_key(k)} = {_toml_value(v)}" for k, v in entry.items()]
     for name, entry in tables:
         out += ["", f"[[{name}]]"] + [f"{_toml_key(k)} = {_toml_value(v)}" for k, v in entry.items()]
     return "\n".join(out) + "\n"
@@ -141,7 +142,7 @@ def pt(x: float, y: float) -> list[float]:
 # --------------------------------------------------------------------------- drawings
 
 
-def farm_shed_truss() -> Sample:
+def farm_shed_truss(rev_b: bool = False) -> Sample:
     r"""Fink roof truss FT-1 of the Hollybrook Farm machinery shed (millimetres, R2018).
 
     ::
@@ -161,6 +162,13 @@ def farm_shed_truss() -> Sample:
     SUPPORT-Y (R0). j = 7, m = 11, r = 3: m + r = 2j, statically determinate.
     Loads (purlins at the top joints, trusses at 1800 centres) and timber sections are
     in the loads file: cases "dead" and "snow", combination "dead+snow".
+
+    ``rev_b``: revision B (``farm_shed_truss_rev_b``, the demo's revision compare),
+    with four known edits: the panel point B2 moved 300 mm towards R0 (webs B2-A and
+    B2-T3 and the tie pieces B1-B2 and B2-R0 moved), a counter-diagonal T1-B2 added
+    (crossing B1-A: an X-braced panel), the pin moved to R0 and the roller to L0 (both
+    supports changed), and the snow load at the apex A raised from 2.59 to 3.5 kN
+    (drift against the shed's lean-to).
     """
     span, rise = 9600.0, 2400.0
     spacing_m = 1.8  # truss centres, m
@@ -171,7 +179,7 @@ def farm_shed_truss() -> Sample:
         return (span / 2 * t, rise * (t if t <= 1 else 2 - t))
 
     L0, T1, A, T3, R0 = (rafter_point(k / 2) for k in range(5))
-    B1, B2 = (span / 3, 0.0), (2 * span / 3, 0.0)
+    B1, B2 = (span / 3, 0.0), (2 * span / 3 + (300.0 if rev_b else 0.0), 0.0)
 
     doc, msp = new_drawing(
         "R2018",
@@ -181,15 +189,17 @@ def farm_shed_truss() -> Sample:
     polyline(msp, [L0, T1, A], "RAFTER")
     polyline(msp, [A, T3, R0], "RAFTER")
     polyline(msp, [L0, B1, B2, R0], "CEILING-TIE")
-    for a, b in ((B1, T1), (B1, A), (B2, A), (B2, T3)):
+    webs = [(B1, T1), (B1, A), (B2, A), (B2, T3)] + ([(T1, B2)] if rev_b else [])
+    for a, b in webs:
         line(msp, a, b, "WEB")
-    msp.add_circle(L0, 150.0, dxfattribs={"layer": "SUPPORT-XY"})
-    msp.add_circle(R0, 150.0, dxfattribs={"layer": "SUPPORT-Y"})
+    pin, roller = (R0, L0) if rev_b else (L0, R0)
+    msp.add_circle(pin, 150.0, dxfattribs={"layer": "SUPPORT-XY"})
+    msp.add_circle(roller, 150.0, dxfattribs={"layer": "SUPPORT-Y"})
     notes(
         msp,
         [
             f"{SITE} - MACHINERY SHED",
-            "ROOF TRUSS FT-1 (FINK), SPAN 9600, RISE 2400",
+            "ROOF TRUSS FT-1 (FINK), SPAN 9600, RISE 2400" + (", REV B" if rev_b else ""),
             "TRUSSES AT 1800 CENTRES, C24 TIMBER 45 x 140 / 45 x 95",
             "DIMENSIONS IN MILLIMETRES",
         ],
@@ -209,27 +219,41 @@ def farm_shed_truss() -> Sample:
     ):
         for k, p in enumerate(top):
             share = 0.5 if k in (0, len(top) - 1) else 1.0
-            tables.append(("load", {"at": pt(*p), "fy": -round(share * per_panel, 2), "case": case}))
+            fy = -round(share * per_panel, 2)
+            if rev_b and case == "snow" and p == A:
+                fy = -3.5  # revision B: drift at the apex
+            tables.append(("load", {"at": pt(*p), "fy": fy, "case": case}))
     tables.append(("combination", {"name": "dead+snow", "factors": {"dead": 1.35, "snow": 1.5}}))
     for layer, area in (("RAFTER", "6300 mm2"), ("CEILING-TIE", "6300 mm2"), ("WEB", "4275 mm2")):
         tables.append(("section", {"layer": layer, "area": area, "E": "11 GPa"}))
     toml = loads_toml(
         [
-            f"{SITE} - machinery shed, roof truss FT-1 (farm_shed_truss.dxf).",
+            f"{SITE} - machinery shed, roof truss FT-1 ({'farm_shed_truss_rev_b' if rev_b else 'farm_shed_truss'}.dxf)."
+            + (" Revision B: snow at the apex 3.5 kN (drift)." if rev_b else ""),
             "Purlin loads at the top joints; trusses at 1800 mm centres.",
             f"dead: sheeting + purlins {dead_kpa} kN/m2 on slope; snow: {snow_kpa} kN/m2 on plan.",
             "Illustrative values for the demo, not a design. Supports are drawn in the DXF.",
         ],
         {"force": "kN", "length": "mm"},
         tables,
-        {
-            "project": "Hollybrook Farm machinery shed",
-            "drawing_no": "HF-MS-104",
-            "revision": "B",
-            "checked_by": "J. Varga",
-        },
+        [
+            (
+                "report",
+                {
+                    "project": "Hollybrook Farm machinery shed",
+                    "drawing_no": "HF-MS-104",
+                    "revision": "B" if rev_b else "A",
+                    "checked_by": "J. Varga",
+                },
+            )
+        ],
     )
-    return Sample("farm_shed_truss", doc, toml)
+    return Sample("farm_shed_truss_rev_b" if rev_b else "farm_shed_truss", doc, toml)
+
+
+def farm_shed_truss_rev_b() -> Sample:
+    """Revision B of the farm shed truss (see :func:`farm_shed_truss`, ``rev_b``)."""
+    return farm_shed_truss(rev_b=True)
 
 
 def footbridge_truss() -> Sample:
@@ -254,7 +278,8 @@ def footbridge_truss() -> Sample:
     Panel B3-B4 is X-braced (counter-diagonal B3-T4 crosses T3-B4 with no joint):
     j = 16, m = 30, r = 3, one state of self-stress. Supports are POINTs; the deck
     load is drawn on LOAD-deck with a TEXT value beside each line; the loads file adds
-    a "wind" case, a combination and steel sections for the chords only.
+    a "wind" case, combinations (one with the self-weight), steel hollow sections,
+    member-check limits and a two-axle maintenance buggy on the bottom chord.
     """
     panels, panel, depth = 8, 3.0, 2.4
     deck_kn = 5.0 * panel * 1.2  # crowd 5 kN/m2 x 3 m panel x 1.2 m half deck width = 18 kN
@@ -330,17 +355,34 @@ def footbridge_truss() -> Sample:
         ("load", {"at": pt(*T[i]), "fx": wind_kn, "case": "wind"}) for i in range(1, panels)
     ]
     tables.append(("combination", {"name": "deck+wind", "factors": {"deck": 1.5, "wind": 0.9}}))
-    tables.append(("section", {"layer": "*-CHORD", "area": "4800 mm2", "E": "210 GPa"}))
+    tables.append(("combination", {"name": "dead+deck", "factors": {"self-weight": 1.35, "deck": 1.5}}))
+    steel = {"E": "210 GPa", "strength": "355 MPa", "density": "7850 kg/m3"}
+    tables.append(("section", {"name": "chord SHS", "layer": "*-CHORD", "shape": "square-hollow"}))
+    tables[-1][1].update({"D": "150 mm", "t": "8 mm", **steel})
+    tables.append(("section", {"name": "web SHS", "layer": "WEB", "shape": "square-hollow"}))
+    tables[-1][1].update({"D": "90 mm", "t": "4 mm", **steel})
+    tables.append(
+        (
+            "moving_load",
+            {
+                "name": "maintenance buggy",
+                "from": pt(*B[0]),
+                "to": pt(*B[panels]),
+                "loads": ["8 kN", "12 kN"],
+                "spacing": ["1.8 m"],
+            },
+        )
+    )
     toml = loads_toml(
         [
             f"{SITE} - Mill Stream footbridge, main girder G1 (footbridge_truss.dxf).",
-            "The deck case is drawn in the DXF (layer LOAD-deck); this file adds wind.",
-            "Sections are given for the chords only, so the webs take the assumed stiffness.",
-            "Illustrative values for the demo, not a design.",
+            "The deck case is drawn in the DXF (layer LOAD-deck); this file adds wind,",
+            "steel hollow sections (checks, self-weight, deflection) and a maintenance buggy",
+            "crossing on the bottom chord. Illustrative values for the demo, not a design.",
         ],
         {"force": "kN"},
         tables,
-        {"checked_by": "J. Varga"},
+        [("report", {"checked_by": "J. Varga"}), ("checks", {"ratio": 1.0, "slenderness": 180})],
     )
     return Sample("footbridge_truss", doc, toml)
 
@@ -484,7 +526,13 @@ def save(doc: Drawing, path: Path) -> None:
     doc.saveas(path)
 
 
-SAMPLES: tuple[Callable[[], Sample], ...] = (farm_shed_truss, footbridge_truss, drafting_slips, hoist_bracket)
+SAMPLES: tuple[Callable[[], Sample], ...] = (
+    farm_shed_truss,
+    farm_shed_truss_rev_b,
+    footbridge_truss,
+    drafting_slips,
+    hoist_bracket,
+)
 
 
 def write_samples(outdir: Path) -> list[Path]:

@@ -192,7 +192,7 @@ COUNTED = (
     "entit", "reference", "more", "redundant", "mechanism", "self-stress", "case", "load", "reaction",
     "block", "layer", "zone", "page", "piece", "end", "label", "time", "side", "overlap", "point", "marker",
     "row", "column", "section", "combination", "handle", "dof", "lines", "force", "of them", "top joint",
-    "the same", "tension",
+    "the same", "tension", "source",
 )  # fmt: skip
 #: words that may stand between a count and what it counts ("2 drawn lines")
 _ADJECTIVES = (
@@ -230,6 +230,10 @@ def _allowed_by_rule(text: str, start: int, end: int) -> str | None:
         return "scale"
     if re.match(r"\s?(?:x|\u00d7) ", after):
         return "factor"
+    if re.search(r"\((?:x|\u00d7) $", before):
+        return "factor (an exaggeration: x 100)"
+    if re.search(r"(?:span / deflection|L/r|ratio|utilisation) = $", before):
+        return "ratio"
     ordinal = r"(?:page|pages|sheet|mode|case|of|column|row|zone|part|p\.|number|#)\s?$"
     if re.search(ordinal, before, re.IGNORECASE) or re.search(r"(?:pages?|modes?) (?:\d+(?:, | and |-))+$", before):
         return "page or ordinal"

@@ -159,7 +159,8 @@ _COUNTED = re.compile(
     r"(?:more\b|of\b|in all\b|(?:separate |independent |drawn |load |member |DXF |end cut |outline |parallel "
     r"|arc |[A-Z]+ )?"
     r"(?:joint|member|line|part|entit|placement|mechanism|case|record|cell|segment|text|arrow|layer|"
-    r"block|error|warning|pair|piece|reference|lines?\b|derived|group|candidate|time|height)\w*)"
+    r"block|error|warning|pair|piece|reference|lines?\b|derived|group|candidate|time|height|"
+    r"(?:rigid-body |internal )(?:motion|mechanism))\w*)"
 )
 #: words before a number that make it an id, an ordinal or a dimensionless value
 _BEFORE = re.compile(
@@ -179,6 +180,8 @@ def unitless_numbers(text: str) -> list[str]:
     # a handle is an id, also an entity key inside blocks ("handle 45/43")
     text = re.sub(r"\bhandle (?:[0-9A-Fa-f]+/)+[0-9A-Fa-f]+", "handle H", text)
     text = _POINT.sub("0 ", text)  # a point is one length: its unit follows the closing bracket
+    # Maxwell's count and the rank's s and k are counts (docs/methods.md)
+    text = re.sub(r"m \+ r - [23]j = [-+=\d ]+|\b[sk] = \d+", "the count", text)
     bad = []
     for m in _NUMBER.finditer(text):
         after = text[m.end() :].lstrip()

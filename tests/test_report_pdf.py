@@ -310,12 +310,12 @@ def test_pdf_pages_text_and_caution(king_post: tuple[Result, Path], tmp_path: Pa
     out = tmp_path / "out.pdf"
     write_pdf(result, out, page="A3")
     pages = _pages_text(out)
-    # 3 drawing pages (snow, wind, ULS-1) + 1 findings page + 1 tables page
-    assert len(pages) == 5
+    # 3 drawing pages (snow, wind, ULS-1) + 1 findings page + 1 tables page + 1 cut list page
+    assert len(pages) == 6
     caution_start = _norm(CAUTION)[:60]
     for k, text in enumerate(pages, 1):
         assert caution_start in _norm(text), f"caution missing on page {k}"
-        assert f"page {k} of 5" in text
+        assert f"page {k} of 6" in text
     # drawing pages, one per case, in order
     assert "Load case 'snow'" in pages[0]
     assert "Load case 'wind'" in pages[1]
@@ -357,8 +357,8 @@ def test_pdf_mechanism_page_and_unsolved_case(tmp_path: Path) -> None:
     out = tmp_path / "gate.pdf"
     write_pdf(result, out, page="A4")
     pages = _pages_text(out)
-    # 1 case page (not solved, members uncoloured) + 1 mechanism page + findings + tables
-    assert len(pages) == 4
+    # 1 case page (not solved, members uncoloured) + 1 mechanism page + findings + tables + cut list
+    assert len(pages) == 5
     assert "Mechanism: part P1, mode 1 of 1" in pages[1]  # the part by its name (naming.py)
     assert "moving joints: J2, J3, J4" in _norm(pages[1])
     assert "not solved" in pages[0]
@@ -371,7 +371,7 @@ def test_pdf_without_cases_shows_members_and_findings(tmp_path: Path) -> None:
     out = tmp_path / "x.pdf"
     write_pdf(result, out, page="letter")
     pages = _pages_text(out)
-    assert len(pages) == 3  # model page + findings + tables
+    assert len(pages) == 4  # model page + findings + tables + cut list
     assert "no load case was solved" in _norm(pages[0])
     assert "M1" in pages[0]  # members numbered when there are no forces
 
@@ -434,7 +434,7 @@ def test_renderer_failure_falls_back_to_members(
     out = tmp_path / "h.pdf"
     write_pdf(result, out)
     pages = _pages_text(out)
-    assert len(pages) == 5
+    assert len(pages) == 6  # 3 case pages + findings + tables + cut list
     assert "could not be rendered (KeyError" in _norm(pages[0])
     assert fmt_force(N_RAFTER_SNOW) in pages[0]
 
@@ -450,7 +450,7 @@ def test_recovered_drawing_is_rendered_through_the_recovery_reader(tmp_path: Pat
     out = tmp_path / "r.pdf"
     write_pdf(result, out)
     pages = _pages_text(out)
-    assert len(pages) == 5
+    assert len(pages) == 6  # 3 case pages + findings + tables + cut list
     assert "could not be rendered" not in _norm(pages[0])
     assert "REPAIRED ON READING" in _norm(pages[0])
 

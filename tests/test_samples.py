@@ -32,6 +32,8 @@ ROOT = Path(__file__).resolve().parents[1]
 SCRIPT = ROOT / "samples" / "make_samples.py"
 NAMES = ("farm_shed_truss", "footbridge_truss", "drafting_slips", "hoist_bracket")
 WITH_LOADS = ("farm_shed_truss", "footbridge_truss", "hoist_bracket")
+#: revised drawings for the revision compare, each with its loads file (tests/test_compare.py)
+REVISIONS = ("farm_shed_truss_rev_b",)
 
 #: rounding used to snap end points (decimals of the drawing unit); the samples are drawn
 #: exactly, so any value between the drawing's float noise and its smallest gap works
@@ -193,7 +195,7 @@ def test_reruns_are_byte_identical(generated: Path) -> None:
     second = generated.parent / generated.name.replace("samples_a", "samples_b")
     files = sorted(p.name for p in generated.iterdir())
     assert files == sorted(p.name for p in second.iterdir())
-    assert files == sorted([f"{n}.dxf" for n in NAMES] + [f"{n}.toml" for n in WITH_LOADS])
+    assert files == sorted([f"{n}.dxf" for n in NAMES + REVISIONS] + [f"{n}.toml" for n in WITH_LOADS + REVISIONS])
     for name in files:
         assert (generated / name).read_bytes() == (second / name).read_bytes(), name
 
@@ -273,7 +275,9 @@ ALLOWED = {
     "support": {"at", "fix"},
     "load": {"at", "fx", "fy", "case"},
     "combination": {"name", "factors"},
-    "section": {"layer", "area", "E"},
+    "section": {"layer", "area", "E", "shape", "D", "t", "strength", "density", "name"},
+    "checks": {"ratio", "slenderness"},
+    "moving_load": {"name", "from", "to", "loads", "spacing"},
     "report": {"project", "drawing_no", "revision", "checked_by", "date"},
 }
 AREA_UNITS = ("mm2", "cm2", "m2", "in2")
@@ -288,7 +292,7 @@ def test_loads_file_follows_spec(generated: Path, name: str) -> None:
     assert set(data["units"]) <= ALLOWED["units"]
     assert set(data.get("report", {})) <= ALLOWED["report"]
     assert all(isinstance(v, str) for v in data.get("report", {}).values())
-    for table in ("support", "load", "combination", "section"):
+    for table in ("support", "load", "combination", "section", "moving_load"):
         entries = data.get(table, [])
         assert isinstance(entries, list)  # arrays of tables: [[load]], not [load]
         for entry in entries:
@@ -301,10 +305,15 @@ def test_loads_file_follows_spec(generated: Path, name: str) -> None:
     cases = {entry.get("case", "main") for entry in data["load"]}
     msp = read(generated, name).modelspace()
     drawn_cases = {e.dxf.layer.split("-", 1)[1] for e in msp if e.dxf.layer.startswith("LOAD-")}
+    if any("density" in entry for entry in data.get("section", [])):
+        cases.add("self-weight")  # the self-weight case the densities make
     for combo in data.get("combination", []):
         assert set(combo["factors"]) <= cases | drawn_cases
         assert combo["name"] not in cases | drawn_cases
     for entry in data.get("section", []):
+        if "shape" in entry:  # the area is computed from the shape's dimensions
+            assert entry["shape"] in ("rectangle", "round-hollow", "square-hollow")
+            continue
         value, unit = entry["area"].split()
         assert float(value) > 0 and unit in AREA_UNITS
         value, unit = entry["E"].split()

@@ -386,14 +386,23 @@ def test_c4_unit_conversion() -> None:
     assert result.displacements[2] == pytest.approx([400.0, -200.0], rel=1e-12)
 
 
-def test_c4_missing_section_hides_displacements() -> None:
-    # docs/user-guide.md, The loads file: displacements only when every member has a real section (common practice)
+def test_c4_missing_section_takes_the_median_ea() -> None:
+    # a section given for some members is kept; the member without one (B23) takes the
+    # median EA of the others, (100 + 200 sqrt 2) / 2, and is named. Same displacements
+    # as the check case C4 truss with that EA given for B23 explicitly.
     truss = c4_truss()
     truss = dataclasses.replace(truss, sections=C4_SECTIONS[:2])  # no section for B23
     result, findings = solve(truss, truss.cases[0])
-    assert result.displacements is None
     assert result.forces == pytest.approx([0.0, -1.0, 2 * SQ2], abs=1e-12)  # determinate: unchanged
-    assert not [f for f in findings if f.code is Code.ASSUMED_STIFFNESS]
+    (f,) = [f for f in findings if f.code is Code.ASSUMED_STIFFNESS]
+    assert f.members == (1,) and f.data["default_ea"] == pytest.approx((100 + 200 * SQ2) / 2)
+    explicit = dataclasses.replace(truss, sections=(*C4_SECTIONS[:2], Section("B2?", 1.0, (100 + 200 * SQ2) / 2)))
+    reference, _ = solve(explicit, explicit.cases[0])
+    assert result.displacements == pytest.approx(reference.displacements, abs=1e-12)
+    # virtual work (closed-form derivation): a unit load (1, 0) at joint 3 gives n = (0, -1, sqrt 2)
+    # in members (1-2, 2-3, 1-3) by the joints 3 and 2, and N = (0, -1, 2 sqrt 2), so
+    # u3 = sum N n L / EA = 1 * 10 / EA23 + 2 sqrt 2 * sqrt 2 * 10 sqrt 2 / (200 sqrt 2) = 10 / EA23 + 0.2
+    assert result.displacements[2, 0] == pytest.approx(10 / ((100 + 200 * SQ2) / 2) + 0.2, abs=1e-12)
 
 
 # ---------------------------------------------------------------------------------------
@@ -445,7 +454,7 @@ def test_c5_uniform_stiffness_is_said_once_per_part() -> None:
     a1 = [f for f in f1 if f.code is Code.ASSUMED_STIFFNESS]
     a2 = [f for f in f2 if f.code is Code.ASSUMED_STIFFNESS]
     assert len(a1) == len(a2) == 1
-    assert a1[0].data == a2[0].data == {"part": 0, "unmatched": 3}  # deduplicable: no case
+    assert a1[0].data == a2[0].data == {"part": 0, "unmatched": 3, "default_ea": None}  # deduplicable: no case
     assert r1.displacements is None
     assert r1.forces[1] == pytest.approx(5.857864, abs=1e-6)  # docs/methods.md, check case C5 (uniform EA)
 

@@ -152,6 +152,21 @@ class _Plain:
                 "rewrite the label as one number with its force unit, e.g. '12.5 kN' (or a load per length "
                 "such as '0.75 kN/m' on a row of arrows), or give the load in the loads file"
             )
+        if c is Code.NO_SUPPORTS:
+            return (
+                "draw a POINT on SUPPORT-XYZ at each joint the space truss bears on (SUPPORT-Z for a vertical "
+                'roller), or give [[support]] at = [x, y, z] with fix = "xyz" in the loads file'
+            )
+        if c is Code.UNSUPPORTED_GEOMETRY and d.get("reason") == "off-plane":
+            return (
+                "move the support and load marks onto the plane the members are drawn in, or give them in the "
+                "loads file in in-plane coordinates"
+            )
+        if c is Code.INCLINED_SUPPORT and d.get("status") == "off-plane":
+            return (
+                "the drawing lies in a plane other than XY: draw the support on a layer whose directions lie in "
+                "that plane, or give it in the loads file in in-plane coordinates (as the report lists the joints)"
+            )
         if c is Code.INCLINED_SUPPORT:
             return (
                 f"insert the roller block ({entity}) without skew and in the drawing plane, or give the support "
@@ -189,6 +204,23 @@ class _Plain:
                 "check the rafter or chord for the bending this moment causes at the joint (not part of a "
                 "pin-jointed check), or move the load onto a joint"
             )
+        if c is Code.SELF_WEIGHT_INCOMPLETE:
+            return (
+                'give the members named a density in their [[section]] (e.g. density = "7850 kg/m3"), or a '
+                "[[section]] of their own, so their weight is counted"
+            )
+        if c is Code.MEMBER_OVER_RATIO and f.members:
+            return (
+                f"check {member_id(f.members[0])} to the applicable code with its real buckling length, end "
+                "connections and bracing; if the ratio stands, choose a larger section and check again"
+            )
+        if c is Code.SLENDER_MEMBER and f.members:
+            return (
+                f"brace {member_id(f.members[0])} between its joints or choose a section with a larger radius "
+                "of gyration, then check its buckling length to the applicable code"
+            )
+        if c is Code.MOVING_LOAD_UNSOLVED:
+            return "make the part carrying the moving load's chord stable and solvable first (see its findings)"
         if c is Code.NEAR_MECHANISM and d.get("kind") == "local" and f.joints:
             return f"brace {joint_id(f.joints[0])} across the line of its members, or draw them as one straight member"
         return ""

@@ -38,6 +38,8 @@ The stages of reading, one module each:
     loading     open the file (strict reader, recovery reader, limits before reading),
                 collect the library's warnings; afterwards the audit findings and the
                 header (unit, names DXF cannot store)
+    stream      the streaming reader: plain model-space LINE / LWPOLYLINE records read
+                from the text, the rest of the file by the library (``stream=True``)
     layers      what a layer's name makes of its entities (member, support, load ...)
     extract     one layout (model space or a block) read into arrays
     walk        model space and the block tree, depth first, blocks read once
@@ -97,6 +99,7 @@ def read_drawing(
     max_members: int | None = None,
     max_bytes: int | None = None,
     layout: str | None = None,
+    stream: bool = False,
 ) -> LineWork:
     """Read a DXF drawing into line work, support and load marks and load labels.
 
@@ -123,6 +126,10 @@ def read_drawing(
             work when model space holds none (``paper-space-read``); when both hold
             some, model space (``paper-space-line-work``). Paper-space coordinates are
             the layout's paper units; its VIEWPORT entities are not read.
+        stream: read the plain LINE and LWPOLYLINE records of model space with the
+            streaming reader (``stream.py``; the same line work, faster). The document
+            in the result then lacks those records (``partial_document``): give False
+            when a report draws or copies the document.
 
     Returns:
         LineWork with segments in WCS drawing units, z dropped. Its findings:
@@ -145,7 +152,7 @@ def read_drawing(
     from ezdxf.lldxf.const import DXFError
 
     with _collect_library_warnings() as log:
-        doc, auditor, recovered = _load(p, max_bytes=max_bytes, max_records=max_entities)
+        doc, auditor, recovered, streamed = _load(p, max_bytes=max_bytes, max_records=max_entities, stream=stream)
         states = _layer_states(doc)
 
         def walk(lay: Any) -> _Reader:
@@ -160,6 +167,7 @@ def read_drawing(
                 planar_tol=planar_tol,
                 max_members=max_members,
                 states=states,
+                model=streamed.model if streamed is not None else None,
             )
             try:
                 rd.run(lay)
@@ -223,11 +231,13 @@ def read_drawing(
         header_units=units_code,
         renamed=renamed,
         document=doc,
+        partial_document=streamed is not None and streamed.plain > 0,
         findings=tuple(findings),
         recovered=recovered,
         layout=layout_name,
         layer_states=tuple(states.values()),
         layer_counts={k: dict(sorted(v.items())) for k, v in reader.counts.items()},
+        segment_z=z,
     )
 
 

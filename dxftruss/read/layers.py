@@ -31,7 +31,7 @@ from ..model import Fix
 class _Role(IntEnum):
     MEMBER = 0  # line work here becomes members
     SKIP = 1  # excluded by the --layers globs: nothing is read or reported
-    SUPPORT = 2  # SUPPORT-XY / SUPPORT-X / SUPPORT-Y
+    SUPPORT = 2  # SUPPORT-XY / SUPPORT-X / SUPPORT-Y; SUPPORT-XYZ / -XZ / -YZ / -Z
     LOAD = 3  # LOAD or LOAD-<case>: lines are loads, texts are labels
     LOAD_OTHER = 4  # other LOAD* layers: texts are labels, nothing else is used
     RESERVED = 5  # other SUPPORT* layers: nothing is used
@@ -39,6 +39,18 @@ class _Role(IntEnum):
 
 
 _SUPPORT_FIX = {"SUPPORT-XY": Fix.XY, "SUPPORT-X": Fix.X, "SUPPORT-Y": Fix.Y}
+#: the world axes each support layer fixes; the 3-D layers' ``fix`` is their trace in
+#: the XY plane (SUPPORT-Z has none: planar drawings refuse its marks, plane.py)
+SUPPORT_AXES = {
+    "SUPPORT-XY": "xy",
+    "SUPPORT-X": "x",
+    "SUPPORT-Y": "y",
+    "SUPPORT-XYZ": "xyz",
+    "SUPPORT-XZ": "xz",
+    "SUPPORT-YZ": "yz",
+    "SUPPORT-Z": "z",
+}
+_SUPPORT_FIX |= {"SUPPORT-XYZ": Fix.XY, "SUPPORT-XZ": Fix.X, "SUPPORT-YZ": Fix.Y, "SUPPORT-Z": Fix.XY}
 
 
 @dataclass(frozen=True)
@@ -46,13 +58,17 @@ class _LayerRole:
     role: _Role
     fix: Fix | None = None
     case: str | None = None
+    #: the world axes a support layer fixes ("xy", "xyz", "z" ...)
+    axes: str = ""
 
 
 def _layer_role(layer: str, globs: tuple[str, ...]) -> _LayerRole:
     up = layer.upper()
     if up.startswith("SUPPORT"):
         fix = _SUPPORT_FIX.get(up)
-        return _LayerRole(_Role.SUPPORT, fix=fix) if fix is not None else _LayerRole(_Role.RESERVED)
+        if fix is None:
+            return _LayerRole(_Role.RESERVED)
+        return _LayerRole(_Role.SUPPORT, fix=fix, axes=SUPPORT_AXES[up])
     if up.startswith("LOAD"):
         if up == "LOAD":
             return _LayerRole(_Role.LOAD, case="main")

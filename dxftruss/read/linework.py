@@ -26,6 +26,11 @@ class SupportMark:
     why: str = ""
     #: the unit direction an inclined roller (``Fix.N``) restrains; None otherwise
     normal: tuple[float, float] | None = None
+    #: world z of the mark (0 in a flat drawing; used when the line work lies in another plane)
+    z: float = 0.0
+    #: the world axes the mark's layer fixes ("xy", "xyz", "z" ...; "" for a block read
+    #: as a support, which ``fix`` and ``normal`` say in the drawing plane)
+    axes: str = ""
 
 
 @dataclass(frozen=True)
@@ -37,6 +42,8 @@ class LoadMark:
     case: str
     handle: str
     layer: str
+    #: world z of the start and the end (0 in a flat drawing)
+    z: tuple[float, float] = (0.0, 0.0)
 
 
 @dataclass(frozen=True)
@@ -48,6 +55,8 @@ class TextMark:
     handle: str
     #: character height in drawing units (0 when unknown)
     height: float = 0.0
+    #: world z of the insertion point (0 in a flat drawing)
+    z: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -79,6 +88,9 @@ class LineWork:
     #: the DXF library's document as read (ezdxf ``Drawing``): the reports draw and copy
     #: it instead of reading the file again. Not part of comparisons.
     document: Any = field(default=None, compare=False, repr=False)
+    #: the document lacks the plain model-space line work the streaming reader read
+    #: (``read_drawing(stream=True)``): the reports must not draw or copy it
+    partial_document: bool = field(default=False, compare=False, repr=False)
     #: the layout read: "Model" for model space, else a paper-space layout's name
     #: (coordinates are then that layout's paper units)
     layout: str = "Model"
@@ -95,6 +107,8 @@ class LineWork:
     keys: tuple[str, ...] = ()
     #: handle -> block name of every block reference whose content was read
     block_names: dict[str, str] = field(default_factory=dict, compare=False, repr=False)
+    #: (n, 2) world z of each segment's two ends (None: not known, taken as 0)
+    segment_z: Any = field(default=None, compare=False, repr=False)
 
     def entity_keys(self) -> tuple[str, ...]:
         """``keys``, or the handles where keys were not given."""

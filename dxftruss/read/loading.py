@@ -21,6 +21,7 @@ from typing import Any
 from ..errors import InputError, LimitError
 from ..findings import Code, Finding
 from .boundary import _ENTITY_FAILURES, _one_line
+from .stream import Streamed, read_streamed
 
 #: how many auditor messages a recovered-file finding carries
 _MAX_AUDIT_MESSAGES = 20
@@ -56,8 +57,15 @@ def _collect_library_warnings() -> Iterator[_LogCollector]:
         logger.propagate = propagate
 
 
-def _load(path: Path, *, max_bytes: int | None = None, max_records: int | None = None) -> tuple[Any, Any, bool]:
-    """Open ``path`` with ezdxf: (doc, auditor, recovered). Raises InputError.
+def _load(
+    path: Path, *, max_bytes: int | None = None, max_records: int | None = None, stream: bool = False
+) -> tuple[Any, Any, bool, Streamed | None]:
+    """Open ``path`` with ezdxf: (doc, auditor, recovered, streamed). Raises InputError.
+
+    With ``stream``, an ASCII file is first read with the streaming reader
+    (``stream.py``): ``streamed`` then holds model space as the walk reads it and ``doc``
+    is the library's document of the rest of the file; None when the stream left the
+    file to the library reader (then ``doc`` is the whole file, as without ``stream``).
 
     ``auditor`` is the recovery reader's audit when it was needed, else None: a file
     the strict reader accepts is read as written and audited afterwards (the audit
@@ -110,7 +118,12 @@ def _load(path: Path, *, max_bytes: int | None = None, max_records: int | None =
             doc = ezdxf.readfile(name)
         except Exception as exc:  # noqa: BLE001 - library boundary, see docstring
             raise InputError(f"{name}: damaged binary DXF, cannot be read ({why(exc)})") from None
-        return doc, None, False
+        return doc, None, False, None
+
+    if stream:
+        streamed = read_streamed(path)
+        if streamed is not None:
+            return streamed.doc, None, False, streamed
 
     try:
         doc = ezdxf.readfile(name)
@@ -127,8 +140,8 @@ def _load(path: Path, *, max_bytes: int | None = None, max_records: int | None =
             raise InputError(
                 f"{name}: damaged beyond recovery ({why(first, 120)}; recovery reader: {why(second, 120)})"
             ) from None
-        return doc, auditor, True
-    return doc, None, False
+        return doc, auditor, True, None
+    return doc, None, False, None
 
 
 def _audit_after_reading(doc: Any) -> tuple[Any, str | None]:

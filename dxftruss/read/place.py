@@ -131,9 +131,10 @@ class _Placed:
         pos: int,
         batch: _Batch | None,
         problems: _Problems,
+        axes: str = "",
     ) -> None:
-        for x, y, hh, order, _ in _placed_points(t, p, h, layer, pos, batch, problems):
-            self.supports.append((order, self.next_seq(), SupportMark(x, y, fix, hh, layer)))
+        for x, y, z, hh, order, _ in _placed_points(t, p, h, layer, pos, batch, problems):
+            self.supports.append((order, self.next_seq(), SupportMark(x, y, fix, hh, layer, z=z, axes=axes)))
 
     def add_texts(
         self,
@@ -147,9 +148,9 @@ class _Placed:
         problems: _Problems,
         height: float = 0.0,
     ) -> None:
-        for x, y, hh, order, scale in _placed_points(t, p, h, layer, pos, batch, problems):
+        for x, y, z, hh, order, scale in _placed_points(t, p, h, layer, pos, batch, problems):
             # a placement scales the text height by the square root of its area scale
-            self.texts.append((order, self.next_seq(), TextMark(x, y, text, layer, hh, height * scale)))
+            self.texts.append((order, self.next_seq(), TextMark(x, y, text, layer, hh, height * scale, z=z)))
 
     def line_work_arrays(
         self,
@@ -240,7 +241,14 @@ def _place_line_work(
         order = c.ent_pos[le] if batch is None else int(batch.order[lj])
         case = role_of[layers[le]].case
         assert case is not None
-        mark = LoadMark((float(row[0]), float(row[1])), (float(row[3]), float(row[4])), case, h, layers[le])
+        mark = LoadMark(
+            (float(row[0]), float(row[1])),
+            (float(row[3]), float(row[4])),
+            case,
+            h,
+            layers[le],
+            z=(float(row[2]), float(row[5])),
+        )
         out.loads.append((order, out.next_seq(), mark))
 
     # arcs on member layers: one finding per entity and top-level INSERT
@@ -369,8 +377,8 @@ def _placed_points(
     pos: int,
     batch: _Batch | None,
     problems: _Problems,
-) -> list[tuple[float, float, str, int, float]]:
-    """(x, y, top-level handle, model-space order, length scale) of one local point under
+) -> list[tuple[float, float, float, str, int, float]]:
+    """(x, y, z, top-level handle, model-space order, length scale) of one local point under
     every placement of ``batch``; the length scale is the square root of the placement's
     area scale; a placement beyond the coordinate limit is recorded as a bad point and
     left out."""
@@ -383,5 +391,5 @@ def _placed_points(
         if not problems.ok_point(w[i]):
             problems.bad_point(t, hh, layer)
             continue
-        out.append((float(w[i, 0]), float(w[i, 1]), hh, order, float(scale[i])))
+        out.append((float(w[i, 0]), float(w[i, 1]), float(w[i, 2]), hh, order, float(scale[i])))
     return out

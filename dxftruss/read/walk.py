@@ -68,8 +68,11 @@ class _Reader:
         planar_tol: float,
         max_members: int | None = None,
         states: dict[str, LayerState] | None = None,
+        model: list[Any] | None = None,
     ) -> None:
         self.doc = doc
+        #: model space as the streaming reader gives it (None: the document's)
+        self.model = model
         self.states = states if states is not None else {}
         #: hidden layers read because --layers names them (effective names as used)
         self.named_hidden: set[str] = set()
@@ -131,7 +134,7 @@ class _Reader:
     def run(self, layout: Any = None) -> None:
         """Walk model space (``layout`` None) or one paper-space layout."""
         if layout is None:
-            entities: Any = self.doc.modelspace()
+            entities: Any = self.model if self.model is not None else self.doc.modelspace()
         else:
             entities = [e for e in layout if e.dxftype() != "VIEWPORT"]
         content = self.extractor.read(entities, in_block=False)
@@ -176,7 +179,7 @@ class _Reader:
             r = self.role(el)
             if r.role is _Role.SUPPORT:
                 assert r.fix is not None
-                placed.add_supports(t, p, r.fix, h, el, pos, batch, problems)
+                placed.add_supports(t, p, r.fix, h, el, pos, batch, problems, axes=r.axes)
             elif r.role not in (_Role.SKIP, _Role.HIDDEN):
                 problems.ignore(t, el, n_inst)
 
@@ -237,7 +240,15 @@ class _Reader:
                 assert r.fix is not None
                 for i in rows:
                     self.placed.add_supports(
-                        "INSERT", _xyz(ins.point[i]), r.fix, ins.handle[i], el, ins.pos[i], batch, self.problems
+                        "INSERT",
+                        _xyz(ins.point[i]),
+                        r.fix,
+                        ins.handle[i],
+                        el,
+                        ins.pos[i],
+                        batch,
+                        self.problems,
+                        axes=r.axes,
                     )
                 continue
             content: _Content | None = None
@@ -313,7 +324,7 @@ class _Reader:
                             (order, self.placed.next_seq(), "inclined", name, note, key, el, xy, None)
                         )
                         continue
-                mark = SupportMark(xy[0], xy[1], fix, hh, el, block=name, why=why, normal=normal)
+                mark = SupportMark(xy[0], xy[1], fix, hh, el, block=name, why=why, normal=normal, z=float(pts[k, 2]))
                 self.placed.supports.append((order, self.placed.next_seq(), mark))
                 self.placed.block_notes.append((order, self.placed.next_seq(), kind, name, why, key, el, xy, restrains))
         return rest

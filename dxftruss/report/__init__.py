@@ -20,6 +20,12 @@ CAUTION = (
     "work of a qualified engineer under the codes that apply where the structure is built."
 )
 
+#: said wherever zero-force members are listed
+ZERO_FORCE_CAUTION = (
+    "zero-force members carry nothing under this load only: they may still brace the truss "
+    "(a compression chord's buckling length) and carry load under other cases; do not remove them on this result"
+)
+
 #: finding codes that state an assumption the tool made
 ASSUMPTION_CODES = (
     Code.ASSUMED_UNITS,
@@ -32,15 +38,30 @@ ASSUMPTION_CODES = (
 
 def assumptions(result: Result) -> list[str]:
     """Every default the tool assumed, as sentences for people (same in every report)."""
+    from ..escape import shown as shown_name
+
     out = [f.message for f in result.findings if f.code in ASSUMPTION_CODES]
     tol = result.tolerances
     unit = result.source.length_unit
     sel = result.selection
-    if sel is not None:
+    if sel is not None and getattr(result, "space", None) is not None:
+        used = ", ".join(f"{shown_name(name)} ({n} lines)" for name, n in sorted(sel.used.items())) or "none"
+        how = "the layers named with --layers" if sel.rule == "option" else "all visible line work"
+        out.append(f"members from {how} (a space truss: no drafting is set aside): {used}")
+    elif sel is not None:
         out.append(layers_sentence(sel))
     habits = habits_sentence(result)
     if habits:
         out.append(habits)
+    plane = getattr(result, "plane", None)
+    if plane is not None:
+        out.append(plane.sentence(unit))
+    if getattr(result, "space", None) is not None:
+        out.append(
+            "the line work lies in no one plane: analysed as a space truss (three degrees of freedom per joint, "
+            "world axes, z up); stability from the numerical rank of the 3-D equilibrium matrix, since the "
+            "counts alone do not decide rigidity in space; no supports are guessed"
+        )
     out.append(f"snap tolerance {tol.snap:.6g} {unit} ({tol.snap_source})")
     out.append(f"near-miss radius {tol.near_miss:.6g} {unit} ({tol.near_miss_source})")
     if result.loads is None or not result.loads.force_unit_given:

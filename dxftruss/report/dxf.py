@@ -19,6 +19,9 @@ What goes on the result layers (entities valid in every DXF version, R12 include
     reactions  one TEXT per restrained joint per case below the joint (cases stacked).
     findings   one CIRCLE per finding with a location, the finding's number (as in the
                findings list of the PDF and the terminal) in it and its code beside it.
+
+In a drawing plane other than XY (plane.py) the marks are made in-plane and then carried
+into the plane, so they lie on the members as drawn.
 """
 
 from __future__ import annotations
@@ -204,6 +207,10 @@ def _annotate(
         e.set_placement(at, align=align)
         added.append(e)
 
+    if result.space is not None:
+        _space_marks(result, add_layer, added, msp, height_fraction=height_fraction, member_fraction=member_fraction)
+        return
+
     # member forces, one layer per case
     solved_cases = [cs for cs in result.cases if np.isfinite(np.asarray(cs.forces, dtype=float)).any()]
     for k, case in enumerate(solved_cases):
@@ -255,6 +262,82 @@ def _annotate(
             added.append(msp.add_circle((x, y), 0.9 * h, dxfattribs={"layer": layer, "color": color}))
             text(str(n), (x, y), layer, color, 0.9 * h)
             text(f.code.value, (x + 1.2 * h, y), layer, color, 0.6 * h, align=TextEntityAlignment.MIDDLE_LEFT)
+
+    plane = getattr(result, "plane", None)
+    if plane is not None:  # the marks were made in-plane: carry them into the drawing plane
+        from ezdxf.math import Matrix44
+
+        m = Matrix44.ucs(ux=plane.u, uy=plane.v, uz=plane.normal, origin=plane.origin)
+        for ent in added:
+            ent.transform(m)
+
+
+def _space_marks(
+    result: Result,
+    add_layer: Callable[[str, int, str], str],
+    added: list[Any],
+    msp: Any,
+    *,
+    height_fraction: float,
+    member_fraction: float,
+) -> None:
+    """The marks of a space truss, in 3-D: a force TEXT at each member's midpoint (x, y, z)
+    per case, a reaction TEXT beside each restrained joint (Rx, Ry, Rz), a numbered CIRCLE
+    with the code at each finding's first joint (else its first member's midpoint)."""
+    from ezdxf.enums import TextEntityAlignment
+
+    sa = result.space
+    assert sa is not None
+    t = sa.truss
+    fu = t.force_unit
+    lengths = t.lengths() if t.n_members else np.zeros(0)
+    diag = float(np.linalg.norm(np.ptp(t.xyz, axis=0))) if t.n_joints else 0.0
+    extent = np.array([[0.0, 0.0], [diag, 0.0]])  # the 3-D extent's diagonal, as text_height takes it
+    h = text_height(extent, lengths, height_fraction=height_fraction, member_fraction=member_fraction)
+
+    def text(s: str, at: np.ndarray, layer: str, color: int, height: float) -> None:
+        e = msp.add_text(s, height=height, dxfattribs={"layer": layer, "color": color})
+        e.set_placement((float(at[0]), float(at[1]), float(at[2])), align=TextEntityAlignment.MIDDLE_CENTER)
+        added.append(e)
+
+    mid = (t.xyz[t.ends[:, 0]] + t.xyz[t.ends[:, 1]]) / 2 if t.n_members else np.zeros((0, 3))
+    solved = [cs for cs in sa.cases if np.isfinite(np.asarray(cs.forces, dtype=float)).any()]
+    for k, case in enumerate(solved):
+        forces = np.asarray(case.forces, dtype=float)
+        prefix = f"{shown(case.name)}: " if len(solved) > 1 else ""
+        zero = set(case.zero_by_solution)
+        layer = add_layer(
+            f"{PREFIX}-FORCES-{_layer_part(case.name)}", ACI_TENSION, f"member forces, case '{shown(case.name)}'"
+        )
+        for e in np.flatnonzero(np.isfinite(forces)).tolist():
+            v = float(forces[e])
+            if e in zero:
+                s, color = "0", ACI_ZERO
+            else:
+                s, color = f"{fmt_force(v)} {fu}", ACI_TENSION if v > 0 else (ACI_COMPRESSION if v < 0 else ACI_ZERO)
+            text(prefix + s, mid[e] + np.array([0.0, 0.0, (0.8 + 1.4 * k) * h]), layer, color, h)
+    for k, case in enumerate(sa.cases):
+        if not case.reactions:
+            continue
+        layer = add_layer(
+            f"{PREFIX}-REACTIONS-{_layer_part(case.name)}", ACI_REACTION, f"reactions, case '{case.name}'"
+        )
+        for j, rx, ry, rz in case.reactions:
+            s = f"{shown(case.name)}: {joint_id(j)} Rx={fmt_force(rx)} Ry={fmt_force(ry)} Rz={fmt_force(rz)} {fu}"
+            text(s, t.xyz[j] - np.array([0.0, 0.0, (2.5 + 1.2 * k) * h]), layer, ACI_REACTION, 0.8 * h)
+    marked = [
+        (n, f) for n, f in enumerate(result.findings, 1) if f.joints or (f.members and f.members[0] < t.n_members)
+    ]
+    if marked:
+        layer = add_layer(f"{PREFIX}-FINDINGS", 1, "numbered finding markers (numbers as in the findings list)")
+        for n, f in marked:
+            at = t.xyz[f.joints[0]] if f.joints else mid[f.members[0]]
+            color = ACI_SEVERITY[f.severity]
+            c = msp.add_circle((0.0, 0.0), 0.9 * h, dxfattribs={"layer": layer, "color": color})
+            c.dxf.center = (float(at[0]), float(at[1]), float(at[2]))
+            added.append(c)
+            text(str(n), at, layer, color, 0.9 * h)
+            text(f.code.value, at + np.array([2.5 * h, 0.0, 0.0]), layer, color, 0.6 * h)
 
 
 def _legalise_names(doc: Any, renamed: tuple[tuple[str, str, str], ...]) -> Callable[[], None]:

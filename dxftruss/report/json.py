@@ -14,9 +14,14 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from ..cutlist import cut_list
 from ..model import LoadOrigin, Support, Truss, entity_ref, joint_id, member_id
 from ..naming import finding_entities, finding_parts, part_index
 from . import CAUTION, assumptions
+from .cutlist import JSON_CUT_MEMBERS, cut_list_dict
+from .json_engineering import engineering_dict
+
+_encode_string = json.encoder.encode_basestring  # json's own (C) string writer, ensure_ascii=False
 
 if TYPE_CHECKING:
     from ..model import LineLoad
@@ -49,8 +54,14 @@ def _num(x: float) -> float | None:
 
 
 def _nums(values: Any) -> list[float | None]:
-    """:func:`_num` of every element of an array (one conversion to Python floats first)."""
-    return [_num(x) for x in np.asarray(values, dtype=float).ravel().tolist()]
+    """:func:`_num` of every element of an array, each distinct value formatted once
+    (the parts of a sheet repeat their coordinates' fractions and their forces)."""
+    a = np.asarray(values, dtype=float).ravel()
+    if len(a) < 64:
+        return [_num(x) for x in a.tolist()]
+    uniq, inverse = np.unique(a, return_inverse=True)
+    done = [_num(x) for x in uniq.tolist()]
+    return [done[i] for i in inverse.tolist()]
 
 
 def _jsonable(v: Any) -> Any:
@@ -85,9 +96,146 @@ def _title_block(result: Result) -> dict[str, Any]:
     return out
 
 
+def _joints(result: Result, jid: list[str], xs: list[Any], ys: list[Any]) -> list[dict[str, Any]]:
+    """``{id, x, y}`` per joint; in a drawing plane other than XY also ``world``:
+    [x, y, z] as drawn (x, y are then in-plane)."""
+    if result.plane is None:
+        return [{"id": jid[i], "x": xs[i], "y": ys[i]} for i in range(len(jid))]
+    world = result.plane.to_world(result.truss.xy)
+    wx, wy, wz = _nums(world[:, 0]), _nums(world[:, 1]), _nums(world[:, 2])
+    return [{"id": jid[i], "x": xs[i], "y": ys[i], "world": [wx[i], wy[i], wz[i]]} for i in range(len(jid))]
+
+
+def _plane(result: Result) -> dict[str, Any]:
+    """The drawing plane (only present when the line work is not flat in XY)."""
+    pl = result.plane
+    assert pl is not None
+    return {
+        "kind": pl.kind,
+        "origin": _nums(pl.origin),
+        "normal": _nums(pl.normal),
+        "x_axis": _nums(pl.u),
+        "y_axis": _nums(pl.v),
+        "max_offset": _num(pl.max_offset),
+        "tolerance": _num(pl.tolerance),
+    }
+
+
+def _space(result: Result) -> dict[str, Any]:
+    """The keys of a space truss (docs/report-format.md, space): joints with z, members,
+    supports with their axes, parts with the 3-D counts, cases with fz."""
+    sa = result.space
+    assert sa is not None
+    t = sa.truss
+    jid = [joint_id(i) for i in range(t.n_joints)]
+    mid = [member_id(e) for e in range(t.n_members)]
+    x, y, z = (_nums(t.xyz[:, c]) for c in range(3))
+    lengths = _nums(t.lengths()) if t.n_members else []
+    parts = []
+    for p, st in zip(t.parts, sa.stability, strict=True):
+        parts.append(
+            {
+                "id": p.index + 1,
+                "name": f"P{p.index + 1}",
+                "same_as": None,
+                "joints": [jid[j] for j in p.joints.tolist()],
+                "members": [mid[e] for e in p.members.tolist()],
+                "j": st.j,
+                "m": st.m,
+                "r": st.r,
+                "rank": st.rank,
+                "mechanisms": st.mechanisms,
+                "self_stress": st.self_stress,
+                "generic_mechanisms": None,
+                "generic_self_stress": None,
+                "verdict": st.verdict,
+                "sigma_min": _num(st.sigma_min) if st.sigma_min is not None else None,
+                "sigma_max": _num(st.sigma_max) if st.sigma_max is not None else None,
+                "rank_gap": _num(st.rank_gap) if st.rank_gap is not None else None,
+                "rank_method": st.method,
+                "maxwell": st.maxwell,
+                "rigid_mechanisms": st.rigid_mechanisms,
+                "rank_tolerance": _num(st.tolerance),
+                "modes": [{"rigid": md.rigid, "joints": [jid[j] for j in md.joints]} for md in st.modes],
+                "self_stress_members": [[mid[e] for e in ms] for ms in st.self_stress_members],
+            }
+        )
+    by_name = {c.name: c for c in t.cases}
+    cases = []
+    for c in sa.cases:
+        case = by_name[c.name]
+        cases.append(
+            {
+                "name": c.name,
+                "assumed": c.assumed,
+                "combination": {k: _num(v) for k, v in c.factors} if c.factors else None,
+                "loads": [
+                    {
+                        "joint": joint_id(ld.joint),
+                        "fx": _num(ld.fx),
+                        "fy": _num(ld.fy),
+                        "fz": _num(ld.fz),
+                        "source": ld.source.value,
+                        "label": ld.label,
+                        "label_source": None,
+                    }
+                    for ld in case.loads
+                ],
+                "reactions": [
+                    {"joint": joint_id(j), "fx": _num(rx), "fy": _num(ry), "fz": _num(rz)}
+                    for j, rx, ry, rz in c.reactions
+                ],
+                "forces": dict(zip(mid, _nums(c.forces), strict=True)),
+                "zero_force": {
+                    "by_rule": [member_id(e) for e in c.zero_by_rule],
+                    "by_solution": [member_id(e) for e in c.zero_by_solution],
+                },
+                "loads_symmetric": None,
+                "solved_parts": [p + 1 for p in c.solved_parts],
+                "residual": _num(c.residual),
+                "methods": {str(p + 1): how for p, how in c.methods},
+            }
+        )
+    return {
+        "space": {
+            "dimension": 3,
+            "rank": "numerical",
+            "note": "stability from the numerical rank of the 3-D equilibrium matrix (tolerance "
+            "max(rows, cols) x machine epsilon x sigma_max, gap reported); the pebble game and the counts "
+            "alone do not decide rigidity in space",
+        },
+        "joints": [{"id": jid[i], "x": x[i], "y": y[i], "z": z[i]} for i in range(t.n_joints)],
+        "members": [
+            {
+                "id": mid[e],
+                "joints": [jid[a], jid[b]],
+                "length": lengths[e],
+                "layer": t.layers[e],
+                "handles": list(t.handles[e]),
+            }
+            for e, (a, b) in enumerate(t.ends.tolist())
+        ],
+        "supports": [
+            {"joint": joint_id(sp.joint), "fix": sp.axes, "assumed": False, "source": sp.source.value}
+            for sp in t.supports
+        ],
+        "parts": parts,
+        "cases": cases,
+    }
+
+
 def report_dict(result: Result, zones: dict[int, list[tuple[int, str]]] | None = None) -> dict[str, Any]:
     """The report as plain JSON-ready data; ``zones`` is what ``write_pdf`` returns
     (where the PDF marks each finding), None when no PDF was written."""
+    return _report(result, pieces=None, zones=zones)
+
+
+def _report(
+    result: Result, pieces: dict[str, str] | None, zones: dict[int, list[tuple[int, str]]] | None = None
+) -> dict[str, Any]:
+    """The report; with ``pieces``, the joint and member lists and the forces of each
+    case are written as JSON text into ``pieces`` (key: a placeholder string the dict
+    holds instead), as :func:`to_json` writes them. ``zones``: see ``report_dict``."""
     zones = zones or {}
     t = result.truss
     lengths = _nums(t.lengths())
@@ -127,8 +275,12 @@ def report_dict(result: Result, zones: dict[int, list[tuple[int, str]]] | None =
         "title_block": _title_block(result),
         "assumptions": assumptions(result),
         "line_work": _line_work(result),
-        "joints": [{"id": jid[i], "x": xs[i], "y": ys[i]} for i in range(len(jid))],
-        "members": [
+        "joints": _joints(result, jid, xs, ys)
+        if pieces is None or result.plane is not None
+        else _piece(pieces, "joints", lambda: _joints_text(jid, xs, ys)),
+        "members": _piece(pieces, "members", lambda: _members_text(t, jid, mid, lengths))
+        if pieces is not None
+        else [
             {
                 "id": mid[e],
                 "joints": [jid[a], jid[b]],
@@ -180,14 +332,29 @@ def report_dict(result: Result, zones: dict[int, list[tuple[int, str]]] | None =
             }
             for n, f in enumerate(result.findings, 1)
         ],
-        "cases": [_case(result, c) for c in result.cases],
+        "cases": [_case(result, c, pieces) for c in result.cases],
         "symmetry": {"axis_x": _num(result.symmetry_axis) if result.symmetry_axis is not None else None},
+        "engineering": engineering_dict(result),
+        "cut_list": cut_list_dict(cut_list(result), list_members=t.n_members <= JSON_CUT_MEMBERS),
         "caution": CAUTION,
     }
+    if result.space is not None:
+        doc.update(_space(result))
+        keys = list(doc)
+        at = keys.index("line_work") + 1
+        doc = (
+            {k: doc[k] for k in keys[:at] if k != "space"}
+            | {"space": doc["space"]}
+            | {k: doc[k] for k in keys[at:] if k != "space"}
+        )
+    if result.plane is not None:  # after line_work: the plane the coordinates are in
+        keys = list(doc)
+        at = keys.index("line_work") + 1
+        doc = {k: doc[k] for k in keys[:at]} | {"plane": _plane(result)} | {k: doc[k] for k in keys[at:]}
     return doc
 
 
-def _case(result: Result, c: CaseResult) -> dict[str, Any]:
+def _case(result: Result, c: CaseResult, pieces: dict[str, str] | None = None) -> dict[str, Any]:
     t = result.truss
     case = next(lc for lc in t.cases if lc.name == c.name)
     out: dict[str, Any] = {
@@ -206,7 +373,9 @@ def _case(result: Result, c: CaseResult) -> dict[str, Any]:
             for ld in case.loads
         ],
         "reactions": [{"joint": joint_id(j), "fx": _num(rx), "fy": _num(ry)} for j, rx, ry in c.reactions],
-        "forces": dict(zip((member_id(e) for e in range(len(c.forces))), _nums(c.forces), strict=True)),
+        "forces": _piece(pieces, f"forces {len(pieces)}", lambda: _forces_text(c.forces))
+        if pieces is not None
+        else dict(zip((member_id(e) for e in range(len(c.forces))), _nums(c.forces), strict=True)),
         "zero_force": {
             "by_rule": [member_id(e) for e in c.zero_by_rule],
             "by_solution": [member_id(e) for e in c.zero_by_solution],
@@ -281,9 +450,89 @@ def _finding_entities(t: Truss, f: Any) -> list[dict[str, Any]]:
     return [entity_ref(k, layer, t.block_names) for k, layer in finding_entities(t, f, MAX_FINDING_ENTITIES)]
 
 
-def to_json(result: Result, zones: dict[int, list[tuple[int, str]]] | None = None) -> str:
+def _dumps(data: Any) -> str:
     # no indent: json's C encoder is used only without one (3-5x faster on large reports)
-    text = json.dumps(report_dict(result, zones), ensure_ascii=False, allow_nan=False, separators=(",", ":")) + "\n"
+    return json.dumps(data, ensure_ascii=False, allow_nan=False, separators=(",", ":"))
+
+
+#: a placeholder for a piece of JSON text written separately (see _report)
+_PIECE = "\u0000dxftruss piece {}\u0000"
+
+
+def _piece(pieces: dict[str, str], name: str, text: Any) -> str:
+    key = _PIECE.format(name)
+    pieces[key] = text()
+    return key
+
+
+def _text_of(x: float | None) -> str:
+    return "null" if x is None else repr(x)  # as json writes a float (it refuses NaN here)
+
+
+def _joints_text(jid: list[str], xs: list[float | None], ys: list[float | None]) -> str:
+    enc = _encode_string
+    return (
+        "["
+        + ",".join(
+            f'{{"id":{enc(j)},"x":{_text_of(x)},"y":{_text_of(y)}}}' for j, x, y in zip(jid, xs, ys, strict=True)
+        )
+        + "]"
+    )
+
+
+def _members_text(t: Truss, jid: list[str], mid: list[str], lengths: list[float | None]) -> str:
+    enc = _encode_string
+    layer_text = {name: enc(name) for name in set(t.layers)}
+    joint = [enc(j) for j in jid]
+    # which members came from block content (their key paths hold "/"): usually none
+    nested = {e for e, keys in enumerate(t.entities) if any("/" in k for k in keys)} if _any_nested(t) else set()
+    out = [
+        f'{{"id":{enc(mid[e])},"joints":[{joint[a]},{joint[b]}],"length":{_text_of(lengths[e])},'
+        f'"layer":{layer_text[layer]},"handles":[{",".join(map(enc, handles))}]'
+        + (',"entities":' + _dumps(_member_entities(t, e)) if e in nested else "")
+        + "}"
+        for e, ((a, b), layer, handles) in enumerate(zip(t.ends.tolist(), t.layers, t.handles, strict=True))
+    ]
+    return "[" + ",".join(out) + "]"
+
+
+def _any_nested(t: Truss) -> bool:
+    return any("/" in k for keys in t.entities for k in keys)
+
+
+def _forces_text(forces: Any) -> str:
+    enc = _encode_string
+    values = _nums(forces)
+    return "{" + ",".join(f"{enc(member_id(e))}:{_text_of(v)}" for e, v in enumerate(values)) + "}"
+
+
+def _joined(text: str, pieces: dict[str, str]) -> str | None:
+    """``text`` with each placeholder replaced by its piece; None unless every
+    placeholder is there exactly once and nothing else looks like one."""
+    quoted = {_encode_string(k): v for k, v in pieces.items()}
+    head = _encode_string(_PIECE.format(""))[:-7]  # up to the name: '"\\u0000dxftruss piece '
+    parts = text.split(head)
+    if len(parts) != len(quoted) + 1:
+        return None
+    out = [parts[0]]
+    for part in parts[1:]:
+        end = part.find('\\u0000"')
+        piece = quoted.pop(head + part[: end + 7], None) if end >= 0 else None
+        if piece is None:
+            return None
+        out.append(piece)
+        out.append(part[end + 7 :])
+    return "".join(out)
+
+
+def to_json(result: Result, zones: dict[int, list[tuple[int, str]]] | None = None) -> str:
+    """The report as JSON text: ``report_dict`` as json writes it (compact, UTF-8 kept,
+    no NaN), the long lists written piece by piece (the same text, faster)."""
+    pieces: dict[str, str] = {}
+    text = _joined(_dumps(_report(result, pieces, zones)), pieces)
+    if text is None:  # a name in the drawing holds a placeholder's text: no pieces
+        text = _dumps(report_dict(result, zones))
+    text += "\n"
     # JSON escapes C0 itself; C1 controls (a lone CSI is an escape sequence on many
     # terminals), bidi and line separators and undecodable bytes are written as \\u
     # escapes too, so the report can go to a terminal (``--json -``) unaltered in meaning
@@ -301,6 +550,8 @@ def _origin(o: LoadOrigin | None) -> dict[str, Any] | None:
         return {"kind": "loads-file", "entry": o.entry}
     if o.kind == "line-load":
         return {"kind": "line-load", "line_load": o.text}
+    if o.kind == "self-weight":
+        return {"kind": "self-weight", "case": o.text}
     return {
         "kind": "text",
         "text": o.text,

@@ -115,10 +115,11 @@ def checked_document(result: Result) -> Any:
     """The document the check read (``result.linework.document``): the reports draw and
     copy it, so a run opens and hashes the drawing once. A result made without one (a
     tool that built it by hand) reads the file again, and only if it is still the file
-    that was checked (same SHA-256). Raises OSError, ValueError or the DXF library's
+    that was checked (same SHA-256); so does one whose document lacks the line work
+    the streaming reader read (``partial_document``). Raises OSError, ValueError or the DXF library's
     errors when that reading fails, InputError when the file changed."""
     doc = getattr(result.linework, "document", None)
-    if doc is not None:
+    if doc is not None and not getattr(result.linework, "partial_document", False):
         return doc
     from ..errors import InputError
     from ..pipeline import file_sha256
@@ -222,8 +223,12 @@ class ReportlabBackend:
         fill_grey: tuple[float, float] = (0.82, 0.95),
         width_pt: tuple[float, float] = (0.2, 1.0),
         lineweight_scale: float = 0.5,
+        hide: frozenset[str] = frozenset(),
     ) -> None:
         self.c = canvas
+        #: top-level entity handles not drawn (the drawing's load texts on the pages of
+        #: other cases: their values belong to one case only)
+        self.hide = hide
         self.map = page_map
         self.types = types or {}
         self.grey = grey
@@ -313,18 +318,24 @@ class ReportlabBackend:
         pass
 
     def draw_point(self, pos: Any, properties: Any) -> None:
+        if properties.handle in self.hide:
+            return
         self._style(properties)
         self._flush()
         x, y = self.map.point(pos.x, pos.y)
         self.c.addLiteral(f"{x - 0.4:.3f} {y - 0.4:.3f} 0.8 0.8 re f")
 
     def draw_line(self, start: Any, end: Any, properties: Any) -> None:
+        if properties.handle in self.hide:
+            return
         self._style(properties)
         x1, y1 = self.map.point(start.x, start.y)
         x2, y2 = self.map.point(end.x, end.y)
         self._strokes.append(f"{x1:.3f} {y1:.3f} m {x2:.3f} {y2:.3f} l")
 
     def draw_solid_lines(self, lines: Iterable[Any], properties: Any) -> None:
+        if properties.handle in self.hide:
+            return
         pts = [(s.x, s.y, e.x, e.y) for s, e in lines]
         if not pts:
             return
@@ -333,10 +344,14 @@ class ReportlabBackend:
         self._strokes.append(segment_ops(a))
 
     def draw_path(self, path: Any, properties: Any) -> None:
+        if properties.handle in self.hide:
+            return
         self._style(properties)
         self._path_ops(path, self._strokes)
 
     def draw_filled_paths(self, paths: Iterable[Any], properties: Any) -> None:
+        if properties.handle in self.hide:
+            return
         self._style(properties, area=self._is_area(properties))
         self._flush()
         ops: list[str] = []
@@ -346,6 +361,8 @@ class ReportlabBackend:
             self.c.addLiteral("n\n" + "\n".join(ops) + "\nf*")
 
     def draw_filled_polygon(self, points: Any, properties: Any) -> None:
+        if properties.handle in self.hide:
+            return
         v = self._xy(points.np_vertices()).tolist()
         if len(v) < 3:
             return
@@ -364,9 +381,12 @@ class ReportlabBackend:
         self._flush()
 
 
-def draw_recording(canvas: Any, recording: Recording, page_map: PageMap, **style: Any) -> dict[str, int]:
-    """Replay ``recording`` onto ``canvas`` through ``page_map``; returns what was skipped."""
-    backend = ReportlabBackend(canvas, page_map, types=recording.types, **style)
+def draw_recording(
+    canvas: Any, recording: Recording, page_map: PageMap, *, hide: frozenset[str] = frozenset(), **style: Any
+) -> dict[str, int]:
+    """Replay ``recording`` onto ``canvas`` through ``page_map``, leaving out the entities
+    whose top-level handle is in ``hide``; returns what was skipped."""
+    backend = ReportlabBackend(canvas, page_map, types=recording.types, hide=hide, **style)
     canvas.saveState()
     canvas.setLineCap(1)
     canvas.setLineJoin(1)

@@ -10,7 +10,7 @@ recolour the screen or overwrite the verdict line.
 from __future__ import annotations
 
 import io
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
@@ -18,7 +18,8 @@ from ..escape import shown
 from ..findings import Severity
 from ..model import joint_id, member_id
 from ..naming import finding_parts, part_index, where_drawn
-from . import CAUTION, assumptions
+from . import CAUTION, ZERO_FORCE_CAUTION, assumptions
+from .text_engineering import engineering_summary
 
 if TYPE_CHECKING:
     from ..result import Result
@@ -59,11 +60,13 @@ def summary(result: Result, *, max_findings: int = 40, width: int = 110, color: 
     )
     t = result.truss
     src = result.source
+    counted = result.space.truss if result.space is not None else t
     # the header lines are written whole (never wrapped), so a path can be copied
     buf.write(f"dxftruss check: {shown(src.path)}\n")
     buf.write(
         f"sha256 {src.sha256[:16]}  DXF {shown(src.dxf_version)}  units {src.length_unit} ({src.unit_source})  "
-        f"{t.n_joints} joints, {t.n_members} members, {len(t.supports)} supports, {len(t.cases)} load case(s)\n"
+        f"{counted.n_joints} joints, {counted.n_members} members, {len(counted.supports)} supports, "
+        f"{len(counted.cases)} load case(s)" + (" (space truss)" if result.space is not None else "") + "\n"
     )
     if src.recovered:
         buf.write("REPAIRED ON READING: the file was damaged; the geometry may be wrong (see recovered-file)\n")
@@ -85,6 +88,8 @@ def summary(result: Result, *, max_findings: int = 40, width: int = 110, color: 
         )
     if t.parts:
         con.print(parts)
+    if result.space is not None:
+        _space_parts(con, result)
     if result.symmetry_axis is not None:
         con.print(_text(f"geometry and supports are symmetric about x = {_fmt(result.symmetry_axis)}"))
 
@@ -153,7 +158,7 @@ def summary(result: Result, *, max_findings: int = 40, width: int = 110, color: 
             ct.add_row(_text(name), _text(tension), _text(compression), _text(reactions), _text(zeros or "-"))
             if c.loads_symmetric is False and result.symmetry_axis is not None:
                 notes.append(
-                    f"case {c.name!r}: the truss is symmetric but this load is not: the reactions will not split evenly"
+                    f"case {c.name!r}: the truss is symmetric but this load is not: the reactions need not split evenly"
                 )
             lumped = next((lc.line_loads for lc in t.cases if lc.name == c.name), ())
             if lumped:
@@ -166,10 +171,77 @@ def summary(result: Result, *, max_findings: int = 40, width: int = 110, color: 
             if len(c.solved_parts) < len(t.parts):
                 notes.append(f"case {c.name!r}: solved {len(c.solved_parts)} of {len(t.parts)} parts (see findings)")
         con.print(ct)
+        if any(c.zero_by_solution for c in result.cases):
+            notes.append(ZERO_FORCE_CAUTION)
         for n in notes:
             con.print(_text(n))
+    engineering_summary(result, con, _text, _fmt)
+    if result.space is not None:
+        _space_cases(con, result)
     con.print(_text("caution: " + CAUTION, style="italic"))
     return buf.getvalue()
+
+
+def _space_parts(con: Any, result: Result) -> None:
+    """The parts table of a space truss: the 3-D counts (Maxwell m + r - 3j = s - k)."""
+    from rich import box
+    from rich.table import Table
+
+    assert result.space is not None
+    parts = Table(box=box.SIMPLE_HEAD, title="parts (space truss)", title_justify="left", pad_edge=False)
+    for col in ("part", "j", "m", "r", "m+r-3j", "rank", "mechanisms", "self-stress", "verdict"):
+        parts.add_column(col, justify="left" if col in ("part", "verdict") else "right")
+    for st in result.space.stability:
+        style = "red" if st.mechanisms else ("yellow" if st.self_stress else "green")
+        k = str(st.mechanisms) + (f" ({st.rigid_mechanisms} rigid)" if st.rigid_mechanisms else "")
+        parts.add_row(
+            f"P{st.part + 1}",
+            str(st.j),
+            str(st.m),
+            str(st.r),
+            str(st.maxwell),
+            str(st.rank),
+            k,
+            str(st.self_stress),
+            _text(st.verdict.upper(), style=style),
+        )
+    con.print(parts)
+
+
+def _space_cases(con: Any, result: Result) -> None:
+    """The load cases of a space truss: extremes, reactions (rx, ry, rz), zero-force members."""
+    from rich import box
+    from rich.table import Table
+
+    sa = result.space
+    assert sa is not None
+    fu = sa.truss.force_unit
+    ct = Table(
+        box=box.SIMPLE_HEAD, title=f"load cases (forces in {fu}, tension +)", title_justify="left", pad_edge=False
+    )
+    for col in ("case", "largest tension", "largest compression", "reactions (x, y, z)", "zero-force members"):
+        ct.add_column(col, overflow="fold")
+    for c in sa.cases:
+        name = c.name + (" (assumed)" if c.assumed else "")
+        if c.factors:
+            name += " = " + " + ".join(f"{f:g} x {n}" for n, f in c.factors)
+        forces = np.asarray(c.forces, dtype=float)
+        solved = np.isfinite(forces)
+        if not solved.any():
+            ct.add_row(_text(name), _text("not solved (see findings)"), _text(""), _text(""), _text(""))
+            continue
+        fs = np.where(solved, forces, 0.0)
+        e_t, e_c = int(np.argmax(fs)), int(np.argmin(fs))
+        tension = f"{_fmt(fs[e_t])} in {member_id(e_t)}" if fs[e_t] > 0 else "-"
+        compression = f"{_fmt(fs[e_c])} in {member_id(e_c)}" if fs[e_c] < 0 else "-"
+        reactions = "; ".join(f"{joint_id(j)} ({_fmt(rx)}, {_fmt(ry)}, {_fmt(rz)})" for j, rx, ry, rz in c.reactions)
+        zeros = ", ".join(member_id(e) for e in c.zero_by_solution[:12])
+        if len(c.zero_by_solution) > 12:
+            zeros += f" +{len(c.zero_by_solution) - 12} more"
+        if c.zero_by_solution:
+            zeros += f" ({len(set(c.zero_by_rule) & set(c.zero_by_solution))} by the joint rules alone)"
+        ct.add_row(_text(name), _text(tension), _text(compression), _text(reactions), _text(zeros or "-"))
+    con.print(ct)
 
 
 def _verdict(result: Result, part: int, verdict: str) -> str:

@@ -24,6 +24,7 @@ The modules, in the order the pipeline of a page uses them:
     panel     the title block and legend beside the drawing
     overlay   one drawing page (``_Overlay``, ``_draw_drawing_page``, mode shapes)
     tables    the flow pages (``_Flow``, ``Column``, findings and tables sections)
+    cutlist   the cut-list flow pages (after the tables)
 
 Forces are in the truss's force unit, tension positive; coordinates in drawing units.
 Every page carries the caution (docs/user-guide.md, What the tool does) in its footer.
@@ -55,6 +56,10 @@ import numpy as np
 
 from ..render import PageMap, Recording, checked_document, record_drawing
 from .context import View, _Context, _file_sha256, _report_date, part_views
+from .cutlist import _cut_list_section
+from .engineering import draw_pages as draw_engineering_pages
+from .engineering import drawing_pages as engineering_drawing_pages
+from .engineering import engineering_section
 from .format import clean_reactions, fmt_force, fmt_num, register_fonts, shown
 from .labels import Label, LabelPlacer, convex_overlap, place_member_labels
 from .overlay import _draw_drawing_page, page_findings, page_map
@@ -96,8 +101,11 @@ def _record_original(result: Any, *, max_entities: int = 200_000) -> Recording:
 def page_layout(result: Any, *, page: str = "A3") -> tuple[Sheet, PageMap]:
     """The layout of the load-case pages of ``result`` (for tests and tools that need to
     find a member on the page): the same computation ``write_pdf`` makes."""
+    plane = getattr(result, "plane", None)
     try:
-        recording: Recording | None = _record_original(result)
+        recording: Recording | None = (
+            None if plane is not None and plane.kind != "horizontal" else _record_original(result)
+        )
     except Exception:  # noqa: BLE001 - same fallback as write_pdf
         recording = None
     box, _ = _drawing_box(result, recording)
@@ -140,7 +148,15 @@ def _tables_pages(ctx: _Context, flow: _Flow, limits: dict[str, int]) -> None:
 
 #: the flow pages after the drawing pages, in order; a new kind of page (a list or a
 #: table of its own) is a function added here or passed as ``write_pdf(extra_sections=)``
-FLOW_SECTIONS: tuple[FlowSection, ...] = (_findings_pages, _tables_pages)
+def _engineering_pages(ctx: _Context, flow: _Flow, limits: dict[str, int]) -> None:
+    engineering_section(ctx, flow, max_rows=limits["max_rows"])
+
+
+def _cut_list_pages(ctx: _Context, flow: _Flow, limits: dict[str, int]) -> None:
+    _cut_list_section(ctx, flow, max_rows=limits["max_rows"])
+
+
+FLOW_SECTIONS: tuple[FlowSection, ...] = (_findings_pages, _tables_pages, _engineering_pages, _cut_list_pages)
 
 
 @dataclass(frozen=True)
@@ -202,7 +218,11 @@ def _finding_zones(ctx: _Context, jobs: list[_Job]) -> dict[int, list[tuple[int,
     """{finding number: [(page, zone)]}: the zone of each finding's point on each drawing
     page that marks it (a point outside the page's drawing area has none there)."""
     zones: dict[int, list[tuple[int, str]]] = {}
-    for page, job in enumerate(jobs, 1):
+    cases = [job for job in jobs if "mode" not in job.page]
+    modes = [job for job in jobs if "mode" in job.page]
+    first_mode = len(cases) + engineering_drawing_pages(ctx) + 1
+    numbered = [*enumerate(cases, 1), *enumerate(modes, first_mode)]
+    for page, job in numbered:
         view = job.page.get("view") or View(None, ctx.box)
         mode = job.page.get("mode")
         sheet, pm = page_map(ctx, view, mode)
@@ -263,8 +283,10 @@ def write_pdf(
     Pages (``_drawing_jobs``, then ``FLOW_SECTIONS`` and ``extra_sections``): per load
     case and combination (one bare page when there is none) a drawing page of the whole
     sheet and, on a sheet of several parts, a page per part that is not a repeat of
-    another (at most ``max_part_pages`` in all); one page per mechanism mode (at most
-    ``max_mechanism_pages``); the findings list, the tables, then each extra section.
+    another (at most ``max_part_pages`` in all); the envelope and the deflected shape
+    (engineering results); one page per mechanism mode (at most
+    ``max_mechanism_pages``); the findings list, the tables, the engineering results'
+    tables and influence lines, the cut list, then each extra section.
     ``page`` is A4, A3, letter or tabloid; drawing pages turn to
     landscape when that gives the drawing a larger scale. Tables list at most
     ``max_table_rows`` rows each (the JSON report has everything).
@@ -277,6 +299,11 @@ def write_pdf(
     key = page.upper()
     if key not in PAGE_SIZES:
         raise ValueError(f"unknown page size {page!r}; use one of A4, A3, letter, tabloid")
+    if getattr(result, "space", None) is not None:  # a space truss: four views per case (space.py)
+        from .space import write_space_pdf
+
+        write_space_pdf(result, path, page=page, max_labels=max_labels, max_rows=max_table_rows)
+        return {}  # the space views carry no zone references
     paper = PAGE_SIZES[key]
     fonts = register_fonts()
     r = result
@@ -284,7 +311,10 @@ def write_pdf(
     recording: Recording | None = None
     note = ""
     has_document = getattr(r.linework, "document", None) is not None
-    if render_original and not has_document and _file_sha256(r.source.path) != r.source.sha256:
+    plane = getattr(r, "plane", None)
+    if render_original and plane is not None and plane.kind != "horizontal":
+        note = f"the drawing lies in a {plane.kind} plane, not in XY: members only, drawn in the plane"
+    elif render_original and not has_document and _file_sha256(r.source.path) != r.source.sha256:
         note = "the drawing changed or vanished after it was checked: members only"
     elif render_original:
         try:
@@ -327,13 +357,19 @@ def write_pdf(
     for section in sections:
         section(ctx, flow, limits)
         flow.finish_page()
-    ctx.total_pages = len(jobs) + flow.pages
+    n_engineering = engineering_drawing_pages(ctx)
+    ctx.total_pages = len(jobs) + n_engineering + flow.pages
     ctx.page_no = 0
 
     c = Canvas(str(path), pagesize=paper, invariant=1, pageCompression=1)
     _metadata(ctx, c)
     for job in jobs:
-        _draw_drawing_page(ctx, c, job.case, max_labels=max_labels, max_markers=max_markers, **job.page)
+        if "mode" not in job.page:
+            _draw_drawing_page(ctx, c, job.case, max_labels=max_labels, max_markers=max_markers, **job.page)
+    draw_engineering_pages(ctx, c, max_labels=max_labels, max_markers=max_markers)
+    for job in jobs:
+        if "mode" in job.page:
+            _draw_drawing_page(ctx, c, job.case, max_labels=max_labels, max_markers=max_markers, **job.page)
     flow = _Flow(ctx, c)
     for section in sections:
         section(ctx, flow, limits)

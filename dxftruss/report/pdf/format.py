@@ -46,9 +46,9 @@ def fmt_force(v: float, *, sig: int = 3) -> str:
     return s
 
 
-def clean_reactions(result: Any, case: Any, *, rel_tol: float = 1e-9) -> list[tuple[int, float, float]]:
-    """The case's reactions with round-off noise (below ``rel_tol`` x the largest load,
-    force or reaction of the case) written as 0.0."""
+def case_noise(result: Any, case: Any, *, rel_tol: float = 1e-9) -> float:
+    """The solution's noise of a case: ``rel_tol`` x the largest load, force or reaction;
+    values at or below it (a sum of reactions of 2.3e-15) are written as zero."""
     vals = [abs(v) for _, rx, ry in case.reactions for v in (rx, ry)]
     f = np.asarray(case.forces, dtype=float)
     if np.isfinite(f).any():
@@ -56,10 +56,18 @@ def clean_reactions(result: Any, case: Any, *, rel_tol: float = 1e-9) -> list[tu
     lc = next((lc for lc in result.truss.cases if lc.name == case.name), None)
     if lc is not None:
         vals += [abs(ld.fx) for ld in lc.loads] + [abs(ld.fy) for ld in lc.loads]
-    tol = rel_tol * max(vals, default=0.0)
-    return [
-        (j, 0.0 if abs(rx) <= tol else float(rx), 0.0 if abs(ry) <= tol else float(ry)) for j, rx, ry in case.reactions
-    ]
+    return rel_tol * max(vals, default=0.0)
+
+
+def denoise(value: float, tol: float) -> float:
+    """``value``, or 0.0 when it is within the noise ``tol``."""
+    return 0.0 if abs(value) <= tol else float(value)
+
+
+def clean_reactions(result: Any, case: Any, *, rel_tol: float = 1e-9) -> list[tuple[int, float, float]]:
+    """The case's reactions with round-off noise (:func:`case_noise`) written as 0.0."""
+    tol = case_noise(result, case, rel_tol=rel_tol)
+    return [(j, denoise(rx, tol), denoise(ry, tol)) for j, rx, ry in case.reactions]
 
 
 def fmt_num(v: float, *, sig: int = 6) -> str:

@@ -22,6 +22,7 @@ from typing import Any
 import numpy as np
 
 from ...model import Fix, joint_id, member_id
+from .. import ZERO_FORCE_CAUTION
 from ..render import PageMap, draw_recording, stroke_segments
 from .context import (
     FULL_TABLE_MEMBERS,
@@ -52,18 +53,21 @@ from .symbols import (
 #: an overhang left out of the model (habits.py): dashed, in a colour no force state uses
 OVERHANG_RGB = (0.42, 0.3, 0.62)
 OVERHANG_DASH = (4.0, 2.0)
+#: the deflected shape of a case (a colour no force state uses)
+DEFLECTED_RGB = (0.05, 0.45, 0.5)
 
 
-def _original_form(ctx: _Context, c: Any, sheet: Sheet, pm: PageMap) -> str | None:
-    """Draw the recorded original into a Form XObject once per sheet geometry."""
+def _original_form(ctx: _Context, c: Any, sheet: Sheet, pm: PageMap, hide: frozenset[str] = frozenset()) -> str | None:
+    """Draw the recorded original into a Form XObject once per sheet geometry and set of
+    hidden entities (``hide``: top-level handles left out)."""
     if ctx.recording is None:
         return None
-    key = (round(sheet.size[0], 3), round(sheet.size[1], 3), round(pm.scale, 12), pm.offset, pm.origin)
+    key = (round(sheet.size[0], 3), round(sheet.size[1], 3), round(pm.scale, 12), pm.offset, pm.origin, hide)
     name = ctx.form_pages.get(key)
     if name is None:
         name = f"original{len(ctx.form_pages) + 1}"
         c.beginForm(name, 0, 0, sheet.size[0], sheet.size[1])
-        skipped = draw_recording(c, ctx.recording, pm)
+        skipped = draw_recording(c, ctx.recording, pm, hide=hide)
         c.endForm()
         ctx.form_pages[key] = name
         if skipped:
@@ -118,6 +122,7 @@ class _Overlay:
             self.eshow[:] = False
             self.jshow[part.joints] = True
             self.eshow[part.members] = True
+        self.hide: frozenset[str] = frozenset()
         self.fonts = ctx.fonts
         self.pg = _Page(c, ctx.fonts)
         self.notes: list[str] = []
@@ -152,7 +157,7 @@ class _Overlay:
         the drawing area, its frame, and the title block-out. Returns the note lines."""
         c, ctx = self.c, self.ctx
         dx, dy, dw, dh = self.sheet.drawing
-        form = _original_form(ctx, c, self.sheet, self.pm) if ctx.recording is not None else None
+        form = _original_form(ctx, c, self.sheet, self.pm, self.hide) if ctx.recording is not None else None
         c.saveState()
         p = c.beginPath()
         p.rect(dx, dy, dw, dh)
@@ -356,6 +361,20 @@ class _Overlay:
         self.pg.arrow(tail, head, REACTION_RGB, width=1.0, head_len=5.5, filled=False)
         self.placer.block(_thin_quad(tail, head, 3.0))
         self.reaction_labels.append((far[0], far[1], ex, ey, f"Rn {fmt_force(value)} {self.t.force_unit}"))
+
+    def deflected(self, disp_xy: np.ndarray) -> None:
+        """The deflected shape: every member whose joints have displacements, dashed."""
+        c, t = self.c, self.t
+        ok = np.isfinite(disp_xy[t.ends[:, 0]]).all(axis=1) & np.isfinite(disp_xy[t.ends[:, 1]]).all(axis=1)
+        da = self.pm.apply(disp_xy[t.ends[ok, 0]])
+        db = self.pm.apply(disp_xy[t.ends[ok, 1]])
+        c.saveState()
+        c.setStrokeColorRGB(*DEFLECTED_RGB)
+        c.setLineWidth(1.4)
+        c.setDash(4, 2)
+        c.setLineCap(1)
+        stroke_segments(c, np.column_stack([da, db]))
+        c.restoreState()
 
     def mode(self, st: Any, md: Any, disp_xy: np.ndarray) -> None:
         """A mechanism mode: the displaced shape of the part dashed, moving joints ringed
@@ -562,11 +581,18 @@ def _mode_shape(t: Any, st: Any, md: Any, *, fraction: float = 0.1) -> np.ndarra
     return disp_xy
 
 
-def page_map(ctx: _Context, view: View, mode: tuple[Any, Any] | None = None) -> tuple[Sheet, PageMap]:
-    """The sheet and page map of a drawing page of ``view`` (a mechanism page's box
-    grown to hold the displaced shape)."""
+def page_map(
+    ctx: _Context, view: View, mode: tuple[Any, Any] | None = None, deflected: np.ndarray | None = None
+) -> tuple[Sheet, PageMap]:
+    """The sheet and page map of a drawing page of ``view`` (a mechanism page's or a
+    deflected shape's box grown to hold the displaced shape)."""
     r = ctx.result
     box = view.box
+    if deflected is not None:
+        shape = deflected[np.isfinite(deflected).all(axis=1)]
+        if shape.size:
+            lo, hi = np.minimum(shape.min(axis=0), [box[0], box[1]]), np.maximum(shape.max(axis=0), [box[2], box[3]])
+            box = (float(lo[0]), float(lo[1]), float(hi[0]), float(hi[1]))
     if mode is not None:
         disp_xy = _mode_shape(r.truss, *mode)
         moved = disp_xy[np.asarray(mode[1].joints, dtype=int)] if len(mode[1].joints) else disp_xy[:0]
@@ -601,20 +627,27 @@ def _draw_drawing_page(
     view: View | None = None,
     level: int = 0,
     extra: Sequence[_Item] = (),
+    envelope_notes: list[str] | None = None,
+    deflected: tuple[np.ndarray, list[str]] | None = None,
 ) -> None:
     """One drawing page: a load case (``case``), the bare model (``case`` None) or a
     mechanism mode (``mode`` = (PartStability, Mode)), of the whole sheet or of one part
-    (``view``); its bookmark at outline ``level``; ``extra`` items go into its panel."""
+    (``view``); its bookmark at outline ``level``; ``extra`` items go into its panel.
+    ``envelope_notes``: ``case`` is the envelope (governing force per member), drawn
+    without loads and reactions and with these notes instead of a case summary;
+    ``deflected``: the displaced joint positions (drawing units, already exaggerated)
+    drawn over the case, with the notes that say the exaggeration."""
     r = ctx.result
     t = r.truss
     view = view if view is not None else View(None, ctx.box)
     disp_xy = _mode_shape(t, *mode) if mode is not None else None
-    sheet, pm = page_map(ctx, view, mode)
+    sheet, pm = page_map(ctx, view, mode, deflected[0] if deflected is not None else None)
     c.setPageSize(sheet.size)
     ctx.page_no += 1
     c.bookmarkPage(bookmark)
     c.addOutlineEntry(shown(title), bookmark, level=level)
     ov = _Overlay(ctx, c, sheet, pm, title, view)
+    ov.hide = _other_cases_load_texts(r, case)
     note_lines = ov.frame()
     dx, dy, dw, dh = sheet.drawing
     c.saveState()  # our drawing stays inside the drawing area (a part page cuts the sheet)
@@ -647,7 +680,12 @@ def _draw_drawing_page(
             _Item("t", f"moving joints: {moving_ids}"),
             _Item("legend", "displaced shape of the mode", _legend_line(MODE_RGB, 1.6, (5, 2.5)), 9),
         ]
-    if case is not None:
+    if deflected is not None:
+        ov.deflected(deflected[0])
+        extra_items = [_Item("t", line) for line in deflected[1]] + [
+            _Item("legend", "deflected shape (exaggerated)", _legend_line(DEFLECTED_RGB, 1.4, (4, 2)), 9)
+        ]
+    if case is not None and envelope_notes is None:
         ov.loads(case)
         ov.reactions(case)
 
@@ -669,7 +707,10 @@ def _draw_drawing_page(
         pg.text(dx + 6, dy + dh - 23 - 8.5 * k, line, size=7, gray=0.1)
 
     # the panel: title block, scale, legend, assumptions, findings marked here
-    sheet_notes = (_case_summary(ctx, case) if case is not None else []) + ov.notes
+    if envelope_notes is not None:
+        sheet_notes = envelope_notes + ov.notes
+    else:
+        sheet_notes = (_case_summary(ctx, case) if case is not None else []) + ov.notes
     scale_text, bar_u, bar_pt = _scale_note(ctx, pm)
     unit = r.source.length_unit
     legend = _legend_items(ctx, solved=states is not None, w_of=w_of)
@@ -686,6 +727,22 @@ def _draw_drawing_page(
     _flow_panel(pg, sheet.panel, items)
     _footer(ctx, c, sheet.size)
     c.showPage()
+
+
+def _other_cases_load_texts(result: Any, case: Any | None) -> frozenset[str]:
+    """Handles of the drawing's own load texts that do not belong to ``case``: each is
+    drawn (in the grey original) only on the page of the case that reads it, never on
+    the pages of other cases or of combinations, whose loads have other values."""
+    if case is None:
+        return frozenset()
+    texts: dict[str, set[str]] = {}
+    for lc in result.truss.cases:
+        for ld in lc.loads:
+            o = ld.origin
+            if o is not None and o.kind == "text" and o.handle and not lc.is_combination:
+                texts.setdefault(lc.name, set()).add(o.handle.split("/", 1)[0])
+    own = set() if case.factors else texts.get(case.name, set())
+    return frozenset(h for hs in texts.values() for h in hs) - own
 
 
 def _case_summary(ctx: _Context, case: Any) -> list[str]:
@@ -707,8 +764,10 @@ def _case_summary(ctx: _Context, case: Any) -> list[str]:
             out.append(f"largest compression {fmt_force(fs[ec])} {fu} in {member_id(ec)}")
         out.append(
             f"zero-force members: {len(case.zero_by_solution)} member(s) by the solution, "
-            f"{len(case.zero_by_rule)} member(s) by the joint rules"
+            f"{len(case.zero_by_rule)} member(s) by the joint rules (on the solved parts)"
         )
+        if case.zero_by_solution:
+            out.append(ZERO_FORCE_CAUTION)
     else:
         out.append("not solved (see the findings)")
     if case.loads_symmetric is not None and r.symmetry_axis is not None:

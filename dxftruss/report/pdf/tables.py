@@ -22,7 +22,7 @@ from ...model import joint_id, member_id
 from ...naming import finding_parts, part_index, where_drawn
 from .. import assumptions
 from .context import FULL_TABLE_MEMBERS, MAX_MUST, SUMMARY_ROWS, _case_loads, _Context, _member_states
-from .format import _clip, _Page, _width, _wrap, clean_reactions, fmt_num, shown
+from .format import _clip, _Page, _width, _wrap, case_noise, clean_reactions, denoise, fmt_num, shown
 from .sheet import FOOTER_H, MARGIN, _footer
 
 
@@ -60,6 +60,8 @@ class _Flow:
         self.open = False
         self.section = ""
         self.pages = 0
+        #: a line under the header of every page of the current section ("" none)
+        self.page_note = ""
 
     def new_page(self) -> None:
         if self.open:
@@ -74,6 +76,11 @@ class _Flow:
         self.pg.text(self.x0, self.H - MARGIN - 6, head, size=7, gray=0.35)
         self.pg.text(self.x0 + self.w, self.H - MARGIN - 6, self.ctx.date, size=7, gray=0.35, align="r")
         self.y = self.top
+        if self.page_note:
+            for line in _wrap(self.page_note, self.ctx.fonts.regular, 7, self.w):
+                self.pg.text(self.x0, self.y - 7, line, size=7, gray=0.25)
+                self.y -= 9.4
+            self.y -= 3
 
     def finish_page(self) -> None:
         if self.open:
@@ -85,8 +92,9 @@ class _Flow:
         if not self.open or self.y - h < self.bottom:
             self.new_page()
 
-    def start_section(self, title: str, key: str) -> None:
+    def start_section(self, title: str, key: str, *, note: str = "") -> None:
         self.section = title
+        self.page_note = note
         self.new_page()
         self.c.bookmarkPage(key)
         self.c.addOutlineEntry(shown(title), key, level=0)
@@ -456,6 +464,8 @@ def _tables_section(ctx: _Context, flow: _Flow, *, max_rows: int) -> None:
             sx += rx
             sy += ry
         loads = _case_loads(r, cs.name)
-        rrows.append([cs.name, "sum", "", fmt_num(sx, sig=6), fmt_num(sy, sig=6)])
-        rrows.append([cs.name, "loads", "", fmt_num(loads[:, 0].sum(), sig=6), fmt_num(loads[:, 1].sum(), sig=6)])
+        noise = case_noise(r, cs)
+        lx, ly = denoise(loads[:, 0].sum(), noise), denoise(loads[:, 1].sum(), noise)
+        rrows.append([cs.name, "sum", "", fmt_num(denoise(sx, noise), sig=6), fmt_num(denoise(sy, noise), sig=6)])
+        rrows.append([cs.name, "loads", "", fmt_num(lx, sig=6), fmt_num(ly, sig=6)])
     flow.table(cols, rrows)
