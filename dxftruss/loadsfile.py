@@ -468,8 +468,8 @@ def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:
         axes = "".join(sorted(set(fix.lower()))) if isinstance(fix, str) else ""
         if not isinstance(fix, str) or (fix.lower() != "roller" and (axes not in _AXES_TRACE or len(axes) != len(fix))):
             raise ConfigError(
-                f'{where}: \'fix\' must be the fixed axes "xy", "x", "y" (for a space truss also "xyz", "z", '
-                f'"xz", "yz") or "roller", got {fix!r}'
+                f'{where}: \'fix\' must be "roller" or must name the fixed axes: "xy", "x", "y" (for a space '
+                f'truss also "xyz", "z", "xz", "yz"), got {fix!r}'
             )
         if fix.lower() != "roller":
             if "normal" in t:

@@ -45,6 +45,7 @@ from scipy.sparse.csgraph import reverse_cuthill_mckee
 from .audit.stability import PartStability, Verdict
 from .equilibrium import PartSystem, part_system
 from .model import Part, Truss
+from .units import LENGTH_UNITS
 
 #: at most this many influence-line values (members x panel points) are kept per
 #: moving load; a larger part keeps the governing members' lines only
@@ -151,7 +152,6 @@ class PartFactor:
     def member_rows(self, local_members: np.ndarray) -> np.ndarray:
         """Rows of the influence matrix for the part's local members: (k, 2j), the
         member force per unit joint load at each dof (Muller-Breslau, transposed solve)."""
-        m = self.ps.n_members
         k = local_members.size
         if self.determinate:
             n = self.ps.A.shape[0]
@@ -162,7 +162,6 @@ class PartFactor:
         rhs = (self.Z.T @ (self.B[:, local_members] @ sp.diags(self.k_axial[local_members]))).toarray()
         y = np.empty_like(rhs)
         y[self.perm] = self.lu.solve(np.ascontiguousarray(rhs[self.perm]))
-        del m
         return (self.Z @ y).T
 
 
@@ -171,8 +170,6 @@ def factor_part(truss: Truss, part: Part, stab: PartStability, ea: np.ndarray) -
     if stab.verdict is Verdict.MECHANISM or stab.mechanisms > 0:
         return None
     ps = part_system(truss, part)
-    from .units import LENGTH_UNITS
-
     ea_part = ea[ps.members]
     given = np.isfinite(ea_part)
     if given.any() and not given.all():

@@ -356,6 +356,11 @@ class SpaceStability:
     method: str
     modes: tuple[SpaceMode, ...]
     self_stress_members: tuple[tuple[int, ...], ...]
+    #: the internal mechanisms' order (METHODS section 3.1): "first-order" (a self-stress
+    #: stiffens them: some +-Q_q positive definite), "finite-or-higher" (no self-stress,
+    #: or none whose Q is definite: finite or higher order, path following advised),
+    #: "" when there is no internal mechanism or the part is too large to tell
+    order: str = ""
 
     @property
     def verdict(self) -> str:
@@ -476,6 +481,7 @@ def analyse_space_part(
         method,
         tuple(modes),
         tuple(stress),
+        _order(ps, truss.xyz[ps.joints], D, S, n_rigid) if k > n_rigid and method == "dense-svd" else "",
     )
     p = part.index + 1
     if k:
@@ -486,11 +492,24 @@ def analyse_space_part(
                 Code.MECHANISM,
                 f"part P{p} (space truss) can move: {k} mechanism(s) (Maxwell's count m + r - 3j = s - k = "
                 f"{st.maxwell}: the numerical rank decides, the counts alone do not in space); rigid-body motions "
-                f"the supports leave free: {n_rigid}; internal mechanisms: {internal}; moving joints: "
+                f"the supports leave free: {n_rigid}; internal mechanisms"
+                + {
+                    "first-order": " (first-order: a state of self-stress stiffens them, only under prestress)",
+                    "finite-or-higher": " (finite or of higher order: no self-stress stiffens them)",
+                    "": "",
+                }[st.order]
+                + f": {internal}; moving joints: "
                 + ", ".join(f"J{j + 1}" for j in moving[:12])
                 + (" ..." if len(moving) > 12 else ""),
                 joints=tuple(moving[:200]),
-                data={"part": p, "mechanisms": k, "rigid": n_rigid, "internal": internal, "maxwell": st.maxwell},
+                data={
+                    "part": p,
+                    "mechanisms": k,
+                    "rigid": n_rigid,
+                    "internal": internal,
+                    "maxwell": st.maxwell,
+                    "order": st.order or None,
+                },
                 next_step=(
                     "fix the rigid-body motions with supports (SUPPORT-XYZ at three joints not in one line, or "
                     '[[support]] entries with fix = "xyz")'
@@ -521,6 +540,45 @@ def analyse_space_part(
             )
         )
     return st, findings, ps, D, S
+
+
+def product_stiffness(ps: SpaceSystem, xyz: np.ndarray, D: np.ndarray, S: np.ndarray, n_rigid: int) -> list[np.ndarray]:
+    """Q_q = D_int^T (Omega_q (x) I_3) D_int for each self-stress q (METHODS section 3.1):
+    the quadratic form sum_e (t_e / L_e) |d_i - d_k|^2 of the bar forces t of state q on
+    the internal mechanisms D_int (null(A^T) with every rigid-body field projected out)."""
+    G = _rigid_fields(xyz)
+    Uc = np.linalg.svd(D.T @ G, full_matrices=True)[0]
+    Di = D @ Uc[:, n_rigid:]
+    Di = Di - G @ (G.T @ Di)
+    Q, R = np.linalg.qr(Di)
+    Di = Q[:, np.abs(np.diag(R)) > 1e-8]
+    mm = ps.members.size
+    a, b = ps.ends[:, 0], ps.ends[:, 1]
+    d = Di.reshape(-1, 3, Di.shape[1])
+    rel = d[a] - d[b]  # (m, 3, k)
+    out = []
+    for q in range(S.shape[1]):
+        w = S[:mm, q] / ps.lengths
+        out.append(np.einsum("e,eia,eib->ab", w, rel, rel))
+    return out
+
+
+def _order(ps: SpaceSystem, xyz: np.ndarray, D: np.ndarray, S: np.ndarray, n_rigid: int) -> str:
+    """The order of the internal mechanisms (SpaceStability.order): a self-stress basis
+    vector whose +-Q is positive definite stiffens them to first order."""
+    if not S.shape[1]:
+        return "finite-or-higher"
+    mm = ps.members.size
+    for q, Q in enumerate(product_stiffness(ps, xyz, D, S, n_rigid)):
+        if not Q.size:
+            continue
+        ev = np.linalg.eigvalsh((Q + Q.T) / 2)
+        # the form's own size: sum |t_e| / L_e (unit mechanism columns move a bar's ends
+        # apart by at most 2), so round-off on a zero Q is never read as definite
+        scale = float(np.abs(S[:mm, q] / ps.lengths).sum())
+        if scale > 0 and (ev.min() > 1e-9 * scale or ev.max() < -1e-9 * scale):
+            return "first-order"
+    return "finite-or-higher"
 
 
 def _space_modes(ps: SpaceSystem, xyz: np.ndarray, D: np.ndarray) -> tuple[list[SpaceMode], int]:

@@ -49,16 +49,19 @@ Solution paths per part (the part's ``PartStability`` decides):
 - determinate (k = 0, s = 0): sparse LU of A; then the residual check.
 - a case with unread drawn loads (``LoadCase.unread``, a ``load-label-unclear`` or
   ``load-without-value`` error from the model stage): no part is solved.
-- indeterminate (k = 0, s > 0): stiffness method. Members without a section make the
-  whole part use one uniform EA, with an ``assumed-stiffness`` warning (one per part;
-  its data has no case, so the pipeline can drop the copies other cases repeat).
+- indeterminate (k = 0, s > 0): stiffness method. In a part where some members have a
+  section, the members without one take the median EA of those that have (named by an
+  ``assumed-stiffness`` warning); a part with no section at all uses one uniform EA,
+  with the same warning (one per part; its data has no case, so the pipeline can drop
+  the copies other cases repeat).
 
 A failed residual or refinement check never yields numbers: the part is reported as not
 solved with a ``near-mechanism`` warning (or ``load-excites-mechanism`` when the
-mechanism basis was incomplete). Displacements (drawing units) are given only when every
-member of every solved part has a real section; joints of unsolved and mechanism parts
-hold NaN, and so do the joints of a part whose displacements failed the refinement check
-while its forces passed it.
+mechanism basis was incomplete). Displacements (drawing units) are given for every
+solved part with at least one real section (members without one take the median EA of
+the part's sections); joints of unsolved and mechanism parts and of parts without any
+section hold NaN, and so do the joints of a part whose displacements failed the
+refinement check while its forces passed it.
 
 The stiffness matrix is ordered by reverse Cuthill-McKee and factored by SuperLU in
 symmetric mode (K is symmetric positive definite once the mechanisms are bordered off).
@@ -103,8 +106,8 @@ class CaseResult:
                    members of parts that could not be solved for this case
     reactions      per restrained joint: (joint, rx, ry) in the force unit, acting on
                    the structure (+x right, +y up); 0.0 in an unrestrained direction
-    displacements  (j, 2) in drawing units when every member of a solved indeterminate
-                   or determinate part has a real section; None otherwise
+    displacements  (j, 2) in drawing units for the solved parts with sections (NaN for
+                   the other joints); None when no solved part has a section
     zero_by_rule / zero_by_solution   member indices (sorted)
     solved_parts   part indices solved for this case
     residual       largest relative equilibrium residual over the solved parts

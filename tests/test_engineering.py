@@ -283,3 +283,63 @@ def test_footbridge_sample_shows_the_engineering_results(tmp_path):
     assert any("Influence lines of the governing members" in p for p in pages)
     caution = " ".join(CHECKS_CAUTION.split()[:6])
     assert shown and all(caution in p for p in shown)
+
+
+def test_checks_flag_members_over_the_ratio_and_slender_ones(tmp_path):
+    # C1 Pratt, 10 kN at L1..L5, every member a 20 mm solid round bar given by area and I
+    # (METHODS C11: A = 314.159 mm2, I = 7853.98 mm4, r = 5 mm), strength 250 MPa.
+    # |N| / (A f) > 1 where |N| > 314.159e-6 x 250e6 = 78.54 kN: none (largest 60 kN), but the
+    # Euler loads are tiny: N_cr = pi^2 x 200e9 x 7853.98e-12 / L^2 = 15.503 kN / L^2 (L in m),
+    # so every compression member with |N| > 15.503 / L^2 is over. L/r = L / 0.005: all members
+    # of 3 m and more exceed 200 (600, 800, 1000).
+    sec = (
+        '[[section]]\nlayer = "TRUSS"\narea = "314.159 mm2"\nI = "7853.98 mm4"\nE = "200 GPa"\nstrength = "250 MPa"\n'
+        + "".join(f"[[load]]\nat = [{4 * i}, 0]\nfy = -10\n" for i in range(1, 6))
+    )
+    dxf = write_drawing(tmp_path / "p.dxf", pratt_segments())
+    r = check(dxf, Settings(loads=_loads(tmp_path, PRATT_SUPPORTS + sec)))
+    t = r.truss
+    forces = r.cases[0].forces
+    lengths = t.lengths()
+    pcr = math.pi**2 * 200e9 * 7853.98e-12 / lengths**2 / 1e3  # kN
+    over = {e for e in range(t.n_members) if forces[e] < 0 and -forces[e] / pcr[e] > 1.0}
+    got = {f.members[0] for f in r.findings if f.code.value == "member-over-ratio"}
+    assert got == over and over
+    slender = {e for e in range(t.n_members) if forces[e] < 0 and lengths[e] / 0.005 > 200}
+    got = {f.members[0] for f in r.findings if f.code.value == "slender-member"}
+    assert got == slender
+    assert all(f.next_step for f in r.findings if f.code.value in ("member-over-ratio", "slender-member"))
+
+
+def test_loads_file_mistakes_in_the_engineering_tables(tmp_path):
+    from dxftruss.errors import ConfigError
+
+    dxf = write_drawing(tmp_path / "p.dxf", pratt_segments())
+    bad = [
+        # the self-weight case named like a load case
+        (
+            '[[section]]\nlayer = "TRUSS"\narea = "1 mm2"\nE = "1 GPa"\ndensity = "1 t/m3"\n'
+            '[self_weight]\ncase = "main"\n[[load]]\nat = [4, 0]\nfy = -1\n'
+        ),
+        # a moving load whose segment cuts across the truss
+        '[[moving_load]]\nfrom = [0, 0]\nto = [24, 3]\nloads = ["1 kN"]\n',
+        # a member list naming a member the drawing does not have
+        '[[section]]\nmembers = ["M99"]\narea = "1 mm2"\nE = "1 GPa"\n',
+    ]
+    for text in bad:
+        with pytest.raises(ConfigError):
+            check(dxf, Settings(loads=_loads(tmp_path, PRATT_SUPPORTS + text)))
+
+
+def test_moving_load_on_a_mechanism_is_said(tmp_path):
+    # the C1 Pratt without its first diagonal: the end panel can sway (a mechanism), so the
+    # moving load gets no influence lines and a moving-load-unsolved warning
+    segs = pratt_segments()
+    del segs[2]  # panel 1's diagonal
+    dxf = write_drawing(tmp_path / "p.dxf", segs)
+    text = '[[load]]\nat = [12, 0]\nfy = -1\n[[moving_load]]\nfrom = [0, 0]\nto = [24, 0]\nloads = ["1 kN"]\n'
+    r = check(dxf, Settings(loads=_loads(tmp_path, PRATT_SUPPORTS + text)))
+    assert r.stability[0].mechanisms == 1
+    assert not r.engineering.moving
+    (f,) = [f for f in r.findings if f.code.value == "moving-load-unsolved"]
+    assert f.data["part"] == 0 and f.next_step

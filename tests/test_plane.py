@@ -280,6 +280,23 @@ def test_loads_file_axes():
         parse_loads(bad)
 
 
+def test_front_view_defaults_are_the_xy_defaults(tmp_path):
+    """No supports and no loads given: the assumed pin and roller (lowest joints) and the
+    unit panel loads (downward) of a front view are those of the XY drawing, since
+    in-plane y is world +Z: down is world -Z (plane.py). Same forces, to 1e-9."""
+    xy = check(write_drawing(tmp_path / "xy.dxf", pratt_segments(N, A, H), units=6))
+    segs = np.asarray(pratt_segments(N, A, H), float).reshape(-1, 2, 2)
+    s3 = np.zeros((len(segs), 2, 3))
+    s3[:, :, 0], s3[:, :, 1], s3[:, :, 2] = segs[:, :, 0], -2.5, segs[:, :, 1]
+    front = check(_write_3d(tmp_path / "f.dxf", s3))
+    assert front.plane is not None and front.plane.kind == "vertical"
+    assert [c.name for c in front.cases] == [c.name for c in xy.cases]
+    ref, got = _forces(xy), _forces(front)
+    assert set(ref) == set(got)
+    for k, v in ref.items():
+        assert got[k] == pytest.approx(v, rel=1e-9, abs=1e-12)
+
+
 def test_front_view_streamed_is_the_library_reading(tmp_path):
     """3-D LINEs read by the streaming reader give the same report as the library
     reader (reference: the library reader, dxftruss/read/stream.py's contract)."""

@@ -303,3 +303,22 @@ def test_indeterminate_space_truss_is_compatible():
     for e in range(4):
         total += tt[e] * (np.array(corners[e]) - np.array(apex)) / lengths[e]
     assert np.abs(total).max() <= 1e-9 * 10
+
+
+def test_mechanism_order():
+    """METHODS section 3.1 and C10: the double banana's internal mechanism has Q = 0
+    (not prestress stable: finite or higher order, here finite); the collinear pair of
+    test_force_method_on_a_carriable_mechanism has Q = t/L1 + t/L2 != 0 for its
+    self-stress (t1 = t2), definite: first-order infinitesimal (C7b in space)."""
+    from dxftruss.space import product_stiffness, space_system
+
+    t = double_banana()
+    part = t.parts[0]
+    st, _, ps, D, S = analyse_space_part(t, part)
+    (Q,) = product_stiffness(ps, t.xyz[ps.joints], D, S, st.rigid_mechanisms)
+    assert Q.shape == (1, 1) and abs(Q[0, 0]) <= 1e-9 * float(np.abs(S[: ps.members.size, 0] / ps.lengths).sum())
+    assert st.order == "finite-or-higher"
+    line = space_truss([(0, 0, 0), (1, 0, 0), (2, 0, 0)], [(0, 1), (1, 2)], {0: "xyz", 2: "xyz"}, {})
+    st2, *_ = analyse_space_part(line, line.parts[0])
+    assert st2.order == "first-order"
+    assert space_system(line, line.parts[0]).A.shape == (9, 8)

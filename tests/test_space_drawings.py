@@ -182,3 +182,26 @@ def test_space_reports(tmp_path):
     assert len(reader.pages) >= 3
     first = reader.pages[0].extract_text()
     assert "axonometric" in first and "plan" in first and "front elevation" in first and "side elevation" in first
+
+
+def test_space_cases_and_combinations(tmp_path):
+    """Two cases and a combination 1.35 dead + 1.5 snow on the tripod (METHODS C8: a
+    vertical apex load P gives legs -P sqrt(rho^2 + h^2) / (3h) = -5P/9): linear
+    superposition, legs -5/9 (1.35 x 9 + 1.5 x 3)."""
+    dwg = tripod_dxf(tmp_path / "t.dxf", supports=None, load=False, extra=False)
+    text = '[units]\nforce = "kN"\n'
+    for f in FEET:
+        text += f'[[support]]\nat = [{f[0]!r}, {f[1]!r}, 0.0]\nfix = "xyz"\n'
+    text += '[[load]]\nat = [0.0, 0.0, 3.0]\nfz = -9.0\ncase = "dead"\n'
+    text += '[[load]]\nat = [0.0, 0.0, 3.0]\nfz = -3.0\ncase = "snow"\n'
+    text += '[[combination]]\nname = "ULS"\nfactors = { dead = 1.35, snow = 1.5 }\n'
+    (tmp_path / "l.toml").write_text(text)
+    res = check(dwg, Settings(loads=str(tmp_path / "l.toml")))
+    by = {c.name: c for c in res.space.cases}
+    assert set(by) == {"dead", "snow", "ULS"}
+    assert by["dead"].forces == pytest.approx([-5.0] * 3, rel=1e-9)
+    assert by["snow"].forces == pytest.approx([-5.0 / 3] * 3, rel=1e-9)
+    assert by["ULS"].forces == pytest.approx([-5.0 / 9 * (1.35 * 9 + 1.5 * 3)] * 3, rel=1e-9)
+    doc = report_dict(res)
+    _schema().validate(json.loads(json.dumps(doc)))
+    assert [c["combination"] for c in doc["cases"] if c["name"] == "ULS"] == [{"dead": 1.35, "snow": 1.5}]

@@ -155,6 +155,7 @@ def _space(result: Result) -> dict[str, Any]:
                 "rank_method": st.method,
                 "maxwell": st.maxwell,
                 "rigid_mechanisms": st.rigid_mechanisms,
+                "mechanism_order": st.order or None,
                 "rank_tolerance": _num(st.tolerance),
                 "modes": [{"rigid": md.rigid, "joints": [jid[j] for j in md.joints]} for md in st.modes],
                 "self_stress_members": [[mid[e] for e in ms] for ms in st.self_stress_members],

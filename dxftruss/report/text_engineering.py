@@ -28,11 +28,13 @@ def engineering_summary(result: Result, con: Any, text: Any, fmt: Any) -> None:
     if eng is None or not (result.cases or eng.moving):
         return
     t = result.truss
+    if len(eng.envelope.sources) < 2 and not (eng.checks or eng.deflections or eng.moving or t.self_weight):
+        return  # one case and nothing else: its row in the load-case table says it all
     fu = t.force_unit
     unit = result.source.length_unit
     env = eng.envelope
     names = [s.name for s in env.sources]
-    top = env.top(ROWS)
+    top = env.top(ROWS) if len(names) > 1 else []
     if top:
         tab = Table(
             box=box.SIMPLE_HEAD,
