@@ -30,6 +30,7 @@ from pathlib import Path
 import ezdxf
 import pytest
 
+from dxftruss import outputs
 from dxftruss.cli import main
 
 from .fuzz import mutators as mu
@@ -451,10 +452,12 @@ def _good_report(tmp_path: Path) -> tuple[Path, Path, bytes]:
 
 
 def _half_writer(exc: BaseException):
-    real = Path.write_text
+    # the JSON report is written by outputs.write_text_chunked (a string or its pieces)
+    real = outputs.write_text_chunked
 
-    def write_text(self, data, *a, **k):
-        real(self, data[: len(data) // 2], *a, **k)  # half the report reaches the disk...
+    def write_text(path, data, *a, **k):
+        data = data if isinstance(data, str) else "".join(data)
+        real(path, data[: len(data) // 2], *a, **k)  # half the report reaches the disk...
         raise exc  # ...then the writer dies
 
     return write_text
@@ -468,7 +471,7 @@ def test_crash_while_writing_json_keeps_the_old_report(tmp_path, monkeypatch, ca
     drawing, report, old = _good_report(tmp_path)
     json.loads(old)
     monkeypatch.delenv("DXFTRUSS_DEBUG", raising=False)
-    monkeypatch.setattr(Path, "write_text", _half_writer(RuntimeError("disk on fire")))
+    monkeypatch.setattr(outputs, "write_text_chunked", _half_writer(RuntimeError("disk on fire")))
     capsys.readouterr()
     code = main(["check", str(drawing), "--json", str(report), "--quiet"])
     err = capsys.readouterr().err
@@ -479,7 +482,7 @@ def test_crash_while_writing_json_keeps_the_old_report(tmp_path, monkeypatch, ca
 
 def test_interrupt_while_writing_json_keeps_the_old_report(tmp_path, monkeypatch, capsys):
     drawing, report, old = _good_report(tmp_path)
-    monkeypatch.setattr(Path, "write_text", _half_writer(KeyboardInterrupt()))
+    monkeypatch.setattr(outputs, "write_text_chunked", _half_writer(KeyboardInterrupt()))
     capsys.readouterr()
     # Ctrl-C is not swallowed: exit 130 (128 + SIGINT) with one line...
     assert main(["check", str(drawing), "--json", str(report), "--quiet"]) == 130
@@ -490,7 +493,7 @@ def test_interrupt_while_writing_json_keeps_the_old_report(tmp_path, monkeypatch
 
 def test_disk_full_while_writing_json_is_an_error_line(tmp_path, monkeypatch, capsys):
     drawing, report, old = _good_report(tmp_path)
-    monkeypatch.setattr(Path, "write_text", _half_writer(OSError(28, "No space left on device")))
+    monkeypatch.setattr(outputs, "write_text_chunked", _half_writer(OSError(28, "No space left on device")))
     capsys.readouterr()
     code = main(["check", str(drawing), "--json", str(report), "--quiet"])
     err = capsys.readouterr().err
