@@ -37,7 +37,7 @@ def test_samples(name: str) -> None:
     assert to_json(r) == reference(r)
 
 
-@pytest.mark.parametrize("layer", ["TRUSS", "Läufer\u200b", "x'y#1 ", "\u00a0dxftruss piece joints"])
+@pytest.mark.parametrize("layer", ["TRUSS", "Läufer\u200b", "x'y#1 ", "\u00a0dxftruss piece joints", "ascii\x7fdel"])
 def test_names_and_blocks(tmp_path: Path, layer: str) -> None:
     doc = ezdxf.new("R2018")
     doc.units = 6

@@ -555,8 +555,9 @@ def json_chunks(result: Result, zones: dict[int, list[tuple[int, str]]] | None =
     # JSON escapes C0 itself; C1 controls (a lone CSI is an escape sequence on many
     # terminals), bidi and line separators and undecodable bytes are written as \\u
     # escapes too, so the report can go to a terminal (``--json -``) unaltered in meaning;
-    # one character at a time, so chunk by chunk is the same
-    return [_UNSAFE.sub(_escape_unsafe, chunk) for chunk in out]
+    # one character at a time, so chunk by chunk is the same (and a chunk of ASCII
+    # without DEL has none: the class is DEL and beyond)
+    return [chunk if chunk.isascii() and "\x7f" not in chunk else _UNSAFE.sub(_escape_unsafe, chunk) for chunk in out]
 
 
 def _escape_unsafe(m: re.Match[str]) -> str:
