@@ -56,6 +56,9 @@ def assumptions(result: Result) -> list[str]:
     plane = getattr(result, "plane", None)
     if plane is not None:
         out.append(plane.sentence(unit))
+    planes = getattr(result, "planes", None)
+    if planes is not None:
+        out.extend(planes.sentences(unit))
     if getattr(result, "space", None) is not None:
         out.append(
             "the line work lies in no one plane: analysed as a space truss (three degrees of freedom per joint, "

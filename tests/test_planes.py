@@ -1,0 +1,274 @@
+"""Separate flat trusses, each in its own plane (planes.py): a set of identical trusses in
+parallel vertical planes, two trusses in vertical planes at an angle, and what a loads
+file must say for them.
+
+Reference: rigid motions leave the bar forces of a statically determinate truss
+unchanged (equilibrium is invariant under rotation and translation: A' = Q A for a
+block-diagonal rotation Q, so A' t = Q f has the same t; derivation as in
+tests/test_plane.py), so each part is checked against the same truss drawn in XY, whose
+forces are check case C1 of docs/methods.md (Pratt n = 6, a = 4 m, h = 3 m, P = 10 kN).
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from pathlib import Path
+
+import ezdxf
+import numpy as np
+import pytest
+
+from dxftruss.errors import ConfigError
+from dxftruss.findings import Code
+from dxftruss.model import Fix
+from dxftruss.pipeline import Settings, check
+from dxftruss.plane import find_plane
+from dxftruss.planes import restraint_in_plane
+from dxftruss.report.json import report_dict
+from tests.drawings import pratt_segments, write_drawing
+
+N, A, H, P = 6, 4.0, 3.0, 10.0
+SPACING = (0.0, 1.5, 3.0, 4.5)
+
+
+def _placed(rot_deg: float, shift: tuple[float, float, float]) -> np.ndarray:
+    """(m, 2, 3) the XY Pratt stood up in a vertical plane: XY (x, y) -> world
+    (x cos t, x sin t, y) + shift, the plane turned by t about world Z."""
+    segs = np.asarray(pratt_segments(N, A, H), float).reshape(-1, 2, 2)
+    t = math.radians(rot_deg)
+    out = np.zeros((len(segs), 2, 3))
+    out[:, :, 0] = segs[:, :, 0] * math.cos(t) + shift[0]
+    out[:, :, 1] = segs[:, :, 0] * math.sin(t) + shift[1]
+    out[:, :, 2] = segs[:, :, 1] + shift[2]
+    return out
+
+
+def _world(rot_deg: float, shift: tuple[float, float, float], x: float) -> tuple[float, float, float]:
+    t = math.radians(rot_deg)
+    return (x * math.cos(t) + shift[0], x * math.sin(t) + shift[1], shift[2])
+
+
+def _write(path: Path, trusses: list[np.ndarray]) -> Path:
+    doc = ezdxf.new("R2013", units=6)
+    msp = doc.modelspace()
+    for s3 in trusses:
+        for p, q in s3:
+            msp.add_line(tuple(p), tuple(q), dxfattribs={"layer": "TRUSS"})
+    doc.saveas(path)
+    return path
+
+
+def _loads(path: Path, placements: list[tuple[float, tuple[float, float, float]]], *, fix_end: str = "z") -> Path:
+    """Per truss a pin (x, y, z fixed) at L0, a support fixing ``fix_end`` at L6 and
+    10 kN down (world -Z) at L1..L5, all at 3-D world points."""
+    text = '[units]\nforce = "kN"\nlength = "m"\n'
+    for rot, shift in placements:
+        x0, x6 = _world(rot, shift, 0.0), _world(rot, shift, N * A)
+        text += f'[[support]]\nat = [{x0[0]!r}, {x0[1]!r}, {x0[2]!r}]\nfix = "xyz"\n'
+        text += f'[[support]]\nat = [{x6[0]!r}, {x6[1]!r}, {x6[2]!r}]\nfix = "{fix_end}"\n'
+        for i in range(1, N):
+            p = _world(rot, shift, i * A)
+            text += f"[[load]]\nat = [{p[0]!r}, {p[1]!r}, {p[2]!r}]\nfz = {-P!r}\n"
+    path.write_text(text)
+    return path
+
+
+@pytest.fixture(scope="module")
+def xy_forces(tmp_path_factory) -> dict[tuple, float]:
+    """Member force of the XY drawing keyed by its ends' XY coordinates."""
+    d = tmp_path_factory.mktemp("xy")
+    dwg = write_drawing(d / "xy.dxf", pratt_segments(N, A, H), units=6)
+    text = '[units]\nforce = "kN"\nlength = "m"\n[[support]]\nat = [0.0, 0.0]\nfix = "xy"\n'
+    text += f'[[support]]\nat = [{N * A!r}, 0.0]\nfix = "y"\n'
+    text += "".join(f"[[load]]\nat = [{i * A!r}, 0.0]\nfy = {-P!r}\n" for i in range(1, N))
+    (d / "xy.toml").write_text(text)
+    res = check(dwg, Settings(loads=str(d / "xy.toml")))
+    (case,) = res.cases
+    out = {}
+    for e, (a, b) in enumerate(res.truss.ends.tolist()):
+        out[_key(res.truss.xy[a], res.truss.xy[b])] = float(case.forces[e])
+    # check case C1 of docs/methods.md: B2 = 33.3333, T3 = -60, D1 = 41.6667, V0 = -25 kN
+    assert out[_key((4, 0), (8, 0))] == pytest.approx(100 / 3, rel=1e-9)
+    assert out[_key((8, 3), (12, 3))] == pytest.approx(-60.0, rel=1e-9)
+    assert out[_key((0, 3), (4, 0))] == pytest.approx(125 / 3, rel=1e-9)
+    assert out[_key((0, 0), (0, 3))] == pytest.approx(-25.0, rel=1e-9)
+    return out
+
+
+def _key(p, q) -> tuple:
+    return tuple(
+        sorted([(round(float(p[0]), 6), round(float(p[1]), 6)), (round(float(q[0]), 6), round(float(q[1]), 6))])
+    )
+
+
+def _part_forces(res, rot: float, shift: tuple[float, float, float]) -> dict[tuple, float]:
+    """Member forces of the part drawn at ``rot``, ``shift``, keyed by the XY
+    coordinates its joints had before they were stood up (from the JSON's world)."""
+    (case,) = res.cases
+    world = res.planes.to_world(res.truss.xy)
+    t = math.radians(rot)
+    along = (world[:, 0] - shift[0]) * math.cos(t) + (world[:, 1] - shift[1]) * math.sin(t)
+    across = -(world[:, 0] - shift[0]) * math.sin(t) + (world[:, 1] - shift[1]) * math.cos(t)
+    xy = np.column_stack([along, world[:, 2] - shift[2]])
+    out = {}
+    for e, (a, b) in enumerate(res.truss.ends.tolist()):
+        if abs(across[a]) < 1e-9 and abs(across[b]) < 1e-9:
+            out[_key(xy[a], xy[b])] = float(case.forces[e])
+    return out
+
+
+def _schema():
+    jsonschema = pytest.importorskip("jsonschema")
+    schema = json.loads((Path(__file__).parent.parent / "docs" / "report.schema.json").read_text())
+    return jsonschema.Draft202012Validator(schema)
+
+
+@pytest.fixture(scope="module")
+def roof_set(tmp_path_factory):
+    d = tmp_path_factory.mktemp("set")
+    placements = [(0.0, (0.0, y, 0.0)) for y in SPACING]
+    dwg = _write(d / "set.dxf", [_placed(*p) for p in placements])
+    return check(dwg, Settings(loads=str(_loads(d / "set.toml", placements)))), placements, d
+
+
+def test_a_set_of_parallel_trusses_gives_the_xy_forces(roof_set, xy_forces):
+    """Four Pratts in the planes y = 0, 1.5, 3, 4.5 (plain 3-D LINEs), supports and loads
+    at world 3-D points: each part's forces are the XY drawing's to 1e-9 relative."""
+    res, placements, _ = roof_set
+    assert res.plane is None and res.space is None and res.planes is not None
+    assert len(res.planes.parts) == 4 and len(res.truss.parts) == 4
+    n_xy = len(xy_forces)
+    assert res.truss.n_members == 4 * n_xy  # no joint or member of two trusses joined
+    assert res.truss.n_joints == 4 * 14
+    for pp, (_, shift) in zip(res.planes.parts, placements, strict=True):
+        assert pp.plane.kind == "vertical"
+        assert pp.plane.v == (0.0, 0.0, 1.0)
+        assert pp.plane.origin[1] == pytest.approx(shift[1], abs=1e-12)
+    for rot, shift in placements:
+        got = _part_forces(res, rot, shift)
+        assert set(got) == set(xy_forces)
+        for k, v in xy_forces.items():
+            assert got[k] == pytest.approx(v, rel=1e-9, abs=1e-9 * P)
+    codes = {f.code for f in res.findings}
+    assert Code.UNSUPPORTED_GEOMETRY not in codes
+
+
+def test_a_set_of_parallel_trusses_reports(roof_set):
+    """JSON: no top-level plane, each part its plane and shift, joints' world as drawn;
+    the assumptions name every plane; the annotated DXF puts each force mark in its
+    truss's plane; the PDF is written."""
+    from dxftruss.report.dxf import write_dxf
+    from dxftruss.report.pdf import write_pdf
+
+    res, placements, d = roof_set
+    doc = report_dict(res)
+    _schema().validate(json.loads(json.dumps(doc)))
+    assert "plane" not in doc
+    ys = sorted(p["plane"]["origin"][1] for p in doc["parts"])
+    assert ys == pytest.approx(list(SPACING))
+    for p in doc["parts"]:
+        assert p["plane"]["kind"] == "vertical" and p["plane"]["y_axis"] == [0.0, 0.0, 1.0]
+    drawn = {tuple(np.round(q, 9)) for s3 in (_placed(*pl) for pl in placements) for q in s3.reshape(-1, 3)}
+    world = {tuple(np.round(j["world"], 9)) for j in doc["joints"]}
+    assert world == drawn
+    planes = [a for a in doc["assumptions"] if a.startswith("plane ")]
+    assert len(planes) == 4
+    write_dxf(res, d / "out.dxf")
+    out = ezdxf.readfile(d / "out.dxf")
+    texts = [e for e in out.modelspace().query("TEXT") if e.dxf.layer.startswith("DXFTRUSS-FORCES")]
+    assert len(texts) == res.truss.n_members
+    on = [min(abs(e.ocs().to_wcs(e.dxf.insert).y - y) for y in SPACING) for e in texts]
+    assert max(on) < 1e-9
+    counts = [sum(abs(e.ocs().to_wcs(e.dxf.insert).y - y) < 1e-9 for e in texts) for y in SPACING]
+    assert counts == [res.truss.n_members // 4] * 4
+    write_pdf(res, d / "out.pdf")
+    assert (d / "out.pdf").stat().st_size > 1000
+
+
+def test_trusses_in_planes_at_an_angle(tmp_path, xy_forces):
+    """Two Pratts in vertical planes at 0 and 60 degrees about Z, apart and not joined:
+    each gives the XY forces; the second plane's x axis is (cos 60, sin 60, 0)."""
+    placements = [(0.0, (0.0, 0.0, 0.0)), (60.0, (0.0, 12.0, 1.0))]
+    dwg = _write(tmp_path / "angle.dxf", [_placed(*p) for p in placements])
+    res = check(dwg, Settings(loads=str(_loads(tmp_path / "angle.toml", placements))))
+    assert res.planes is not None and len(res.planes.parts) == 2
+    u = res.planes.parts[1].plane.u
+    assert u == pytest.approx((0.5, math.sqrt(3) / 2, 0.0), abs=1e-12)
+    for rot, shift in placements:
+        got = _part_forces(res, rot, shift)
+        assert set(got) == set(xy_forces)
+        for k, v in xy_forces.items():
+            assert got[k] == pytest.approx(v, rel=1e-9, abs=1e-9 * P)
+
+
+def test_a_roller_along_x_at_an_angle_is_refused(tmp_path):
+    """fix = "x" on a plane turned 60 degrees restrains a direction at an angle to it:
+    refused (a planar analysis cannot give a reaction out of the plane)."""
+    placements = [(0.0, (0.0, 0.0, 0.0)), (60.0, (0.0, 12.0, 1.0))]
+    dwg = _write(tmp_path / "angle.dxf", [_placed(*p) for p in placements])
+    with pytest.raises(ConfigError, match="at an angle"):
+        check(dwg, Settings(loads=str(_loads(tmp_path / "x.toml", placements, fix_end="x"))))
+
+
+def test_a_2d_point_is_refused(roof_set):
+    _, _, d = roof_set
+    (d / "two.toml").write_text('[[support]]\nat = [0.0, 0.0]\nfix = "xy"\n')
+    with pytest.raises(ConfigError, match="3-D point"):
+        check(d / "set.dxf", Settings(loads=str(d / "two.toml")))
+
+
+def test_a_force_normal_to_the_plane_is_refused(roof_set):
+    _, _, d = roof_set
+    (d / "fy.toml").write_text("[[load]]\nat = [4.0, 1.5, 0.0]\nfy = 1.0\nfz = -10.0\n")
+    with pytest.raises(ConfigError, match="normal to the"):
+        check(d / "set.dxf", Settings(loads=str(d / "fy.toml")))
+
+
+def test_a_point_off_every_truss_is_refused(roof_set):
+    _, _, d = roof_set
+    (d / "off.toml").write_text("[[load]]\nat = [4.0, 0.75, 0.0]\nfz = -10.0\n")
+    with pytest.raises(ConfigError, match="off the plane"):
+        check(d / "set.dxf", Settings(loads=str(d / "off.toml")))
+
+
+def test_default_loads_act_down_world_z(roof_set):
+    """Without a loads file the defaults of the XY drawing apply per part in its plane:
+    in-plane y is world +Z, so the assumed loads act along world -Z."""
+    res0, _, d = roof_set
+    res = check(d / "set.dxf", Settings())
+    assert res.planes is not None and len(res.truss.parts) == 4
+    assert res0.planes is not None
+    assert sum(len(c.loads) for c in res.truss.cases) == 4 * (N + 1)  # the top joints U0..U6 of each
+    for case in res.truss.cases:
+        for ld in case.loads:
+            assert ld.fx == 0.0 and ld.fy <= 0.0
+
+
+def test_restraint_in_plane():
+    """The in-plane trace of world restraints (derivation: S = span of the fixed axes
+    must split into S in the plane plus S normal to it)."""
+    pts = np.array([[0, 0, 0], [1, 1, 0], [0, 0, 1], [1, 1, 1.0]])
+    pl = find_plane(pts, tol=1e-9)  # vertical, x axis along (1, 1, 0)/sqrt 2
+    assert pl is not None and pl.kind == "vertical"
+    assert restraint_in_plane([(1, 0, 0), (0, 1, 0), (0, 0, 1)], pl) == (Fix.XY, None)
+    assert restraint_in_plane([(0, 0, 1)], pl) == (Fix.Y, None)
+    assert restraint_in_plane([(1, 0, 0), (0, 1, 0)], pl) == (Fix.X, None)
+    assert isinstance(restraint_in_plane([(1, 0, 0)], pl), str)
+    assert isinstance(restraint_in_plane([(1, -1, 0)], pl), str)  # the normal only
+
+
+def test_parts_in_one_plane_share_a_slot(tmp_path):
+    """A lone line in the plane y = 0 beside the truss there stays with it (the same
+    slot, its in-plane place kept: report x = world x); the truss in y = 3 has its own."""
+    lone = np.array([[[30.0, 0.0, 0.0], [34.0, 0.0, 0.0]]])
+    dwg = _write(tmp_path / "lone.dxf", [_placed(0.0, (0.0, 0.0, 0.0)), lone, _placed(0.0, (0.0, 3.0, 0.0))])
+    res = check(dwg, Settings(layers=("TRUSS",)))  # named: the lone line is not set aside as drafting
+    assert res.planes is not None and len(res.planes.parts) == 2
+    assert len(res.truss.parts) == 3
+    world = res.planes.to_world(res.truss.xy)
+    first = np.abs(world[:, 1]) < 1e-12
+    assert first.sum() == 14 + 2
+    assert np.allclose(res.truss.xy[first, 0], world[first, 0])
+    assert np.allclose(res.truss.xy[first, 1], world[first, 2])
+    assert res.truss.xy[~first, 0].min() - res.truss.xy[first, 0].max() >= res.planes.gap
