@@ -188,6 +188,15 @@ def add_model_options(c: argparse.ArgumentParser) -> None:
         help="refuse drawings larger on disk than MB mebibytes before reading them (default 256; 0: no limit)",
     )
     c.add_argument("--page", choices=["A4", "A3", "letter", "tabloid"], default="A3", help="PDF page size (default A3)")
+    tb = c.add_argument_group("title block (over the loads file's [report] table and the drawing's attributes)")
+    for flag, key, what in (
+        ("--project", "project", "project name"),
+        ("--drawing-no", "drawing_no", "drawing number"),
+        ("--revision", "revision", "revision of the drawing checked"),
+        ("--checked-by", "checked_by", "name or initials of the checker"),
+        ("--check-date", "check_date", "date of the check (default: the loads file, the drawing, then today)"),
+    ):
+        tb.add_argument(flag, dest=key, metavar="TEXT", help=what)
 
 
 LAYOUT_HELP = (
@@ -334,6 +343,7 @@ def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = F
             max_members=args.max_members,
             max_file_mb=args.max_file_size or None,
             layout=args.layout,
+            report=_title_options(args),
             # the PDF and the annotated DXF draw and copy the whole document
             stream_line_work=not (pdf or dxf),
         )
@@ -345,10 +355,18 @@ def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = F
             text += summary(result, color=color)
         staged = OutputSet()
         js = None
+        zones: dict[int, list[tuple[int, str]]] = {}
+        if pdf:  # first: the JSON report says where the PDF marks each finding
+            from .report.pdf import write_pdf
+
+            def pdf_writer(tmp: str) -> None:
+                zones.update(write_pdf(result, tmp, page=args.page))
+
+            staged.stage(pdf, pdf_writer, "PDF")
         if json_out:
             from .report.json import to_json
 
-            js = to_json(result)
+            js = to_json(result, zones if pdf else None)
             if json_out != "-":
                 # names from the drawing may hold undecodable bytes: escape, never fail
                 staged.stage(
@@ -356,10 +374,6 @@ def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = F
                     lambda tmp: Path(tmp).write_text(js, encoding="utf-8", errors="backslashreplace"),
                     "JSON",
                 )
-        if pdf:
-            from .report.pdf import write_pdf
-
-            staged.stage(pdf, lambda tmp: write_pdf(result, tmp, page=args.page), "PDF")
         if dxf:
             from .report.dxf import write_dxf
 
@@ -405,6 +419,22 @@ def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = F
         # the last line of defence: one line, never a traceback
         row["message"] = f"{drawing}: internal error ({type(exc).__name__}: {exc}); please report it with the drawing"
         return EXIT_INPUT, text, row
+
+
+def _title_options(args: argparse.Namespace) -> tuple[tuple[str, str], ...]:
+    """The title-block fields given as options, as (field, value) pairs."""
+    pairs = []
+    for key, field in (
+        ("project", "project"),
+        ("drawing_no", "drawing_no"),
+        ("revision", "revision"),
+        ("checked_by", "checked_by"),
+        ("check_date", "date"),
+    ):
+        value = getattr(args, key, None)
+        if value is not None:
+            pairs.append((field, value))
+    return tuple(pairs)
 
 
 def _check_with_progress(drawing: str, settings, *, show: bool):  # type: ignore[no-untyped-def]

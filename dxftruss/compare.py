@@ -582,7 +582,7 @@ def _compare_forces(old: Result, new: Result, mmap: dict[int, int], th: ForceThr
             a, b = float(a_all[i]), float(b_all[i])
             solved = (bool(ok_a[i]), bool(ok_b[i]))
             if all(solved):
-                what = f"'{cs.name}' {member_id(ne)}: {a:.4g} -> {b:.4g} {fu} (change {b - a:+.4g})"
+                what = f"'{cs.name}' {member_id(ne)}: {a:.4g} -> {b:.4g} {fu} (change {b - a:+.4g} {fu})"
             else:
                 what = f"'{cs.name}' {member_id(ne)}: {'not solved' if not solved[0] else f'{a:.4g}'} -> " + (
                     "not solved" if not solved[1] else f"{b:.4g} {fu}"

@@ -443,7 +443,7 @@ def findings(selection: Selection) -> list[Finding]:
     for name in sorted(selection.set_aside):
         reasons = selection.set_aside[name]
         total = sum(reasons.values())
-        parts = "; ".join(f"{RULES[r]} ({c})" for r, c in sorted(reasons.items()))
+        parts = "; ".join(f"{RULES[r]} ({c} line{'s' if c != 1 else ''})" for r, c in sorted(reasons.items()))
         used = selection.used.get(name, 0)
         tail = f" ({used} used)" if used else ""
         out.append(

@@ -148,7 +148,7 @@ def _set_aside_use(reasons: dict[str, int], n_used: int, why: str) -> tuple[str,
     """(use, why) of a member layer the structure finder sets aside wholly or in part."""
     from .drafting import RULES
 
-    words = "; ".join(f"{RULES[r]} ({n})" for r, n in sorted(reasons.items()))
+    words = "; ".join(f"{RULES[r]} ({n} line{'s' if n != 1 else ''})" for r, n in sorted(reasons.items()))
     total = sum(reasons.values())
     if n_used == 0:
         return "set aside", f"{total} lines set aside by the structure rules: {words}; name it with --layers to use it"

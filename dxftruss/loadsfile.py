@@ -12,6 +12,7 @@ when the model is built (it needs the joints).
 
 from __future__ import annotations
 
+import datetime
 import math
 import os
 import re
@@ -143,6 +144,8 @@ class LoadsSpec:
     self_weight_case: str = "self-weight"
     #: ``[[moving_load]]`` entries, in file order
     moving_loads: tuple[MovingLoadEntry, ...] = ()
+    #: the ``[report]`` table: title-block fields (titleblock.py), in file order
+    report: tuple[tuple[str, str], ...] = ()
 
 
 _TOP_KEYS = {
@@ -154,6 +157,7 @@ _TOP_KEYS = {
     "area_load",
     "combination",
     "section",
+    "report",
     "checks",
     "self_weight",
     "moving_load",
@@ -161,6 +165,7 @@ _TOP_KEYS = {
 _KEYS = {
     "units": {"force", "length"},
     "drawn": {"loads", "supports"},
+    "report": {"project", "drawing_no", "revision", "checked_by", "date"},
     "support": {"at", "fix", "normal"},
     "load": {"at", "fx", "fy", "fz", "case"},
     "line_load": {"from", "to", "w", "case", "measured", "direction"},
@@ -452,6 +457,8 @@ def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:
         if key in drawn and drawn[key] not in ("add", "ignore"):
             raise ConfigError(f'{name}: [drawn] {key} must be "add" or "ignore", got {drawn[key]!r}')
 
+    report = _report_table(name, data.get("report", {}))
+
     supports = []
     for i, t in enumerate(_tables(name, data, "support"), 1):
         where = f"{name}: [[support]] #{i}"
@@ -547,6 +554,7 @@ def parse_loads(data: dict[str, Any], name: str = "loads file") -> LoadsSpec:
         slender,
         sw_case.strip(),
         tuple(moving),
+        report,
     )
 
 
@@ -691,6 +699,23 @@ def check_planar(spec: LoadsSpec) -> None:
                 f"{spec.path}: [[load]] #{ld.number}: {what} is for space trusses; this drawing is planar "
                 "(give [x, y] and fx, fy in its plane)"
             )
+
+
+def _report_table(name: str, table: Any) -> tuple[tuple[str, str], ...]:
+    """The ``[report]`` table: each key a string (the date may also be a TOML date)."""
+    if not isinstance(table, dict):
+        raise ConfigError(f'{name}: [report] must be a table such as [report] project = "Shed 2"')
+    _unknown(f"{name}: [report]", table, "report")
+    out = []
+    for key, value in table.items():
+        if key == "date" and isinstance(value, datetime.date) and not isinstance(value, datetime.datetime):
+            value = value.isoformat()
+        if not isinstance(value, str):
+            raise ConfigError(f'{name}: [report] {key} must be a string such as "A", got {value!r}')
+        if len(value) > 200:
+            raise ConfigError(f"{name}: [report] {key} is {len(value)} characters long; at most 200 are allowed")
+        out.append((key, value))
+    return tuple(out)
 
 
 def check_combinations(spec: LoadsSpec, case_names: set[str]) -> None:

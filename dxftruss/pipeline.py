@@ -40,6 +40,8 @@ from .sections import member_sections
 from .snap import build_geometry
 from .statics import CaseResult, solve_case
 from .symmetry import find_mirror_axis
+from .titleblock import report_date
+from .titleblock import resolve as resolve_title_block
 from .units import LENGTH_UNITS, check_unit_name, insunits_description, parse_length
 
 DEFAULT_UNIT = "mm"
@@ -369,6 +371,7 @@ def _check(
         part_names=names,
         same_as={copy: rep.of for copy, rep in repeats.items()},
         overhangs=read.overhangs,
+        title_block=resolve_title_block(settings.report, spec.report if spec else (), linework.document, report_date()),
         engineering=eng,
         plane=drawing_plane,
         planes=plane_set,

@@ -29,6 +29,7 @@ from .planes import PlaneSet
 from .read import LineWork
 from .space import SpaceAnalysis
 from .statics import CaseResult
+from .titleblock import TitleBlock
 
 
 @dataclass(frozen=True)
@@ -60,6 +61,9 @@ class Settings:
     #: the layout to read by name (--layout; any case, "Model" = model space); None:
     #: model space, or a paper-space layout when model space holds no member line work
     layout: str | None = None
+    #: title-block fields given on the command line: (field, value) pairs, field one of
+    #: project, drawing_no, revision, checked_by, date (titleblock.py)
+    report: tuple[tuple[str, str], ...] = ()
     #: read plain model-space LINE and LWPOLYLINE records with the streaming reader
     #: (the same result, faster; dxftruss/read/stream.py); the result's document then
     #: lacks them, so the PDF and DXF reports read the file again (``--pdf``/``--dxf``
@@ -121,6 +125,8 @@ class Result:
     same_as: dict[int, int] = field(default_factory=dict)
     #: members drawn as overhangs, left out of the model (habits.py); drawn on the PDF
     overhangs: tuple[Overhang, ...] = ()
+    #: the report's title block and where each field came from (titleblock.py)
+    title_block: TitleBlock | None = None
     #: envelope, member checks, deflections and moving loads (engineering.py)
     engineering: Engineering | None = None
     #: the plane the line work lies in when it is not flat in XY (plane.py); the model's

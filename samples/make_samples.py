@@ -236,6 +236,17 @@ def farm_shed_truss(rev_b: bool = False) -> Sample:
         ],
         {"force": "kN", "length": "mm"},
         tables,
+        [
+            (
+                "report",
+                {
+                    "project": "Hollybrook Farm machinery shed",
+                    "drawing_no": "HF-MS-104",
+                    "revision": "B" if rev_b else "A",
+                    "checked_by": "J. Varga",
+                },
+            )
+        ],
     )
     return Sample("farm_shed_truss_rev_b" if rev_b else "farm_shed_truss", doc, toml)
 
@@ -331,6 +342,14 @@ def footbridge_truss() -> Sample:
         at=(0.0, -0.8),
         height=0.2,
     )
+    # the sheet's title block: a block whose attributes hold the project, number and revision
+    doc.layers.add("TITLE", color=8)
+    title = doc.blocks.new("SHEET-TITLE")
+    for k, (tag, prompt) in enumerate((("PROJECT", "project"), ("DWG_NO", "drawing no."), ("REV", "revision"))):
+        title.add_text(prompt.upper(), height=0.12, dxfattribs={"layer": "0", "insert": (0.0, -0.45 * k)})
+        title.add_attdef(tag, (1.6, -0.45 * k), height=0.15, dxfattribs={"layer": "0"})
+    sheet_title = msp.add_blockref("SHEET-TITLE", (16.0, -0.8), dxfattribs={"layer": "TITLE"})
+    sheet_title.add_auto_attribs({"PROJECT": "Mill Stream footbridge", "DWG_NO": "MS-FB-201", "REV": "C"})
 
     tables: list[tuple[str, dict[str, object]]] = [
         ("load", {"at": pt(*T[i]), "fx": wind_kn, "case": "wind"}) for i in range(1, panels)
@@ -363,7 +382,7 @@ def footbridge_truss() -> Sample:
         ],
         {"force": "kN"},
         tables,
-        [("checks", {"ratio": 1.0, "slenderness": 180})],
+        [("report", {"checked_by": "J. Varga"}), ("checks", {"ratio": 1.0, "slenderness": 180})],
     )
     return Sample("footbridge_truss", doc, toml)
 

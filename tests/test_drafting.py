@@ -170,7 +170,7 @@ def test_reasons_are_named(tmp_path):
     )  # four sides each
     assert set(sel.set_aside["TITLE"]) == {"no-triangles"}
     msg = next(f.message for f in r.findings if f.code is Code.SET_ASIDE and f.data["layer"] == "TITLE")
-    assert msg == "layer TITLE: 8 lines set aside: no triangulated structure (8)"
+    assert msg == "layer TITLE: 8 lines set aside: no triangulated structure (8 lines)"
 
 
 def test_sheet_on_one_layer_keeps_the_truss_and_sets_the_rest_aside(tmp_path, clean):

@@ -432,7 +432,7 @@ def test_pdf_draws_the_inclined_reaction_along_its_normal(tmp_path: Path) -> Non
     write_pdf(check(path), out)
     text = " ".join(p.extract_text() or "" for p in pypdf.PdfReader(str(out)).pages)
     # R = P / sqrt3 = 5.77 kN along n (the hand solution above), one arrow, not Rx / Ry
-    assert "Rn=+5.77" in text
+    assert "Rn +5.77 kN" in text
     assert "n at 120 deg" in text
 
 

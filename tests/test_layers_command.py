@@ -153,7 +153,7 @@ def test_inventory_says_which_layers_the_structure_rules_set_aside(tmp_path, cap
     assert use["TRUSS"] == "members"
     assert {use[n] for n in ("BORDER", "TITLE", "DIM", "OUTLINE")} == {"set aside"}
     why = {e["name"]: e["why"] for e in doc["layers"]}
-    assert "member outlines around centre lines (50)" in why["OUTLINE"]
+    assert "member outlines around centre lines (50 lines)" in why["OUTLINE"]
     # naming layers: exactly those are used, nothing is set aside by the rules
     assert main(["layers", str(path), "--json", "--layers", "*"]) == 0
     doc = json.loads(capsys.readouterr().out)

@@ -100,16 +100,26 @@ def test_the_checker_sees_an_overlap_and_a_text_off_the_page(tmp_path: Path) -> 
     assert np.degrees(np.arctan2(base[1], base[0])) == pytest.approx(30.0)
 
 
-@pytest.mark.skipif(shutil.which("pdftoppm") is None, reason="pdftoppm (poppler-utils) is not installed")
-def test_every_demo_page_renders_to_a_picture_with_a_drawing_on_it(tmp_path: Path) -> None:
-    pdf = _sample("footbridge_truss", tmp_path)
-    subprocess.run(["pdftoppm", "-r", "30", "-gray", str(pdf), str(tmp_path / "page")], check=True, timeout=120)
-    pngs = sorted(tmp_path.glob("page*.pgm"))
-    assert len(pngs) == len(read_pages(pdf))
-    for png in pngs:
+def render_pages(pdf: Path, folder: Path, *, dpi: int = 30) -> list[np.ndarray]:
+    """Every page of ``pdf`` rendered by pdftoppm to a grey image (one byte per pixel)."""
+    subprocess.run(["pdftoppm", "-r", str(dpi), "-gray", str(pdf), str(folder / pdf.stem)], check=True, timeout=300)
+    images = []
+    for pgm in sorted(folder.glob(f"{pdf.stem}*.pgm")):
         # a binary PGM: "P5\nW H\n255\n", then one byte per pixel
-        _, size, _, pixels = png.read_bytes().split(b"\n", 3)
+        _, size, _, pixels = pgm.read_bytes().split(b"\n", 3)
         w, h = (int(v) for v in size.split())
-        img = np.frombuffer(pixels[: w * h], dtype=np.uint8).reshape(h, w)
+        images.append(np.frombuffer(pixels[: w * h], dtype=np.uint8).reshape(h, w))
+    return images
+
+
+@pytest.mark.skipif(shutil.which("pdftoppm") is None, reason="pdftoppm (poppler-utils) is not installed")
+@pytest.mark.parametrize("make, name", CASES)
+def test_every_page_renders_to_a_picture_with_a_drawing_on_it(make, name: str, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
+    """Every page of every demo PDF and office sheet (the job sheet's part pages too)
+    renders, and has ink on it but is not black."""
+    pdf = make(name, tmp_path)
+    images = render_pages(pdf, tmp_path)
+    assert len(images) == len(read_pages(pdf))
+    for k, img in enumerate(images, 1):
         inked = float((img < 200).mean())
-        assert 0.002 < inked < 0.5, f"{png.name}: {inked:.4f} of the page inked"
+        assert 0.002 < inked < 0.5, f"{name} page {k}: {inked:.4f} of the page inked"

@@ -105,7 +105,9 @@ def layers_sentence(sel: Selection) -> str:
     from ..drafting import RULES
 
     rows = sorted(sel.set_aside.items(), key=lambda kv: (-sum(kv[1].values()), kv[0]))
-    listed = [f"{shown(name)} {sum(r.values())} ({', '.join(RULES[k] for k in sorted(r))})" for name, r in rows[:6]]
+    listed = [
+        f"{shown(name)} {sum(r.values())} lines ({', '.join(RULES[k] for k in sorted(r))})" for name, r in rows[:6]
+    ]
     more = f" and {len(rows) - 6} more layer(s)" if len(rows) > 6 else ""
     return (
         f"members from the line work that forms triangulated structure: {used}; set aside as drafting: "

@@ -37,7 +37,7 @@ import numpy as np
 from ..errors import InputError, OutputError
 from ..escape import legal_names, one_line, shown
 from ..findings import Severity
-from ..model import joint_id
+from ..model import joint_id, member_id
 from .pdf.format import clean_reactions, fmt_force
 from .render import checked_document
 
@@ -231,10 +231,10 @@ def _annotate(
             mx, my = (x1 + x2) / 2 + nx * offset, (y1 + y2) / 2 + ny * offset
             v = float(forces[e])
             if e in zero:
-                s, color = "0", ACI_ZERO
+                s, color = f"0 {fu}", ACI_ZERO
             else:
                 s, color = f"{fmt_force(v)} {fu}", ACI_TENSION if v > 0 else (ACI_COMPRESSION if v < 0 else ACI_ZERO)
-            text(prefix + s, (mx, my), layer, color, h, ang)
+            text(f"{prefix}{member_id(e)} {s}", (mx, my), layer, color, h, ang)  # as the PDF labels: "M3 +12.5 kN"
 
     # reactions, one layer per case
     for k, case in enumerate(result.cases):

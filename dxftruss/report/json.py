@@ -81,6 +81,22 @@ def _jsonable(v: Any) -> Any:
     return str(v)
 
 
+def _title_block(result: Result) -> dict[str, Any]:
+    """{field: {value, source, note}} of the title block (titleblock.py)."""
+    from ..titleblock import FIELD_NAMES
+
+    tb = result.title_block
+    out: dict[str, Any] = {}
+    for key in FIELD_NAMES:
+        f = tb.get(key) if tb is not None else None
+        out[key] = {
+            "value": (f.value or None) if f is not None else None,
+            "source": f.source if f is not None else "not given",
+            "note": (f.note or None) if f is not None else None,
+        }
+    return out
+
+
 def _joints(result: Result, jid: list[str], xs: list[Any], ys: list[Any]) -> list[dict[str, Any]]:
     """``{id, x, y}`` per joint; in a drawing plane other than XY also ``world``:
     [x, y, z] as drawn (x, y are then in-plane)."""
@@ -222,15 +238,19 @@ def _space(result: Result) -> dict[str, Any]:
     }
 
 
-def report_dict(result: Result) -> dict[str, Any]:
-    """The report as plain JSON-ready data."""
-    return _report(result, pieces=None)
+def report_dict(result: Result, zones: dict[int, list[tuple[int, str]]] | None = None) -> dict[str, Any]:
+    """The report as plain JSON-ready data; ``zones`` is what ``write_pdf`` returns
+    (where the PDF marks each finding), None when no PDF was written."""
+    return _report(result, pieces=None, zones=zones)
 
 
-def _report(result: Result, pieces: dict[str, str] | None) -> dict[str, Any]:
+def _report(
+    result: Result, pieces: dict[str, str] | None, zones: dict[int, list[tuple[int, str]]] | None = None
+) -> dict[str, Any]:
     """The report; with ``pieces``, the joint and member lists and the forces of each
     case are written as JSON text into ``pieces`` (key: a placeholder string the dict
-    holds instead), as :func:`to_json` writes them."""
+    holds instead), as :func:`to_json` writes them. ``zones``: see ``report_dict``."""
+    zones = zones or {}
     t = result.truss
     lengths = _nums(t.lengths())
     xs, ys = _nums(t.xy[:, 0]), _nums(t.xy[:, 1])
@@ -266,6 +286,7 @@ def _report(result: Result, pieces: dict[str, str] | None) -> dict[str, Any]:
             "loads": s.loads,
             "force_unit": t.force_unit,
         },
+        "title_block": _title_block(result),
         "assumptions": assumptions(result),
         "line_work": _line_work(result),
         "joints": _joints(result, jid, xs, ys)
@@ -320,9 +341,11 @@ def _report(result: Result, pieces: dict[str, str] | None) -> dict[str, Any]:
                 "parts": finding_parts(f, index, result.part_names),
                 "entities": _finding_entities(t, f),
                 "next_step": f.next_step or None,
+                "zone": zones[n][0][1] if zones.get(n) else None,
+                "zones": [{"page": page, "zone": zone} for page, zone in zones.get(n, [])],
                 **({"data": _jsonable(f.data)} if f.data else {}),
             }
-            for f in result.findings
+            for n, f in enumerate(result.findings, 1)
         ],
         "cases": [_case(result, c, pieces) for c in result.cases],
         "symmetry": {"axis_x": _num(result.symmetry_axis) if result.symmetry_axis is not None else None},
@@ -517,13 +540,13 @@ def _joined(text: str, pieces: dict[str, str]) -> str | None:
     return "".join(out)
 
 
-def to_json(result: Result) -> str:
+def to_json(result: Result, zones: dict[int, list[tuple[int, str]]] | None = None) -> str:
     """The report as JSON text: ``report_dict`` as json writes it (compact, UTF-8 kept,
     no NaN), the long lists written piece by piece (the same text, faster)."""
     pieces: dict[str, str] = {}
-    text = _joined(_dumps(_report(result, pieces)), pieces)
+    text = _joined(_dumps(_report(result, pieces, zones)), pieces)
     if text is None:  # a name in the drawing holds a placeholder's text: no pieces
-        text = _dumps(report_dict(result))
+        text = _dumps(report_dict(result, zones))
     text += "\n"
     # JSON escapes C0 itself; C1 controls (a lone CSI is an escape sequence on many
     # terminals), bidi and line separators and undecodable bytes are written as \\u

@@ -45,22 +45,26 @@ check read; a result made by hand reads the file again).
 
 from __future__ import annotations
 
+import math
 import os
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
 import numpy as np
 
 from ..render import PageMap, Recording, checked_document, record_drawing
-from .context import _Context, _file_sha256, _report_date
+from .context import View, _Context, _file_sha256, _report_date, part_views
 from .cutlist import _cut_list_section
 from .engineering import draw_pages as draw_engineering_pages
 from .engineering import drawing_pages as engineering_drawing_pages
 from .engineering import engineering_section
 from .format import clean_reactions, fmt_force, fmt_num, register_fonts, shown
 from .labels import Label, LabelPlacer, convex_overlap, place_member_labels
-from .overlay import _draw_drawing_page
-from .sheet import PAGE_SIZES, Sheet, _drawing_box, choose_sheet, frame_pads, sheet_and_map
+from .overlay import _draw_drawing_page, page_findings, page_map
+from .panel import _Item
+from .sheet import PAGE_SIZES, Sheet, _drawing_box, choose_sheet, frame_pads, mm_per_unit, sheet_and_map, zone_of
 from .symbols import COMPRESSION, TENSION
 from .tables import _findings_section, _Flow, _NullCanvas, _tables_section
 
@@ -107,7 +111,147 @@ def page_layout(result: Any, *, page: str = "A3") -> tuple[Sheet, PageMap]:
     except Exception:  # noqa: BLE001 - same fallback as write_pdf
         recording = None
     box, _ = _drawing_box(result, recording)
-    return sheet_and_map(PAGE_SIZES[page.upper()], box, frame_pads(result))
+    return sheet_and_map(PAGE_SIZES[page.upper()], box, frame_pads(result), mm_per_unit(result))
+
+
+def _metadata(ctx: _Context, c: Any) -> None:
+    """The PDF's document information: the title names the drawing (number and revision
+    when given, and the file), the subject the project; the author is the checker when
+    one is given and empty otherwise."""
+    from ... import __version__
+
+    tb = ctx.result.title_block
+    value = tb.value if tb is not None else (lambda key: "")
+    number = value("drawing_no")
+    rev = value("revision")
+    title = "Check of " + (
+        f"drawing {number}" + (f" rev. {rev}" if rev else "") + f" ({ctx.file_name})" if number else ctx.file_name
+    )
+    c.setTitle(shown(title))
+    project = value("project")
+    c.setSubject(shown("truss line-model check" + (f": {project}" if project else "")))
+    c.setAuthor(shown(value("checked_by")))  # empty when no checker is given (never a made-up name)
+    c.setCreator(f"dxftruss {__version__}")
+
+
+#: a flow section: ``section(ctx, flow, limits)`` writes its pages on the flow (it calls
+#: ``flow.start_section(title, bookmark)`` first); ``limits`` holds ``max_findings`` and
+#: ``max_rows``. It runs twice, on a null canvas to count the pages, then for real.
+FlowSection = Callable[[_Context, _Flow, dict[str, int]], None]
+
+
+def _findings_pages(ctx: _Context, flow: _Flow, limits: dict[str, int]) -> None:
+    _findings_section(ctx, flow, max_findings=limits["max_findings"])
+
+
+def _tables_pages(ctx: _Context, flow: _Flow, limits: dict[str, int]) -> None:
+    _tables_section(ctx, flow, max_rows=limits["max_rows"])
+
+
+#: the flow pages after the drawing pages, in order; a new kind of page (a list or a
+#: table of its own) is a function added here or passed as ``write_pdf(extra_sections=)``
+def _engineering_pages(ctx: _Context, flow: _Flow, limits: dict[str, int]) -> None:
+    engineering_section(ctx, flow, max_rows=limits["max_rows"])
+
+
+def _cut_list_pages(ctx: _Context, flow: _Flow, limits: dict[str, int]) -> None:
+    _cut_list_section(ctx, flow, max_rows=limits["max_rows"])
+
+
+FLOW_SECTIONS: tuple[FlowSection, ...] = (_findings_pages, _tables_pages, _engineering_pages, _cut_list_pages)
+
+
+@dataclass(frozen=True)
+class _Job:
+    """One drawing page to draw: its case (None: the model or a mode) and the keyword
+    arguments of ``_draw_drawing_page`` (title, bookmark, level, view, mode, extra)."""
+
+    case: Any
+    page: dict[str, Any]
+
+
+def _case_title(cs: Any) -> str:
+    if cs is None:
+        return "Model (no load case solved)"
+    kind = "combination" if cs.factors else "load case"
+    return f"{kind.capitalize()} '{cs.name}'"
+
+
+def _drawing_jobs(ctx: _Context, *, max_mechanism_pages: int, max_part_pages: int) -> list[_Job]:
+    """The drawing pages in order: per case the overview, then its part pages; then the
+    mechanism modes (each on its part's page when the sheet has several parts)."""
+    r = ctx.result
+    views = part_views(r)
+    cases: list[Any] = list(r.cases) or [None]
+    shown_views = views[: max(0, max_part_pages // len(cases))] if views else []
+    jobs: list[_Job] = []
+    for k, cs in enumerate(cases, 1 if r.cases else 0):
+        title = _case_title(cs)
+        page: dict[str, Any] = {"title": title, "bookmark": f"case{k}"}
+        if views:
+            page["title"] = title + f": the sheet, {len(r.truss.parts)} parts"
+            page["extra"] = _overview_items(r, views, shown_views)
+        jobs.append(_Job(cs, page))
+        for v in shown_views:
+            assert v.part is not None
+            name = r.part_name(v.part)
+            extra = [_Item("h", f"Part {name}")]
+            if v.copies:
+                extra.append(
+                    _Item("t", "the same as this part, solved once and not drawn again: " + ", ".join(v.copies))
+                )
+            same = f" (and {len(v.copies)} the same)" if v.copies else ""
+            part_page = {"title": f"{title}: part {name}{same}", "bookmark": f"case{k}-part{v.part + 1}"}
+            jobs.append(_Job(cs, {**part_page, "level": 1, "view": v, "extra": extra}))
+    mech_jobs, n_modes = _mechanism_jobs(r, max_mechanism_pages)
+    view_of = {v.part: v for v in views}
+    for k, (st, md, i, n) in enumerate(mech_jobs, 1):
+        title = f"Mechanism: part {r.part_name(st.part)}, mode {i} of {n}"
+        if k == len(mech_jobs) and n_modes > len(mech_jobs):
+            title += f" ({n_modes - len(mech_jobs)} more modes not drawn)"
+        mode_page: dict[str, Any] = {"title": title, "bookmark": f"mode{k}", "mode": (st, md)}
+        if st.part in view_of:
+            mode_page["view"] = view_of[st.part]
+        jobs.append(_Job(None, mode_page))
+    return jobs
+
+
+def _finding_zones(ctx: _Context, jobs: list[_Job]) -> dict[int, list[tuple[int, str]]]:
+    """{finding number: [(page, zone)]}: the zone of each finding's point on each drawing
+    page that marks it (a point outside the page's drawing area has none there)."""
+    zones: dict[int, list[tuple[int, str]]] = {}
+    cases = [job for job in jobs if "mode" not in job.page]
+    modes = [job for job in jobs if "mode" in job.page]
+    first_mode = len(cases) + engineering_drawing_pages(ctx) + 1
+    numbered = [*enumerate(cases, 1), *enumerate(modes, first_mode)]
+    for page, job in numbered:
+        view = job.page.get("view") or View(None, ctx.box)
+        mode = job.page.get("mode")
+        sheet, pm = page_map(ctx, view, mode)
+        dx, dy, dw, dh = sheet.drawing
+        for n, f in page_findings(ctx, job.case, view, mode):
+            if f.at is None or not all(math.isfinite(v) for v in f.at):
+                continue
+            x, y = pm.point(*f.at)
+            zone = zone_of(sheet, x, y) if (dx <= x <= dx + dw and dy <= y <= dy + dh) else None
+            if zone is not None:
+                zones.setdefault(n, []).append((page, zone))
+    return zones
+
+
+def _overview_items(r: Any, views: list[View], shown_views: list[View]) -> list[_Item]:
+    """The overview page's note on the part pages that follow it."""
+    names = [r.part_name(v.part) for v in shown_views if v.part is not None]
+    text = f"a page per part follows this overview for {len(names)} part(s): " + ", ".join(names[:30])
+    if len(names) > 30:
+        text += f" ... ({len(names)} in all)"
+    items = [_Item("h", "Part pages"), _Item("t", text)]
+    if r.same_as:
+        items.append(_Item("t", f"{len(r.same_as)} part(s) repeat another and are listed on its page, not drawn again"))
+    if len(shown_views) < len(views):
+        left = len(views) - len(shown_views)
+        items.append(_Item("t", f"{left} part(s) get no page of their own (page limit); see the tables"))
+    return items
 
 
 def _mechanism_jobs(result: Any, limit: int) -> tuple[list[tuple[Any, Any, int, int]], int]:
@@ -131,18 +275,26 @@ def write_pdf(
     max_labels: int = 4000,
     max_markers: int = 400,
     max_mechanism_pages: int = 6,
+    max_part_pages: int = 60,
     render_original: bool = True,
     max_original_entities: int = 200_000,
-) -> None:
+    extra_sections: Sequence[FlowSection] = (),
+) -> dict[int, list[tuple[int, str]]]:
     """Write the marked-up PDF of ``result`` to ``path``.
 
-    Pages: one drawing page per load case and combination (one bare page when there is
-    none), the envelope and the deflected shape (engineering results), one page per
-    mechanism mode (at most ``max_mechanism_pages``), the findings list, the tables,
-    then the engineering results' tables and influence lines. ``page`` is A4, A3, letter
-    or tabloid; drawing pages turn to
+    Pages (``_drawing_jobs``, then ``FLOW_SECTIONS`` and ``extra_sections``): per load
+    case and combination (one bare page when there is none) a drawing page of the whole
+    sheet and, on a sheet of several parts, a page per part that is not a repeat of
+    another (at most ``max_part_pages`` in all); the envelope and the deflected shape
+    (engineering results); one page per mechanism mode (at most
+    ``max_mechanism_pages``); the findings list, the tables, the engineering results'
+    tables and influence lines, the cut list, then each extra section.
+    ``page`` is A4, A3, letter or tabloid; drawing pages turn to
     landscape when that gives the drawing a larger scale. Tables list at most
     ``max_table_rows`` rows each (the JSON report has everything).
+
+    Returns where each finding is marked: {finding number (1-based): [(page, zone)]}
+    (``report.json.to_json(result, zones=...)`` writes it into the JSON report).
     """
     from reportlab.pdfgen.canvas import Canvas
 
@@ -153,7 +305,7 @@ def write_pdf(
         from .space import write_space_pdf
 
         write_space_pdf(result, path, page=page, max_labels=max_labels, max_rows=max_table_rows)
-        return
+        return {}  # the space views carry no zone references
     paper = PAGE_SIZES[key]
     fonts = register_fonts()
     r = result
@@ -198,72 +350,34 @@ def write_pdf(
         box=box,
         max_abs=max_abs,
     )
-    mech_jobs, n_modes = _mechanism_jobs(r, max_mechanism_pages)
+    jobs = _drawing_jobs(ctx, max_mechanism_pages=max_mechanism_pages, max_part_pages=max_part_pages)
+    ctx.zones = _finding_zones(ctx, jobs)
+    sections = [*FLOW_SECTIONS, *extra_sections]
+    limits = {"max_findings": max_findings, "max_rows": max_table_rows}
 
     # count the flow pages first (a dry run), so every footer can say "page i of N"
     dry = _NullCanvas()
     flow = _Flow(ctx, dry)
-    _findings_section(ctx, flow, max_findings=max_findings)
-    flow.finish_page()
-    _tables_section(ctx, flow, max_rows=max_table_rows)
-    flow.finish_page()
-    engineering_section(ctx, flow, max_rows=max_table_rows)
-    _cut_list_section(ctx, flow, max_rows=max_table_rows)
-    flow.finish_page()
-    n_flow = flow.pages
-    n_drawing = max(1, len(r.cases)) + len(mech_jobs) + engineering_drawing_pages(ctx)
-    ctx.total_pages = n_drawing + n_flow
+    for section in sections:
+        section(ctx, flow, limits)
+        flow.finish_page()
+    n_engineering = engineering_drawing_pages(ctx)
+    ctx.total_pages = len(jobs) + n_engineering + flow.pages
     ctx.page_no = 0
 
     c = Canvas(str(path), pagesize=paper, invariant=1, pageCompression=1)
-    c.setTitle(shown(f"dxftruss check: {ctx.file_name}"))
-    c.setAuthor("dxftruss")
-    c.setSubject("truss line-model check")
-    c.setCreator("dxftruss")
-    if r.cases:
-        for k, cs in enumerate(r.cases, 1):
-            kind = "combination" if cs.factors else "load case"
-            _draw_drawing_page(
-                ctx,
-                c,
-                cs,
-                title=f"{kind.capitalize()} '{cs.name}'",
-                bookmark=f"case{k}",
-                max_labels=max_labels,
-                max_markers=max_markers,
-            )
-    else:
-        _draw_drawing_page(
-            ctx,
-            c,
-            None,
-            title="Model (no load case solved)",
-            bookmark="case0",
-            max_labels=max_labels,
-            max_markers=max_markers,
-        )
+    _metadata(ctx, c)
+    for job in jobs:
+        if "mode" not in job.page:
+            _draw_drawing_page(ctx, c, job.case, max_labels=max_labels, max_markers=max_markers, **job.page)
     draw_engineering_pages(ctx, c, max_labels=max_labels, max_markers=max_markers)
-    for k, (st, md, i, n) in enumerate(mech_jobs, 1):
-        title = f"Mechanism: part {st.part + 1}, mode {i} of {n}"
-        if k == len(mech_jobs) and n_modes > len(mech_jobs):
-            title += f" ({n_modes - len(mech_jobs)} more modes not drawn)"
-        _draw_drawing_page(
-            ctx,
-            c,
-            None,
-            title=title,
-            bookmark=f"mode{k}",
-            max_labels=max_labels,
-            max_markers=max_markers,
-            mode=(st, md),
-        )
+    for job in jobs:
+        if "mode" in job.page:
+            _draw_drawing_page(ctx, c, job.case, max_labels=max_labels, max_markers=max_markers, **job.page)
     flow = _Flow(ctx, c)
-    _findings_section(ctx, flow, max_findings=max_findings)
-    flow.finish_page()
-    _tables_section(ctx, flow, max_rows=max_table_rows)
-    flow.finish_page()
-    engineering_section(ctx, flow, max_rows=max_table_rows)
-    _cut_list_section(ctx, flow, max_rows=max_table_rows)
-    flow.finish_page()
+    for section in sections:
+        section(ctx, flow, limits)
+        flow.finish_page()
     c.showOutline()
     c.save()
+    return ctx.zones

@@ -9,8 +9,6 @@ Glossary:
 
 from __future__ import annotations
 
-import datetime
-import os
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -46,6 +44,95 @@ class _Context:
     total_pages: int = 0
     page_no: int = 0
     form_pages: dict[tuple[Any, ...], str] = field(default_factory=dict)
+    #: finding number (1-based) -> [(page, zone)] of the drawing pages that mark it
+    zones: dict[int, list[tuple[int, str]]] = field(default_factory=dict)
+
+    def zone_on(self, number: int, page: int) -> str | None:
+        """The zone of finding ``number`` on drawing page ``page``, if it is marked there."""
+        return next((z for p, z in self.zones.get(number, []) if p == page), None)
+
+    def zone_text(self, number: int, limit: int = 6) -> str:
+        """Where a finding is on the drawing pages: "zone C4 on pages 1, 2; zone B2 on page 5"."""
+        by_zone: dict[str, list[int]] = {}
+        for page, zone in self.zones.get(number, []):
+            by_zone.setdefault(zone, []).append(page)
+        parts = []
+        for zone, pages in list(by_zone.items())[:limit]:
+            shown_pages = ", ".join(str(p) for p in pages[:8]) + (" ..." if len(pages) > 8 else "")
+            parts.append(f"zone {zone} on page{'s' if len(pages) > 1 else ''} {shown_pages}")
+        if len(by_zone) > limit:
+            parts.append(f"... ({len(by_zone)} zones in all)")
+        return "; ".join(parts)
+
+
+@dataclass(frozen=True)
+class View:
+    """What one drawing page shows: the whole sheet (``part`` None, the overview) or one
+    part, the box of the drawing shown (drawing units) and, for a part, the names of
+    the parts that repeat it (``same as``: solved once, shown on this page)."""
+
+    part: int | None
+    box: tuple[float, float, float, float]
+    copies: tuple[str, ...] = ()
+
+
+def part_views(result: Any, *, grow: float = 0.08) -> list[View]:
+    """One view per part that is not a repeat of another (``result.same_as``), in part
+    order: the box of its joints and of the findings on it, grown by ``grow`` of its
+    size (at least of a tenth of the largest part's size)."""
+    from ...naming import part_index
+
+    t = result.truss
+    if len(t.parts) < 2:
+        return []
+    index = part_index(t)
+    at_of: dict[int, list[tuple[float, float]]] = {}
+    for f in result.findings:
+        if f.at is None or not all(np.isfinite(f.at)):
+            continue
+        parts = _finding_part_indices(f, index)
+        if len(parts) == 1:  # a finding on several parts points at one of them only
+            at_of.setdefault(parts.pop(), []).append((float(f.at[0]), float(f.at[1])))
+    sizes = [float(np.ptp(t.xy[p.joints], axis=0).max()) if len(p.joints) else 0.0 for p in t.parts]
+    floor = 0.1 * max(sizes, default=1.0) or 1.0
+    copies: dict[int, list[str]] = {}
+    for copy, of in sorted(result.same_as.items()):
+        copies.setdefault(of, []).append(result.part_name(copy))
+    views = []
+    for p in t.parts:
+        if p.index in result.same_as:
+            continue
+        pts = np.vstack([t.xy[p.joints], np.asarray(at_of.get(p.index, []), dtype=float).reshape(-1, 2)])
+        lo, hi = pts.min(axis=0), pts.max(axis=0)
+        pad = grow * max(float((hi - lo).max()), floor)
+        box = (float(lo[0] - pad), float(lo[1] - pad), float(hi[0] + pad), float(hi[1] + pad))
+        views.append(View(p.index, box, tuple(copies.get(p.index, ()))))
+    return views
+
+
+def _finding_part_indices(f: Any, index: tuple[np.ndarray, np.ndarray]) -> set[int]:
+    joint_part, member_part = index
+    idx = {int(joint_part[j]) for j in f.joints if 0 <= j < len(joint_part) and joint_part[j] >= 0}
+    idx |= {int(member_part[e]) for e in f.members if 0 <= e < len(member_part) and member_part[e] >= 0}
+    return idx
+
+
+def findings_of_view(result: Any, view: View, found: list[tuple[int, Any]]) -> list[tuple[int, Any]]:
+    """The findings of ``found`` a view shows: all on the overview; on a part page those
+    naming its joints or members and no other part's, and those whose point lies in its
+    box."""
+    if view.part is None:
+        return found
+    from ...naming import part_index
+
+    index = part_index(result.truss)
+    x0, y0, x1, y1 = view.box
+    out = []
+    for n, f in found:
+        inside = f.at is not None and x0 <= f.at[0] <= x1 and y0 <= f.at[1] <= y1
+        if _finding_part_indices(f, index) == {view.part} or inside:
+            out.append((n, f))
+    return out
 
 
 def _member_states(result: Any, case: Any) -> np.ndarray:
@@ -93,7 +180,6 @@ def _file_sha256(path: str) -> str:
 
 
 def _report_date() -> str:
-    sde = os.environ.get("SOURCE_DATE_EPOCH", "")
-    if sde.isdigit():
-        return datetime.datetime.fromtimestamp(int(sde), tz=datetime.UTC).date().isoformat()
-    return datetime.date.today().isoformat()
+    from ...titleblock import report_date
+
+    return report_date()

@@ -97,10 +97,10 @@ def _draw_envelope(ctx: _Context, c: Any, *, max_labels: int, max_markers: int) 
         ts, cs = int(env.tension_source[e]), int(env.compression_source[e])
         parts = []
         if env.tension[e] > 0:
-            parts.append(f"+{fmt_num(env.tension[e], sig=4)} ({names[ts]})")
+            parts.append(f"+{fmt_num(env.tension[e], sig=4)} {t.force_unit} ({names[ts]})")
         if env.compression[e] < 0:
-            parts.append(f"{fmt_num(env.compression[e], sig=4)} ({names[cs]})")
-        notes.append(f"{member_id(e)}: " + ", ".join(parts) + f" {t.force_unit}")
+            parts.append(f"{fmt_num(env.compression[e], sig=4)} {t.force_unit} ({names[cs]})")
+        notes.append(f"{member_id(e)}: " + ", ".join(parts))
     notes.append(CHECKS_CAUTION)
     _draw_drawing_page(
         ctx,

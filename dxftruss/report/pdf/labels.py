@@ -343,7 +343,8 @@ def place_member_labels(
         mx, my = (float(v) for v in (a[e] + b[e]) / 2)
         # then off the member, farther and farther out of a crowded band: the label then
         # names its member (the page draws a leader line to the member's middle)
-        off = f"{shown(fallback[e])} {text}" if fallback is not None and shown(fallback[e]) else text
+        named = fallback is not None and shown(fallback[e]) and not text.startswith(shown(fallback[e]) + " ")
+        off = f"{shown(fallback[e])} {text}" if named and fallback is not None else text
         w_off = float(stringWidth(off, font, size)) + 2.0
         for gap in OFF_GAPS:
             cands += around_candidates(mx, my, off, w_off, height, gap=gap, prefer=(0.0, 1.0), kind="force", owner=e)

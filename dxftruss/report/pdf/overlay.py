@@ -24,11 +24,20 @@ import numpy as np
 from ...model import Fix, joint_id, member_id
 from .. import ZERO_FORCE_CAUTION
 from ..render import PageMap, draw_recording, stroke_segments
-from .context import FULL_TABLE_MEMBERS, MAX_MUST, _case_loads, _Context, _findings_for, _member_states
+from .context import (
+    FULL_TABLE_MEMBERS,
+    MAX_MUST,
+    View,
+    _case_loads,
+    _Context,
+    _findings_for,
+    _member_states,
+    findings_of_view,
+)
 from .format import _Page, _width, _wrap, clean_reactions, fmt_force, shown
 from .labels import OFF_GAPS, Label, LabelPlacer, _draw_label, _thin_quad, around_candidates, place_member_labels
 from .panel import _flow_panel, _Item, _legend_items, _legend_line, _panel_items
-from .sheet import Sheet, _draw_scale_bar, _footer, _scale_note, frame_pads, sheet_and_map
+from .sheet import Sheet, _draw_scale_bar, _footer, _scale_note, draw_zones, frame_pads, mm_per_unit, sheet_and_map
 from .symbols import (
     COMPRESSION_TEXT,
     LOAD_RGB,
@@ -100,10 +109,19 @@ class _Overlay:
     LOAD_LEN = 26.0
     REACTION_LEN = 22.0
 
-    def __init__(self, ctx: _Context, c: Any, sheet: Sheet, pm: PageMap, title: str) -> None:
+    def __init__(self, ctx: _Context, c: Any, sheet: Sheet, pm: PageMap, title: str, view: View | None = None) -> None:
         t = ctx.result.truss
         self.ctx, self.c, self.sheet, self.pm, self.title = ctx, c, sheet, pm, title
         self.t = t
+        #: the joints and members this page shows as the model (a part page: its part's)
+        self.jshow = np.ones(t.n_joints, dtype=bool)
+        self.eshow = np.ones(t.n_members, dtype=bool)
+        if view is not None and view.part is not None:
+            part = t.parts[view.part]
+            self.jshow[:] = False
+            self.eshow[:] = False
+            self.jshow[part.joints] = True
+            self.eshow[part.members] = True
         self.hide: frozenset[str] = frozenset()
         self.fonts = ctx.fonts
         self.pg = _Page(c, ctx.fonts)
@@ -119,7 +137,7 @@ class _Overlay:
         )
         self.supported: dict[int, list[Any]] = defaultdict(list)
         for sp in t.supports:
-            if 0 <= sp.joint < t.n_joints:
+            if 0 <= sp.joint < t.n_joints and self.jshow[sp.joint]:
                 self.supported[sp.joint].append(sp)
         near = set(self.supported) | {ld.joint for lc in t.cases for ld in lc.loads if 0 <= ld.joint < t.n_joints}
         self.clear = _Clearance(self.jp, t.ends, near)
@@ -150,8 +168,9 @@ class _Overlay:
         if ctx.render_note:
             self.notes.append(ctx.render_note)
         c.setStrokeGray(0.2)
-        c.setLineWidth(0.8)
+        c.setLineWidth(0.6)
         c.rect(dx, dy, dw, dh, stroke=1, fill=0)
+        draw_zones(self.pg, self.sheet)
         f = self.fonts
         note_lines = _wrap("Note: " + ctx.render_note, f.regular, 7, dw - 20)[:3] if ctx.render_note else []
         top_w = max([_width(self.title, f.bold, 9)] + [_width(s, f.regular, 7) for s in note_lines]) + 12
@@ -198,7 +217,8 @@ class _Overlay:
         self.notes.extend(unplaced)
 
     def members(self, states: np.ndarray | None, widths: np.ndarray) -> None:
-        _draw_members(self.c, self.a, self.b, states, widths)
+        e = self.eshow
+        _draw_members(self.c, self.a[e], self.b[e], states[e] if states is not None else None, widths[e])
 
     def overhangs(self) -> None:
         """Each overhang left out of the model: a dashed line from the joint it hangs from
@@ -219,11 +239,14 @@ class _Overlay:
             w = _width(shown(text), self.fonts.regular, 6.0)
             tx, ty = bx + 4.0 * ux, by + 4.0 * uy - 2.0
             x0 = tx - w if ux < 0 else tx
+            dx, dy, dw, dh = self.sheet.drawing
+            if not (dx <= x0 and x0 + w <= dx + dw and dy <= ty - 1.5 and ty + 7.0 <= dy + dh):
+                continue  # the line is drawn (clipped); its note only where it fits on the page
             self.pg.text(tx, ty, text, size=6.0, gray=0.3, align="r" if ux < 0 else "l")
             self.placer.block(((x0, ty - 1.5), (x0 + w, ty - 1.5), (x0 + w, ty + 7.0), (x0, ty + 7.0)))
 
     def joints(self) -> None:
-        c, jp = self.c, self.jp
+        c, jp = self.c, self.jp[self.jshow]
         if 0 < len(jp) <= 20000:  # joint dots: round-capped strokes 0.01 pt long
             c.saveState()
             c.setStrokeGray(0.15)
@@ -273,7 +296,7 @@ class _Overlay:
         big = float(fmag.max()) if len(fmag) else 0.0
         L = self.LOAD_LEN
         fu = self.t.force_unit
-        for j in np.nonzero(fmag > 1e-12 * max(big, 1e-300))[0].tolist():
+        for j in np.nonzero((fmag > 1e-12 * max(big, 1e-300)) & self.jshow)[0].tolist():
             ux, uy = (float(v) for v in loads[j] / fmag[j])
             x, y = (float(v) for v in self.jp[j])
             behind, ahead = self.clear.angle(j, (-ux, -uy)), self.clear.angle(j, (ux, uy))
@@ -295,7 +318,7 @@ class _Overlay:
         lies along the component, else on the free side of the joint."""
         S, L = self.S, self.REACTION_LEN
         for j, rx, ry in clean_reactions(self.ctx.result, case):
-            if not (0 <= j < self.t.n_joints):
+            if not (0 <= j < self.t.n_joints) or not self.jshow[j]:
                 continue
             x, y = (float(v) for v in self.jp[j])
             if j in self.inclined_body:
@@ -319,7 +342,7 @@ class _Overlay:
                 tail, head = (near, far) if pointing_out else (far, near)
                 self.pg.arrow(tail, head, REACTION_RGB, width=1.0, head_len=5.5, filled=False)
                 self.placer.block(_thin_quad(tail, head, 3.0))
-                self.reaction_labels.append((far[0], far[1], ex, ey, f"{name}={fmt_force(value)}"))
+                self.reaction_labels.append((far[0], far[1], ex, ey, f"{name} {fmt_force(value)} {self.t.force_unit}"))
 
     def _inclined_reaction(self, j: int, x: float, y: float, rx: float, ry: float) -> None:
         """The reaction of an inclined roller as one arrow along its normal n, beyond its
@@ -337,7 +360,7 @@ class _Overlay:
         tail, head = (near, far) if pointing_out else (far, near)
         self.pg.arrow(tail, head, REACTION_RGB, width=1.0, head_len=5.5, filled=False)
         self.placer.block(_thin_quad(tail, head, 3.0))
-        self.reaction_labels.append((far[0], far[1], ex, ey, f"Rn={fmt_force(value)}"))
+        self.reaction_labels.append((far[0], far[1], ex, ey, f"Rn {fmt_force(value)} {self.t.force_unit}"))
 
     def deflected(self, disp_xy: np.ndarray) -> None:
         """The deflected shape: every member whose joints have displacements, dashed."""
@@ -445,13 +468,19 @@ class _Overlay:
         |force| first while they fit; a member whose value does not fit gets its number.
         The rest are thinned, and the page says how many were left out."""
         t, f, size = self.t, self.fonts, self.lab_size
-        texts = ["" if states[e] == 2 else ("0" if states[e] == 0 else fmt_force(v)) for e, v in enumerate(forces)]
-        solved = np.nonzero(states != 2)[0].tolist()
+        fu = t.force_unit
+        texts = [
+            "" if states[e] == 2 else f"{member_id(e)} {'0' if states[e] == 0 else fmt_force(v)} {fu}"
+            for e, v in enumerate(forces)
+        ]
+        solved = np.nonzero((states != 2) & self.eshow)[0].tolist()
         order = sorted(solved, key=lambda e: (-abs(float(forces[e])), e))
         ids = [member_id(e) for e in range(t.n_members)]
-        fs = np.where(states != 2, np.nan_to_num(forces), 0.0)
+        fs = np.where((states != 2) & self.eshow, np.nan_to_num(forces), 0.0)
         must = [int(np.argmax(fs)), int(np.argmin(fs))] if len(fs) else []
-        must = [e for e in must if fs[e] != 0] + [e for e in named if 0 <= e < t.n_members and states[e] != 2]
+        must = [e for e in must if fs[e] != 0] + [
+            e for e in named if 0 <= e < t.n_members and states[e] != 2 and self.eshow[e]
+        ]
         start = len(self.placer.placed)
         left = place_member_labels(
             self.placer, self.a, self.b, texts, font=f.regular, size=size, order=order,
@@ -471,7 +500,7 @@ class _Overlay:
             where = "the member table" if t.n_members <= FULL_TABLE_MEMBERS else "the JSON report"
             self.notes.append(
                 f"{n_id + len(left)} of {len(solved)} force values left out at this scale "
-                f"({n_id} shown by member number instead); the largest tension and compression "
+                f"({n_id} of them shown by their member number instead); the largest tension and compression "
                 f"and the members named by findings are labelled first; {where} has every force"
             )
 
@@ -503,7 +532,7 @@ class _Overlay:
         """No forces on this page: number the members where the numbers fit."""
         t, size = self.t, self.lab_size * 0.92
         ids = [member_id(e) for e in range(t.n_members)]
-        order = sorted(range(t.n_members), key=lambda e: (-float(self.page_len[e]), e))
+        order = sorted(np.nonzero(self.eshow)[0].tolist(), key=lambda e: (-float(self.page_len[e]), e))
         start = len(self.placer.placed)
         place_member_labels(
             self.placer, self.a, self.b, ids, font=self.fonts.regular, size=size, order=order,
@@ -514,10 +543,10 @@ class _Overlay:
 
     def label_joints(self, *, max_joints: int = 400) -> None:
         """Joint numbers, small and grey, where they fit."""
-        if self.t.n_joints > max_joints:
+        if int(self.jshow.sum()) > max_joints:
             return
         start = len(self.placer.placed)
-        for j in range(self.t.n_joints):
+        for j in np.nonzero(self.jshow)[0].tolist():
             text = joint_id(j)
             w = _width(text, self.fonts.regular, 5.2) + 1.5
             x, y = (float(v) for v in self.jp[j])
@@ -552,6 +581,39 @@ def _mode_shape(t: Any, st: Any, md: Any, *, fraction: float = 0.1) -> np.ndarra
     return disp_xy
 
 
+def page_map(
+    ctx: _Context, view: View, mode: tuple[Any, Any] | None = None, deflected: np.ndarray | None = None
+) -> tuple[Sheet, PageMap]:
+    """The sheet and page map of a drawing page of ``view`` (a mechanism page's or a
+    deflected shape's box grown to hold the displaced shape)."""
+    r = ctx.result
+    box = view.box
+    if deflected is not None:
+        shape = deflected[np.isfinite(deflected).all(axis=1)]
+        if shape.size:
+            lo, hi = np.minimum(shape.min(axis=0), [box[0], box[1]]), np.maximum(shape.max(axis=0), [box[2], box[3]])
+            box = (float(lo[0]), float(lo[1]), float(hi[0]), float(hi[1]))
+    if mode is not None:
+        disp_xy = _mode_shape(r.truss, *mode)
+        moved = disp_xy[np.asarray(mode[1].joints, dtype=int)] if len(mode[1].joints) else disp_xy[:0]
+        lo = np.minimum(moved.min(axis=0), [box[0], box[1]]) if len(moved) else np.array(box[:2])
+        hi = np.maximum(moved.max(axis=0), [box[2], box[3]]) if len(moved) else np.array(box[2:])
+        box = (float(lo[0]), float(lo[1]), float(hi[0]), float(hi[1]))
+    return sheet_and_map(ctx.paper, box, frame_pads(r), mm_per_unit(r))
+
+
+def page_findings(ctx: _Context, case: Any, view: View, mode: tuple[Any, Any] | None) -> list[tuple[int, Any]]:
+    """The findings (number, finding) a drawing page marks: those of its case and view;
+    on a mechanism page the mechanism finding of its mode (the same moving joints), else
+    those sharing joints with it."""
+    r = ctx.result
+    if mode is None:
+        return findings_of_view(r, view, _findings_for(r, case.name if case is not None else None))
+    mech = [(i, f) for i, f in enumerate(r.findings, 1) if f.code.value == "mechanism"]
+    moving = set(mode[1].joints)
+    return [(i, f) for i, f in mech if set(f.joints) == moving] or [(i, f) for i, f in mech if set(f.joints) & moving]
+
+
 def _draw_drawing_page(
     ctx: _Context,
     c: Any,
@@ -562,38 +624,36 @@ def _draw_drawing_page(
     max_labels: int,
     max_markers: int,
     mode: tuple[Any, Any] | None = None,
+    view: View | None = None,
+    level: int = 0,
+    extra: Sequence[_Item] = (),
     envelope_notes: list[str] | None = None,
     deflected: tuple[np.ndarray, list[str]] | None = None,
 ) -> None:
     """One drawing page: a load case (``case``), the bare model (``case`` None) or a
-    mechanism mode (``mode`` = (PartStability, Mode)). ``envelope_notes``: ``case`` is
-    the envelope (governing force per member), drawn without loads and reactions and
-    with these notes instead of a case summary; ``deflected``: the displaced joint
-    positions (drawing units, already exaggerated) drawn over the case, with the notes
-    that say the exaggeration."""
+    mechanism mode (``mode`` = (PartStability, Mode)), of the whole sheet or of one part
+    (``view``); its bookmark at outline ``level``; ``extra`` items go into its panel.
+    ``envelope_notes``: ``case`` is the envelope (governing force per member), drawn
+    without loads and reactions and with these notes instead of a case summary;
+    ``deflected``: the displaced joint positions (drawing units, already exaggerated)
+    drawn over the case, with the notes that say the exaggeration."""
     r = ctx.result
     t = r.truss
-    box = ctx.box
-    disp_xy: np.ndarray | None = None
-    if deflected is not None:
-        shape = deflected[0][np.isfinite(deflected[0]).all(axis=1)]
-        if shape.size:
-            lo = np.minimum(shape.min(axis=0), [box[0], box[1]])
-            hi = np.maximum(shape.max(axis=0), [box[2], box[3]])
-            box = (float(lo[0]), float(lo[1]), float(hi[0]), float(hi[1]))
-    if mode is not None:
-        disp_xy = _mode_shape(t, *mode)
-        lo = np.minimum(disp_xy.min(axis=0), [box[0], box[1]]) if t.n_joints else np.array(box[:2])
-        hi = np.maximum(disp_xy.max(axis=0), [box[2], box[3]]) if t.n_joints else np.array(box[2:])
-        box = (float(lo[0]), float(lo[1]), float(hi[0]), float(hi[1]))
-    sheet, pm = sheet_and_map(ctx.paper, box, frame_pads(r))
+    view = view if view is not None else View(None, ctx.box)
+    disp_xy = _mode_shape(t, *mode) if mode is not None else None
+    sheet, pm = page_map(ctx, view, mode, deflected[0] if deflected is not None else None)
     c.setPageSize(sheet.size)
     ctx.page_no += 1
     c.bookmarkPage(bookmark)
-    c.addOutlineEntry(shown(title), bookmark, level=0)
-    ov = _Overlay(ctx, c, sheet, pm, title)
+    c.addOutlineEntry(shown(title), bookmark, level=level)
+    ov = _Overlay(ctx, c, sheet, pm, title, view)
     ov.hide = _other_cases_load_texts(r, case)
     note_lines = ov.frame()
+    dx, dy, dw, dh = sheet.drawing
+    c.saveState()  # our drawing stays inside the drawing area (a part page cuts the sheet)
+    clip = c.beginPath()
+    clip.rect(dx, dy, dw, dh)
+    c.clipPath(clip, stroke=0, fill=0)
     ov.missing_blocks()
 
     states: np.ndarray | None = None
@@ -608,13 +668,13 @@ def _draw_drawing_page(
     ov.overhangs()
     ov.joints()
     ov.supports()
-    extra_items: list[_Item] = []
+    extra_items: list[_Item] = list(extra)
     if mode is not None and disp_xy is not None:
         st, md = mode
         ov.mode(st, md, disp_xy)
         kind = "a rigid-body motion the supports leave free" if md.rigid else "an internal mechanism"
         moving_ids = ", ".join(joint_id(j) for j in md.joints[:40]) + (" ..." if len(md.joints) > 40 else "")
-        extra_items = [
+        extra_items += [
             _Item("h", title),
             _Item("t", f"this mode is {kind}; displacements drawn exaggerated (largest = 10 % of the part's size)"),
             _Item("t", f"moving joints: {moving_ids}"),
@@ -629,14 +689,7 @@ def _draw_drawing_page(
         ov.loads(case)
         ov.reactions(case)
 
-    if mode is None:
-        findings_here = _findings_for(r, case.name if case is not None else None)
-    else:  # the mechanism finding of this mode (same moving joints), else those sharing joints
-        mech = [(i, f) for i, f in enumerate(r.findings, 1) if f.code.value == "mechanism"]
-        moving = set(mode[1].joints)
-        findings_here = [(i, f) for i, f in mech if set(f.joints) == moving] or [
-            (i, f) for i, f in mech if set(f.joints) & moving
-        ]
+    findings_here = page_findings(ctx, case, view, mode)
     ov.place_markers(findings_here, max_markers)
     ov.label_loads_and_reactions()
     if states is not None:
@@ -646,8 +699,8 @@ def _draw_drawing_page(
         ov.label_member_numbers(widths, max_labels)
     ov.label_joints()
     ov.draw_markers()
+    c.restoreState()
 
-    dx, dy, _dw, dh = sheet.drawing
     pg = ov.pg
     pg.text(dx + 6, dy + dh - 12, title, size=9, bold=True)
     for k, line in enumerate(note_lines):
@@ -710,8 +763,8 @@ def _case_summary(ctx: _Context, case: Any) -> list[str]:
         if fs[ec] < 0:
             out.append(f"largest compression {fmt_force(fs[ec])} {fu} in {member_id(ec)}")
         out.append(
-            f"zero-force members: {len(case.zero_by_solution)} by the solution, "
-            f"{len(case.zero_by_rule)} by the joint rules (on the solved parts)"
+            f"zero-force members: {len(case.zero_by_solution)} member(s) by the solution, "
+            f"{len(case.zero_by_rule)} member(s) by the joint rules (on the solved parts)"
         )
         if case.zero_by_solution:
             out.append(ZERO_FORCE_CAUTION)

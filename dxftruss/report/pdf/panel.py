@@ -14,6 +14,7 @@ from typing import Any
 
 from ...findings import Severity
 from ...model import Fix
+from ...titleblock import sources_text
 from .. import assumptions
 from .context import _Context
 from .format import _clip, _Page, _wrap, fmt_force
@@ -68,6 +69,8 @@ def _panel_items(
             f"model: {t.n_joints} joints, {t.n_members} members, {len(t.supports)} supports, {len(t.parts)} part(s)",
         ),
     ]
+    if r.title_block is not None:
+        items.append(_Item("s", sources_text(r.title_block)))
     items += [_Item("s", s) for s in sheet_note]
     items += extra
     # verdicts
@@ -94,15 +97,20 @@ def _panel_items(
     items.append(_Item("h", "Assumptions"))
     items += [_Item("t", "\u2022 " + a) for a in assumptions(r)]
     if findings_here:
-        items.append(_Item("h", f"Findings marked here ({len(findings_here)}; full list on the findings pages)"))
+        items.append(
+            _Item("h", f"Findings marked here ({len(findings_here)} findings; full list on the findings pages)")
+        )
         for n, f in findings_here:
-            items.append(_Item("t", f"{n}. {f.severity.value} {f.code.value}: {f.message}"))
+            zone = ctx.zone_on(n, ctx.page_no)
+            where = f" (zone {zone})" if zone else ""
+            items.append(_Item("t", f"{n}. {f.severity.value} {f.code.value}{where}: {f.message}"))
     return items
 
 
 def _flow_panel(pg: _Page, rect: tuple[float, float, float, float], items: list[_Item]) -> None:
-    """Lay the items out in columns inside ``rect``; when they do not all fit, the last
-    line says so."""
+    """Lay the items out in columns inside ``rect``, each item's lines in one column (a
+    wrapped text is never split over two); when they do not all fit, the last line says
+    so."""
     x0, y0, w, h = rect
     c = pg.c
     c.setStrokeGray(0.2)
@@ -113,7 +121,9 @@ def _flow_panel(pg: _Page, rect: tuple[float, float, float, float], items: list[
     colw = (w - (ncol + 1) * GAP) / ncol
     f = pg.f
     lines: list[tuple[str, Any, float]] = []  # (kind, payload, height)
+    first: list[int] = []  # the first line of each item: an item's lines stay in one column
     for it in items:
+        first.append(len(lines))
         if it.kind == "title":
             for s in _wrap(it.text, f.bold, 10, colw):
                 lines.append(("title", s, 12.5))
@@ -137,8 +147,12 @@ def _flow_panel(pg: _Page, rect: tuple[float, float, float, float], items: list[
     pos: list[tuple[int, float]] = []
     col, y = 0, y0 + h - GAP
     overflow = False
-    for _kind, _payload, lh in lines:
-        if y - lh < y0 + GAP:
+    starts = dict.fromkeys(first)
+    ends = [*first[1:], len(lines)]
+    item_h = {a: sum(ln[2] for ln in lines[a:b]) for a, b in zip(first, ends, strict=True)}
+    for k, (_kind, _payload, lh) in enumerate(lines):
+        whole = item_h.get(k, 0.0) if k in starts else 0.0
+        if y - lh < y0 + GAP or (whole <= h - 2 * GAP and y - whole < y0 + GAP):
             col += 1
             y = y0 + h - GAP
             if col >= ncol:
@@ -212,7 +226,7 @@ def _legend_items(ctx: _Context, *, solved: bool, w_of: Callable[[float], float]
         items += [
             _Item("legend", f"tension (+), {fu}", line(TENSION, 2.6), 10),
             _Item("legend", f"compression (-), {fu}", line(COMPRESSION, 2.6, core=True), 10),
-            _Item("legend", "zero force (0)", line(ZERO_GREY, 0.9, ZERO_DASH), 9),
+            _Item("legend", f"zero force (0 {fu})", line(ZERO_GREY, 0.9, ZERO_DASH), 9),
             _Item("legend", "not solved for this case", line(UNSOLVED_GREY, 0.9, UNSOLVED_DASH), 9),
             _Item(
                 "legend",

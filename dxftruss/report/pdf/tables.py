@@ -22,7 +22,7 @@ from ...model import joint_id, member_id
 from ...naming import finding_parts, part_index, where_drawn
 from .. import assumptions
 from .context import FULL_TABLE_MEMBERS, MAX_MUST, SUMMARY_ROWS, _case_loads, _Context, _member_states
-from .format import _clip, _Page, _wrap, case_noise, clean_reactions, denoise, fmt_num, shown
+from .format import _clip, _Page, _width, _wrap, case_noise, clean_reactions, denoise, fmt_num, shown
 from .sheet import FOOTER_H, MARGIN, _footer
 
 
@@ -220,7 +220,8 @@ def _findings_section(ctx: _Context, flow: _Flow, *, max_findings: int) -> None:
     index = part_index(r.truss)
     for i, f in enumerate(r.findings[:max_findings], 1):
         lines: list[tuple[str, float, float, bool, float]] = []
-        lines.append((f"{i}.  {f.severity.value.upper()}  {f.code.value}", 7.6, 0.0, True, 0.0))
+        where = ctx.zone_text(i) or ("not marked on a drawing page" if f.at is None else "outside the drawing areas")
+        lines.append((f"{i}.  {f.severity.value.upper()}  {f.code.value}  \u00b7  {where}", 7.6, 0.0, True, 0.0))
         for s in _wrap(f.message, fonts.regular, 7.2, width):
             lines.append((s, 7.2, 0.0, False, 18.0))
         if f.next_step:
@@ -284,7 +285,7 @@ def _tables_section(ctx: _Context, flow: _Flow, *, max_rows: int) -> None:
     if not full:
         max_rows = min(max_rows, SUMMARY_ROWS)
         flow.para(
-            f"The truss has {t.n_members} members, more than the {FULL_TABLE_MEMBERS} this report lists in "
+            f"The truss has {t.n_members} members, more than the {FULL_TABLE_MEMBERS} members this report lists in "
             "full: the tables below are a summary (the largest tensions and compressions of each case, the "
             "members named by findings, the first parts, loads and reactions). The JSON report has the full "
             "member, joint, load and reaction tables.",
@@ -379,14 +380,18 @@ def _tables_section(ctx: _Context, flow: _Flow, *, max_rows: int) -> None:
         flow.heading(title, f"t-members-{gi}")
         if gi == 0:
             flow.para(
-                "Forces: tension positive. State: T tension, C compression, 0 zero by the solution, "
-                "0R zero by the joint rules too, - not solved.",
+                'Forces: tension positive. State: "T" tension, "C" compression, "0" zero by the solution, '
+                '"0R" zero by the joint rules too, "-" not solved.',
                 size=6.8,
                 gray=0.3,
             )
         cols = list(fixed)
         for cs in group:
-            cols.append(Column(_clip(cs.name, ctx.fonts.bold, 7, 58), 62, "r"))
+            cols.append(
+                Column(
+                    _clip(cs.name, ctx.fonts.bold, 7, 58 - _width(f" ({fu})", ctx.fonts.bold, 7)) + f" ({fu})", 62, "r"
+                )
+            )
             cols.append(Column("state", 24, "c"))
         states = [(_member_states(r, cs), np.asarray(cs.forces, dtype=float), set(cs.zero_by_rule)) for cs in group]
 
@@ -420,8 +425,8 @@ def _tables_section(ctx: _Context, flow: _Flow, *, max_rows: int) -> None:
     cols = [
         Column("case", 140, clip=True),
         Column("joint", 50),
-        Column("fx", 80, "r"),
-        Column("fy", 80, "r"),
+        Column(f"fx ({fu})", 80, "r"),
+        Column(f"fy ({fu})", 80, "r"),
         Column("from", 80),
     ]
     lrows: list[list[str]] = []
@@ -444,8 +449,8 @@ def _tables_section(ctx: _Context, flow: _Flow, *, max_rows: int) -> None:
         Column("case", 140, clip=True),
         Column("joint", 50),
         Column("fixed", 40, "c"),
-        Column("Rx", 80, "r"),
-        Column("Ry", 80, "r"),
+        Column(f"Rx ({fu})", 80, "r"),
+        Column(f"Ry ({fu})", 80, "r"),
     ]
     rrows: list[list[str]] = []
     for cs in r.cases:
