@@ -179,7 +179,11 @@ def lay_out(
         )
     widest = max(e[2] for e in extents)
     joined = max(tol, near if near is not None else 0.0, near_fraction * float(lengths.max()))
-    gap = max(0.25 * widest, 40.0 * joined)
+    # a drawn load line or a label reaches no farther than its length or a few text
+    # heights (labels.py): the gap is wider, so no mark is read with another part's
+    marks = [float(np.linalg.norm(np.subtract((*m.start, m.z[0]), (*m.end, m.z[1])))) for m in linework.loads]
+    heights = [t.height for t in linework.texts if np.isfinite(t.height)]
+    gap = max(0.25 * widest, 40.0 * joined, 4.0 * max(marks, default=0.0), 20.0 * max(heights, default=0.0))
     slots: list[PartPlane] = []
     right = None
     for k, pl in enumerate(planes):

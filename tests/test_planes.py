@@ -272,3 +272,34 @@ def test_parts_in_one_plane_share_a_slot(tmp_path):
     assert np.allclose(res.truss.xy[first, 0], world[first, 0])
     assert np.allclose(res.truss.xy[first, 1], world[first, 2])
     assert res.truss.xy[~first, 0].min() - res.truss.xy[first, 0].max() >= res.planes.gap
+
+
+def test_drawn_marks_in_planes_at_an_angle(tmp_path, xy_forces):
+    """The two trusses at 0 and 60 degrees with drawn marks in 3-D: a SUPPORT-XYZ point
+    (a pin in any plane) at L0, a SUPPORT-Z point (world Z: in-plane y) at L6, and a
+    2 m load line from above each of L1..L5 down to it labelled "10 kN": each part gives
+    the XY forces (the same loads: 10 kN along world -Z)."""
+    placements = [(0.0, (0.0, 0.0, 0.0)), (60.0, (0.0, 12.0, 1.0))]
+    doc = ezdxf.new("R2013", units=6)
+    msp = doc.modelspace()
+    for s3 in (_placed(*p) for p in placements):
+        for p, q in s3:
+            msp.add_line(tuple(p), tuple(q), dxfattribs={"layer": "TRUSS"})
+    for rot, shift in placements:
+        msp.add_point(_world(rot, shift, 0.0), dxfattribs={"layer": "SUPPORT-XYZ"})
+        msp.add_point(_world(rot, shift, N * A), dxfattribs={"layer": "SUPPORT-Z"})
+        for i in range(1, N):
+            x, y, z = _world(rot, shift, i * A)
+            msp.add_line((x, y, z + 2.0), (x, y, z), dxfattribs={"layer": "LOAD"})
+            label = msp.add_text("10 kN", dxfattribs={"layer": "LOAD", "height": 0.2})
+            label.set_placement((x, y, z + 2.1))
+    doc.saveas(tmp_path / "marks.dxf")
+    res = check(tmp_path / "marks.dxf")
+    assert res.planes is not None and len(res.planes.parts) == 2
+    assert not [f for f in res.findings if f.code in (Code.INCLINED_SUPPORT, Code.UNSUPPORTED_GEOMETRY)]
+    assert sorted(sp.fix.value for sp in res.truss.supports) == ["xy", "xy", "y", "y"]
+    for rot, shift in placements:
+        got = _part_forces(res, rot, shift)
+        assert set(got) == set(xy_forces)
+        for k, v in xy_forces.items():
+            assert got[k] == pytest.approx(v, rel=1e-9, abs=1e-9 * P)
