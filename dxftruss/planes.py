@@ -85,8 +85,9 @@ class PlaneSet:
                 out[rows] = pp.plane.to_world(q[rows] - np.array([pp.shift, 0.0]))
         return out
 
-    def sentences(self, unit: str) -> list[str]:
-        """The planes, for the assumptions of every report."""
+    def sentences(self, unit: str, names: list[list[str]] | None = None) -> list[str]:
+        """The planes, for the assumptions of every report (``names``: per slot the
+        names of the parts in it)."""
         head = (
             f"the line work falls into {len(self.parts)} separate parts, each flat in its own plane but not all in "
             f"one: each part is analysed in its own plane (in-plane y is world +Z where the plane is vertical, so "
@@ -96,8 +97,9 @@ class PlaneSet:
         out = [head]
         for k, pp in enumerate(self.parts, 1):
             pl = pp.plane
+            held = f"{', '.join(names[k - 1])}; " if names and names[k - 1] else ""
             out.append(
-                f"plane {k} of {len(self.parts)} (report x from {pp.lo:.6g} to {pp.hi:.6g} {unit}): "
+                f"plane {k} of {len(self.parts)} ({held}report x from {pp.lo:.6g} to {pp.hi:.6g} {unit}): "
                 f"{_part_sentence(pl, unit)}; "
                 f"report x = in-plane x + {pp.shift:.6g} {unit}"
             )

@@ -303,3 +303,13 @@ def test_drawn_marks_in_planes_at_an_angle(tmp_path, xy_forces):
         assert set(got) == set(xy_forces)
         for k, v in xy_forces.items():
             assert got[k] == pytest.approx(v, rel=1e-9, abs=1e-9 * P)
+
+
+def test_trusses_joined_by_a_purlin_are_a_space_truss(tmp_path):
+    """A purlin along the top joints U3 of the four trusses joins them: one part in no
+    one plane, analysed as a space truss (space.py), not plane by plane."""
+    purlin = np.array([[[12.0, 0.0, H], [12.0, SPACING[-1], H]]])
+    dwg = _write(tmp_path / "purlin.dxf", [*(_placed(0.0, (0.0, y, 0.0)) for y in SPACING), purlin])
+    res = check(dwg, Settings())
+    assert res.planes is None and res.space is not None
+    assert len(res.space.truss.parts) == 1
