@@ -77,6 +77,10 @@ class DrawingPlane:
         q = np.asarray(xy, dtype=float).reshape(-1, 2)
         return np.asarray(self.origin) + q[:, :1] * np.asarray(self.u) + q[:, 1:2] * np.asarray(self.v)
 
+    def brief(self, unit: str) -> str:
+        """The plane in a few words (a point and the normal), for the PDF's part list."""
+        return f"in a {self.kind} plane through {_vec(self.origin)} {unit}, normal {_vec(self.normal)}"
+
     def sentence(self, unit: str) -> str:
         """The plane and the axes, for the assumptions of every report."""
         down = {

@@ -13,6 +13,8 @@ from __future__ import annotations
 
 import json
 import math
+import shutil
+import subprocess
 from pathlib import Path
 
 import ezdxf
@@ -184,6 +186,9 @@ def test_a_set_of_parallel_trusses_reports(roof_set):
     assert counts == [res.truss.n_members // 4] * 4
     write_pdf(res, d / "out.pdf")
     assert (d / "out.pdf").stat().st_size > 1000
+    if shutil.which("pdftotext"):  # the drawing page lists each part's plane
+        text = subprocess.run(["pdftotext", str(d / "out.pdf"), "-"], capture_output=True, text=True, check=True)
+        assert "normal (0, -1, 0) (plane 4 of 4)" in " ".join(text.stdout.split())
 
 
 def test_trusses_in_planes_at_an_angle(tmp_path, xy_forces):
