@@ -242,6 +242,11 @@ def test_pdf_clouds_and_numbers(tmp_path):
     assert not overlaps(texts)  # the triangles' numbers keep clear of each other
     table = " ".join(t.text for t in pages[1][1])
     assert "member-moved" in table and "force-changed" in table
+    # the drawing page is at a standard scale (the farm shed in mm fits A3 at 1:50), and
+    # every page carries the title block's drawing number
+    page1 = " ".join(words)
+    assert "scale 1:50 on A3" in page1
+    assert all("HF-MS-104" in " ".join(t.text for t in p[1]) for p in pages)
     # a cloud along a member is a rectangle of the member's length plus twice the pad
     corners = cloud_corners(("seg", (0.0, 0.0), (30.0, 40.0)), pad=5.0)
     assert math.dist(corners[0], corners[1]) == pytest.approx(50.0 + 10.0)

@@ -30,7 +30,16 @@ from ...model import member_id
 from ..render import PageMap, Recording, draw_recording
 from .context import _Context, _report_date
 from .format import _clip, _Page, _width, _wrap, register_fonts, shown
-from .sheet import FOOTER_H, MARGIN, PAGE_SIZES, _drawing_box, sheet_and_map
+from .sheet import (
+    MARGIN,
+    PAGE_SIZES,
+    _draw_scale_bar,
+    _drawing_box,
+    _footer,
+    _scale_note,
+    mm_per_unit,
+    sheet_and_map,
+)
 from .tables import Column, _Flow, _NullCanvas
 
 if TYPE_CHECKING:
@@ -242,34 +251,9 @@ class _CompareFlow(_Flow):
 
     def finish_page(self) -> None:
         if self.open:
-            _compare_footer(self.ctx, self.c, (self.W, self.H), self.ctx.result)
+            _footer(self.ctx, self.c, (self.W, self.H))
             self.c.showPage()
             self.open = False
-
-
-def _compare_footer(ctx: _Context, c: Any, size: tuple[float, float], new: Any) -> None:
-    from .. import CAUTION
-
-    pg = _Page(c, ctx.fonts)
-    W, _ = size
-    x, y, w = MARGIN, MARGIN, W - 2 * MARGIN
-    c.setStrokeGray(0.5)
-    c.setLineWidth(0.4)
-    c.setDash()
-    c.line(x, y + FOOTER_H - 5, x + w, y + FOOTER_H - 5)
-    yy = y + FOOTER_H - 12
-    for s in _wrap("Caution: " + CAUTION, ctx.fonts.regular, 6.2, w)[:2]:
-        pg.text(x, yy, s, size=6.2, gray=0.15)
-        yy -= 7.4
-    right = f"page {ctx.page_no} of {ctx.total_pages}"
-    left = _clip(
-        f"dxftruss compare \u00b7 {ctx.file_name} \u00b7 sha256 {new.source.sha256[:16]} \u00b7 {ctx.date}",
-        ctx.fonts.regular,
-        6.5,
-        w - _width(right, ctx.fonts.regular, 6.5) - 20,
-    )
-    pg.text(x, y - 2, left, size=6.5, gray=0.3)
-    pg.text(x + w, y - 2, right, size=6.5, gray=0.3, align="r")
 
 
 def _changes_section(cmp: Comparison, flow: _Flow) -> None:
@@ -327,7 +311,7 @@ def write_compare_pdf(cmp: Comparison, path: str | os.PathLike[str], *, page: st
             pts.append(np.asarray(ch.box, dtype=float).reshape(2, 2))
     allp = np.vstack(pts)
     box = (float(allp[:, 0].min()), float(allp[:, 1].min()), float(allp[:, 0].max()), float(allp[:, 1].max()))
-    sheet, pm = sheet_and_map(paper, box, (40.0, 40.0))
+    sheet, pm = sheet_and_map(paper, box, (40.0, 40.0), mm_per_unit(new))  # a standard scale
     ctx = _Context(
         result=new,
         fonts=fonts,
@@ -426,12 +410,12 @@ def _drawing_page(cmp: Comparison, ctx: _Context, c: Any, sheet: Any, pm: PageMa
         x, y = _delta_place(corners, bounds[:k] + bounds[k + 1 :], placed, _delta_width(pg, text), sheet.drawing)
         placed.append((x - 6.0, y - 1.0, x + _delta_width(pg, text), y + 10.0))
         _delta(pg, x, y, text)
-    _panel(cmp, ctx, pg, sheet, len(clouds))
-    _compare_footer(ctx, c, sheet.size, cmp.new)
+    _panel(cmp, ctx, pg, sheet, pm, len(clouds))
+    _footer(ctx, c, sheet.size)
     c.showPage()
 
 
-def _panel(cmp: Comparison, ctx: _Context, pg: _Page, sheet: Any, n_clouded: int) -> None:
+def _panel(cmp: Comparison, ctx: _Context, pg: _Page, sheet: Any, pm: PageMap, n_clouded: int) -> None:
     x, y, w, h = sheet.panel
     top = y + h
     c = pg.c
@@ -470,10 +454,17 @@ def _panel(cmp: Comparison, ctx: _Context, pg: _Page, sheet: Any, n_clouded: int
     ]
     if cmp.new_errors:
         lines.append((f"{len(cmp.new_errors)} new error finding(s) in the new revision", 7.6, True))
+    # the scale (the one scale figure of the page) and its bar, at the foot of the panel
+    scale_text, bar_u, bar_pt = _scale_note(ctx, pm)
+    scale_lines = _wrap(scale_text, ctx.fonts.regular, 6.6, w - 16)[:2]
+    bottom = y + 8 + 12 + 8.6 * len(scale_lines)
+    _draw_scale_bar(pg, x + 8, y + 8, bar_u, bar_pt, cmp.new.source.length_unit)
+    for k, s in enumerate(reversed(scale_lines)):
+        pg.text(x + 8, y + 22 + 8.6 * k, s, size=6.6)
     yy = top - 16
     for text, size, bold in lines:
         for s in _wrap(text, ctx.fonts.bold if bold else ctx.fonts.regular, size, w - 16) or [""]:
-            if yy < y + 8:
+            if yy < bottom:
                 return
             pg.text(x + 8, yy, s, size=size, bold=bold)
             yy -= size + 3.0
