@@ -59,6 +59,14 @@ class PartPlane:
     shift: float
     lo: float
     hi: float
+    #: a mark of another part must stay this far clear of ``lo``, ``hi`` (a quarter of
+    #: the gap: wider than every tolerance the planar stages join by)
+    margin: float = 0.0
+
+    def near(self, x: Any) -> bool:
+        """Some layout x lies within the part's range widened by the margin."""
+        xs = np.asarray(x, dtype=float)
+        return bool(np.any((xs >= self.lo - self.margin) & (xs <= self.hi + self.margin)))
 
 
 @dataclass(frozen=True)
@@ -191,7 +199,7 @@ def lay_out(
     for k, pl in enumerate(planes):
         lo, hi, _ = extents[k]
         shift = 0.0 if right is None else right + gap - lo
-        slots.append(PartPlane(pl, shift, lo + shift, hi + shift))
+        slots.append(PartPlane(pl, shift, lo + shift, hi + shift, gap / 4))
         right = hi + shift
     layout = PlaneSet(tuple(slots), gap)
     shifts = np.array([s.shift for s in slots])
@@ -210,9 +218,10 @@ def lay_out(
         """(slot, layout points) for world points of one mark, or None off its plane."""
         k, _ = slot_of(world[0])
         uv, d = slots[k].plane.to_plane(world)
-        if float(np.abs(d).max()) > reach:
+        at = uv + np.array([slots[k].shift, 0.0])
+        if float(np.abs(d).max()) > reach or any(o.near(at[:, 0]) for j, o in enumerate(slots) if j != k):
             return None
-        return int(k), uv + np.array([slots[k].shift, 0.0])
+        return int(k), at
 
     supports: list[SupportMark] = []
     for s in linework.supports:
@@ -250,7 +259,9 @@ def lay_out(
             Finding(
                 Code.UNSUPPORTED_GEOMETRY,
                 f"{len(off)} support or load mark(s) lie more than {reach:.6g} drawing units off the plane of the "
-                f"part nearest them (handles {', '.join(shown(h) for h in handles[:10])}); they were not used",
+                f"part nearest them, or in its plane but so far beyond it that they would fall by another part "
+                f"(handles "
+                f"{', '.join(shown(h) for h in handles[:10])}); they were not used",
                 data={"reason": "off-plane", "handles": handles[:20], "count": len(off)},
             )
         )
@@ -354,6 +365,11 @@ def _spec_in_layout(spec: LoadsSpec, layout: PlaneSet, slot_of: Any, reach: floa
                 f"{spec.path}: [[{kind}]] #{number} at [{x:g}, {y:g}, {z:g}] lies {abs(float(d[0])):.6g} drawing "
                 f"units off the plane of the truss nearest it and off every other truss's plane (more than "
                 f"{reach:.6g}); give a point on a truss"
+            )
+        if any(o.near([uv[0, 0] + pp.shift]) for j, o in enumerate(layout.parts) if j != k):
+            raise ConfigError(
+                f"{spec.path}: [[{kind}]] #{number} at [{x:g}, {y:g}, {z:g}] lies in the plane of a truss but far "
+                "beyond it (the report's coordinates would put it by another truss); give a point on a truss"
             )
         return int(k), (float(uv[0, 0]) + pp.shift, float(uv[0, 1]))
 

@@ -318,3 +318,35 @@ def test_trusses_joined_by_a_purlin_are_a_space_truss(tmp_path):
     res = check(dwg, Settings())
     assert res.planes is None and res.space is not None
     assert len(res.space.truss.parts) == 1
+
+
+def test_a_point_in_a_plane_far_beyond_its_truss_is_refused(roof_set):
+    """[44, 1.5, 0] lies in the plane of the truss at y = 1.5 but 20 m beyond its end: in
+    the layout it would land on the truss at y = 3, so it is refused."""
+    res, _, d = roof_set
+    lo, hi = res.planes.parts[2].lo, res.planes.parts[2].hi
+    assert lo <= 44.0 + res.planes.parts[1].shift <= hi  # in the layout: inside the truss at y = 3
+    (d / "far.toml").write_text("[[load]]\nat = [44.0, 1.5, 0.0]\nfz = -10.0\n")
+    with pytest.raises(ConfigError, match="beyond it"):
+        check(d / "set.dxf", Settings(loads=str(d / "far.toml")))
+
+
+def test_a_drawn_mark_far_beyond_its_truss_is_not_used(tmp_path):
+    """A SUPPORT-XYZ point at [44, 1.5, 0] (the plane of the truss at y = 1.5, 20 m beyond
+    it, where the layout holds the truss at y = 3) is left out (off-plane), not attached
+    to the other truss; a point at that truss's L0 is used."""
+    placements = [(0.0, (0.0, y, 0.0)) for y in SPACING]
+    doc = ezdxf.new("R2013", units=6)
+    msp = doc.modelspace()
+    for s3 in (_placed(*p) for p in placements):
+        for p, q in s3:
+            msp.add_line(tuple(p), tuple(q), dxfattribs={"layer": "TRUSS"})
+    msp.add_point((44.0, 1.5, 0.0), dxfattribs={"layer": "SUPPORT-XYZ"})
+    msp.add_point((0.0, 1.5, 0.0), dxfattribs={"layer": "SUPPORT-XYZ"})
+    doc.saveas(tmp_path / "far.dxf")
+    res = check(tmp_path / "far.dxf")
+    off = [f for f in res.findings if f.code is Code.UNSUPPORTED_GEOMETRY]
+    assert len(off) == 1 and off[0].data["reason"] == "off-plane" and off[0].data["count"] == 1
+    drawn = [sp for sp in res.truss.supports if not sp.assumed]
+    assert len(drawn) == 1
+    assert res.planes.to_world(res.truss.xy[drawn[0].joint])[0] == pytest.approx((0.0, 1.5, 0.0))
