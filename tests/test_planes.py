@@ -350,3 +350,23 @@ def test_a_drawn_mark_far_beyond_its_truss_is_not_used(tmp_path):
     drawn = [sp for sp in res.truss.supports if not sp.assumed]
     assert len(drawn) == 1
     assert res.planes.to_world(res.truss.xy[drawn[0].joint])[0] == pytest.approx((0.0, 1.5, 0.0))
+
+
+def test_compare_matches_trusses_as_drawn(tmp_path):
+    """Revision B adds a 2 m line straight on from L6 of the truss at y = 0 (read as an
+    overhang, left out of the analysis): the layout moves the other trusses along by
+    2 m or more, but compare matches joints as drawn, so the new overhang finding is the only
+    change (matched in the layout, the trusses at y = 1.5 ... would all have moved)."""
+    from dxftruss.compare import compare
+
+    placements = [(0.0, (0.0, y, 0.0)) for y in SPACING]
+    loads = str(_loads(tmp_path / "set.toml", placements))
+    old = check(_write(tmp_path / "a.dxf", [_placed(*p) for p in placements]), Settings(loads=loads))
+    tail = np.array([[[N * A, 0.0, 0.0], [N * A + 2.0, 0.0, 0.0]]])
+    new = check(
+        _write(tmp_path / "b.dxf", [*(_placed(*p) for p in placements), tail]),
+        Settings(loads=loads, layers=("TRUSS",)),
+    )
+    assert new.planes.parts[1].shift >= old.planes.parts[1].shift + 2.0
+    cmp = compare(old, new)
+    assert [(c.kind, c.data.get("code")) for c in cmp.changes] == [("finding-new", "overhang")]
