@@ -370,3 +370,14 @@ def test_compare_matches_trusses_as_drawn(tmp_path):
     assert new.planes.parts[1].shift >= old.planes.parts[1].shift + 2.0
     cmp = compare(old, new)
     assert [(c.kind, c.data.get("code")) for c in cmp.changes] == [("finding-new", "overhang")]
+
+
+def test_a_set_streamed_is_the_library_reading(roof_set):
+    """The streaming reader gives the same report as the library reader (reference: the
+    library reader, dxftruss/read/stream.py's contract)."""
+    from dxftruss.report.json import to_json
+
+    res, _, d = roof_set
+    streamed = check(d / "set.dxf", Settings(loads=str(d / "set.toml"), stream_line_work=True))
+    assert streamed.planes is not None
+    assert to_json(streamed) == to_json(res)
