@@ -174,6 +174,15 @@ def test_a_set_of_parallel_trusses_reports(roof_set):
     drawn = {tuple(np.round(q, 9)) for s3 in (_placed(*pl) for pl in placements) for q in s3.reshape(-1, 3)}
     world = {tuple(np.round(j["world"], 9)) for j in doc["joints"]}
     assert world == drawn
+    placed = [f for f in doc["findings"] if f["at"] is not None]
+    assert placed and all("at_world" in f for f in placed)
+    # the first disconnected-part marker is at J1 of its part, so at_world is that joint as drawn
+    disconnected = [f for f in placed if f["code"] == "disconnected-part"]
+    assert len(disconnected) == 4
+    for f in disconnected:
+        (joint,) = [j for j in doc["joints"] if j["id"] == f["joints"][0]]
+        assert [f["at"][0], f["at"][1]] == [joint["x"], joint["y"]]
+        assert f["at_world"] == pytest.approx(joint["world"], abs=1e-12)
     planes = [a for a in doc["assumptions"] if a.startswith("plane ")]
     assert len(planes) == 4
     write_dxf(res, d / "out.dxf")

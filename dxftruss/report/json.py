@@ -24,6 +24,7 @@ from .json_engineering import engineering_dict
 _encode_string = json.encoder.encode_basestring  # json's own (C) string writer, ensure_ascii=False
 
 if TYPE_CHECKING:
+    from ..findings import Finding
     from ..model import LineLoad
     from ..plane import DrawingPlane
     from ..result import Result
@@ -120,6 +121,13 @@ def _part_plane(result: Result, part: Part) -> dict[str, Any]:
         return {}
     pp = result.planes.parts[int(result.planes.slot([result.truss.xy[part.joints[0], 0]])[0])]
     return {"plane": _plane_keys(pp.plane), "plane_shift": _num(pp.shift)}
+
+
+def _at_world(result: Result, f: Finding) -> dict[str, Any]:
+    """``at_world`` of a finding with a place when the parts lie in several planes."""
+    if result.planes is None or f.at is None or not all(map(math.isfinite, f.at)):
+        return {}
+    return {"at_world": _nums(result.planes.to_world([f.at])[0])}
 
 
 def _plane_keys(pl: DrawingPlane) -> dict[str, Any]:
@@ -338,6 +346,7 @@ def _report(
                 "joints": [joint_id(j) for j in f.joints if j >= 0],
                 "members": [member_id(e) for e in f.members],
                 "at": [_num(f.at[0]), _num(f.at[1])] if f.at is not None else None,
+                **_at_world(result, f),
                 "parts": finding_parts(f, index, result.part_names),
                 "entities": _finding_entities(t, f),
                 "next_step": f.next_step or None,
