@@ -144,22 +144,23 @@ def lay_out(
         return None
     group_of_part, planes = group_of
     # each line's slot: the slot of its first end's joint (the same clustering as the geometry)
-    joint_part = np.full(len(geometry.xyz), -1, dtype=np.int64)
+    joint_slot = np.full(len(geometry.xyz), -1, dtype=np.int64)
     for k, part in enumerate(parts):
-        joint_part[part.joints] = group_of_part[k]
+        joint_slot[part.joints] = group_of_part[k]
     label, centres = cluster_points(pts, tol=tol)
     order = np.lexsort((centres[:, 2], centres[:, 1], centres[:, 0]))
     rank = np.empty_like(order)
     rank[order] = np.arange(len(order))
     joint_of_end = rank[label]
-    in_part = np.flatnonzero(joint_part >= 0)
+    in_part = np.flatnonzero(joint_slot >= 0)
     tree = cKDTree(geometry.xyz[in_part])
 
-    def part_of(points: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    def slot_near(points: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """(slot of the nearest joint, its distance) per world point."""
         dist, idx = tree.query(np.asarray(points, dtype=float).reshape(-1, 3))
-        return joint_part[in_part[idx]], np.asarray(dist, dtype=float)
+        return joint_slot[in_part[idx]], np.asarray(dist, dtype=float)
 
-    slot_trees = [cKDTree(geometry.xyz[joint_part == k]) for k in range(len(planes))]
+    slot_trees = [cKDTree(geometry.xyz[joint_slot == k]) for k in range(len(planes))]
 
     def slot_of(point: np.ndarray) -> tuple[int, float]:
         """(slot, distance from its plane) for a mark's world point: of the slots whose
@@ -168,13 +169,13 @@ def lay_out(
         p = np.asarray(point, dtype=float).reshape(1, 3)
         off_by = [abs(float(pl.to_plane(p)[1][0])) for pl in planes]
         near = [(float(slot_trees[k].query(p)[0][0]), k) for k in range(len(planes)) if off_by[k] <= reach]
-        k = min(near)[1] if near else int(part_of(p)[0][0])
+        k = min(near)[1] if near else int(slot_near(p)[0][0])
         return k, off_by[k]
 
-    seg_part = joint_part[joint_of_end[0::2]]
-    loose = seg_part < 0
+    seg_slot = joint_slot[joint_of_end[0::2]]
+    loose = seg_slot < 0
     if loose.any():  # a line shorter than the snap tolerance at a joint of no part
-        seg_part[loose] = part_of(pts[0::2][loose])[0]
+        seg_slot[loose] = slot_near(pts[0::2][loose])[0]
 
     lengths = np.linalg.norm(pts[1::2] - pts[0::2], axis=1)
     median = float(np.median(lengths)) if len(lengths) else 0.0
@@ -182,7 +183,7 @@ def lay_out(
     local = np.zeros((len(pts), 2))
     extents = []
     for k, pl in enumerate(planes):
-        rows = np.repeat(seg_part == k, 2)
+        rows = np.repeat(seg_slot == k, 2)
         local[rows] = pl.to_plane(pts[rows])[0]
         extents.append(
             (float(local[rows, 0].min()), float(local[rows, 0].max()), float(np.ptp(local[rows], axis=0).max()))
@@ -203,7 +204,7 @@ def lay_out(
         right = hi + shift
     layout = PlaneSet(tuple(slots), gap)
     shifts = np.array([s.shift for s in slots])
-    local[:, 0] += np.repeat(shifts[seg_part], 2)
+    local[:, 0] += np.repeat(shifts[seg_slot], 2)
     seg = np.ascontiguousarray(local.reshape(-1, 4))
     seg.setflags(write=False)
 
@@ -239,7 +240,7 @@ def lay_out(
     loads: list[LoadMark] = []
     for m in linework.loads:
         ends = np.array([(*m.start, m.z[0]), (*m.end, m.z[1])])
-        near_end = 0 if part_of(ends[:1])[1][0] <= part_of(ends[1:])[1][0] else 1
+        near_end = 0 if slot_near(ends[:1])[1][0] <= slot_near(ends[1:])[1][0] else 1
         got = place(ends[[near_end, 1 - near_end]])
         if got is None:
             off.append(m.handle)
