@@ -128,7 +128,7 @@ def _match_points(a: np.ndarray, b: np.ndarray, tol: float) -> dict[int, int]:
     pairs = []
     for i, near in enumerate(tree.query_ball_point(a, r=tol)):
         for j in near:
-            pairs.append((float(np.hypot(*(a[i] - b[j]))), i, j))
+            pairs.append((float(np.linalg.norm(a[i] - b[j])), i, j))
     pairs.sort()
     out: dict[int, int] = {}
     used: set[int] = set()
@@ -137,6 +137,16 @@ def _match_points(a: np.ndarray, b: np.ndarray, tol: float) -> dict[int, int]:
             out[i] = j
             used.add(j)
     return out
+
+
+def _as_drawn(result: Result) -> np.ndarray:
+    """(n, 3) the joints' world coordinates (trusses in several planes, or one plane
+    other than XY), else x, y with z = 0."""
+    xy = result.truss.xy
+    to_world = result.planes or result.plane
+    if to_world is not None:
+        return to_world.to_world(xy)
+    return np.column_stack([xy, np.zeros(len(xy))])
 
 
 def _box(*points: Any) -> tuple[float, float, float, float]:
@@ -170,7 +180,10 @@ def compare(old: Result, new: Result, *, threshold: ForceThreshold | None = None
     threshold = threshold or parse_force_change(DEFAULT_FORCE_CHANGE, new.truss.force_unit)
     to, tn = old.truss, new.truss
     tol = max(old.tolerances.snap, new.tolerances.snap)
-    jmap = _match_points(to.xy, tn.xy, tol)
+    if old.planes is not None or new.planes is not None:  # layouts shift with the parts: match as drawn
+        jmap = _match_points(_as_drawn(old), _as_drawn(new), tol)
+    else:
+        jmap = _match_points(to.xy, tn.xy, tol)
     changes: list[dict[str, Any]] = []
 
     def add(kind: str, what: str, box: tuple[float, float, float, float] | None, **data: Any) -> None:

@@ -31,6 +31,7 @@ from .findings import Code, Finding, sort_findings
 from .loadsfile import LoadsSpec, read_loads_file
 from .naming import PartNames, name_parts
 from .plane import default_snap_3d, find_plane, into_plane, is_flat_xy
+from .planes import PlaneSet, lay_out
 from .policy import run_policy
 from .read import LineWork, read_drawing
 from .repeats import copied_stability, find_repeats, repeat_findings
@@ -208,12 +209,31 @@ def _check(
         linework, snap=opt_snap, fraction=settings.snap_fraction, mark_reach=settings.near_miss_fraction
     )
     findings = list(linework.findings) + findings
+    plane_set: PlaneSet | None = None
     if drawing_plane is None and len(linework.segments) and not is_flat_xy(linework):
         spatial = _check_space(
             p, settings, spec, linework, findings, unit, unit_source, opt_snap, (sha, binary), (stage, timings)
         )
         if spatial is not None:
             return spatial
+        near_opt = _tolerance(settings.near_miss, unit, "--near-miss") if settings.near_miss is not None else None
+        laid = lay_out(
+            linework,
+            spec,
+            snap=opt_snap,
+            fraction=settings.snap_fraction,
+            near_fraction=settings.near_miss_fraction,
+            near=near_opt,
+            mark_reach=settings.near_miss_fraction,
+        )
+        if laid is not None:  # separate flat parts in different planes, side by side
+            linework, spec, plane_set = laid
+            findings = [
+                f
+                for f in findings
+                if not (f.code is Code.UNSUPPORTED_GEOMETRY and f.data.get("reason") == "non-planar")
+            ]
+            findings += [f for f in linework.findings if f not in findings]
     all_seg = linework.segments
     if settings.layers:
         selection = drafting.everything(linework.layers, "option")
@@ -314,7 +334,8 @@ def _check(
     stage("stability")
 
     sym_dist = max(10 * snap, 1e-9 * diag)
-    axis = find_mirror_axis(truss, distance=sym_dist) if truss.n_members else None
+    # with parts in several planes the layout's mirror lines are no line of any truss
+    axis = find_mirror_axis(truss, distance=sym_dist) if truss.n_members and plane_set is None else None
     cases: list[CaseResult] = []
     seen: set[tuple[str, str]] = set()
     for case in truss.cases if truss.n_members else ():
@@ -353,6 +374,7 @@ def _check(
         title_block=resolve_title_block(settings.report, spec.report if spec else (), linework.document, report_date()),
         engineering=eng,
         plane=drawing_plane,
+        planes=plane_set,
     )
 
 

@@ -77,6 +77,10 @@ class DrawingPlane:
         q = np.asarray(xy, dtype=float).reshape(-1, 2)
         return np.asarray(self.origin) + q[:, :1] * np.asarray(self.u) + q[:, 1:2] * np.asarray(self.v)
 
+    def brief(self, unit: str) -> str:
+        """The plane in a few words (a point and the normal), for the PDF's part list."""
+        return f"in a {self.kind} plane through {_vec(self.origin)} {unit}, normal {_vec(self.normal)}"
+
     def sentence(self, unit: str) -> str:
         """The plane and the axes, for the assumptions of every report."""
         down = {
@@ -263,15 +267,7 @@ def into_plane(
 
 def _support_in_plane(s: SupportMark, plane: DrawingPlane, uv: np.ndarray) -> tuple[SupportMark | None, Finding | None]:
     """The support mark in in-plane terms, or None with an ``inclined-support`` finding."""
-    dirs: list[tuple[float, float, float]] = []
-    if s.axes:
-        dirs = [tuple(float(k == "xyz".index(a)) for k in range(3)) for a in s.axes]  # type: ignore[misc]
-    if not s.axes and s.fix in (Fix.XY, Fix.X):
-        dirs.append((1.0, 0.0, 0.0))
-    if not s.axes and s.fix in (Fix.XY, Fix.Y):
-        dirs.append((0.0, 1.0, 0.0))
-    if s.fix is Fix.N and s.normal is not None:
-        dirs.append((s.normal[0], s.normal[1], 0.0))
+    dirs = mark_directions(s)
     inplane: list[np.ndarray] = []
     for w in dirs:
         pw = np.array([np.dot(w, plane.u), np.dot(w, plane.v)])
@@ -291,6 +287,20 @@ def _support_in_plane(s: SupportMark, plane: DrawingPlane, uv: np.ndarray) -> tu
     if abs(n[0]) <= DIRECTION_SIN:
         return replace(s, x=at[0], y=at[1], z=0.0, fix=Fix.Y, normal=None), None
     return replace(s, x=at[0], y=at[1], z=0.0, fix=Fix.N, normal=(float(n[0]), float(n[1]))), None
+
+
+def mark_directions(s: SupportMark) -> list[tuple[float, float, float]]:
+    """The world directions a drawn support mark restrains."""
+    dirs: list[tuple[float, float, float]] = []
+    if s.axes:
+        dirs = [tuple(float(k == "xyz".index(a)) for k in range(3)) for a in s.axes]  # type: ignore[misc]
+    if not s.axes and s.fix in (Fix.XY, Fix.X):
+        dirs.append((1.0, 0.0, 0.0))
+    if not s.axes and s.fix in (Fix.XY, Fix.Y):
+        dirs.append((0.0, 1.0, 0.0))
+    if s.fix is Fix.N and s.normal is not None:
+        dirs.append((s.normal[0], s.normal[1], 0.0))
+    return dirs
 
 
 def planar_supports(linework: LineWork) -> LineWork:

@@ -25,6 +25,7 @@ from .habits import Overhang
 from .loadsfile import LoadsSpec
 from .model import Truss
 from .plane import DrawingPlane
+from .planes import PlaneSet
 from .read import LineWork
 from .space import SpaceAnalysis
 from .statics import CaseResult
@@ -131,6 +132,9 @@ class Result:
     #: the plane the line work lies in when it is not flat in XY (plane.py); the model's
     #: coordinates are then in-plane; None for a flat XY drawing
     plane: DrawingPlane | None = None
+    #: separate flat parts each in its own plane (planes.py): the model's coordinates are
+    #: then the layout's (the parts side by side); None otherwise
+    planes: PlaneSet | None = None
     #: the space truss when the line work lies in no one plane (space.py); ``truss``,
     #: ``stability`` and ``cases`` are then empty
     space: SpaceAnalysis | None = None

@@ -93,7 +93,10 @@ def _faulty_drawing(path: Path) -> Path:
     for x1, y1, x2, y2 in segs:
         msp.add_line((x1, y1), (x2, y2), dxfattribs={"layer": "TRUSS"})
     msp.add_lwpolyline([(40, 0, 0, 0, 0.5), (44, 0)], format="xyseb", dxfattribs={"layer": "TRUSS"})
-    msp.add_line((50, 0, 0), (54, 0, 1), dxfattribs={"layer": "TRUSS"})  # 3-D line
+    # a 3-D line: a part in a plane of its own (the rest lies in z = 0), so the report
+    # carries each part's plane; a support mark far off both planes is not used
+    msp.add_line((50, 0, 0), (54, 0, 1), dxfattribs={"layer": "TRUSS"})
+    msp.add_point((0, 30, 50), dxfattribs={"layer": "SUPPORT-XY"})
     msp.add_circle((10, 10), 1, dxfattribs={"layer": "NOTES"})
     msp.add_point((0, 0), dxfattribs={"layer": "SUPPORT-XY"})
     msp.add_point((24, 0), dxfattribs={"layer": "SUPPORT-Y"})

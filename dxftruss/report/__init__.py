@@ -56,6 +56,14 @@ def assumptions(result: Result) -> list[str]:
     plane = getattr(result, "plane", None)
     if plane is not None:
         out.append(plane.sentence(unit))
+    planes = getattr(result, "planes", None)
+    if planes is not None:
+        names: list[list[str]] = [[] for _ in planes.parts]
+        for part in result.truss.parts:
+            if len(part.joints):
+                slot = int(planes.slot([result.truss.xy[part.joints[0], 0]])[0])
+                names[slot].append(shown_name(result.part_name(part.index)))
+        out.extend(planes.sentences(unit, names))
     if getattr(result, "space", None) is not None:
         out.append(
             "the line work lies in no one plane: analysed as a space truss (three degrees of freedom per joint, "

@@ -270,6 +270,18 @@ def _annotate(
         m = Matrix44.ucs(ux=plane.u, uy=plane.v, uz=plane.normal, origin=plane.origin)
         for ent in added:
             ent.transform(m)
+    planes = getattr(result, "planes", None)
+    if planes is not None:  # each mark into the plane of the part whose slot it lies in
+        from ezdxf.math import Matrix44
+
+        moves = [
+            Matrix44.translate(-pp.shift, 0.0, 0.0)
+            @ Matrix44.ucs(ux=pp.plane.u, uy=pp.plane.v, uz=pp.plane.normal, origin=pp.plane.origin)
+            for pp in planes.parts
+        ]
+        for ent in added:
+            anchor = ent.dxf.center if ent.dxftype() == "CIRCLE" else ent.dxf.insert
+            ent.transform(moves[int(planes.slot([anchor[0]])[0])])
 
 
 def _space_marks(

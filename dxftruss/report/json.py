@@ -15,7 +15,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from ..cutlist import cut_list
-from ..model import LoadOrigin, Support, Truss, entity_ref, joint_id, member_id
+from ..model import LoadOrigin, Part, Support, Truss, entity_ref, joint_id, member_id
 from ..naming import finding_entities, finding_parts, part_index
 from . import CAUTION, assumptions
 from .cutlist import JSON_CUT_MEMBERS, cut_list_dict
@@ -24,7 +24,9 @@ from .json_engineering import engineering_dict
 _encode_string = json.encoder.encode_basestring  # json's own (C) string writer, ensure_ascii=False
 
 if TYPE_CHECKING:
+    from ..findings import Finding
     from ..model import LineLoad
+    from ..plane import DrawingPlane
     from ..result import Result
     from ..statics import CaseResult
 
@@ -110,17 +112,36 @@ def _title_block(result: Result) -> dict[str, Any]:
 def _joints(result: Result, jid: list[str], xs: list[Any], ys: list[Any]) -> list[dict[str, Any]]:
     """``{id, x, y}`` per joint; in a drawing plane other than XY also ``world``:
     [x, y, z] as drawn (x, y are then in-plane)."""
-    if result.plane is None:
+    to_world = result.plane or result.planes
+    if to_world is None:
         return [{"id": jid[i], "x": xs[i], "y": ys[i]} for i in range(len(jid))]
-    world = result.plane.to_world(result.truss.xy)
+    world = to_world.to_world(result.truss.xy)
     wx, wy, wz = _nums(world[:, 0]), _nums(world[:, 1]), _nums(world[:, 2])
     return [{"id": jid[i], "x": xs[i], "y": ys[i], "world": [wx[i], wy[i], wz[i]]} for i in range(len(jid))]
 
 
 def _plane(result: Result) -> dict[str, Any]:
     """The drawing plane (only present when the line work is not flat in XY)."""
-    pl = result.plane
-    assert pl is not None
+    assert result.plane is not None
+    return _plane_keys(result.plane)
+
+
+def _part_plane(result: Result, part: Part) -> dict[str, Any]:
+    """``plane`` and ``plane_shift`` of a part when the parts lie in several planes."""
+    if result.planes is None or not len(part.joints):
+        return {}
+    pp = result.planes.parts[int(result.planes.slot([result.truss.xy[part.joints[0], 0]])[0])]
+    return {"plane": _plane_keys(pp.plane), "plane_shift": _num(pp.shift)}
+
+
+def _at_world(result: Result, f: Finding) -> dict[str, Any]:
+    """``at_world`` of a finding with a place when the parts lie in several planes."""
+    if result.planes is None or f.at is None or not all(map(math.isfinite, f.at)):
+        return {}
+    return {"at_world": _nums(result.planes.to_world([f.at])[0])}
+
+
+def _plane_keys(pl: DrawingPlane) -> dict[str, Any]:
     return {
         "kind": pl.kind,
         "origin": _nums(pl.origin),
@@ -288,7 +309,7 @@ def _report(
         "assumptions": assumptions(result),
         "line_work": _line_work(result),
         "joints": _joints(result, jid, xs, ys)
-        if pieces is None or result.plane is not None
+        if pieces is None or result.plane is not None or result.planes is not None
         else _piece(pieces, "joints", lambda: _joints_text(jid, xs, ys)),
         "members": _piece(pieces, "members", lambda: _members_text(t, jid, mid, lengths))
         if pieces is not None
@@ -324,6 +345,7 @@ def _report(
                 "sigma_max": _num(st.sigma_max) if st.sigma_max is not None else None,
                 "rank_gap": _num(st.rank_gap) if st.rank_gap is not None else None,
                 "rank_method": st.method,
+                **_part_plane(result, p),
             }
             for p, st in zip(t.parts, result.stability, strict=True)
         ],
@@ -335,6 +357,7 @@ def _report(
                 "joints": [joint_id(j) for j in f.joints if j >= 0],
                 "members": [member_id(e) for e in f.members],
                 "at": [_num(f.at[0]), _num(f.at[1])] if f.at is not None else None,
+                **_at_world(result, f),
                 "parts": finding_parts(f, index, result.part_names),
                 "entities": _finding_entities(t, f),
                 "next_step": f.next_step or None,

@@ -104,7 +104,9 @@ def page_layout(result: Any, *, page: str = "A3") -> tuple[Sheet, PageMap]:
     plane = getattr(result, "plane", None)
     try:
         recording: Recording | None = (
-            None if plane is not None and plane.kind != "horizontal" else _record_original(result)
+            None
+            if (plane is not None and plane.kind != "horizontal") or getattr(result, "planes", None) is not None
+            else _record_original(result)
         )
     except Exception:  # noqa: BLE001 - same fallback as write_pdf
         recording = None
@@ -314,6 +316,8 @@ def write_pdf(
     plane = getattr(r, "plane", None)
     if render_original and plane is not None and plane.kind != "horizontal":
         note = f"the drawing lies in a {plane.kind} plane, not in XY: members only, drawn in the plane"
+    elif render_original and getattr(r, "planes", None) is not None:
+        note = "the trusses lie in several planes, not in XY: members only, each drawn in its own plane, side by side"
     elif render_original and not has_document and _file_sha256(r.source.path) != r.source.sha256:
         note = "the drawing changed or vanished after it was checked: members only"
     elif render_original:

@@ -88,6 +88,10 @@ def _panel_items(
         items.append(
             _Item("t", f"{r.part_name(p.index)}: {st.verdict.value.upper()} (j={st.j}, m={st.m}, r={st.r}{more}{same})")
         )
+        planes = getattr(r, "planes", None)
+        if planes is not None and len(p.joints):
+            k = int(planes.slot([t.xy[p.joints[0], 0]])[0])
+            items.append(_Item("s", f"  {planes.parts[k].plane.brief(unit)} (plane {k + 1} of {len(planes.parts)})"))
     if not t.parts:
         items.append(_Item("t", "no parts: nothing usable as a member"))
     if r.symmetry_axis is not None:
