@@ -37,7 +37,7 @@ from .read import LineWork, read_drawing
 from .repeats import copied_stability, find_repeats, repeat_findings
 from .result import Result, Settings, SourceInfo, Tolerances
 from .sections import member_sections
-from .snap import build_geometry
+from .snap import build_geometry, forget_pieces
 from .statics import CaseResult, solve_case
 from .symmetry import find_mirror_axis
 from .titleblock import report_date
@@ -143,8 +143,11 @@ def check(
     Runs under :func:`run_policy`. numpy's floating-point warnings are silenced: every stage checks finiteness itself
     (invalid coordinates, solve residuals), and the warnings would only reach stderr.
     """
-    with run_policy(), np.errstate(all="ignore"):
-        return _check(path, settings if settings is not None else Settings(), progress=progress)
+    try:
+        with run_policy(), np.errstate(all="ignore"):
+            return _check(path, settings if settings is not None else Settings(), progress=progress)
+    finally:
+        forget_pieces()
 
 
 def _check(
@@ -277,6 +280,7 @@ def _check(
     limit_hint = "raise it with --max-members if the drawing is genuine"
     seg, seg_handles, seg_layers, overlaps = habits.merge_overlaps(seg, seg_handles, seg_layers, tol=snap, unit=unit)
     geometry = build_geometry(seg, seg_handles, seg_layers, snap=snap)
+    forget_pieces()
     geometry = outlines.expand_handles(habits.expand_handles(geometry, overlaps, tol=snap), derived)
     if len(geometry.ends) > settings.max_members:
         raise LimitError(

@@ -139,9 +139,40 @@ class Pieces:
     split_info: list[tuple[int, list[int]]]
 
 
+# the last answer of line_pieces: the pipeline cuts the same lines with the same snap
+# twice when every drawn line is kept (once to select the structure, once for the
+# geometry); (snap, copy of the segments, read-only Pieces)
+_LAST_PIECES: list[tuple[float, np.ndarray, Pieces]] = []
+
+
+def forget_pieces() -> None:
+    """Drop the remembered answer of :func:`line_pieces` (frees its arrays)."""
+    _LAST_PIECES.clear()
+
+
 def line_pieces(segments: np.ndarray, *, snap: float) -> Pieces:
-    """Snap endpoints into joints and cut every line at the joints lying on it."""
-    seg = np.asarray(segments, dtype=float).reshape(-1, 4)
+    """Snap endpoints into joints and cut every line at the joints lying on it.
+
+    The last answer is remembered: asked again for exactly the same lines (bit for bit)
+    and snap, the same (read-only) arrays are given back instead of being computed
+    again."""
+    seg = np.ascontiguousarray(segments, dtype=float).reshape(-1, 4)
+    if _LAST_PIECES:
+        last_snap, last_seg, last = _LAST_PIECES[0]
+        if (
+            last_snap == snap
+            and last_seg.shape == seg.shape
+            and np.array_equal(last_seg.view(np.uint64), seg.view(np.uint64))
+        ):
+            return last
+    g = _line_pieces(seg, snap)
+    for arr in (g.centres, g.label, g.nonzero, g.live, g.start_joint, g.end_joint, g.src, g.pa, g.pb):
+        arr.flags.writeable = False
+    _LAST_PIECES[:] = [(snap, seg.copy(), g)]
+    return g
+
+
+def _line_pieces(seg: np.ndarray, snap: float) -> Pieces:
     pts = seg.reshape(-1, 2)  # point 2i = start of i, 2i + 1 = end of i
     label, centres = cluster_points(pts, tol=snap)
     a, b = label[0::2], label[1::2]

@@ -106,3 +106,25 @@ def test_snapping_snapped_work_changes_nothing():
 def test_exact_drawings_do_not_depend_on_snap(snap):
     g = geom(pratt(), snap=snap)
     assert len(g.xy) == 14 and len(g.ends) == 25
+
+
+def test_line_pieces_remembered_only_for_the_same_lines():
+    # reference: line_pieces is a pure function of (lines, snap); the remembered answer
+    # must be the freshly computed one, and any change of a bit or of snap recomputes
+    from dxftruss import snap as snap_mod
+
+    seg = np.asarray(pratt_segments(6, 2.0, 1.5), float)
+    snap_mod.forget_pieces()
+    first = snap_mod.line_pieces(seg, snap=0.01)
+    assert snap_mod.line_pieces(seg.copy(), snap=0.01) is first
+    with pytest.raises(ValueError):
+        first.pa[0] = 0  # read-only: no caller can change the remembered answer
+    fresh = snap_mod._line_pieces(np.ascontiguousarray(seg), 0.01)
+    assert all(np.array_equal(getattr(first, k), getattr(fresh, k)) for k in ("centres", "label", "src", "pa", "pb"))
+    assert first.split_info == fresh.split_info
+    second = snap_mod.line_pieces(seg, snap=0.02)
+    assert second is not first
+    moved = seg.copy()
+    moved[0, 0] = -0.0 if moved[0, 0] == 0.0 else np.nextafter(moved[0, 0], np.inf)  # -0.0 == 0.0, other bits
+    assert snap_mod.line_pieces(moved, snap=0.02) is not second
+    snap_mod.forget_pieces()
