@@ -17,6 +17,7 @@ their joints' numbers. The same drawing therefore always gives the same ids.
 
 from __future__ import annotations
 
+import hashlib
 import itertools
 from collections import defaultdict
 from dataclasses import dataclass
@@ -141,8 +142,8 @@ class Pieces:
 
 # the last answer of line_pieces: the pipeline cuts the same lines with the same snap
 # twice when every drawn line is kept (once to select the structure, once for the
-# geometry); (snap, copy of the segments, read-only Pieces)
-_LAST_PIECES: list[tuple[float, np.ndarray, Pieces]] = []
+# geometry); (snap, shape, BLAKE2b digest of the segments' bytes, read-only Pieces)
+_LAST_PIECES: list[tuple[float, tuple[int, ...], bytes, Pieces]] = []
 
 
 def forget_pieces() -> None:
@@ -153,22 +154,19 @@ def forget_pieces() -> None:
 def line_pieces(segments: np.ndarray, *, snap: float) -> Pieces:
     """Snap endpoints into joints and cut every line at the joints lying on it.
 
-    The last answer is remembered: asked again for exactly the same lines (bit for bit)
-    and snap, the same (read-only) arrays are given back instead of being computed
-    again."""
+    The last answer is remembered: asked again for exactly the same lines (bit for bit,
+    by a 256-bit BLAKE2b digest of their bytes) and snap, the same (read-only) arrays are
+    given back instead of being computed again."""
     seg = np.ascontiguousarray(segments, dtype=float).reshape(-1, 4)
+    digest = hashlib.blake2b(seg.data, digest_size=32).digest()
     if _LAST_PIECES:
-        last_snap, last_seg, last = _LAST_PIECES[0]
-        if (
-            last_snap == snap
-            and last_seg.shape == seg.shape
-            and np.array_equal(last_seg.view(np.uint64), seg.view(np.uint64))
-        ):
+        last_snap, last_shape, last_digest, last = _LAST_PIECES[0]
+        if last_snap == snap and last_shape == seg.shape and last_digest == digest:
             return last
     g = _line_pieces(seg, snap)
     for arr in (g.centres, g.label, g.nonzero, g.live, g.start_joint, g.end_joint, g.src, g.pa, g.pb):
         arr.flags.writeable = False
-    _LAST_PIECES[:] = [(snap, seg.copy(), g)]
+    _LAST_PIECES[:] = [(snap, seg.shape, digest, g)]
     return g
 
 
