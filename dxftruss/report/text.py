@@ -136,26 +136,11 @@ def summary(result: Result, *, max_findings: int = 40, width: int = 110, color: 
             ct.add_column(col, overflow="fold")
         notes = []
         for c in result.cases:
-            name = c.name + (" (assumed)" if c.assumed else "")
-            if c.factors:
-                name += " = " + " + ".join(f"{f:g} x {n}" for n, f in c.factors)
-            forces = np.asarray(c.forces, dtype=float)
-            solved = np.isfinite(forces)
-            if not solved.any():
-                ct.add_row(_text(name), _text("not solved (see findings)"), _text(""), _text(""), _text(""))
-                continue
-            fs = np.where(solved, forces, 0.0)
-            e_t, e_c = int(np.argmax(fs)), int(np.argmin(fs))
-            tension = f"{_fmt(fs[e_t])} in {member_id(e_t)}" if fs[e_t] > 0 else "-"
-            compression = f"{_fmt(fs[e_c])} in {member_id(e_c)}" if fs[e_c] < 0 else "-"
             reactions = "; ".join(f"{joint_id(j)} ({_fmt(rx)}, {_fmt(ry)})" for j, rx, ry in c.reactions)
-            zeros = ", ".join(member_id(e) for e in c.zero_by_solution[:12])
-            if len(c.zero_by_solution) > 12:
-                zeros += f" +{len(c.zero_by_solution) - 12} more"
-            if c.zero_by_solution:
-                by_rule = len(set(c.zero_by_rule) & set(c.zero_by_solution))
-                zeros += f" ({by_rule} by the joint rules alone)"
-            ct.add_row(_text(name), _text(tension), _text(compression), _text(reactions), _text(zeros or "-"))
+            row = _case_row(c, reactions)
+            ct.add_row(*(_text(cell) for cell in row))
+            if row[1].startswith("not solved"):
+                continue
             if c.loads_symmetric is False and result.symmetry_axis is not None:
                 notes.append(
                     f"case {c.name!r}: the truss is symmetric but this load is not: the reactions need not split evenly"
@@ -222,26 +207,31 @@ def _space_cases(con: Any, result: Result) -> None:
     for col in ("case", "largest tension", "largest compression", "reactions (x, y, z)", "zero-force members"):
         ct.add_column(col, overflow="fold")
     for c in sa.cases:
-        name = c.name + (" (assumed)" if c.assumed else "")
-        if c.factors:
-            name += " = " + " + ".join(f"{f:g} x {n}" for n, f in c.factors)
-        forces = np.asarray(c.forces, dtype=float)
-        solved = np.isfinite(forces)
-        if not solved.any():
-            ct.add_row(_text(name), _text("not solved (see findings)"), _text(""), _text(""), _text(""))
-            continue
-        fs = np.where(solved, forces, 0.0)
-        e_t, e_c = int(np.argmax(fs)), int(np.argmin(fs))
-        tension = f"{_fmt(fs[e_t])} in {member_id(e_t)}" if fs[e_t] > 0 else "-"
-        compression = f"{_fmt(fs[e_c])} in {member_id(e_c)}" if fs[e_c] < 0 else "-"
         reactions = "; ".join(f"{joint_id(j)} ({_fmt(rx)}, {_fmt(ry)}, {_fmt(rz)})" for j, rx, ry, rz in c.reactions)
-        zeros = ", ".join(member_id(e) for e in c.zero_by_solution[:12])
-        if len(c.zero_by_solution) > 12:
-            zeros += f" +{len(c.zero_by_solution) - 12} more"
-        if c.zero_by_solution:
-            zeros += f" ({len(set(c.zero_by_rule) & set(c.zero_by_solution))} by the joint rules alone)"
-        ct.add_row(_text(name), _text(tension), _text(compression), _text(reactions), _text(zeros or "-"))
+        ct.add_row(*(_text(cell) for cell in _case_row(c, reactions)))
     con.print(ct)
+
+
+def _case_row(c: Any, reactions: str) -> tuple[str, str, str, str, str]:
+    """A row of the load-case table: the case (with its factors), the largest tension and
+    compression with their members, ``reactions`` as given, and the zero-force members."""
+    name = c.name + (" (assumed)" if c.assumed else "")
+    if c.factors:
+        name += " = " + " + ".join(f"{f:g} x {n}" for n, f in c.factors)
+    forces = np.asarray(c.forces, dtype=float)
+    solved = np.isfinite(forces)
+    if not solved.any():
+        return name, "not solved (see findings)", "", "", ""
+    fs = np.where(solved, forces, 0.0)
+    e_t, e_c = int(np.argmax(fs)), int(np.argmin(fs))
+    tension = f"{_fmt(fs[e_t])} in {member_id(e_t)}" if fs[e_t] > 0 else "-"
+    compression = f"{_fmt(fs[e_c])} in {member_id(e_c)}" if fs[e_c] < 0 else "-"
+    zeros = ", ".join(member_id(e) for e in c.zero_by_solution[:12])
+    if len(c.zero_by_solution) > 12:
+        zeros += f" +{len(c.zero_by_solution) - 12} more"
+    if c.zero_by_solution:
+        zeros += f" ({len(set(c.zero_by_rule) & set(c.zero_by_solution))} by the joint rules alone)"
+    return name, tension, compression, reactions, zeros or "-"
 
 
 def _verdict(result: Result, part: int, verdict: str) -> str:
