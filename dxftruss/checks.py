@@ -88,6 +88,13 @@ def member_checks(
     )
 
 
+def _more_note(n: int, total: int, what: str) -> str:
+    """On the last finding given (the ``n``-th), how many more of ``total`` were not."""
+    if n == MAX_CHECK_FINDINGS - 1 and total > MAX_CHECK_FINDINGS:
+        return f" ({total - MAX_CHECK_FINDINGS} more {what}; the JSON lists every check)"
+    return ""
+
+
 def check_findings(truss: Truss, env: Envelope, checks: MemberChecks) -> list[Finding]:
     """``member-over-ratio`` and ``slender-member`` findings (each capped at
     MAX_CHECK_FINDINGS members, worst first; the last says how many more)."""
@@ -106,11 +113,7 @@ def check_findings(truss: Truss, env: Envelope, checks: MemberChecks) -> list[Fi
         compression = kind == "buckling" or abs(env.compression[e]) >= abs(env.tension[e])
         force = float(env.compression[e] if compression else env.tension[e])
         case = source_of(e, compression)
-        more = (
-            f" ({over.size - MAX_CHECK_FINDINGS} more members are over the ratio; the JSON lists every check)"
-            if n == MAX_CHECK_FINDINGS - 1 and over.size > MAX_CHECK_FINDINGS
-            else ""
-        )
+        more = _more_note(n, over.size, "members are over the ratio")
         what = "|N| / N_cr (Euler, pin ends, length between joints)" if kind == "buckling" else "|N| / (A f)"
         out.append(
             Finding(
@@ -136,11 +139,7 @@ def check_findings(truss: Truss, env: Envelope, checks: MemberChecks) -> list[Fi
         slender = slender[np.argsort(-checks.slenderness[slender], kind="stable")]
         for n, e in enumerate(slender[:MAX_CHECK_FINDINGS].tolist()):
             case = source_of(e, True)
-            more = (
-                f" ({slender.size - MAX_CHECK_FINDINGS} more slender members; the JSON lists every check)"
-                if n == MAX_CHECK_FINDINGS - 1 and slender.size > MAX_CHECK_FINDINGS
-                else ""
-            )
+            more = _more_note(n, slender.size, "slender members")
             out.append(
                 Finding(
                     Code.SLENDER_MEMBER,

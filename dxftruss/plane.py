@@ -244,15 +244,7 @@ def into_plane(
         if abs(d) <= reach:
             texts.append(replace(t, x=float(uv[0]), y=float(uv[1]), z=0.0))
     if off:
-        handles = sorted(set(off))
-        findings.append(
-            Finding(
-                Code.UNSUPPORTED_GEOMETRY,
-                f"{len(off)} support or load mark(s) lie more than {reach:.6g} drawing units off the drawing "
-                f"plane (handles {', '.join(shown(h) for h in handles[:10])}); they were not used",
-                data={"reason": "off-plane", "handles": handles[:20], "count": len(off)},
-            )
-        )
+        findings.append(off_plane_finding(off, f"more than {reach:.6g} drawing units off the drawing plane"))
     out = replace(
         linework,
         segments=seg,
@@ -263,6 +255,18 @@ def into_plane(
         findings=tuple(findings),
     )
     return out, plane
+
+
+def off_plane_finding(off: list[str], where: str) -> Finding:
+    """The ``unsupported-geometry`` finding (reason ``off-plane``) for the support and
+    load marks with handles ``off`` that lie ``where`` (words); they are not used."""
+    handles = sorted(set(off))
+    return Finding(
+        Code.UNSUPPORTED_GEOMETRY,
+        f"{len(off)} support or load mark(s) lie {where} (handles {', '.join(shown(h) for h in handles[:10])}); "
+        "they were not used",
+        data={"reason": "off-plane", "handles": handles[:20], "count": len(off)},
+    )
 
 
 def _support_in_plane(s: SupportMark, plane: DrawingPlane, uv: np.ndarray) -> tuple[SupportMark | None, Finding | None]:

@@ -34,11 +34,19 @@ import numpy as np
 from scipy.spatial import cKDTree
 
 from .errors import ConfigError
-from .escape import shown
-from .findings import Code, Finding
+from .findings import Code
 from .loadsfile import LoadEntry, LoadsSpec, SupportEntry
 from .model import Fix
-from .plane import DIRECTION_SIN, DrawingPlane, _points, _refused, default_snap_3d, find_plane, mark_directions
+from .plane import (
+    DIRECTION_SIN,
+    DrawingPlane,
+    _points,
+    _refused,
+    default_snap_3d,
+    find_plane,
+    mark_directions,
+    off_plane_finding,
+)
 from .read import LineWork, LoadMark, SupportMark, TextMark
 from .snap import cluster_points
 
@@ -255,17 +263,11 @@ def lay_out(
         if got is not None:
             texts.append(replace(t, x=float(got[1][0, 0]), y=float(got[1][0, 1]), z=0.0))
     if off:
-        handles = sorted(set(off))
-        findings.append(
-            Finding(
-                Code.UNSUPPORTED_GEOMETRY,
-                f"{len(off)} support or load mark(s) lie more than {reach:.6g} drawing units off the plane of the "
-                f"part nearest them, or in its plane but so far beyond it that they would fall by another part "
-                f"(handles "
-                f"{', '.join(shown(h) for h in handles[:10])}); they were not used",
-                data={"reason": "off-plane", "handles": handles[:20], "count": len(off)},
-            )
+        where = (
+            f"more than {reach:.6g} drawing units off the plane of the part nearest them, or in its plane but so "
+            "far beyond it that they would fall by another part"
         )
+        findings.append(off_plane_finding(off, where))
     out = replace(
         linework,
         segments=seg,
