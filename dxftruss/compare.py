@@ -41,7 +41,7 @@ import numpy as np
 
 from .errors import ConfigError
 from .findings import Finding
-from .model import Fix, Support, joint_id, member_id
+from .model import Fix, Support, Truss, joint_id, member_id
 
 if TYPE_CHECKING:
     from .result import Result
@@ -268,32 +268,25 @@ def compare(old: Result, new: Result, *, threshold: ForceThreshold | None = None
             moved_to=_pt(tn.xy[other]),
             distance=dist,
         )
+
+    def member_change(kind: str, truss: Truss, e: int, name: str, verb: str, id_key: str) -> None:
+        a, b = truss.ends[e]
+        add(
+            kind,
+            f"{member_id(e)}{name} ({truss.layers[e]}) {verb}",
+            _box(truss.xy[a], truss.xy[b]),
+            **{id_key: member_id(e)},
+            start=_pt(truss.xy[a]),
+            end=_pt(truss.xy[b]),
+            layer=truss.layers[e],
+        )
+
     for e in old_free:
-        if e in moved_pairs:
-            continue
-        a, b = to.ends[e]
-        add(
-            "member-removed",
-            f"{member_id(e)} of the old drawing ({to.layers[e]}) removed",
-            _box(to.xy[a], to.xy[b]),
-            old_member=member_id(e),
-            start=_pt(to.xy[a]),
-            end=_pt(to.xy[b]),
-            layer=to.layers[e],
-        )
+        if e not in moved_pairs:
+            member_change("member-removed", to, e, " of the old drawing", "removed", "old_member")
     for ne in new_free:
-        if ne in used_new:
-            continue
-        a, b = tn.ends[ne]
-        add(
-            "member-added",
-            f"{member_id(ne)} ({tn.layers[ne]}) added",
-            _box(tn.xy[a], tn.xy[b]),
-            member=member_id(ne),
-            start=_pt(tn.xy[a]),
-            end=_pt(tn.xy[b]),
-            layer=tn.layers[ne],
-        )
+        if ne not in used_new:
+            member_change("member-added", tn, ne, "", "added", "member")
 
     # ---- supports
     old_sup = {sp.joint: sp for sp in to.supports}
