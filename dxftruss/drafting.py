@@ -33,6 +33,7 @@ import numpy as np
 
 from .escape import shown
 from .findings import Code, Finding
+from .rows import unique_rows
 from .spatial import query_points
 
 #: share of a group's length in triangles for it to be structure
@@ -259,7 +260,7 @@ def _hulls(xy: np.ndarray, comp: np.ndarray, pa: np.ndarray, pb: np.ndarray, kee
 
     out = []
     for sel in _groups(comp, keep):
-        pts = np.unique(np.concatenate([xy[pa[sel]], xy[pb[sel]]]), axis=0)
+        pts = unique_rows(np.concatenate([xy[pa[sel]], xy[pb[sel]]]))
         if len(pts) < 3:
             continue
         try:

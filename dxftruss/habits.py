@@ -38,6 +38,7 @@ from scipy.sparse.csgraph import connected_components
 from scipy.spatial import cKDTree
 
 from .findings import Code, Finding
+from .rows import unique_rows
 from .snap import Geometry
 from .spatial import query_points_within
 from .units import LengthFormat, force_text, length_format, plain_number
@@ -99,7 +100,7 @@ def _distinct_lines(seg: np.ndarray, tol: float) -> tuple[np.ndarray, np.ndarray
     ordered = np.where(swap[:, None], np.column_stack([b, a]), seg)
     scale = float(np.abs(seg).max()) or 1.0
     grid = max(1e-3 * tol, 1e-15 * scale, 1e-150)
-    _, first, inverse = np.unique(np.round(ordered / grid), axis=0, return_index=True, return_inverse=True)
+    _, first, inverse = unique_rows(np.round(ordered / grid), return_index=True, return_inverse=True)
     return first, inverse.reshape(-1)
 
 
@@ -122,7 +123,7 @@ def _overlap_pairs(seg: np.ndarray, tol: float) -> tuple[np.ndarray, np.ndarray]
     owner = np.concatenate([ok, ok])
     scale = float(np.abs(ends).max()) or 1.0
     grid = max(1e-3 * tol, 1e-15 * scale, 1e-150)
-    _, first, inverse = np.unique(np.round(ends / grid), axis=0, return_index=True, return_inverse=True)
+    _, first, inverse = unique_rows(np.round(ends / grid), return_index=True, return_inverse=True)
     inverse = inverse.reshape(-1)
     pts = ends[first]
     tree = shapely.STRtree(shapely.linestrings(seg[ok].reshape(-1, 2, 2)))
@@ -143,7 +144,7 @@ def _overlap_pairs(seg: np.ndarray, tol: float) -> tuple[np.ndarray, np.ndarray]
     offset = np.arange(len(hit)) - np.repeat(np.cumsum(counts) - counts, counts)
     i, j = li[hit], owner[order[run[pi][hit] + offset]]
     keep = i != j
-    pairs = np.unique(np.sort(np.column_stack([i[keep], j[keep]]), axis=1), axis=0)
+    pairs = unique_rows(np.sort(np.column_stack([i[keep], j[keep]]), axis=1))
     i, j = pairs[:, 0], pairs[:, 1]
     u = d / np.where(ln > 0, ln, 1.0)[:, None]
 

@@ -51,6 +51,7 @@ from scipy.spatial import cKDTree
 
 from .findings import Code, Finding
 from .model import Part, Section, Source
+from .rows import unique_rows
 from .snap import cluster_points
 
 EPS = float(np.finfo(float).eps)
@@ -255,7 +256,7 @@ def build_space_geometry(
             )
     pairs = np.column_stack([pa, pb]).astype(np.int64).reshape(-1, 2)
     srcs = np.asarray(src, dtype=np.int64)
-    uniq, inverse, counts = np.unique(pairs, axis=0, return_inverse=True, return_counts=True)
+    uniq, inverse, counts = unique_rows(pairs, return_inverse=True, return_counts=True)
     inverse = inverse.reshape(-1)
     member_handles: list[list[str]] = [[] for _ in range(len(uniq))]
     member_layer: list[str] = [""] * len(uniq)
