@@ -19,7 +19,7 @@ from pathlib import Path
 
 import numpy as np
 
-from . import drafting, habits, outlines
+from . import drafting, habits, loads_background, outlines
 from .assemble import build_truss
 from .audit.next_steps import add_next_steps
 from .audit.stability import PartStability, analyse_part
@@ -28,7 +28,7 @@ from .engineering import engineering_results
 from .errors import ConfigError, InputError, LimitError
 from .escape import shown
 from .findings import Code, Finding, sort_findings
-from .loadsfile import LoadsSpec, read_loads_file
+from .loadsfile import LoadsSpec
 from .naming import PartNames, name_parts
 from .plane import default_snap_3d, find_plane, into_plane, is_flat_xy
 from .planes import PlaneSet, lay_out
@@ -172,16 +172,25 @@ def _check(
     p = Path(path)
     if not p.is_file():
         raise InputError(f"{path}: no such file" if not p.exists() else f"{path}: not a file")
-    spec = read_loads_file(settings.loads) if settings.loads else None
-    units_opt = check_unit_name(settings.units, LENGTH_UNITS, "--units") if settings.units else None
-    linework = read_drawing(
-        p,
-        layers=settings.layers,
-        max_members=settings.max_members,
-        max_bytes=int(settings.max_file_mb * 2**20) if settings.max_file_mb else None,
-        layout=settings.layout,
-        stream=settings.stream_line_work,
-    )
+    pending = loads_background.start(settings.loads) if settings.loads else None
+    try:
+        units_opt = check_unit_name(settings.units, LENGTH_UNITS, "--units") if settings.units else None
+        linework = read_drawing(
+            p,
+            layers=settings.layers,
+            max_members=settings.max_members,
+            max_bytes=int(settings.max_file_mb * 2**20) if settings.max_file_mb else None,
+            layout=settings.layout,
+            stream=settings.stream_line_work,
+        )
+    except BaseException:
+        if pending is not None:  # a bad loads file is reported before a bad drawing, as always
+            try:
+                pending.result()
+            finally:
+                pending.cancel()
+        raise
+    spec = pending.result() if pending is not None else None
     sha, binary = file_digest(p)
     stage("read")
 
