@@ -183,12 +183,16 @@ def _check(
             layout=settings.layout,
             stream=settings.stream_line_work,
         )
-    except BaseException:
+    except Exception:
         if pending is not None:  # a bad loads file is reported before a bad drawing, as always
             try:
                 pending.result()
             finally:
                 pending.cancel()
+        raise
+    except BaseException:  # an interrupt: stop the child at once
+        if pending is not None:
+            pending.cancel()
         raise
     spec = pending.result() if pending is not None else None
     sha, binary = file_digest(p)
