@@ -101,7 +101,7 @@ def _distinct_lines(seg: np.ndarray, tol: float) -> tuple[np.ndarray, np.ndarray
     scale = float(np.abs(seg).max()) or 1.0
     grid = max(1e-3 * tol, 1e-15 * scale, 1e-150)
     _, first, inverse = unique_rows(np.round(ordered / grid), return_index=True, return_inverse=True)
-    return first, inverse.reshape(-1)
+    return first, inverse
 
 
 def _overlap_pairs(seg: np.ndarray, tol: float) -> tuple[np.ndarray, np.ndarray] | None:
@@ -124,7 +124,6 @@ def _overlap_pairs(seg: np.ndarray, tol: float) -> tuple[np.ndarray, np.ndarray]
     scale = float(np.abs(ends).max()) or 1.0
     grid = max(1e-3 * tol, 1e-15 * scale, 1e-150)
     _, first, inverse = unique_rows(np.round(ends / grid), return_index=True, return_inverse=True)
-    inverse = inverse.reshape(-1)
     pts = ends[first]
     tree = shapely.STRtree(shapely.linestrings(seg[ok].reshape(-1, 2, 2)))
     budget = MAX_PAIRS_PER_LINE * len(ok) + 10_000

@@ -60,14 +60,12 @@ def cluster_points(points: np.ndarray, *, tol: float, resolution: float = 1e-3) 
     if len(points) == 0:
         return np.zeros(0, dtype=np.int64), np.zeros((0, points.shape[1] if points.ndim == 2 else 2))
     exact, inverse = unique_rows(points, return_inverse=True)
-    inverse = inverse.reshape(-1)
     # Points closer than the coordinates' own resolution are one point. Rounding them
     # onto a fine grid first also keeps the KD-tree out of its degenerate case (squared
     # distances that underflow to zero make its queries quadratic).
     scale = float(np.abs(exact).max()) or 1.0
     grid = max(resolution * tol, 1e-15 * scale, 1e-150)
     uniq, to_uniq = unique_rows(np.round(exact / grid) * grid, return_inverse=True)
-    to_uniq = to_uniq.reshape(-1)
     n = len(uniq)
     label = np.arange(n)
     if tol > 0 and n > 1:

@@ -257,7 +257,6 @@ def build_space_geometry(
     pairs = np.column_stack([pa, pb]).astype(np.int64).reshape(-1, 2)
     srcs = np.asarray(src, dtype=np.int64)
     uniq, inverse, counts = unique_rows(pairs, return_inverse=True, return_counts=True)
-    inverse = inverse.reshape(-1)
     member_handles: list[list[str]] = [[] for _ in range(len(uniq))]
     member_layer: list[str] = [""] * len(uniq)
     for k, e in enumerate(inverse.tolist()):
