@@ -530,6 +530,13 @@ def _stop_pool(pool, plan: dict[str, Outs]) -> None:  # type: ignore[no-untyped-
             p.terminate()
     for p in procs:
         p.join(timeout=10)
+    # the pool's manager thread closes its wake-up pipe as it ends; the interpreter's
+    # exit hook writes to that pipe if the thread still runs, and the race prints a
+    # traceback after our one line: wait for the thread first
+    manager = getattr(pool, "_executor_manager_thread", None)
+    if manager is not None:
+        with contextlib.suppress(Exception):
+            manager.join(timeout=10)
     folders = {Path(os.path.dirname(os.path.realpath(o))) for outs in plan.values() for o in outs if o and o != "-"}
     remove_run_temporaries(folders, RUN_ID)
 
