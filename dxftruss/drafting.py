@@ -34,7 +34,7 @@ import numpy as np
 from .escape import shown
 from .findings import Code, Finding
 from .rows import unique_rows
-from .spatial import query_points
+from .spatial import points_near_segments
 
 #: share of a group's length in triangles for it to be structure
 TRIANGULATED_SHARE = 0.5
@@ -362,7 +362,6 @@ def _outlines(seg: np.ndarray, keep: np.ndarray, why: np.ndarray, median: float)
     """Set aside lines that are one of a member's two outlines around a kept centre line:
     a kept line c with parallel kept lines on both sides at the same small offset, each
     overlapping c, keeps c and sets the two aside."""
-    import shapely
 
     idx = np.arange(len(seg))
     if keep.sum() < 1 or median <= 0:
@@ -376,8 +375,9 @@ def _outlines(seg: np.ndarray, keep: np.ndarray, why: np.ndarray, median: float)
     u = d / ln[:, None]
     mid = (a + b) / 2
     reach = OUTLINE_MAX_OFFSET * median
-    tree = shapely.STRtree(shapely.linestrings(np.stack([a, b], axis=1)))
-    qs, qc = query_points(tree, mid, predicate="dwithin", distance=reach)
+    found = points_near_segments(mid, a, b, reach)
+    assert found is not None  # no budget
+    qs, qc = found
     pick = (qs != qc) & keep[idx[qc]]  # a centre line is a used line; an outline any line
     qs, qc = qs[pick], qc[pick]
     if not len(qs):

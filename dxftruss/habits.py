@@ -40,14 +40,12 @@ from scipy.spatial import cKDTree
 from .findings import Code, Finding
 from .rows import unique_rows
 from .snap import Geometry
-from .spatial import query_points_within
+from .spatial import points_near_segments
 from .units import LengthFormat, force_text, length_format, plain_number
 
 #: overlap candidates examined per drawn line, on average, before the search gives up
 #: (a pile of lines drawn over each other is left to snap.py's duplicates)
 MAX_PAIRS_PER_LINE = 64
-#: lines queried at a time (bounds the memory of one query when many lines lie together)
-QUERY_CHUNK = 128
 
 
 def _id(kind: str, i: int) -> str:
@@ -110,7 +108,6 @@ def _overlap_pairs(seg: np.ndarray, tol: float) -> tuple[np.ndarray, np.ndarray]
 
     An overlap always puts an end of one line on the inside of the other, so the search
     is of line ends against lines (as snapping's split search), each distinct end once."""
-    import shapely
 
     a, b = seg[:, :2], seg[:, 2:]
     d = b - a
@@ -125,9 +122,8 @@ def _overlap_pairs(seg: np.ndarray, tol: float) -> tuple[np.ndarray, np.ndarray]
     grid = max(1e-3 * tol, 1e-15 * scale, 1e-150)
     _, first, inverse = unique_rows(np.round(ends / grid), return_index=True, return_inverse=True)
     pts = ends[first]
-    tree = shapely.STRtree(shapely.linestrings(seg[ok].reshape(-1, 2, 2)))
     budget = MAX_PAIRS_PER_LINE * len(ok) + 10_000
-    found = query_points_within(tree, pts, chunk=QUERY_CHUNK, budget=budget, predicate="dwithin", distance=tol)
+    found = points_near_segments(pts, seg[ok, :2], seg[ok, 2:], tol, budget=budget)
     if found is None:
         return None
     pi, li = found[0], ok[found[1]]

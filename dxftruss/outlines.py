@@ -27,7 +27,7 @@ import numpy as np
 from .drafting import Selection, select_structure
 from .findings import Code, Finding
 from .snap import Geometry
-from .spatial import query_points_within
+from .spatial import points_near_segments
 
 #: an outline offset (member width) is at most this fraction of the median line length
 MAX_WIDTH = 0.25
@@ -84,21 +84,19 @@ def _unit(seg: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
 def _candidates(seg: np.ndarray, reach: float) -> dict[int, set[int]] | None:
     """Parallel, overlapping lines within ``reach`` of each other (a symmetric graph);
     None when there are too many close lines to look at."""
-    import shapely
 
     a, u, ln = _unit(seg)
     ok = np.flatnonzero(ln > 0)
     nb: dict[int, set[int]] = defaultdict(set)
     if len(ok) < 2:
         return nb
-    tree = shapely.STRtree(shapely.linestrings(seg[ok].reshape(-1, 2, 2)))
     # each line's midpoint against the lines (as drafting's outline rule queries): the
     # midpoint of the shorter of two overlapping sides is within 2 x reach of the other
     mid = (seg[ok, :2] + seg[ok, 2:]) / 2
     # in chunks with a budget: a pile of lines drawn over each other (thousands within
     # reach of each other) has quadratically many close pairs and is no outline drawing
     budget = MAX_PAIRS_PER_LINE * len(ok) + 10_000
-    found = query_points_within(tree, mid, chunk=1024, budget=budget, predicate="dwithin", distance=2 * reach)
+    found = points_near_segments(mid, seg[ok, :2], seg[ok, 2:], 2 * reach, budget=budget)
     if found is None:
         return None
     qi, qj = ok[found[0]], ok[found[1]]

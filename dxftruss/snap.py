@@ -27,7 +27,7 @@ from scipy.spatial import cKDTree
 
 from .findings import Code, Finding
 from .rows import unique_rows
-from .spatial import query_points
+from .spatial import points_near_segments
 
 
 @dataclass(frozen=True)
@@ -97,13 +97,12 @@ def _split_on_joints(
     Returns (segment index, joint index, parameter t in (0, 1)) for every hit, sorted
     by segment then t.
     """
-    import shapely
 
     if len(a) == 0:
         return np.zeros(0, np.int64), np.zeros(0, np.int64), np.zeros(0)
-    lines = shapely.linestrings(np.stack([xy[a], xy[b]], axis=1))
-    tree = shapely.STRtree(lines)
-    pj, seg = query_points(tree, xy, predicate="dwithin", distance=tol)
+    found = points_near_segments(xy, xy[a], xy[b], tol)
+    assert found is not None  # no budget
+    pj, seg = found
     keep = (pj != a[seg]) & (pj != b[seg])
     pj, seg = pj[keep], seg[keep]
     d = xy[b[seg]] - xy[a[seg]]
