@@ -1,7 +1,7 @@
 """Spatial-index queries in a sorted order give shapely's own answer, in its order.
 
 Reference: ``shapely.STRtree.query`` of the points in their given order (the plain
-call); ``query_points`` must return the identical index arrays, and with a budget
+call); ``query_points_within`` must return the identical index arrays, and with a budget
 return None exactly when the plain query in chunks finds more pairs than the budget.
 """
 
@@ -11,7 +11,7 @@ import numpy as np
 import pytest
 import shapely
 
-from dxftruss.spatial import query_points, query_points_within
+from dxftruss.spatial import query_points_within
 
 
 def lines_and_points(n: int, seed: int) -> tuple[shapely.STRtree, np.ndarray]:
@@ -27,7 +27,8 @@ def lines_and_points(n: int, seed: int) -> tuple[shapely.STRtree, np.ndarray]:
 def test_same_arrays_as_the_plain_query(n: int, seed: int, distance: float) -> None:
     tree, xy = lines_and_points(n, seed)
     want = tree.query(shapely.points(xy), predicate="dwithin", distance=distance)
-    got = query_points(tree, xy, predicate="dwithin", distance=distance)
+    got = query_points_within(tree, xy, chunk=None, budget=None, predicate="dwithin", distance=distance)
+    assert got is not None
     assert np.array_equal(got[0], want[0]) and np.array_equal(got[1], want[1])
 
 

@@ -131,7 +131,7 @@ def test_points_exactly_at_the_limit(segs, pts, d):
 
 def test_in_small_runs_of_candidates(monkeypatch):
     """The candidates examined a few at a time: the same pairs, the budget as before."""
-    import dxftruss.spatial as spatial
+    from dxftruss import spatial
 
     monkeypatch.setattr(spatial, "CANDIDATES", 7)
     rng = np.random.default_rng(11)
