@@ -17,6 +17,7 @@ from scipy.spatial import cKDTree
 
 from ..findings import Code, Finding
 from ..model import Truss, joint_id, member_id
+from ..spatial import points_near_segments
 from . import lengths_for
 
 #: at most this many candidate pairs are examined per check before it stops listing
@@ -105,13 +106,17 @@ def near_misses(truss: Truss, *, near_miss: float, snap: float) -> list[Finding]
                 data={"distance": gap},
             )
         )
-    import shapely
+    found = points_near_segments(xy, xy[ends[:, 0]], xy[ends[:, 1]], near_miss, budget=MAX_PAIRS)
+    if found is not None:
+        pj, e = found
+        complete = True
+    else:  # more than the budget: the first chunks' pairs, as far as they go
+        import shapely
 
-    lines = shapely.linestrings(np.stack([xy[ends[:, 0]], xy[ends[:, 1]]], axis=1))
-    tree = shapely.STRtree(lines)
-    pj, e, complete = _query_pairs(
-        tree, shapely.points(xy), max_pairs=MAX_PAIRS, predicate="dwithin", distance=near_miss
-    )
+        lines = shapely.linestrings(np.stack([xy[ends[:, 0]], xy[ends[:, 1]]], axis=1))
+        pj, e, complete = _query_pairs(
+            shapely.STRtree(lines), shapely.points(xy), max_pairs=MAX_PAIRS, predicate="dwithin", distance=near_miss
+        )
     keep = (pj != ends[e, 0]) & (pj != ends[e, 1])
     pj, e = pj[keep], e[keep]
     a, b = xy[ends[e, 0]], xy[ends[e, 1]]
