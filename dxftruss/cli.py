@@ -319,6 +319,10 @@ def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = F
         row["message"] = f"cannot start ({type(exc).__name__}: {exc})"
         return EXIT_INPUT, text, row
     try:
+        if args.loads:  # a large loads file is parsed on the other core from now on
+            from . import loads_background
+
+            loads_background.start_early(args.loads)
         from .escape import one_line
         from .outputs import OutputSet, check_output_path
         from .pipeline import Settings
@@ -420,6 +424,11 @@ def check_one(args: argparse.Namespace, drawing: str, outs: Outs, many: bool = F
         # the last line of defence: one line, never a traceback
         row["message"] = f"{drawing}: internal error ({type(exc).__name__}: {exc}); please report it with the drawing"
         return EXIT_INPUT, text, row
+    finally:
+        if args.loads:  # a child the check never took (it stopped before the loads)
+            from . import loads_background
+
+            loads_background.forget_early()
 
 
 def _title_options(args: argparse.Namespace) -> tuple[tuple[str, str], ...]:

@@ -18,8 +18,10 @@ import pickle
 import subprocess
 import sys
 from pathlib import Path
+from typing import TYPE_CHECKING
 
-from .loadsfile import LoadsSpec, read_loads_file
+if TYPE_CHECKING:
+    from .loadsfile import LoadsSpec
 
 #: below this size a loads file is parsed in this process
 MIN_BYTES = 256 * 1024
@@ -47,6 +49,8 @@ class Pending:
         self.spec = spec
 
     def result(self) -> LoadsSpec:
+        from .loadsfile import LoadsSpec, read_loads_file
+
         if self.spec is not None:
             return self.spec
         child, self.child = self.child, None
@@ -77,16 +81,18 @@ def _stop(child: subprocess.Popen[bytes]) -> None:
         child.communicate(timeout=5)
 
 
-def start(path: str | os.PathLike[str]) -> Pending:
-    """Start reading ``path``. A small file is read at once (its ConfigError raised
-    here, as before the drawing is read); a failure to start the child leaves the file
-    to :meth:`Pending.result`."""
+#: children started before the analysis modules were imported, by path, for start()
+_early: dict[str, Pending] = {}
+
+
+def _big(path: str | os.PathLike[str]) -> bool:
     try:
-        big = os.stat(path).st_size >= MIN_BYTES
+        return os.stat(path).st_size >= MIN_BYTES
     except OSError:
-        big = False  # read_loads_file reports it
-    if not big or not sys.executable:
-        return Pending(path, None, read_loads_file(path))
+        return False  # read_loads_file reports it
+
+
+def _child(path: str | os.PathLike[str]) -> Pending:
     package_parent = str(Path(__file__).resolve().parent.parent)
     try:
         child = subprocess.Popen(
@@ -98,3 +104,32 @@ def start(path: str | os.PathLike[str]) -> Pending:
     except OSError:
         return Pending(path, None)
     return Pending(path, child)
+
+
+def start_early(path: str | os.PathLike[str]) -> None:
+    """Start the child for a large loads file now, before this process imports the
+    analysis (a third of a second the child need not wait); :func:`start` takes it. A
+    small file is left to :func:`start`, which reads it at once as before."""
+    key = os.fspath(path)
+    if key not in _early and sys.executable and _big(path):
+        _early[key] = _child(path)
+
+
+def forget_early() -> None:
+    """Stop the children :func:`start` did not take (the check ended before it)."""
+    while _early:
+        _early.popitem()[1].cancel()
+
+
+def start(path: str | os.PathLike[str]) -> Pending:
+    """Start reading ``path`` (or take the child :func:`start_early` started). A small
+    file is read at once (its ConfigError raised here, as before the drawing is read);
+    a failure to start the child leaves the file to :meth:`Pending.result`."""
+    from .loadsfile import read_loads_file
+
+    early = _early.pop(os.fspath(path), None)
+    if early is not None:
+        return early
+    if not _big(path) or not sys.executable:
+        return Pending(path, None, read_loads_file(path))
+    return _child(path)

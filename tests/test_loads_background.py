@@ -63,3 +63,28 @@ def test_a_small_file_is_read_at_once(tmp_path: Path) -> None:
     bad.write_text("[[load]\n", encoding="utf-8")
     with pytest.raises(ConfigError):
         loads_background.start(bad)  # raised before any drawing is read, as before
+
+
+def test_a_child_started_early_is_the_one_taken(tmp_path: Path) -> None:
+    path = _big_loads(tmp_path / "big.toml", 6000)
+    loads_background.start_early(path)
+    early = loads_background._early[str(path)]
+    assert early.child is not None
+    pending = loads_background.start(path)
+    assert pending is early and not loads_background._early  # taken, not a second child
+    assert pending.result() == read_loads_file(path)
+
+
+def test_a_child_started_early_and_never_taken_is_stopped(tmp_path: Path) -> None:
+    path = _big_loads(tmp_path / "big.toml", 6000)
+    loads_background.start_early(path)
+    child = loads_background._early[str(path)].child
+    loads_background.forget_early()
+    assert not loads_background._early and child is not None and child.poll() is not None
+
+
+def test_a_small_file_is_not_started_early(tmp_path: Path) -> None:
+    path = tmp_path / "small.toml"
+    path.write_text('[[load]]\ncase = "a"\nat = [0.0, 0.0]\nfy = -1.0\n', encoding="utf-8")
+    loads_background.start_early(path)
+    assert not loads_background._early  # read by start() at once, its error before the drawing's
