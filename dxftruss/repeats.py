@@ -61,23 +61,22 @@ def find_repeats(truss: Truss, *, abs_tol: float = 0.0) -> dict[int, Repeat]:
     parts = truss.parts
     if len(parts) < 2:
         return {}
-    support_at = _support_keys(truss)
-    loads = [_load_table(case, truss.n_joints) for case in truss.cases]
+    facts = _Facts(truss)
     buckets: dict[tuple, list[int]] = defaultdict(list)  # type: ignore[type-arg]
     for p in parts:
         if len(p.members):
             buckets[_signature(truss, p)].append(p.index)
     out: dict[int, Repeat] = {}
     for members in buckets.values():
-        originals: list[int] = []
+        originals: list[_Original] = []
         for i in members:
             for k in originals:
-                rep = _match(truss, parts[k], parts[i], support_at, loads, abs_tol)
+                rep = _match(truss, k, parts[i], facts, abs_tol)
                 if rep is not None:
                     out[i] = rep
                     break
             else:
-                originals.append(i)
+                originals.append(_Original(truss, parts[i]))
     return out
 
 
@@ -110,46 +109,69 @@ def _load_table(case: LoadCase, n_joints: int) -> np.ndarray:
     return case.load_vector(n_joints).reshape(-1, 2)
 
 
-def _match(
-    truss: Truss,
-    a: Part,
-    b: Part,
-    support_at: dict[int, tuple],  # type: ignore[type-arg]
-    loads: Sequence[np.ndarray],
-    abs_tol: float,
-) -> Repeat | None:
+class _Facts:
+    """What matching compares, for the whole truss once: each member's layer and each
+    joint's supports as numbers (equal numbers, equal layers or support lists), and
+    every case's loads as a (joints, 2) table."""
+
+    def __init__(self, truss: Truss) -> None:
+        layer_no: dict[str, int] = {}
+        self.layer = np.array([layer_no.setdefault(name, len(layer_no)) for name in truss.layers], dtype=np.int64)
+        support_no: dict[tuple, int] = {(): 0}  # type: ignore[type-arg]
+        self.support = np.zeros(truss.n_joints, dtype=np.int64)
+        for j, key in _support_keys(truss).items():
+            self.support[j] = support_no.setdefault(key, len(support_no))
+        self.loads = [_load_table(case, truss.n_joints) for case in truss.cases]
+
+
+class _Original:
+    """A part others are matched against, with what every match needs of it: its
+    centre, size, a tree of its joints, and its members by joint pair."""
+
+    def __init__(self, truss: Truss, part: Part) -> None:
+        self.part = part
+        pts = truss.xy[part.joints]
+        self.centre = pts.mean(axis=0)
+        self.size = float(np.hypot(*(pts.max(axis=0) - pts.min(axis=0))))
+        self.tree = cKDTree(pts)
+        # members by (first joint, second joint) as stored; of two members on one pair,
+        # the later (as a {pair: member} table built in order keeps it)
+        ends = truss.ends[part.members].astype(np.int64)
+        key = ends[:, 0] * truss.n_joints + ends[:, 1]
+        order = np.argsort(key, kind="stable")
+        self.keys = key[order]
+        self.members = part.members[order].astype(np.int64)
+
+
+def _match(truss: Truss, a: _Original, b: Part, facts: _Facts, abs_tol: float) -> Repeat | None:
     """The Repeat saying ``b`` is ``a`` shifted, or None."""
-    pa, pb = truss.xy[a.joints], truss.xy[b.joints]
-    shift = pb.mean(axis=0) - pa.mean(axis=0)
-    size = float(np.hypot(*(pa.max(axis=0) - pa.min(axis=0))))
-    tol = max(REL_TOL * size, abs_tol)
-    dist, idx = cKDTree(pa).query(pb - shift, distance_upper_bound=tol)
+    pb = truss.xy[b.joints]
+    shift = pb.mean(axis=0) - a.centre
+    tol = max(REL_TOL * a.size, abs_tol)
+    dist, idx = a.tree.query(pb - shift, distance_upper_bound=tol)
     if not np.all(np.isfinite(dist)) or len(np.unique(idx)) != len(idx):
         return None
-    joint_of = a.joints[idx]  # original joint for each joint of b
+    joint_of = a.part.joints[idx]  # original joint for each joint of b
     # members: the same joint pairs on the same layers
     local = np.searchsorted(b.joints, truss.ends[b.members])
-    mapped = np.sort(joint_of[local], axis=1)
-    index = {
-        (int(u), int(v)): int(e) for e, (u, v) in zip(a.members.tolist(), truss.ends[a.members].tolist(), strict=True)
-    }
-    member_of = np.empty(len(b.members), dtype=np.int64)
-    for k, (u, v) in enumerate(mapped.tolist()):
-        e = index.get((u, v))
-        if e is None or truss.layers[e] != truss.layers[int(b.members[k])]:
-            return None
-        member_of[k] = e
+    mapped = np.sort(joint_of[local], axis=1).astype(np.int64)
+    want = mapped[:, 0] * truss.n_joints + mapped[:, 1]
+    at = np.searchsorted(a.keys, want, side="right") - 1
+    if len(at) and (at.min() < 0 or not np.array_equal(a.keys[np.maximum(at, 0)], want)):
+        return None
+    member_of = a.members[at]
+    if not np.array_equal(facts.layer[member_of], facts.layer[b.members]):
+        return None
     if len(np.unique(member_of)) != len(member_of):
         return None
-    for jb, ja in zip(b.joints.tolist(), joint_of.tolist(), strict=True):
-        if support_at.get(jb) != support_at.get(ja):
-            return None
-    for table in loads:
+    if not np.array_equal(facts.support[b.joints], facts.support[joint_of]):
+        return None
+    for table in facts.loads:
         fa, fb = table[joint_of], table[b.joints]
         scale = max(float(np.abs(fa).max(initial=0.0)), float(np.abs(fb).max(initial=0.0)))
         if scale and float(np.abs(fa - fb).max()) > LOAD_TOL * scale:
             return None
-    return Repeat(b.index, a.index, (float(shift[0]), float(shift[1])), joint_of, member_of, b.joints)
+    return Repeat(b.index, a.part.index, (float(shift[0]), float(shift[1])), joint_of, member_of, b.joints)
 
 
 def copied_stability(original: PartStability, rep: Repeat) -> PartStability:
