@@ -35,22 +35,34 @@ class PartDeflection:
     ratio: float | None
 
 
-def part_span(truss: Truss, part: int) -> tuple[float, str]:
-    """(span, "supports" | "extent") of a part, drawing units (see the glossary)."""
+def part_span(truss: Truss, part: int, held: np.ndarray | None = None) -> tuple[float, str]:
+    """(span, "supports" | "extent") of a part, drawing units (see the glossary).
+    ``held``: whether each joint is restrained (:func:`held_joints`), when known."""
     p = truss.parts[part]
-    held = np.intersect1d(p.joints, truss.restraints[:, 0]) if truss.restraints.size else np.zeros(0, int)
-    if held.size:
-        x = truss.xy[held, 0]
+    if held is None:
+        held = held_joints(truss)
+    at = p.joints[held[p.joints]]
+    if at.size:
+        x = truss.xy[at, 0]
         if float(x.max() - x.min()) > 0:
             return float(x.max() - x.min()), "supports"
     x = truss.xy[p.joints, 0]
     return float(x.max() - x.min()), "extent"
 
 
+def held_joints(truss: Truss) -> np.ndarray:
+    """Whether each joint has a restraint (one pass for all the parts)."""
+    held = np.zeros(truss.n_joints, dtype=bool)
+    if truss.restraints.size:
+        held[truss.restraints[:, 0]] = True
+    return held
+
+
 def deflections(truss: Truss, cases: Sequence[CaseResult]) -> list[PartDeflection]:
     """One record per case and solved part that has displacements."""
     out = []
-    spans = {p.index: part_span(truss, p.index) for p in truss.parts}
+    held = held_joints(truss)
+    spans = {p.index: part_span(truss, p.index, held) for p in truss.parts}
     for c in cases:
         if c.displacements is None:
             continue

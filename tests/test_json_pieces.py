@@ -56,6 +56,29 @@ def test_names_and_blocks(tmp_path: Path, layer: str) -> None:
     assert to_json(r) == reference(r)
 
 
+def test_members_in_nested_blocks_with_names_to_escape(tmp_path: Path) -> None:
+    # a block inside a block: each member's entity path has two references, and the
+    # block names (apostrophes, non-ASCII) go through json's string writer
+    doc = ezdxf.new("R2018")
+    doc.units = 6
+    segs = pratt_segments()
+    bay = doc.blocks.new("BAY ü 'A' #1")
+    for x1, y1, x2, y2 in segs[: len(segs) // 2]:
+        bay.add_line((x1, y1), (x2, y2), dxfattribs={"layer": "Läufer"})
+    outer = doc.blocks.new("ÄUSSERE")
+    outer.add_blockref(bay.name, (0, 0))
+    msp = doc.modelspace()
+    msp.add_blockref("ÄUSSERE", (0, 0), dxfattribs={"layer": "TRUSS"})
+    for x1, y1, x2, y2 in segs[len(segs) // 2 :]:
+        msp.add_line((x1, y1), (x2, y2), dxfattribs={"layer": "TRUSS"})
+    path = tmp_path / "t.dxf"
+    doc.saveas(path)
+    r = check(path, Settings())
+    nested = [m for m in report_dict(r)["members"] if "entities" in m]
+    assert nested and all(len(x["path"]) == 2 and x["blocks"][1] == bay.name for m in nested for x in m["entities"])
+    assert to_json(r) == reference(r)
+
+
 def test_placeholder_text_in_a_name_falls_back(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
     from dxftruss.report import json as report_json
 

@@ -480,6 +480,21 @@ def _member_entities(t: Truss, e: int) -> list[dict[str, Any]]:
     return [entity_ref(k, t.layers[e], t.block_names) for k in t.entities[e]]
 
 
+def _member_entities_text(t: Truss, e: int) -> str:
+    """``_dumps(_member_entities(t, e))`` written directly (tens of thousands of block
+    members: one small json call each costs more than the text)."""
+    enc = _encode_string
+    layer = enc(t.layers[e])
+    out = []
+    for key in t.entities[e]:
+        parts = key.split("/")
+        inserts = parts[:-1]
+        path = ",".join(map(enc, parts[1:]))
+        blocks = ",".join(enc(t.block_names.get(h, "")) for h in inserts)
+        out.append(f'{{"layer":{layer},"handle":{enc(parts[0])},"path":[{path}],"blocks":[{blocks}]}}')
+    return "[" + ",".join(out) + "]"
+
+
 def _finding_entities(t: Truss, f: Any) -> list[dict[str, Any]]:
     """The entities a finding concerns (docs/report-format.md, entities)."""
     return [entity_ref(k, layer, t.block_names) for k, layer in finding_entities(t, f, MAX_FINDING_ENTITIES)]
@@ -524,7 +539,7 @@ def _members_text(t: Truss, jid: list[str], mid: list[str], lengths: list[float 
     out = [
         f'{{"id":{enc(mid[e])},"joints":[{joint[a]},{joint[b]}],"length":{_text_of(lengths[e])},'
         f'"layer":{layer_text[layer]},"handles":[{",".join(map(enc, handles))}]'
-        + (',"entities":' + _dumps(_member_entities(t, e)) if e in nested else "")
+        + (',"entities":' + _member_entities_text(t, e) if e in nested else "")
         + "}"
         for e, ((a, b), layer, handles) in enumerate(zip(t.ends.tolist(), t.layers, t.handles, strict=True))
     ]
