@@ -23,6 +23,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ...rows import unique_rows
 from .format import _Page, shown
 
 
@@ -133,8 +134,8 @@ class LabelPlacer:
         t = k / np.maximum(n[idx] - 1, 1)
         pts = a[idx] + (b - a)[idx] * t[:, None]
         keys = np.floor(pts / self.cell).astype(np.int64)
-        trip = np.unique(np.column_stack([keys, idx]), axis=0)
-        cells, counts = np.unique(trip[:, :2], axis=0, return_counts=True)
+        trip = unique_rows(np.column_stack([keys, idx]))
+        cells, counts = unique_rows(trip[:, :2], return_counts=True)
         self._sfull.update(map(tuple, cells[counts > self.cap].tolist()))
         for kx, ky, i in trip.tolist():
             key = (kx, ky)
