@@ -85,7 +85,7 @@ def name_parts(truss: Truss, texts: tuple[Any, ...] = (), document: Any = None) 
             name = f"{name} at {corner.get(i, _fmt_point(boxes[i][0]))}"
         out.append(name)
     # still equal (two inserts at one point): the left-to-right number makes them unique
-    final, count = [], {n: out.count(n) for n in out}
+    final, count = [], Counter(out)
     for i, name in enumerate(out):
         final.append(f"{name} ({fallback[i]})" if count[name] > 1 else name)
     uses_of = Counter(single.values())

@@ -34,7 +34,7 @@ import numpy as np
 from scipy.spatial import cKDTree
 
 from ..findings import Code, Finding
-from ..model import Truss, joint_id, member_id
+from ..model import Support, Truss, joint_id, member_id
 from ..units import LengthFormat
 from . import lengths_for
 from .stability import Mode, PartStability
@@ -71,8 +71,9 @@ def add_next_steps(
     tees = [
         (f.joints[0], f.members[0]) for f in findings if f.code is Code.NEAR_MISS and len(f.joints) == 1 and f.members
     ]
+    supported = {s.joint: s for s in truss.supports}  # once: a sheet has thousands of parts
     plans = {
-        st.part: _PartPlan(truss, st.part, st.modes, pairs, tees, near_miss=near_miss, fmt=fmt)
+        st.part: _PartPlan(truss, st.part, st.modes, pairs, tees, near_miss=near_miss, fmt=fmt, supported=supported)
         for st in stability
         if st.modes
     }
@@ -417,7 +418,10 @@ class _PartPlan:
         *,
         near_miss: float,
         fmt: LengthFormat,
+        supported: dict[int, Support],
     ) -> None:
+        """``supported``: the truss's supports by joint. Only the part's own members and
+        joints are looked at (a sheet of many parts pays for each part once)."""
         self.steps: dict[int, tuple[str, dict[str, Any]]] = {}
         joints = truss.parts[part].joints
         local = {int(g): k for k, g in enumerate(joints.tolist())}
@@ -427,11 +431,15 @@ class _PartPlan:
                 U[k, local[g]] = d
         rows: list[np.ndarray] = []  # the chosen constraints, one number per mode
         pm = truss.parts[part].members
-        degree = np.bincount(truss.ends[pm].reshape(-1), minlength=truss.n_joints)
-        held = {s.joint for s in truss.supports}
-        owner = np.full(truss.n_joints, -1, dtype=np.int64)  # of a joint of degree 1: its member
-        owner[truss.ends[pm, 1]] = pm
-        owner[truss.ends[pm, 0]] = pm
+        # each joint's degree in the part, and the member of a joint of degree 1
+        degree: dict[int, int] = {}
+        owner: dict[int, int] = {}
+        for e, (a, b) in zip(pm.tolist(), truss.ends[pm].tolist(), strict=True):
+            degree[a] = degree.get(a, 0) + 1
+            degree[b] = degree.get(b, 0) + 1
+            owner[b] = e
+        for e, (a, _) in zip(pm.tolist(), truss.ends[pm].tolist(), strict=True):
+            owner[a] = e
         last: tuple[str, dict[str, Any]] | None = None
         xy = truss.xy
         for k, mode in enumerate(modes):
@@ -470,7 +478,7 @@ class _PartPlan:
                         )
                         step = (text, {"join": [joint_id(j), member_id(e)]})
                         break
-            free = [g for g in mode.joints if degree[g] == 1 and g not in held]
+            free = [g for g in mode.joints if degree.get(g, 0) == 1 and g not in supported]
             if not step and free and len(free) == len(mode.joints):
                 # only free ends move: the stray members swing; a new member would only prop them
                 new = np.concatenate([U[:, local[g]].T for g in free])
@@ -482,7 +490,7 @@ class _PartPlan:
                         "(see dangling-member): the motion is the loose member swinging"
                     )
                     step = (text, {"erase_or_join": [member_id(int(owner[g])) for g in free]})
-            bar = None if step else suggest_bar(truss, joints, mode, U, fits, column=k, near_miss=near_miss)
+            bar = None if step else suggest_bar(truss, joints, mode, U, fits, column=k, near_miss=near_miss, members=pm)
             if bar is not None:
                 i, j, row = bar
                 rows.append(row)
@@ -492,11 +500,11 @@ class _PartPlan:
                     f"({fmt(length)} long): this motion stretches it, so it removes this mechanism"
                 )
                 step = (text, {"add_member": [joint_id(i), joint_id(j)]})
-            res = None if step else suggest_restraint(truss, joints, mode, U, fits)
+            res = None if step else suggest_restraint(truss, joints, mode, U, fits, supported)
             if res is not None:
                 j, axis, row = res
                 rows.append(row)
-                sup = any(s.joint == j for s in truss.supports)
+                sup = j in supported
                 how = (
                     f"make the support at {joint_id(j)} restrain {'xy'[axis]} too (a pin)"
                     if sup
@@ -524,6 +532,7 @@ def suggest_bar(
     *,
     column: int,
     near_miss: float,
+    members: np.ndarray | None = None,
 ) -> tuple[int, int, np.ndarray] | None:
     """A new member (i, j, its elongation under every mode of ``U``) that removes
     ``mode`` (``U[column]``): the shortest bar longer than ``near_miss`` between a moving
@@ -532,7 +541,8 @@ def suggest_bar(
     and not running along a member (both ends within ``near_miss`` of it), whose
     elongations pass ``fits`` (under this mode at least MIN_ELONGATION, independent of
     the fixes already chosen); bars that cross no member come first. At most MAX_TRIES
-    candidates that stretch under the mode are examined. None when there is none."""
+    candidates that stretch under the mode are examined. None when there is none.
+    ``members``: the part's members (found from its joints when not given)."""
     joints = np.asarray(part_joints, dtype=np.int64)
     n = joints.size
     if n < 2:
@@ -550,7 +560,9 @@ def suggest_bar(
     lo, hi = np.minimum(src, dst), np.maximum(src, dst)
     _, first = np.unique(lo * n + hi, return_index=True)
     src, dst, span, lo, hi = src[first], dst[first], span[first], lo[first], hi[first]
-    members = truss.ends[np.isin(truss.ends[:, 0], joints) & np.isin(truss.ends[:, 1], joints)]  # the part's
+    if members is None:
+        members = np.flatnonzero(np.isin(truss.ends[:, 0], joints) & np.isin(truss.ends[:, 1], joints))
+    members = truss.ends[members]  # the part's, by their joints
     if len(members):
         pos = np.searchsorted(np.sort(joints), members)  # local order of sorted joints
         order = np.argsort(joints)
@@ -628,13 +640,19 @@ def _crosses(xy: np.ndarray, ends: np.ndarray, i: int, j: int) -> bool:
 
 
 def suggest_restraint(
-    truss: Truss, part_joints: np.ndarray, mode: Mode, U: np.ndarray, fits: Callable[[np.ndarray], bool]
+    truss: Truss,
+    part_joints: np.ndarray,
+    mode: Mode,
+    U: np.ndarray,
+    fits: Callable[[np.ndarray], bool],
+    supported: dict[int, Support] | None = None,
 ) -> tuple[int, int, np.ndarray] | None:
     """A restraint (joint, axis 0 = x / 1 = y, its motion under every mode of ``U``)
     that stops ``mode``: one that passes ``fits``, at a joint that already has a support
     first (making a roller a pin), then where the mode moves most."""
     local = {int(g): k for k, g in enumerate(np.asarray(part_joints).tolist())}
-    supported = {s.joint: s for s in truss.supports}
+    if supported is None:
+        supported = {s.joint: s for s in truss.supports}
     options = []
     for g, d in zip(mode.joints, np.asarray(mode.displacement), strict=True):
         for axis in (0, 1):
