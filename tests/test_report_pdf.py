@@ -680,3 +680,38 @@ def test_label_placer_work_per_label_is_bounded() -> None:
     assert tests <= calls * (6 + 20) * 24
     uncapped, _ = run(10**9)
     assert uncapped > 20 * tests  # the bound is what keeps this linear
+
+
+def test_label_placer_lists_only_what_lies_near_its_area() -> None:
+    """A page zoomed to one part: the other parts' lines run hundreds of pages off it.
+    The placer lists only the stretch of each line near its area (so the grid stays the
+    size of the page), and every fits() answer is the brute-force one: a box fits when
+    it lies inside the area and crosses no line and no earlier box."""
+    from dxftruss.report.pdf.labels import convex_overlap
+
+    rng = np.random.default_rng(11)
+    area = (0.0, 0.0, 600.0, 400.0)
+    near = rng.uniform((0, 0), (600, 400), (60, 2))
+    short = np.column_stack([near, near + rng.uniform(-40, 40, (60, 2))])
+    far_a = rng.uniform(-1e5, 1e5, (200, 2))
+    far = np.column_stack([far_a, -far_a + rng.uniform(-300, 300, (200, 2))])  # long, many cross the page
+    away = np.column_stack([rng.uniform(5e4, 6e4, (200, 2)), rng.uniform(5e4, 6e4, (200, 2))])
+    segs = np.concatenate([short, far, away])
+    placer = LabelPlacer(area, segs, cell=24.0, cap=10**9)
+    listed = sum(len(v) for v in placer._sgrid.values())
+    assert listed < 20_000  # the whole lines at half-cell steps would be ~3 million entries
+    crossing = [i for i in range(len(segs)) if any(i in v for v in placer._sgrid.values())]
+    assert set(range(60)) <= set(crossing) and not set(range(260, 460)) & set(crossing)
+    quads: list = []
+    for k in range(400):
+        lab = Label(f"L{k}", rng.uniform(-20, 620), rng.uniform(-20, 420), rng.uniform(0, 180), 30.0, 8.0)
+        q = lab.quad(placer.pad)
+        inside = all(0 <= x <= 600 and 0 <= y <= 400 for x, y in q)
+        clear = not any(convex_overlap(q, ((s[0], s[1]), (s[2], s[3]))) for s in segs)
+        free = not any(convex_overlap(q, other) for other in quads)
+        want = inside and clear and free
+        assert placer.fits(lab) == want
+        if want:
+            placer.add(lab)
+            quads.append(q)
+    assert 5 <= len(quads) < 300  # the case places labels as well as refusing them

@@ -126,13 +126,21 @@ class LabelPlacer:
         if not len(seg):
             return
         a, b = seg[:, :2], seg[:, 2:]
-        length = np.hypot(*(b - a).T)
+        d = b - a
+        # only the part of each line within two cells of the area is listed: a box lies
+        # inside the area and looks one cell around it, and on a page zoomed to one part
+        # the other parts' lines run far off the page (a million samples for nothing)
+        t0, t1 = _within_box(a, d, self.area, 2 * self.cell)
+        keep = np.flatnonzero(t0 <= t1)
+        a, d, t0, t1 = a[keep], d[keep], t0[keep], t1[keep]
+        length = np.hypot(*d.T) * (t1 - t0)
         n = np.ceil(length / (self.cell * 0.5)).astype(np.int64) + 1
-        idx = np.repeat(np.arange(len(seg)), n)
+        at = np.repeat(np.arange(len(keep)), n)
+        idx = keep[at]
         start = np.cumsum(n) - n
-        k = np.arange(idx.size) - start[idx]
-        t = k / np.maximum(n[idx] - 1, 1)
-        pts = a[idx] + (b - a)[idx] * t[:, None]
+        k = np.arange(at.size) - start[at]
+        t = t0[at] + (t1 - t0)[at] * (k / np.maximum(n[at] - 1, 1))
+        pts = a[at] + d[at] * t[:, None]
         keys = np.floor(pts / self.cell).astype(np.int64)
         trip = unique_rows(np.column_stack([keys, idx]))
         cells, counts = unique_rows(trip[:, :2], return_counts=True)
@@ -220,6 +228,28 @@ class LabelPlacer:
                     self.add(lab)
                     return lab
         return None
+
+
+def _within_box(
+    a: np.ndarray, d: np.ndarray, area: tuple[float, float, float, float], margin: float
+) -> tuple[np.ndarray, np.ndarray]:
+    """For each line ``a + t d`` (t in [0, 1]) the stretch (t0, t1) of it inside the area
+    grown by ``margin`` (Liang-Barsky clipping); t0 > t1 when it misses the area. A line
+    wholly inside keeps exactly (0, 1)."""
+    ax, ay, aw, ah = area
+    t0 = np.zeros(len(a))
+    t1 = np.ones(len(a))
+    for axis, lo, hi in ((0, ax - margin, ax + aw + margin), (1, ay - margin, ay + ah + margin)):
+        p, q = d[:, axis], a[:, axis]
+        flat = p == 0
+        out = flat & ((q < lo) | (q > hi))
+        t0[out], t1[out] = 1.0, 0.0
+        go = ~flat
+        with np.errstate(divide="ignore", invalid="ignore"):
+            ta, tb = (lo - q[go]) / p[go], (hi - q[go]) / p[go]
+        t0[go] = np.maximum(t0[go], np.minimum(ta, tb))
+        t1[go] = np.minimum(t1[go], np.maximum(ta, tb))
+    return t0, t1
 
 
 #: (fraction along the member, side: 0 on the line, +1 above, -1 below), best first
