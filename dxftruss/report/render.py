@@ -93,6 +93,8 @@ class Recording:
     types: dict[str, str]
     n_records: int
     skipped: dict[str, int] = field(default_factory=dict)
+    #: each record's box, for leaving out what a page does not show (render._record_boxes)
+    record_boxes: Any = None
 
 
 def read_document(path: str | os.PathLike[str], *, recover: bool = False) -> Any:
@@ -382,14 +384,70 @@ class ReportlabBackend:
 
 
 def draw_recording(
-    canvas: Any, recording: Recording, page_map: PageMap, *, hide: frozenset[str] = frozenset(), **style: Any
+    canvas: Any,
+    recording: Recording,
+    page_map: PageMap,
+    *,
+    hide: frozenset[str] = frozenset(),
+    window: tuple[float, float, float, float] | None = None,
+    **style: Any,
 ) -> dict[str, int]:
     """Replay ``recording`` onto ``canvas`` through ``page_map``, leaving out the entities
-    whose top-level handle is in ``hide``; returns what was skipped."""
+    whose top-level handle is in ``hide``; returns what was skipped. With ``window``
+    (x0, y0, x1, y1, page points: the box the output is clipped to) the records wholly
+    outside it are left out too: a page zoomed to one part of a sheet of thousands
+    would otherwise write every other part, unseen."""
     backend = ReportlabBackend(canvas, page_map, types=recording.types, hide=hide, **style)
+    player = recording.player if window is None else _within_window(recording, page_map, window)
     canvas.saveState()
     canvas.setLineCap(1)
     canvas.setLineJoin(1)
-    recording.player.replay(backend)  # type: ignore[arg-type]
+    player.replay(backend)
     canvas.restoreState()
     return dict(backend.skipped)
+
+
+#: a record is kept when its box comes within this many points of the window (line
+#: widths and caps reach past a line's own box)
+WINDOW_MARGIN = 12.0
+
+
+def _record_boxes(recording: Recording) -> np.ndarray:
+    """Each record's box (x0, y0, x1, y1, drawing units), NaN for a record without one
+    (always kept); computed once per recording."""
+    boxes = recording.record_boxes
+    if boxes is None:
+        rows = []
+        for record in recording.player.records:
+            b = record.bbox()
+            rows.append((b.extmin.x, b.extmin.y, b.extmax.x, b.extmax.y) if b.has_data else (np.nan,) * 4)
+        boxes = np.array(rows, dtype=np.float64).reshape(-1, 4)
+        recording.record_boxes = boxes
+    return boxes
+
+
+def _within_window(recording: Recording, page_map: PageMap, window: tuple[float, float, float, float]) -> Any:
+    """The recording's player, or a player of the records that meet ``window`` (sharing
+    the records, the properties and the configuration; their order kept)."""
+    boxes = _record_boxes(recording)
+    if not len(boxes):
+        return recording.player
+    s = float(page_map.scale)
+    (ox, oy), (fx, fy) = page_map.origin, page_map.offset
+    m = WINDOW_MARGIN
+    x0, y0 = (window[0] - m - fx) / s + ox, (window[1] - m - fy) / s + oy
+    x1, y1 = (window[2] + m - fx) / s + ox, (window[3] + m - fy) / s + oy
+    with np.errstate(invalid="ignore"):
+        out = (boxes[:, 2] < x0) | (boxes[:, 0] > x1) | (boxes[:, 3] < y0) | (boxes[:, 1] > y1)
+    if not out.any():
+        return recording.player
+    from ezdxf.addons.drawing.recorder import Player
+
+    src = recording.player
+    player = Player()
+    player.config = src.config
+    player.background = src.background
+    player.properties = src.properties
+    player.has_shared_recordings = True
+    player.records = [r for r, o in zip(src.records, out.tolist(), strict=True) if not o]
+    return player

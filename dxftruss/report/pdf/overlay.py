@@ -67,7 +67,7 @@ def _original_form(ctx: _Context, c: Any, sheet: Sheet, pm: PageMap, hide: froze
     if name is None:
         name = f"original{len(ctx.form_pages) + 1}"
         c.beginForm(name, 0, 0, sheet.size[0], sheet.size[1])
-        skipped = draw_recording(c, ctx.recording, pm, hide=hide)
+        skipped = draw_recording(c, ctx.recording, pm, hide=hide, window=(0.0, 0.0, sheet.size[0], sheet.size[1]))
         c.endForm()
         ctx.form_pages[key] = name
         if skipped:
