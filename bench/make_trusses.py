@@ -314,6 +314,73 @@ def generate_job(*, outdir: Path = DEFAULT_OUTDIR, force: bool = False) -> Drawi
     return Drawing("job", "job", dxf, loads, JOB_PARTS, JOB_PANELS, int(meta["members"]), int(meta["joints"]))
 
 
+#: sheets of many small trusses, each with two modelling errors (run_bench.py --many-parts):
+#: its last diagonal left out (a mechanism, so every part gets its next steps) and a loose
+#: bar at its first bottom joint; the same sheet at two sizes shows whether the work per
+#: part grows with the number of parts
+MANY_PARTS = (500, 2000)
+MANY_PANELS = 6
+#: the loose bar: from B0 down and to the left, drawing units (m)
+LOOSE_BAR = (-0.7, -0.4)
+
+
+def write_faulty_job(path: Path, n_parts: int, panels: int) -> int:
+    """``n_parts`` trusses on the grid of ``part_origins``, as LINEs, each without its last
+    diagonal and with a loose bar at B0 (so 4 P + 1 lines a part, as the whole truss has
+    members). Returns that count."""
+    import ezdxf
+
+    ezdxf.options.write_fixed_meta_data_for_testing = True
+    doc = ezdxf.new("R2018", setup=False, units=6)
+    for name, colour in LAYERS.items():
+        doc.layers.add(name, color=colour)
+    msp = doc.modelspace()
+    for n, (ox, oy) in enumerate(part_origins(n_parts, panels)):
+        # each part a little deeper than the last: no two are repeats of each other, so
+        # every part is analysed (and given its next steps) on its own
+        part = pratt_part(panels, depth=DEPTH * (1 + n / (4 * n_parts)))
+        kept = list(enumerate(part.members))[:-1]
+        pts = [_pt(ox + x, oy + y) for x, y in part.xy.tolist()]
+        for k, (i, j) in kept:
+            msp.add_line(pts[i], pts[j], dxfattribs={"layer": part.layer[k]})
+        b0 = pts[part.bottom[0]]
+        msp.add_line(b0, _pt(b0[0] + LOOSE_BAR[0], b0[1] + LOOSE_BAR[1]), dxfattribs={"layer": "WEB"})
+    _fix_class_order(doc)
+    doc.saveas(path)
+    return n_parts * len(part.members)
+
+
+def generate_faulty_job(n_parts: int, *, outdir: Path = DEFAULT_OUTDIR, force: bool = False) -> Drawing:
+    """Write (or reuse) ``faulty_sheet_N.dxf`` and its loads file (pin and roller per part,
+    the deck loads): every part a mechanism with a loose bar."""
+    outdir.mkdir(parents=True, exist_ok=True)
+    stem = outdir / f"faulty_sheet_{n_parts}"
+    dxf, loads, meta_path = stem.with_suffix(".dxf"), stem.with_suffix(".toml"), stem.with_suffix(".meta.json")
+    meta = {
+        "generator": _generator_hash(),
+        "size": f"faulty {n_parts}",
+        "variant": "faulty",
+        "parts": n_parts,
+        "panels": MANY_PANELS,
+        "members": n_parts * (4 * MANY_PANELS + 1),
+        "joints": n_parts * (2 * MANY_PANELS + 3),
+    }
+    current = (
+        not force
+        and dxf.is_file()
+        and loads.is_file()
+        and meta_path.is_file()
+        and json.loads(meta_path.read_text()) == meta
+    )
+    if not current:
+        assert write_faulty_job(dxf, n_parts, MANY_PANELS) == meta["members"]
+        loads.write_text(loads_text(n_parts, MANY_PANELS), encoding="utf-8")
+        meta_path.write_text(json.dumps(meta, indent=1) + "\n", encoding="utf-8")
+    return Drawing(
+        str(meta["size"]), "faulty", dxf, loads, n_parts, MANY_PANELS, int(meta["members"]), int(meta["joints"])
+    )
+
+
 def loads_text(n_parts: int, panels: int) -> str:
     """The loads file: pin + roller per part and the deck loads at the bottom panel points."""
     part = pratt_part(panels)

@@ -4,7 +4,7 @@ Usage::
 
     python bench/run_bench.py [--sizes 1k,10k,50k,100k] [--variants poly,lines]
                               [--repeat 3] [--quick] [--no-pdf] [--markdown]
-                              [--best] [--pdf-all] [--job] [--long-pdf]
+                              [--best] [--pdf-all] [--job] [--long-pdf] [--many-parts]
                               [--budget 60] [--blas-threads N] [--timeout 900]
                               [--save FILE.json]
 
@@ -46,6 +46,13 @@ times ``check --pdf`` of every drawing of the table (columns ``pdf``, ``pdf rati
 members, every second one a block reference) and the one long truss of the same member
 count, and the target that the sheet checks within JOB_RATIO_MAX of the long truss.
 
+``--many-parts`` adds the faulty sheets (make_trusses.generate_faulty_job: 500 and 2,000
+Pratt trusses of 6 panels, each a little deeper than the last so none repeats another,
+each without its last diagonal and with a loose bar): ``check --json`` and ``check --pdf``
+of both, and the targets that 4x the parts take at most MANY_GROWTH_MAX x the time (a
+step whose work grows with the number of parts, per part, shows as 16x) and that the
+PDF of 2,000 parts peaks under MANY_PDF_MEMORY_MAX_MB.
+
 Targets (printed at the end, held / missed / not measured):
     end-to-end <= 2.0 x bare read at 50k and 100k members (both variants);
     end-to-end time(100k) / time(10k) <= 12;
@@ -86,6 +93,8 @@ LONG_PDF_GROWTH_MAX = 2.2  # check --pdf time 100k / 50k of the long trusses
 JSON_RATIO_MAX = 1.5  # check --json at 100k / bare read (the streaming reader's target)
 JSON_MEMORY_MAX_MB = 350.0  # peak memory of check --json at 100k
 JOB_RATIO_MAX = 1.5  # check --json of the job sheet / of one long truss of the same size
+MANY_GROWTH_MAX = 4.4  # faulty sheets: time at 2,000 parts / at 500 (linear: at most 4)
+MANY_PDF_MEMORY_MAX_MB = 600.0  # faulty sheet of 2,000 parts, check --pdf peak
 
 #: relative tolerance of the closed-form force check
 FORCE_RTOL = 1e-6
@@ -453,6 +462,59 @@ def measure_long_pdf(repeat: int, timeout: float, env: dict[str, str] | None = N
     return out
 
 
+def measure_many_parts(repeat: int, timeout: float, env: dict[str, str] | None = None) -> dict[int, dict]:
+    """``check --json`` and ``check --pdf`` of the faulty sheets (make_trusses.MANY_PARTS
+    small trusses, each a mechanism with a loose bar), whole processes, the fastest of
+    ``repeat`` runs; exit status 1 (errors found) is the expected answer."""
+    out: dict[int, dict] = {}
+    for n in make_trusses.MANY_PARTS:
+        d = make_trusses.generate_faulty_job(n)
+        row: dict = {"drawing": d.dxf.name, "parts": n, "members": d.members, "ok": True, "note": ""}
+        with tempfile.TemporaryDirectory() as tmp:
+            for kind, flag in (("json", "--json"), ("pdf", "--pdf")):
+                target = str(Path(tmp) / f"out.{kind}")
+                args = [PY, "-m", "dxftruss", "check", str(d.dxf), "--loads", str(d.loads), flag, target, "--quiet"]
+                runs = [run_child(args, timeout=timeout, env=env) for _ in range(repeat)]
+                good = [c for c in runs if not c.timed_out and c.status == 1]
+                if len(good) < len(runs):
+                    bad = next(c for c in runs if c not in good)
+                    row["ok"] = False
+                    row["note"] += f"{kind}: exit {bad.status} {_last_line(bad.stderr)}; "
+                row[kind] = min((c.wall for c in good), default=None)
+                row[f"{kind}_rss"] = max((c.rss_mb for c in good), default=None)
+        out[n] = row
+        print(
+            f"faulty sheet {n} parts ({d.members} members): check --json {_f(row['json'])} s, "
+            f"check --pdf {_f(row['pdf'])} s (peak {_f(row['pdf_rss'], '{:.0f}')} MB)",
+            flush=True,
+        )
+    return out
+
+
+def many_parts_targets(many: dict[int, dict] | None) -> list[str]:
+    """Work per part independent of the number of parts: times at 4x the parts within
+    MANY_GROWTH_MAX x (a step quadratic in the parts gives 16x), and the PDF's memory."""
+    small, big = make_trusses.MANY_PARTS
+    if not many or big not in many:
+        return [f"not measured  faulty sheets {big}/{small} parts: time growth <= {MANY_GROWTH_MAX:g} (--many-parts)"]
+    a, b = many[small], many[big]
+    out = []
+    for kind in ("json", "pdf"):
+        growth = b[kind] / a[kind] if a.get(kind) and b.get(kind) else None
+        ok = a["ok"] and b["ok"] and growth is not None and growth <= MANY_GROWTH_MAX
+        out.append(
+            f"{'held  ' if ok else 'MISSED'}  faulty sheets check --{kind} time {big}/{small} parts "
+            f"<= {MANY_GROWTH_MAX:g}: {_f(b[kind])} s / {_f(a[kind])} s = {_f(growth)}"
+        )
+    rss = b.get("pdf_rss")
+    ok = rss is not None and rss <= MANY_PDF_MEMORY_MAX_MB
+    out.append(
+        f"{'held  ' if ok else 'MISSED'}  faulty sheet of {big} parts check --pdf peak <= "
+        f"{MANY_PDF_MEMORY_MAX_MB:.0f} MB: {_f(rss, '{:.0f}')} MB"
+    )
+    return out
+
+
 def long_pdf_targets(long: dict[str, dict] | None) -> list[str]:
     """The two targets of ``check --pdf`` on one long truss (bench/README.md)."""
     if not long or "100k" not in long:
@@ -597,6 +659,12 @@ def main(argv: list[str] | None = None) -> int:
         action="store_true",
         help="also the job sheet (2,000 small trusses, half block references) and one long truss of its size",
     )
+    ap.add_argument(
+        "--many-parts",
+        action="store_true",
+        help="also the faulty sheets of 500 and 2,000 small trusses (each a mechanism with a loose bar): "
+        "check --json and --pdf, and that the time grows no faster than the parts",
+    )
     ap.add_argument("--markdown", action="store_true", help="print the table as Markdown")
     ap.add_argument("--timeout", type=float, default=900.0, help="seconds before a child is killed (default 900)")
     ap.add_argument(
@@ -673,6 +741,7 @@ def main(argv: list[str] | None = None) -> int:
         pdf = measure_pdf(drawing, args.timeout, env)
         print(f" {pdf['wall']:.1f} s" + (f" ({pdf['note']})" if pdf["note"] else ""), flush=True)
     long_pdf = measure_long_pdf(repeat, args.timeout, env) if args.long_pdf and pdf is not None else None
+    many = measure_many_parts(repeat, args.timeout, env) if args.many_parts else None
 
     print()
     print(
@@ -688,7 +757,7 @@ def main(argv: list[str] | None = None) -> int:
         f"load average at start {load0[0]:.2f}, at end {os.getloadavg()[0]:.2f} (2 cores: above ~1 the wall times "
         "include waiting for a CPU)"
     )
-    for line in targets(rows, pdf, pdf_note) + long_pdf_targets(long_pdf):
+    for line in targets(rows, pdf, pdf_note) + long_pdf_targets(long_pdf) + many_parts_targets(many):
         print(line)
     for r in rows:
         for n in r.notes:
@@ -708,6 +777,7 @@ def main(argv: list[str] | None = None) -> int:
             "pdf": pdf,
             "pdf_note": pdf_note,
             "long_pdf": long_pdf,
+            "many_parts": many,
         }
         args.save.write_text(json.dumps(raw, indent=1) + "\n")
     return 0
