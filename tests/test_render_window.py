@@ -7,6 +7,8 @@ replayed as before, in the same order."""
 
 from __future__ import annotations
 
+from typing import ClassVar
+
 import ezdxf
 from reportlab.pdfgen import canvas as rl_canvas
 
@@ -17,7 +19,7 @@ from dxftruss.report.render import PageMap, draw_recording, record_drawing
 class Spy(render.ReportlabBackend):
     """The handles of the lines a replay draws, in order."""
 
-    drawn: list[str] = []
+    drawn: ClassVar[list[str]] = []
 
     def draw_line(self, start, end, properties):  # type: ignore[no-untyped-def]
         Spy.drawn.append(properties.handle)

@@ -46,6 +46,8 @@ class _Context:
     form_pages: dict[tuple[Any, ...], str] = field(default_factory=dict)
     #: finding number (1-based) -> [(page, zone)] of the drawing pages that mark it
     zones: dict[int, list[tuple[int, str]]] = field(default_factory=dict)
+    #: the parts each finding names (findings_of_view), worked out once for all pages
+    finding_parts: dict[int, frozenset[int]] = field(default_factory=dict)
 
     def zone_on(self, number: int, page: int) -> str | None:
         """The zone of finding ``number`` on drawing page ``page``, if it is marked there."""
@@ -117,20 +119,34 @@ def _finding_part_indices(f: Any, index: tuple[np.ndarray, np.ndarray]) -> set[i
     return idx
 
 
-def findings_of_view(result: Any, view: View, found: list[tuple[int, Any]]) -> list[tuple[int, Any]]:
+def findings_of_view(
+    result: Any, view: View, found: list[tuple[int, Any]], parts: dict[int, frozenset[int]] | None = None
+) -> list[tuple[int, Any]]:
     """The findings of ``found`` a view shows: all on the overview; on a part page those
     naming its joints or members and no other part's, and those whose point lies in its
-    box."""
+    box. ``parts``: {finding number: the parts it names}, filled as found and kept by the
+    caller for the next page (a sheet of 2,000 parts has thousands of part pages'
+    worth of findings to sort)."""
     if view.part is None:
         return found
     from ...naming import part_index
 
-    index = part_index(result.truss)
+    if parts is None:
+        parts = {}
+    index = None
     x0, y0, x1, y1 = view.box
+    only = frozenset((view.part,))
     out = []
     for n, f in found:
         inside = f.at is not None and x0 <= f.at[0] <= x1 and y0 <= f.at[1] <= y1
-        if _finding_part_indices(f, index) == {view.part} or inside:
+        if not inside:
+            named = parts.get(n)
+            if named is None:
+                if index is None:
+                    index = part_index(result.truss)
+                named = parts[n] = frozenset(_finding_part_indices(f, index))
+            inside = named == only
+        if inside:
             out.append((n, f))
     return out
 

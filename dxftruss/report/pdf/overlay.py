@@ -139,7 +139,9 @@ class _Overlay:
         for sp in t.supports:
             if 0 <= sp.joint < t.n_joints and self.jshow[sp.joint]:
                 self.supported[sp.joint].append(sp)
-        near = set(self.supported) | {ld.joint for lc in t.cases for ld in lc.loads if 0 <= ld.joint < t.n_joints}
+        near = set(self.supported) | {
+            ld.joint for lc in t.cases for ld in lc.loads if 0 <= ld.joint < t.n_joints and self.jshow[ld.joint]
+        }
         self.clear = _Clearance(self.jp, t.ends, near)
         self.body_dir: dict[int, tuple[int, int]] = {}
         #: the side (a unit vector along the normal) an inclined roller's symbol lies on
@@ -608,7 +610,7 @@ def page_findings(ctx: _Context, case: Any, view: View, mode: tuple[Any, Any] | 
     those sharing joints with it."""
     r = ctx.result
     if mode is None:
-        return findings_of_view(r, view, _findings_for(r, case.name if case is not None else None))
+        return findings_of_view(r, view, _findings_for(r, case.name if case is not None else None), ctx.finding_parts)
     mech = [(i, f) for i, f in enumerate(r.findings, 1) if f.code.value == "mechanism"]
     moving = set(mode[1].joints)
     return [(i, f) for i, f in mech if set(f.joints) == moving] or [(i, f) for i, f in mech if set(f.joints) & moving]

@@ -142,12 +142,14 @@ class _Clearance:
         if not joints or not len(ends):
             return
         sel = np.isin(ends, np.fromiter(joints, dtype=np.int64)).any(axis=1)
-        for i, k in ends[sel].tolist():
-            d = jp[k] - jp[i]
-            n = float(np.hypot(*d))
-            if n <= 0:
+        i_, k_ = ends[sel, 0], ends[sel, 1]
+        d = jp[k_] - jp[i_]
+        n = np.hypot(d[:, 0], d[:, 1])
+        with np.errstate(divide="ignore", invalid="ignore"):
+            u = d / n[:, None]
+        for i, k, ln, (ux, uy) in zip(i_.tolist(), k_.tolist(), n.tolist(), u.tolist(), strict=True):
+            if not ln > 0:
                 continue
-            ux, uy = float(d[0] / n), float(d[1] / n)
             if i in joints:
                 self.dirs[i].append((ux, uy))
             if k in joints:
