@@ -299,14 +299,7 @@ def generate_job(*, outdir: Path = DEFAULT_OUTDIR, force: bool = False) -> Drawi
         "members": JOB_PARTS * (4 * JOB_PANELS + 1),
         "joints": JOB_PARTS * (2 * JOB_PANELS + 2),
     }
-    current = (
-        not force
-        and dxf.is_file()
-        and loads.is_file()
-        and meta_path.is_file()
-        and json.loads(meta_path.read_text()) == meta
-    )
-    if not current:
+    if not _current(meta, dxf, loads, meta_path, force=force):
         verify_part(pratt_part(JOB_PANELS))
         assert write_job(dxf, JOB_PARTS, JOB_PANELS) == meta["members"]
         loads.write_text(loads_text(JOB_PARTS, JOB_PANELS), encoding="utf-8")
@@ -365,14 +358,7 @@ def generate_faulty_job(n_parts: int, *, outdir: Path = DEFAULT_OUTDIR, force: b
         "members": n_parts * (4 * MANY_PANELS + 1),
         "joints": n_parts * (2 * MANY_PANELS + 3),
     }
-    current = (
-        not force
-        and dxf.is_file()
-        and loads.is_file()
-        and meta_path.is_file()
-        and json.loads(meta_path.read_text()) == meta
-    )
-    if not current:
+    if not _current(meta, dxf, loads, meta_path, force=force):
         assert write_faulty_job(dxf, n_parts, MANY_PANELS) == meta["members"]
         loads.write_text(loads_text(n_parts, MANY_PANELS), encoding="utf-8")
         meta_path.write_text(json.dumps(meta, indent=1) + "\n", encoding="utf-8")
@@ -420,6 +406,18 @@ class Drawing:
     joints: int
 
 
+def _current(meta: dict, dxf: Path, loads: Path, meta_path: Path, *, force: bool) -> bool:
+    """Whether the drawing and loads file on disk were written for ``meta`` (same sizes,
+    same generator), so they can be reused."""
+    return (
+        not force
+        and dxf.is_file()
+        and loads.is_file()
+        and meta_path.is_file()
+        and json.loads(meta_path.read_text()) == meta
+    )
+
+
 def _generator_hash() -> str:
     return hashlib.sha256(Path(__file__).read_bytes()).hexdigest()[:16]
 
@@ -445,14 +443,7 @@ def generate(
         "members": n_parts * (4 * panels + 1),
         "joints": n_parts * (2 * panels + 2),
     }
-    current = (
-        not force
-        and dxf.is_file()
-        and loads.is_file()
-        and meta_path.is_file()
-        and json.loads(meta_path.read_text()) == meta
-    )
-    if not current:
+    if not _current(meta, dxf, loads, meta_path, force=force):
         verify_part(pratt_part(panels))
         members = write_drawing(dxf, variant, n_parts, panels)
         assert members == meta["members"]
