@@ -45,6 +45,8 @@ OUTLINE_MAX_OFFSET = 0.25
 OUTLINE_OFFSET_MATCH = 0.2
 #: parallel: sine of the angle between the lines at most this
 PARALLEL_SIN = 0.01
+#: close pairs examined per line, on average, before the outline rule gives up
+OUTLINE_PAIRS_PER_LINE = 64
 #: at most this many layers (the largest) are also searched for triangles alone
 MAX_LAYERS_ALONE = 200
 #: a plate is smaller (its bounding box diagonal) than this fraction of the median member length
@@ -375,8 +377,12 @@ def _outlines(seg: np.ndarray, keep: np.ndarray, why: np.ndarray, median: float)
     u = d / ln[:, None]
     mid = (a + b) / 2
     reach = OUTLINE_MAX_OFFSET * median
-    found = points_near_segments(mid, a, b, reach)
-    assert found is not None  # no budget
+    # a pile of lines drawn over each other (thousands within reach of each other) has
+    # quadratically many close pairs and no outlines to find: the rule is left out then
+    # (the pile is reported as lines drawn twice)
+    found = points_near_segments(mid, a, b, reach, budget=OUTLINE_PAIRS_PER_LINE * len(idx) + 10_000)
+    if found is None:
+        return
     qs, qc = found
     pick = (qs != qc) & keep[idx[qc]]  # a centre line is a used line; an outline any line
     qs, qc = qs[pick], qc[pick]

@@ -74,8 +74,9 @@ CELL = 0.5
 EDGE = 1e-12
 # candidate pairs examined at a time
 CANDIDATES = 1 << 17
-# points per index query on the fallback path (bounds the memory of a budgeted query)
-QUERY_CHUNK = 1024
+# points per index query on the fallback path: bounds the memory of a budgeted query
+# when thousands of lines lie on each other (as the overlap search always queried)
+QUERY_CHUNK = 128
 
 
 def _within(xy: np.ndarray, a: np.ndarray, b: np.ndarray, pi: np.ndarray, pj: np.ndarray, d: float) -> np.ndarray:

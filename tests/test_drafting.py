@@ -313,3 +313,32 @@ def test_a_curve_on_the_member_layer_is_still_warned_about(tmp_path):
     # and with --layers naming the cloud's layer, the cloud is warned about too
     r = check(_sheet(tmp_path / "cloud.dxf", _revision_cloud), Settings(layers=("TRUSS", "REV")))
     assert [f.data["layer"] for f in r.findings if f.code is Code.ARC_SEGMENT] == ["REV"]
+
+
+def test_a_pile_of_lines_drawn_over_each_other_is_not_searched_for_outlines(tmp_path, monkeypatch):
+    """2,000 lines drawn on one spot beside the truss: every midpoint is close to every
+    line (4 million pairs). The outline rule gives up on its budget instead of listing
+    them (it found nothing to set aside there anyway); the truss is checked as before and
+    the pile is set aside as no triangulated structure, and said so."""
+    from dxftruss import drafting
+
+    calls = []
+    real = drafting.points_near_segments
+
+    def spy(xy, a, b, distance, *, budget=None):  # type: ignore[no-untyped-def]
+        found = real(xy, a, b, distance, budget=budget)
+        calls.append((len(xy), budget, found is None))
+        return found
+
+    monkeypatch.setattr(drafting, "points_near_segments", spy)
+
+    def pile(msp):  # type: ignore[no-untyped-def]
+        for k in range(2000):
+            msp.add_line((-30.0, 0.0), (-20.0, 1e-7 * k), dxfattribs={"layer": "TRUSS"})
+
+    r = check(_sheet(tmp_path / "pile.dxf", pile))
+    assert calls and all(budget is not None and budget < 2000 * 2000 for _, budget, _ in calls)
+    assert any(gave_up for _, _, gave_up in calls)
+    assert any(f.code is Code.SET_ASIDE and "2000 lines set aside" in f.message for f in r.findings)
+    clean, piled = _forces(check(_sheet(tmp_path / "clean.dxf"))), _forces(r)
+    assert all(piled[k] == pytest.approx(v, abs=1e-9) for k, v in clean.items())  # the truss solved as before
