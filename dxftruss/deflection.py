@@ -35,12 +35,10 @@ class PartDeflection:
     ratio: float | None
 
 
-def part_span(truss: Truss, part: int, held: np.ndarray | None = None) -> tuple[float, str]:
+def part_span(truss: Truss, part: int, held: np.ndarray) -> tuple[float, str]:
     """(span, "supports" | "extent") of a part, drawing units (see the glossary).
-    ``held``: whether each joint is restrained (:func:`held_joints`), when known."""
+    ``held``: whether each joint is restrained (:func:`held_joints`)."""
     p = truss.parts[part]
-    if held is None:
-        held = held_joints(truss)
     at = p.joints[held[p.joints]]
     if at.size:
         x = truss.xy[at, 0]

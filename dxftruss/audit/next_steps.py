@@ -532,7 +532,7 @@ def suggest_bar(
     *,
     column: int,
     near_miss: float,
-    members: np.ndarray | None = None,
+    members: np.ndarray,
 ) -> tuple[int, int, np.ndarray] | None:
     """A new member (i, j, its elongation under every mode of ``U``) that removes
     ``mode`` (``U[column]``): the shortest bar longer than ``near_miss`` between a moving
@@ -542,7 +542,7 @@ def suggest_bar(
     elongations pass ``fits`` (under this mode at least MIN_ELONGATION, independent of
     the fixes already chosen); bars that cross no member come first. At most MAX_TRIES
     candidates that stretch under the mode are examined. None when there is none.
-    ``members``: the part's members (found from its joints when not given)."""
+    ``members``: the part's members."""
     joints = np.asarray(part_joints, dtype=np.int64)
     n = joints.size
     if n < 2:
@@ -560,8 +560,6 @@ def suggest_bar(
     lo, hi = np.minimum(src, dst), np.maximum(src, dst)
     _, first = np.unique(lo * n + hi, return_index=True)
     src, dst, span, lo, hi = src[first], dst[first], span[first], lo[first], hi[first]
-    if members is None:
-        members = np.flatnonzero(np.isin(truss.ends[:, 0], joints) & np.isin(truss.ends[:, 1], joints))
     members = truss.ends[members]  # the part's, by their joints
     if len(members):
         pos = np.searchsorted(np.sort(joints), members)  # local order of sorted joints
@@ -645,14 +643,13 @@ def suggest_restraint(
     mode: Mode,
     U: np.ndarray,
     fits: Callable[[np.ndarray], bool],
-    supported: dict[int, Support] | None = None,
+    supported: dict[int, Support],
 ) -> tuple[int, int, np.ndarray] | None:
     """A restraint (joint, axis 0 = x / 1 = y, its motion under every mode of ``U``)
     that stops ``mode``: one that passes ``fits``, at a joint that already has a support
-    first (making a roller a pin), then where the mode moves most."""
+    first (making a roller a pin), then where the mode moves most. ``supported``: the
+    truss's supports by joint."""
     local = {int(g): k for k, g in enumerate(np.asarray(part_joints).tolist())}
-    if supported is None:
-        supported = {s.joint: s for s in truss.supports}
     options = []
     for g, d in zip(mode.joints, np.asarray(mode.displacement), strict=True):
         for axis in (0, 1):

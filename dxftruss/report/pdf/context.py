@@ -120,7 +120,7 @@ def _finding_part_indices(f: Any, index: tuple[np.ndarray, np.ndarray]) -> set[i
 
 
 def findings_of_view(
-    result: Any, view: View, found: list[tuple[int, Any]], parts: dict[int, frozenset[int]] | None = None
+    result: Any, view: View, found: list[tuple[int, Any]], parts: dict[int, frozenset[int]]
 ) -> list[tuple[int, Any]]:
     """The findings of ``found`` a view shows: all on the overview; on a part page those
     naming its joints or members and no other part's, and those whose point lies in its
@@ -131,8 +131,6 @@ def findings_of_view(
         return found
     from ...naming import part_index
 
-    if parts is None:
-        parts = {}
     index = None
     x0, y0, x1, y1 = view.box
     only = frozenset((view.part,))
