@@ -82,6 +82,10 @@ class Selection:
     #: members whose centre lines were derived from outline pairs (outlines.py); the
     #: counts in ``used`` and ``set_aside`` are then of the derived centre lines
     derived: int = 0
+    #: the lines searched for member outlines when too many lay close together to search
+    #: (a pile of lines drawn over each other): the outline rule was left out, and a
+    #: finding says so; 0 when it ran
+    outlines_skipped: int = 0
 
     @property
     def n_set_aside(self) -> int:
@@ -164,17 +168,27 @@ def select_structure(segments: np.ndarray, layers: tuple[str, ...], *, snap: flo
     seg_len = np.hypot(seg[:, 2] - seg[:, 0], seg[:, 3] - seg[:, 1])
     kept_len = seg_len[keep & (seg_len > 0)]
     median = float(np.median(kept_len)) if len(kept_len) else 0.0
-    _outlines(seg, keep, why, median)
+    skipped = 0 if _outlines(seg, keep, why, median) else len(seg)
     _plates(keep, why, xy, src, pa, pb, comp, piece_keep, median)  # a plate's edges may look like outlines
 
     if not keep.any():
-        return Selection(np.ones(n, dtype=bool), "all", {}, _counts(layers, np.ones(n, bool)), True, ("",) * n)
+        return Selection(
+            np.ones(n, dtype=bool),
+            "all",
+            {},
+            _counts(layers, np.ones(n, bool)),
+            True,
+            ("",) * n,
+            outlines_skipped=skipped,
+        )
     set_aside: dict[str, dict[str, int]] = defaultdict(lambda: defaultdict(int))
     for i in np.flatnonzero(~keep).tolist():
         set_aside[layers[i]][str(why[i])] += 1
     out = {name: dict(v) for name, v in set_aside.items()}
     rule = "auto" if out else "all"
-    return Selection(keep, rule, out, _counts(layers, keep), False, tuple(str(w) for w in why))
+    return Selection(
+        keep, rule, out, _counts(layers, keep), False, tuple(str(w) for w in why), outlines_skipped=skipped
+    )
 
 
 def _triangulated(
@@ -360,14 +374,15 @@ def _point_in_polygon(poly: np.ndarray, pts: np.ndarray) -> np.ndarray:
     return ((crosses & (x < xi)).sum(axis=1) % 2) == 1
 
 
-def _outlines(seg: np.ndarray, keep: np.ndarray, why: np.ndarray, median: float) -> None:
+def _outlines(seg: np.ndarray, keep: np.ndarray, why: np.ndarray, median: float) -> bool:
     """Set aside lines that are one of a member's two outlines around a kept centre line:
     a kept line c with parallel kept lines on both sides at the same small offset, each
-    overlapping c, keeps c and sets the two aside."""
+    overlapping c, keeps c and sets the two aside. False when the lines lie too close
+    together to search (nothing set aside then)."""
 
     idx = np.arange(len(seg))
     if keep.sum() < 1 or median <= 0:
-        return
+        return True
     s = seg[idx]
     a, b = s[:, :2], s[:, 2:]
     d = b - a
@@ -378,16 +393,15 @@ def _outlines(seg: np.ndarray, keep: np.ndarray, why: np.ndarray, median: float)
     mid = (a + b) / 2
     reach = OUTLINE_MAX_OFFSET * median
     # a pile of lines drawn over each other (thousands within reach of each other) has
-    # quadratically many close pairs and no outlines to find: the rule is left out then
-    # (the pile is reported as lines drawn twice)
+    # quadratically many close pairs: the rule is left out then, and said (findings)
     found = points_near_segments(mid, a, b, reach, budget=OUTLINE_PAIRS_PER_LINE * len(idx) + 10_000)
     if found is None:
-        return
+        return False
     qs, qc = found
     pick = (qs != qc) & keep[idx[qc]]  # a centre line is a used line; an outline any line
     qs, qc = qs[pick], qc[pick]
     if not len(qs):
-        return
+        return True
     par = np.abs(u[qs, 0] * u[qc, 1] - u[qs, 1] * u[qc, 0]) <= PARALLEL_SIN
     rel = mid[qs] - a[qc]
     off = u[qc, 0] * rel[:, 1] - u[qc, 1] * rel[:, 0]  # left of c positive
@@ -411,6 +425,7 @@ def _outlines(seg: np.ndarray, keep: np.ndarray, why: np.ndarray, median: float)
         lines = idx[sorted(out)]
         keep[lines] = False
         why[lines] = "outline"
+    return True
 
 
 def curved_drafting(found: list[Finding], selection: Selection) -> tuple[list[Finding], Selection]:
@@ -445,6 +460,16 @@ def findings(selection: Selection) -> list[Finding]:
                 "no line work forms triangulated structure, so all visible line work is used as members; "
                 "name the truss layers with --layers if the drawing holds other line work (see dxftruss layers)",
                 data={"layer": None, "reasons": {}, "fallback": True},
+            )
+        )
+    if selection.outlines_skipped:
+        out.append(
+            Finding(
+                Code.SET_ASIDE,
+                f"members drawn as outlines were not searched for: too many of the {selection.outlines_skipped} "
+                "lines lie close together (thousands of lines over each other?), so no outline was set aside; "
+                "if the members are drawn as outlines, name the centre-line layers with --layers",
+                data={"layer": None, "reasons": {}, "fallback": False, "outlines_skipped": selection.outlines_skipped},
             )
         )
     for name in sorted(selection.set_aside):

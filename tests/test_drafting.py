@@ -319,7 +319,7 @@ def test_a_pile_of_lines_drawn_over_each_other_is_not_searched_for_outlines(tmp_
     """2,000 lines drawn on one spot beside the truss: every midpoint is close to every
     line (4 million pairs). The outline rule gives up on its budget instead of listing
     them (it found nothing to set aside there anyway); the truss is checked as before and
-    the pile is set aside as no triangulated structure, and said so."""
+    the pile is set aside as no triangulated structure, both said in findings."""
     from dxftruss import drafting
 
     calls = []
@@ -340,5 +340,8 @@ def test_a_pile_of_lines_drawn_over_each_other_is_not_searched_for_outlines(tmp_
     assert calls and all(budget is not None and budget < 2000 * 2000 for _, budget, _ in calls)
     assert any(gave_up for _, _, gave_up in calls)
     assert any(f.code is Code.SET_ASIDE and "2000 lines set aside" in f.message for f in r.findings)
+    # and the rule left out is said, never silent
+    (said,) = [f for f in r.findings if f.code is Code.SET_ASIDE and f.data.get("outlines_skipped")]
+    assert "not searched" in said.message and "--layers" in said.message
     clean, piled = _forces(check(_sheet(tmp_path / "clean.dxf"))), _forces(r)
     assert all(piled[k] == pytest.approx(v, abs=1e-9) for k, v in clean.items())  # the truss solved as before
